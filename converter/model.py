@@ -1,0 +1,162 @@
+"""Plain data shared by every stage: activities, links, settings, problems.
+
+Nothing here reads files or computes schedules; the reader builds these objects,
+the analysis reads them, the writers print them.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+from dataclasses import dataclass, field
+
+ERROR = "error"
+WARNING = "warning"
+
+#: Precedence diagramming link types, in the order of their integer codes.
+LINK_TYPES: tuple[str, ...] = ("FS", "SS", "FF", "SF")
+FS, SS, FF, SF = range(4)
+
+DISTRIBUTIONS: tuple[str, ...] = ("pert", "triangular", "uniform")
+
+DEFAULT_SEED = 20240611
+DEFAULT_ITERATIONS = 10_000
+DEFAULT_PATHS = 10
+DEFAULT_CONFIDENCE = (0.5, 0.8, 0.9, 0.95)
+
+
+@dataclass(frozen=True)
+class Problem:
+    """One thing wrong with the input, with its place.
+
+    ``severity`` is ``"error"`` (blocks the analysis) or ``"warning"`` (reported,
+    analysis goes on). ``fix`` is a plain-words remedy for the person who owns
+    the sheet.
+    """
+
+    severity: str
+    code: str
+    message: str
+    sheet: str | None = None
+    cell: str | None = None
+    activity: str | None = None
+    fix: str | None = None
+
+    @property
+    def where(self) -> str:
+        if self.sheet and self.cell:
+            return f"{self.sheet}!{self.cell}"
+        return self.sheet or ""
+
+    def __str__(self) -> str:
+        head = f"{self.where}: " if self.where else ""
+        act = f" [activity {self.activity}]" if self.activity else ""
+        return f"{self.severity}: {head}{self.message}{act}"
+
+    def as_dict(self) -> dict:
+        return {
+            "severity": self.severity,
+            "code": self.code,
+            "message": self.message,
+            "sheet": self.sheet,
+            "cell": self.cell,
+            "activity": self.activity,
+        }
+
+
+@dataclass
+class Activity:
+    """One row of the activity sheet, estimates in the schedule's time unit."""
+
+    id: str
+    name: str
+    optimistic: float
+    most_likely: float
+    pessimistic: float
+    row: int = 0
+    distribution: str | None = None
+    group: str | None = None
+    target: float | dt.date | None = None
+
+    @property
+    def te(self) -> float:
+        """PERT expected time (O + 4M + P) / 6 (Malcolm et al. 1959)."""
+        return (self.optimistic + 4.0 * self.most_likely + self.pessimistic) / 6.0
+
+    @property
+    def variance(self) -> float:
+        """PERT variance ((P - O) / 6)^2 (Malcolm et al. 1959)."""
+        return ((self.pessimistic - self.optimistic) / 6.0) ** 2
+
+
+@dataclass(frozen=True)
+class Link:
+    """A precedence link ``pred -> succ`` of a PDM type with a lag (negative: lead)."""
+
+    pred: str
+    succ: str
+    type: str = "FS"
+    lag: float = 0.0
+    sheet: str | None = None
+    cell: str | None = None
+
+    @property
+    def code(self) -> int:
+        return LINK_TYPES.index(self.type)
+
+
+@dataclass
+class Setting:
+    """A resolved option value and where it came from."""
+
+    value: object
+    source: str = "default"  # "default", "settings sheet (Settings!B4)", "command line"
+
+
+@dataclass
+class Settings:
+    """Options for one conversion; each carries its origin for the workbook."""
+
+    start_date: dt.date | None = None
+    time_unit: str = "working days"  # "working days" | "weeks" | "calendar days"
+    working_days: tuple[int, ...] = (0, 1, 2, 3, 4)  # Monday = 0
+    holidays: tuple[dt.date, ...] = ()
+    due: float | dt.date | None = None
+    iterations: int = DEFAULT_ITERATIONS
+    seed: int = DEFAULT_SEED
+    distribution: str = "pert"
+    correlation: float = 0.0
+    confidence_levels: tuple[float, ...] = DEFAULT_CONFIDENCE
+    paths: int = DEFAULT_PATHS
+    sources: dict[str, str] = field(default_factory=dict)
+
+    def source_of(self, name: str) -> str:
+        return self.sources.get(name, "default")
+
+
+@dataclass
+class RawTable:
+    """The activity sheet as read: header row and values, for the 'as read' sheet."""
+
+    sheet: str
+    header_row: int  # 1-based sheet row of the header
+    headers: list[str]
+    rows: list[list[object]]  # data rows in sheet order, blank rows included
+    first_row: int  # 1-based sheet row of rows[0]
+
+
+@dataclass
+class Schedule:
+    """A validated schedule: what the analysis consumes."""
+
+    activities: list[Activity]
+    links: list[Link]
+    settings: Settings
+    input_file: str
+    sha256: str
+    sheet: str
+    raw: RawTable | None = None
+    warnings: list[Problem] = field(default_factory=list)
+    notes: list[str] = field(default_factory=list)  # e.g. which sheet was chosen and why
+
+    def index(self) -> dict[str, int]:
+        return {a.id: i for i, a in enumerate(self.activities)}
