@@ -212,3 +212,14 @@ def test_filled_template_converts(tmp_path, fresh):
 
 def test_columns_table_matches_headers():
     assert [c[0] for c in COLUMNS] == HEADERS
+
+
+@pytest.mark.libreoffice
+def test_template_opens_in_libreoffice(tmp_path, fresh, soffice):
+    """LibreOffice loads and re-saves the template (a proxy for 'opens without repair')."""
+    out = recalculate(fresh, tmp_path / "out", soffice=soffice)
+    wb = openpyxl.load_workbook(out)
+    assert wb.sheetnames == ["Activities", "Settings", "Instructions"]
+    assert [c.value for c in wb["Activities"][1]] == HEADERS
+    kinds = {dv.type for dv in wb["Activities"].data_validations.dataValidation}
+    assert {"decimal", "custom", "list"} <= kinds
