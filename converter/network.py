@@ -277,3 +277,13 @@ def driving_push(net: Network, es: np.ndarray, ef: np.ndarray, d: np.ndarray) ->
     if not net.link_count:
         return np.zeros(0)
     return _link_push(net, np.arange(net.link_count), es, ef, d)
+
+
+def link_pull(net: Network, ls: np.ndarray, lf: np.ndarray, d: np.ndarray) -> np.ndarray:
+    """Per link, the latest finish it allows its predecessor (backward-pass rules)."""
+    if not net.link_count:
+        return np.zeros(0)
+    p, s, k = net.pred, net.succ, net.kind
+    to_finish = (k == FF) | (k == SF)
+    from_start = (k == SS) | (k == SF)
+    return np.where(to_finish, lf[s], ls[s]) - net.lag + np.where(from_start, d[p], 0.0)

@@ -111,11 +111,15 @@ def _group_positions(group: np.ndarray) -> np.ndarray:
     return np.arange(size) - run_start
 
 
-def k_longest_paths(net: Network, te: np.ndarray, var: np.ndarray, k: int) -> list[Path]:
+def k_longest_paths(
+    net: Network, te: np.ndarray, var: np.ndarray, k: int, ends: np.ndarray | None = None
+) -> list[Path]:
     """The ``k`` longest start -> end paths, ranked as the module docstring says.
 
     ``te`` and ``var`` are per-activity expected durations (non-negative) and variances.
-    Fewer than ``k`` paths come back when the network has fewer.
+    ``ends`` (a boolean mask) restricts which activities a path may end at, e.g. one
+    activity with an interim target: the longest path to it then has its early finish
+    as mean. Fewer than ``k`` paths come back when the network has fewer.
     """
     n = net.n
     te = np.asarray(te, dtype=float).reshape(-1)
@@ -129,6 +133,8 @@ def k_longest_paths(net: Network, te: np.ndarray, var: np.ndarray, k: int) -> li
     q_mean = critical_tolerance(finish)
     q_var = critical_tolerance(float(var.sum()))
     can_start, can_end = path_ends(net)
+    if ends is not None:
+        can_end = np.asarray(ends, dtype=bool).reshape(-1)
     enters, leaves_start = _entry_exit(net)
     enters_i = enters.astype(np.int64)
     out_state = leaves_start.astype(np.int64)  # state of the predecessor a link leaves

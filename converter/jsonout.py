@@ -1,0 +1,146 @@
+"""The JSON summary for scripts (keys documented in the README)."""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+
+from .model import ERROR, LINK_TYPES
+from .reader import sha256_of
+
+
+def _num(x) -> float | None:
+    if x is None:
+        return None
+    x = float(x)
+    return x if math.isfinite(x) else None
+
+
+def _iso(d) -> str | None:
+    return d.isoformat() if d is not None else None
+
+
+def build_json(path: Path, problems, analysis) -> dict:
+    """The JSON document for one input; ``analysis`` is None for invalid input."""
+    ok = analysis is not None and not any(p.severity == ERROR for p in problems)
+    try:
+        digest = analysis.schedule.sha256 if analysis else sha256_of(path)
+    except OSError:
+        digest = None
+    data: dict = {
+        "ok": ok,
+        "input": {"file": str(path), "sha256": digest},
+        "problems": [p.as_dict() for p in problems],
+    }
+    if analysis is None:
+        data.update({"time_unit": None, "activity_count": 0, "project": None, "activities": []})
+        return data
+    a = analysis
+    s = a.schedule.settings
+    cal = a.calendar
+    data["time_unit"] = s.time_unit
+    data["activity_count"] = len(a.ids)
+    data["start_date"] = _iso(s.start_date)
+    data["calendar"] = None if cal is None else {
+        "start": cal.start.isoformat(),
+        "unit": cal.unit,
+        "working_days": list(cal.working_days),
+        "weekend_code": cal.weekend_code,
+        "holidays": [h.isoformat() for h in cal.holidays],
+    }
+    project = {
+        "expected_duration": _num(a.project_mean),
+        "variance": _num(a.project_variance),
+        "sd": _num(a.project_sd),
+        "critical_path": a.critical_ids,
+        "due": _num(a.due),
+        "due_date": _iso(a.due_date),
+        "z": _num(a.z),
+        "p_meet_due": _num(a.p_meet_due),
+        "duration_at_confidence": {repr(float(c)): _num(v) for c, v in a.confidence.items()},
+        "p_meet_due_all_paths": None if a.p_all_paths is None else {
+            "lower": _num(a.p_all_paths[0]), "upper": _num(a.p_all_paths[1])},
+        "finish_date": _iso(cal.finish_date(a.project_mean)) if cal else None,
+        "path_count": str(a.path_count) if a.path_count > 2**53 else a.path_count,
+        "tied_longest_paths": a.tied_longest,
+    }
+    data["project"] = project
+    sim = a.simulation
+    acts = []
+    cpm = a.cpm
+    for i, ident in enumerate(a.ids):
+        row = {
+            "id": ident,
+            "name": a.schedule.activities[i].name,
+            "te": _num(a.te[i]),
+            "variance": _num(a.var[i]),
+            "es": _num(cpm.es[i]),
+            "ef": _num(cpm.ef[i]),
+            "ls": _num(cpm.ls[i]),
+            "lf": _num(cpm.lf[i]),
+            "total_float": _num(cpm.total_float[i]),
+            "free_float": _num(cpm.free_float[i]),
+            "critical": bool(cpm.critical[i]),
+            "criticality": _num(sim.criticality[i]) if sim is not None else None,
+            "sensitivity": _num(sim.sensitivity[i]) if sim is not None else None,
+            "early_start_date": _iso(cal.start_date(cpm.es[i])) if cal else None,
+            "early_finish_date": _iso(cal.finish_date(cpm.ef[i])) if cal else None,
+            "late_start_date": _iso(cal.start_date(cpm.ls[i])) if cal else None,
+            "late_finish_date": _iso(cal.finish_date(cpm.lf[i])) if cal else None,
+        }
+        acts.append(row)
+    data["activities"] = acts
+    data["links"] = [
+        {"from": a.ids[int(p)], "to": a.ids[int(q)], "type": LINK_TYPES[int(k)], "lag": float(g)}
+        for p, q, k, g in zip(a.net.pred, a.net.succ, a.net.kind, a.net.lag)
+    ]
+    data["paths"] = [
+        {
+            "activities": [a.ids[i] for i in pr.path.activities],
+            "mean": _num(pr.path.mean),
+            "variance": _num(pr.path.variance),
+            "sd": _num(pr.path.sd),
+            "z": _num(pr.z),
+            "p_meet_due": _num(pr.p_meet_due),
+        }
+        for pr in a.paths
+    ]
+    data["simulation"] = None if sim is None else {
+        "iterations": sim.iterations,
+        "seed": sim.seed,
+        "distribution": sim.distribution,
+        "correlation": sim.correlation,
+        "mean": _num(sim.mean),
+        "sd": _num(sim.sd),
+        "std_error_mean": _num(sim.std_error_mean),
+        "p_meet_due": _num(sim.p_meet_due),
+        "p_meet_due_std_error": _num(sim.p_meet_due_std_error),
+        "percentiles": {repr(float(q)): _num(v) for q, v in sorted(sim.percentiles.items())},
+        "merge_bias": _num(sim.merge_bias),
+        "independent": None if sim.independent is None else {
+            "mean": _num(sim.independent.mean), "sd": _num(sim.independent.sd),
+            "p_meet_due": _num(sim.independent.p_meet_due)},
+    }
+    data["targets"] = [
+        {
+            "activity": a.ids[t.activity],
+            "target": _num(t.target),
+            "target_date": _iso(t.target_date),
+            "p_analytic": _num(t.p_analytic),
+            "p_simulated": _num(t.p_simulated),
+        }
+        for t in a.targets
+    ]
+    data["checks"] = [
+        {
+            "name": c.name,
+            "group": c.group,
+            "threshold": c.threshold,
+            "count": c.count,
+            "percent": _num(c.percent),
+            "passed": c.passed,
+            "activities": c.activities,
+        }
+        for c in a.checks
+    ]
+    return data

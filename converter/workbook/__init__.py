@@ -1,0 +1,67 @@
+"""Write the analysis workbook: formulas that mirror the analysis, cached values from it.
+
+The assembling function reads as a checklist of sheets; each sheet has its own module.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+from pathlib import Path
+
+import xlsxwriter
+
+from .activities import write_activities, write_links
+from .layout import Layout
+from .paths_sheet import write_paths
+from .probability import write_probability
+from .reference import write_health, write_input, write_method, write_settings, write_warnings
+from .simulation import write_simulation
+from .styles import Formats
+from .summary import write_summary
+from .timeline import write_timeline
+
+#: Fixed document dates so the same input gives the same workbook.
+DOCUMENT_DATE = dt.datetime(2024, 1, 1)
+
+
+def write_workbook(analysis, path: str | Path) -> None:
+    """Write ``analysis`` to ``path`` (.xlsx)."""
+    wb = xlsxwriter.Workbook(
+        str(path),
+        {
+            "strings_to_formulas": False,  # input text is never a formula (injection)
+            "strings_to_urls": False,
+            "strings_to_numbers": False,
+            "use_future_functions": True,  # NORM.S.DIST, WORKDAY.INTL, MAXIFS prefixes
+            "nan_inf_to_errors": True,
+        },
+    )
+    wb.set_properties({
+        "title": f"Schedule risk analysis of {Path(analysis.schedule.input_file).name}",
+        "subject": "CPM / PERT / Monte Carlo schedule risk analysis",
+        "author": "pertbook",
+        "created": DOCUMENT_DATE,
+        "comments": f"Input SHA-256 {analysis.schedule.sha256}",
+    })
+    wb.set_calc_mode("auto")
+    fmt = Formats(wb)
+    lay = Layout(
+        n=len(analysis.ids),
+        n_links=analysis.net.link_count,
+        dates=analysis.calendar is not None,
+        simulated=analysis.simulation is not None,
+    )
+    write_summary(wb, fmt, analysis, lay)
+    write_activities(wb, fmt, analysis, lay)
+    write_links(wb, fmt, analysis, lay)
+    write_paths(wb, fmt, analysis, lay)
+    write_probability(wb, fmt, analysis, lay)
+    if analysis.simulation is not None:
+        write_simulation(wb, fmt, analysis, lay)
+    write_timeline(wb, fmt, analysis, lay)
+    write_health(wb, fmt, analysis, lay)
+    write_settings(wb, fmt, analysis, lay)
+    write_method(wb, fmt, analysis, lay)
+    write_input(wb, fmt, analysis, lay)
+    write_warnings(wb, fmt, analysis, lay)
+    wb.close()

@@ -1,0 +1,115 @@
+"""Formula text builders: one function per derived figure, so each reads like its method.
+
+Cell references come from ``xlsxwriter.utility``; every builder returns text with a
+leading ``=``. Builders never compute values: cached values come from the Analysis.
+"""
+
+from __future__ import annotations
+
+from xlsxwriter.utility import quote_sheetname, xl_rowcol_to_cell
+
+from ..model import FF, FS, SF, SS
+
+#: Longest formula a spreadsheet accepts (Excel's documented limit).
+FORMULA_LIMIT = 8192
+
+
+def ref(row: int, col: int, sheet: str | None = None, absolute: bool = False) -> str:
+    """A1 reference of zero-based ``row, col``, optionally on another sheet."""
+    cell = xl_rowcol_to_cell(row, col, row_abs=absolute, col_abs=absolute)
+    return f"{quote_sheetname(sheet)}!{cell}" if sheet else cell
+
+
+def span(first_row: int, last_row: int, col: int, sheet: str | None = None) -> str:
+    """Absolute column range ``$C$5:$C$40``."""
+    a = xl_rowcol_to_cell(first_row, col, row_abs=True, col_abs=True)
+    b = xl_rowcol_to_cell(last_row, col, row_abs=True, col_abs=True)
+    return f"{quote_sheetname(sheet)}!{a}:{b}" if sheet else f"{a}:{b}"
+
+
+def expected_time(o: str, m: str, p: str) -> str:
+    """TE = (O + 4M + P) / 6."""
+    return f"=({o}+4*{m}+{p})/6"
+
+
+def pert_variance(o: str, p: str) -> str:
+    """((P - O) / 6)^2."""
+    return f"=(({p}-{o})/6)^2"
+
+
+def early_start(pushes: list[str]) -> str:
+    """ES = the largest start the incoming links allow, never before the project start."""
+    return "=MAX(" + ",".join(["0", *pushes]) + ")"
+
+
+def plus(a: str, b: str) -> str:
+    return f"={a}+{b}"
+
+
+def minus(a: str, b: str) -> str:
+    return f"={a}-{b}"
+
+
+def late_finish(pulls: list[str], finish_name: str = "ProjectFinish") -> str:
+    """LF = the earliest finish the outgoing links and the project finish require."""
+    return "=MIN(" + ",".join([finish_name, *pulls]) + ")"
+
+
+def free_float(ef: str, slacks: list[str], finish_name: str = "ProjectFinish") -> str:
+    """Free float = least slack over the outgoing links and to the project finish."""
+    return "=MIN(" + ",".join([f"{finish_name}-{ef}", *slacks]) + ")"
+
+
+def is_critical(total_float: str, tolerance_name: str = "FloatTolerance") -> str:
+    return f'=IF({total_float}<={tolerance_name},"Yes","No")'
+
+
+def link_push(kind: int, pred_es: str, pred_ef: str, lag: str, succ_te: str) -> str:
+    """The earliest start a link allows its successor (precedence diagramming rules)."""
+    if kind == FS:
+        return f"={pred_ef}+{lag}"
+    if kind == SS:
+        return f"={pred_es}+{lag}"
+    if kind == FF:
+        return f"={pred_ef}+{lag}-{succ_te}"
+    if kind == SF:
+        return f"={pred_es}+{lag}-{succ_te}"
+    raise ValueError(kind)
+
+
+def link_pull(kind: int, succ_ls: str, succ_lf: str, lag: str, pred_te: str) -> str:
+    """The latest finish a link allows its predecessor (backward pass)."""
+    if kind == FS:
+        return f"={succ_ls}-{lag}"
+    if kind == SS:
+        return f"={succ_ls}-{lag}+{pred_te}"
+    if kind == FF:
+        return f"={succ_lf}-{lag}"
+    if kind == SF:
+        return f"={succ_lf}-{lag}+{pred_te}"
+    raise ValueError(kind)
+
+
+def z_score(value: str, mean: str, sd: str) -> str:
+    return f'=IF({sd}>0,({value}-{mean})/{sd},"n/a")'
+
+
+def p_meet(value: str, mean: str, sd: str) -> str:
+    """P(normal duration <= value); 1 or 0 when the spread is zero."""
+    return f"=IF({sd}>0,NORM.S.DIST(({value}-{mean})/{sd},TRUE),IF({value}>={mean},1,0))"
+
+
+def duration_at(confidence: str, mean: str = "ProjectMean", sd: str = "ProjectSD") -> str:
+    return f"={mean}+NORM.S.INV({confidence})*{sd}"
+
+
+def path_length(coef: str, te: str, lags: str) -> str:
+    return f"=SUMPRODUCT({coef},{te})+SUM({lags})"
+
+
+def path_variance(coef: str, var: str) -> str:
+    return f"=SUMPRODUCT({coef},{coef},{var})"
+
+
+def fits(formula: str) -> bool:
+    return len(formula) <= FORMULA_LIMIT

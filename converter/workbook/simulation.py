@@ -1,0 +1,229 @@
+"""The Simulation sheet: run settings, simulated figures (values), histogram and
+driver charts."""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+
+import numpy as np
+
+from .layout import SIMULATION, Layout
+from .styles import PALETTE
+
+TOP_DRIVERS = 15
+
+
+def reproduce_command(a) -> str:
+    sim = a.simulation
+    parts = ["pertbook convert", f'"{Path(a.schedule.input_file).name}"',
+             f"--iterations {sim.iterations}", f"--seed {sim.seed}"]
+    if sim.distribution in ("pert", "triangular", "uniform"):
+        parts.append(f"--distribution {sim.distribution}")
+    parts.append(f"--correlation {sim.correlation:g}")
+    if a.due is not None and not a.due_date:
+        parts.append(f"--due {a.due:g}")
+    return " ".join(parts)
+
+
+def write_simulation(wb, fmt, a, lay: Layout) -> None:
+    sim = a.simulation
+    ws = wb.add_worksheet(SIMULATION)
+    ws.set_column(0, 0, 40)
+    ws.set_column(1, 3, 15)
+    ws.set_column(5, 5, 12)
+    ws.set_column(6, 9, 13)
+    ws.write_string(0, 0, "Monte Carlo simulation", fmt.title)
+    ws.write_string(1, 0, "These figures are values from the run below, not formulas: rerun the "
+                    "command to reproduce every one of them.", fmt.subtitle)
+    rows = [
+        ("Iterations", sim.iterations, fmt.int),
+        ("Seed", sim.seed, fmt.int),
+        ("Distribution", sim.distribution, None),
+        ("Rank correlation within groups", sim.correlation, fmt.num),
+    ]
+    r = 3
+    for label, value, style in rows:
+        ws.write_string(r, 0, label, fmt.label)
+        if isinstance(value, str):
+            ws.write_string(r, 1, value)
+        else:
+            ws.write_number(r, 1, value, style)
+        r += 1
+    ws.write_string(r, 0, "To reproduce", fmt.label)
+    ws.write_string(r, 1, reproduce_command(a))
+    r += 2
+    both = sim.independent is not None
+    ws.write_string(r, 0, "Result", fmt.header)
+    ws.write_string(r, 1, "Simulated", fmt.header)
+    if both:
+        ws.write_string(r, 2, "If independent", fmt.header)
+    r += 1
+    figures = [
+        ("Mean finish", "mean", fmt.num),
+        ("Standard deviation", "sd", fmt.num),
+        ("Standard error of the mean", "std_error_mean", fmt.num4),
+        ("Chance of meeting the due date", "p_meet_due", fmt.prob2),
+        ("Standard error of that chance", "p_meet_due_std_error", fmt.prob2),
+    ]
+    mean_row = r
+    for label, attr, style in figures:
+        value = getattr(sim, attr)
+        if value is None:
+            continue
+        ws.write_string(r, 0, label, fmt.label)
+        ws.write_number(r, 1, float(value), style)
+        if both and getattr(sim.independent, attr) is not None:
+            ws.write_number(r, 2, float(getattr(sim.independent, attr)), style)
+        r += 1
+    ws.write_string(r, 0, "Merge bias = simulated mean - PERT mean", fmt.label)
+    ws.write_formula(r, 1, f"=B{mean_row + 1}-ProjectMean", fmt.num, float(sim.merge_bias))
+    ws.write_string(r, 3, "Positive where paths merge: the finish waits for the latest of "
+                    "several uncertain paths, and the mean of a maximum exceeds the largest mean.",
+                    fmt.subtitle)
+    r += 2
+    ws.write_string(r, 0, "Percentile", fmt.header)
+    ws.write_string(r, 1, "Duration", fmt.header)
+    if both:
+        ws.write_string(r, 2, "If independent", fmt.header)
+    r += 1
+    for q, v in sorted(sim.percentiles.items()):
+        ws.write_string(r, 0, f"P{q * 100:g}")
+        ws.write_number(r, 1, float(v), fmt.num)
+        if both:
+            ws.write_number(r, 2, float(sim.independent.percentiles[q]), fmt.num)
+        r += 1
+    r += 1
+    hist_top = r
+    _write_histogram(wb, ws, fmt, a, hist_top)
+    _write_drivers(wb, ws, fmt, a, lay)
+
+
+def _write_histogram(wb, ws, fmt, a, top: int) -> None:
+    sim = a.simulation
+    edges, counts = a.histogram
+    ws.write_string(top, 0, "Histogram of simulated durations", fmt.title)
+    heads = ["Bin (up to)", "Iterations", "Share", "Cumulative share", "Due date bin"]
+    for col, h in enumerate(heads):
+        ws.write_string(top + 1, col, h, fmt.header)
+    first = top + 2
+    total = float(counts.sum())
+    width = float(edges[1] - edges[0]) if edges.size > 1 else 0.0
+    due_bin = None
+    if a.due is not None and edges.size:
+        idx = int(np.searchsorted(edges, a.due, side="left"))
+        due_bin = idx if idx < edges.size and (edges[idx] - width) <= a.due else None
+    cumulative = 0.0
+    for k, (edge, n) in enumerate(zip(edges.tolist(), counts.tolist())):
+        r = first + k
+        cumulative += n
+        ws.write_number(r, 0, edge, fmt.num)
+        ws.write_number(r, 1, n, fmt.int)
+        ws.write_formula(r, 2, f"=B{r + 1}/{int(total)}", fmt.prob2, n / total)
+        ws.write_formula(r, 3, f"=SUM($B${first + 1}:B{r + 1})/{int(total)}", fmt.prob2,
+                         cumulative / total)
+        ws.write_number(r, 4, float(max(counts)) if k == due_bin else 0.0, fmt.int)
+    last = first + len(edges) - 1
+    chart = wb.add_chart({"type": "column"})
+    chart.add_series({
+        "name": "Iterations",
+        "categories": [SIMULATION, first, 0, last, 0],
+        "values": [SIMULATION, first, 1, last, 1],
+        "fill": {"color": PALETTE["moss"]},
+        "border": {"color": "#FFFFFF"},
+        "gap": 15,
+    })
+    if due_bin is not None:
+        chart.add_series({
+            "name": "Due date falls in this bin",
+            "categories": [SIMULATION, first, 0, last, 0],
+            "values": [SIMULATION, first, 4, last, 4],
+            "fill": {"color": PALETTE["clay"]},
+            "gap": 15,
+        })
+    line = wb.add_chart({"type": "line"})
+    line.add_series({
+        "name": "Cumulative share",
+        "categories": [SIMULATION, first, 0, last, 0],
+        "values": [SIMULATION, first, 3, last, 3],
+        "y2_axis": True,
+        "line": {"color": PALETTE["ink"], "width": 2.5},
+    })
+    chart.combine(line)
+    chart.set_title({"name": f"Simulated finish ({sim.iterations:,} iterations)",
+                     "name_font": {"size": 12, "bold": True}})
+    chart.set_x_axis({"name": f"Duration, bin upper edge ({a.schedule.settings.time_unit})",
+                      "num_format": "0.#", "num_font": {"rotation": -45}})
+    chart.set_y_axis({"name": "Iterations", "major_gridlines": {"visible": True,
+                                                                  "line": {"color": "#E3E3E3"}}})
+    line.set_y2_axis({"name": "Cumulative share", "min": 0, "max": 1, "num_format": "0%"})
+    chart.set_legend({"position": "bottom"})
+    chart.set_size({"width": 720, "height": 360})
+    chart.set_chartarea({"border": {"none": True}})
+    ws.insert_chart(top, 6, chart)
+
+
+def _write_drivers(wb, ws, fmt, a, lay: Layout) -> None:
+    sim = a.simulation
+    col = 12
+    ws.set_column(col, col, 12)
+    ws.set_column(col + 1, col + 1, 30)
+    ws.set_column(col + 2, col + 3, 14)
+    ws.write_string(2, col, "Risk drivers: activities ranked by sensitivity", fmt.title)
+    heads = ["Activity", "Description", "Sensitivity (rank correlation)", "Criticality index"]
+    for k, h in enumerate(heads):
+        ws.write_string(3, col + k, h, fmt.header)
+    ws.set_row(3, 32)
+    sens = np.nan_to_num(np.asarray(sim.sensitivity, float), nan=0.0)
+    order = sorted(range(len(a.ids)), key=lambda i: (-abs(sens[i]), -sim.criticality[i], i))
+    acts = a.schedule.activities
+    for k, i in enumerate(order):
+        r = 4 + k
+        ws.write_string(r, col, a.ids[i])
+        ws.write_string(r, col + 1, acts[i].name)
+        s = float(sim.sensitivity[i])
+        if math.isnan(s):
+            ws.write_string(r, col + 2, "n/a (fixed)")
+        else:
+            ws.write_number(r, col + 2, s, fmt.num4)
+        ws.write_number(r, col + 3, float(sim.criticality[i]), fmt.prob)
+    top = min(TOP_DRIVERS, len(order))
+    bar = wb.add_chart({"type": "bar"})
+    bar.add_series({
+        "name": "Sensitivity",
+        "categories": [SIMULATION, 4, col, 3 + top, col],
+        "values": [SIMULATION, 4, col + 2, 3 + top, col + 2],
+        "fill": {"color": PALETTE["ink"]},
+        "gap": 40,
+    })
+    bar.set_title({"name": f"Top {top} risk drivers (sensitivity)",
+                   "name_font": {"size": 12, "bold": True}})
+    bar.set_y_axis({"reverse": True})
+    bar.set_x_axis({"min": -1 if sens.min() < 0 else 0, "max": 1, "num_format": "0.0",
+                    "major_gridlines": {"visible": True, "line": {"color": "#E3E3E3"}}})
+    bar.set_legend({"none": True})
+    bar.set_size({"width": 520, "height": 360})
+    ws.insert_chart(4, col + 5, bar)
+    crit_order = sorted(range(len(a.ids)), key=lambda i: (-sim.criticality[i], i))[:top]
+    c2 = col + 14
+    ws.write_string(3, c2, "Activity", fmt.header)
+    ws.write_string(3, c2 + 1, "Criticality index", fmt.header)
+    for k, i in enumerate(crit_order):
+        ws.write_string(4 + k, c2, a.ids[i])
+        ws.write_number(4 + k, c2 + 1, float(sim.criticality[i]), fmt.prob)
+    cbar = wb.add_chart({"type": "bar"})
+    cbar.add_series({
+        "name": "Criticality index",
+        "categories": [SIMULATION, 4, c2, 3 + top, c2],
+        "values": [SIMULATION, 4, c2 + 1, 3 + top, c2 + 1],
+        "fill": {"color": PALETTE["amber"]},
+        "gap": 40,
+    })
+    cbar.set_title({"name": "Criticality index: share of iterations on the critical path",
+                    "name_font": {"size": 11, "bold": True}})
+    cbar.set_y_axis({"reverse": True})
+    cbar.set_x_axis({"min": 0, "max": 1, "num_format": "0%",
+                     "major_gridlines": {"visible": True, "line": {"color": "#E3E3E3"}}})
+    cbar.set_legend({"none": True})
+    cbar.set_size({"width": 520, "height": 360})
+    ws.insert_chart(24, col + 5, cbar)

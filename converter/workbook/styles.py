@@ -1,0 +1,48 @@
+"""The workbook's palette and cell formats (our own: ink blue, moss, amber, slate)."""
+
+from __future__ import annotations
+
+PALETTE = {
+    "ink": "#23395B",  # headings, critical bars
+    "moss": "#5B8C5A",  # non-critical bars
+    "amber": "#E0A526",  # float, due-date marks
+    "slate": "#8A9BA8",  # secondary lines
+    "clay": "#B5523B",  # warnings, flagged paths
+    "mist": "#EEF2F5",  # header fill
+    "sand": "#F6EFE0",  # input cells
+}
+
+DATE_FORMAT = "yyyy-mm-dd"
+NUMBER_FORMAT = "0.00"
+PROB_FORMAT = "0.0%"
+
+
+class Formats:
+    """Cell formats, created once per workbook."""
+
+    def __init__(self, wb):
+        add = wb.add_format
+        self.title = add({"bold": True, "font_size": 14, "font_color": PALETTE["ink"]})
+        self.subtitle = add({"italic": True, "font_color": "#555555"})
+        self.header = add({"bold": True, "bg_color": PALETTE["mist"], "bottom": 1,
+                           "text_wrap": True, "valign": "top"})
+        self.label = add({"bold": True})
+        self.text = add({})
+        self.wrap = add({"text_wrap": True, "valign": "top"})
+        self.input = add({"bg_color": PALETTE["sand"]})
+        self.input_num = add({"bg_color": PALETTE["sand"], "num_format": "0.###"})
+        self.num = add({"num_format": NUMBER_FORMAT})
+        self.num4 = add({"num_format": "0.0000"})
+        self.int = add({"num_format": "0"})
+        self.prob = add({"num_format": PROB_FORMAT})
+        self.prob2 = add({"num_format": "0.00%"})
+        self.date = add({"num_format": DATE_FORMAT})
+        self.input_date = add({"num_format": DATE_FORMAT, "bg_color": PALETTE["sand"]})
+        self.big = add({"bold": True, "font_size": 12, "num_format": NUMBER_FORMAT})
+        self.big_prob = add({"bold": True, "font_size": 12, "num_format": PROB_FORMAT})
+        self.big_date = add({"bold": True, "font_size": 12, "num_format": DATE_FORMAT})
+        self.flag = add({"bold": True, "font_color": PALETTE["clay"]})
+        self.good = add({"font_color": PALETTE["moss"], "bold": True})
+        self.caution = add({"text_wrap": True, "valign": "top", "font_color": PALETTE["clay"],
+                            "italic": True})
+        self.critical = add({"bold": True, "font_color": PALETTE["ink"]})
