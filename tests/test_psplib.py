@@ -7,7 +7,6 @@ dag_longest_path_length is a second, independent longest-path computation.
 
 from __future__ import annotations
 
-import importlib
 import json
 
 import networkx as nx
@@ -97,19 +96,9 @@ def test_psplib_csv_reads_back(path, tmp_path):
     assert got == sorted((f"J{a}", f"J{b}", "FS", 0.0) for a, b in project.links())
 
 
-def _convert_or_skip():
-    try:
-        importlib.import_module("converter.analysis")
-        importlib.import_module("converter.jsonout")
-        from converter.api import ConvertOptions, convert
-    except Exception as exc:  # the analysis stage is still being written
-        pytest.skip(f"converter.analysis is not importable yet ({exc!r})")
-    return convert, ConvertOptions
-
-
 @pytest.mark.parametrize("path", _sample("j30", 48) + _sample("j120", 60))
-def test_psplib_convert(path, tmp_path):
-    convert, ConvertOptions = _convert_or_skip()
+def test_psplib_convert(path, tmp_path, convert_api):
+    convert, ConvertOptions = convert_api
     csv_path = tmp_path / f"{path.stem}.csv"
     project = psplib_to_csv(path, csv_path)
     result = convert(csv_path, ConvertOptions(json=True, simulate=False), outdir=tmp_path)
