@@ -64,4 +64,15 @@ def write_workbook(analysis, path: str | Path) -> None:
     write_method(wb, fmt, analysis, lay)
     write_input(wb, fmt, analysis, lay)
     write_warnings(wb, fmt, analysis, lay)
+    for ws in wb.worksheets():
+        _printable(ws)
     wb.close()
+
+
+def _printable(ws) -> None:
+    """Landscape, one page wide, so a printed or PDF copy keeps each table whole."""
+    ws.set_landscape()
+    ws.set_paper(9)  # A4
+    ws.fit_to_pages(1, 0)
+    ws.set_margins(left=0.4, right=0.4, top=0.5, bottom=0.5)
+    ws.set_footer("&L&A&RPage &P of &N")

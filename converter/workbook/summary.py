@@ -42,6 +42,8 @@ def write_summary(wb, fmt, a, lay: Layout) -> None:
         write(r)
         if note:
             ws.write_string(r, 3, note, fmt.wrap)
+            if len(note) > 85:
+                ws.set_row(r, 15 * (len(note) // 85 + 1))
         r += 1
         return r - 1
 
@@ -186,6 +188,7 @@ def _write_simulated(ws, fmt, a, start: int, line) -> None:
                         + ". Logic problems (missing links, leads, long lags) matter most: "
                         "they make the dates and the probabilities unreliable. See Health check.",
                         fmt.wrap)
+        ws.set_row(r, 45)
     r += 2
     ws.merge_range(r, 0, r + 3, 3, CAUTION, fmt.caution)
 

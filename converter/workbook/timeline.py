@@ -43,6 +43,7 @@ def write_timeline(wb, fmt, a, lay: Layout) -> None:
         ws.write_string(top, col, h, fmt.header)
     ws.set_column(0, 0, 12)
     ws.set_column(1, 4, 12)
+    ws.set_row(top, 30)
     crit_cell = lambda i: lay.cell(i, "crit", True)  # noqa: E731
     for k, i in enumerate(rows):
         r = top + 1 + k
