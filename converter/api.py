@@ -60,7 +60,7 @@ class ConvertResult:
 
 
 def output_paths(path: Path, outdir: Path | None) -> tuple[Path, Path]:
-    """``<stem>.analysis.xlsx`` and ``<stem>.analysis.json`` in ``outdir`` (default: beside input)."""
+    """``<stem>.analysis.xlsx`` and ``<stem>.analysis.json`` in ``outdir`` (default: input's)."""
     folder = Path(outdir) if outdir is not None else path.parent
     return folder / f"{path.stem}.analysis.xlsx", folder / f"{path.stem}.analysis.json"
 

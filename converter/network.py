@@ -96,7 +96,7 @@ def _levels(n: int, tail: np.ndarray, head: np.ndarray) -> np.ndarray:
         frontier = cand[remaining[cand] == 0]
         depth += 1
     if (level < 0).any():
-        raise CycleError("dependency cycle among activities %s" % np.flatnonzero(level < 0)[:10])
+        raise CycleError(f"dependency cycle among activities {np.flatnonzero(level < 0)[:10]}")
     return level
 
 

@@ -114,8 +114,8 @@ METHOD_TEXT = [
      "Operations Research 7(5), 1959."),
     ("Variance", "((P - O) / 6)^2 per activity (same source): the spread is taken as one sixth of "
      "the range."),
-    ("Forward pass", "Early start (ES) = the largest start allowed by the incoming links, and never "
-     "before 0 (the project start). FS: after the predecessor's finish + lag; SS: after its "
+    ("Forward pass", "Early start (ES) = the largest start allowed by the incoming links, and "
+     "never before 0 (the project start). FS: after the predecessor's finish + lag; SS: after its "
      "start + lag; FF: so that the finish comes after the predecessor's finish + lag; SF: so that "
      "the finish comes after the predecessor's start + lag. Early finish EF = ES + TE. Durations "
      "are fixed: an activity is not stretched or split."),

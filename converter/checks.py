@@ -1,0 +1,440 @@
+"""Schedule health checks: logic, estimates and structure of an activity network.
+
+Each check counts offenders against a threshold and says why a reviewer should care.
+``Check.activities`` lists offending activity IDs in sheet order; for checks on links
+(leads, lags, link types, redundant links) it lists links as ``"PRED->SUCC"`` in link
+order. ``Check.count`` is always ``len(Check.activities)``; ``Check.percent`` is the
+count as a percentage of the check's base (activities or links), None where the check
+is an absolute count or the base is empty.
+
+The project start is the first activity in sheet order without predecessors; the
+project end is the activity without successors that finishes last (early finish; on a
+tie the last listed). Other activities without predecessors or successors are the
+"open ends" the logic and structure checks report.
+
+Logic thresholds: US Defense Contract Management Agency 14-Point Schedule Assessment
+(thresholds from memory). Estimate and structure thresholds: common practice.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import networkx as nx
+import numpy as np
+
+from .model import FF, FS, LINK_TYPES, SF, SS
+from .network import CpmResult, Network
+
+LOGIC, ESTIMATES, STRUCTURE = "logic", "estimates", "structure"
+
+DCMA = "US Defense Contract Management Agency 14-Point Schedule Assessment (thresholds from memory)"
+
+#: DCMA "high float" and "high duration" limit, in working days.
+LONG_DAYS = 44.0
+
+#: Spread P/O above this flags a guessed range.
+SPREAD_LIMIT = 10.0
+
+_TOL = 1e-9
+
+
+@dataclass
+class Check:
+    """One health check: what was counted, against which threshold, and why it matters."""
+
+    name: str
+    group: str  # "logic" | "estimates" | "structure"
+    threshold: str
+    count: int
+    percent: float | None
+    passed: bool
+    activities: list[str]  # offending activity IDs, or "PRED->SUCC" for link checks
+    matters: str
+    source: str
+    detail: str = ""  # extra facts for the reader (e.g. group sizes, which activity is the start)
+
+
+def _percent(count: int, base: int) -> float | None:
+    return 100.0 * count / base if base else None
+
+
+def _at_most(count: int, base: int, pct: int) -> bool:
+    """count <= pct% of base, in integers (exactly pct% passes)."""
+    return count * 100 <= pct * base
+
+
+def _share_check(
+    name: str,
+    group: str,
+    offenders: list[str],
+    base: int,
+    pct: int,
+    base_name: str,
+    matters: str,
+    source: str,
+    detail: str = "",
+) -> Check:
+    return Check(
+        name=name,
+        group=group,
+        threshold=f"<= {pct}% of {base_name}",
+        count=len(offenders),
+        percent=_percent(len(offenders), base),
+        passed=_at_most(len(offenders), base, pct),
+        activities=offenders,
+        matters=matters,
+        source=source,
+        detail=detail,
+    )
+
+
+def _zero_check(
+    name: str,
+    group: str,
+    offenders: list[str],
+    base: int | None,
+    threshold: str,
+    matters: str,
+    source: str,
+    detail: str = "",
+) -> Check:
+    return Check(
+        name=name,
+        group=group,
+        threshold=threshold,
+        count=len(offenders),
+        percent=_percent(len(offenders), base) if base is not None else None,
+        passed=not offenders,
+        activities=offenders,
+        matters=matters,
+        source=source,
+        detail=detail,
+    )
+
+
+def project_ends(net: Network, cpm: CpmResult) -> tuple[int | None, int | None]:
+    """Index of the project start and the project end (see module docstring)."""
+    starts = np.flatnonzero(~net.has_pred())
+    ends = np.flatnonzero(~net.has_succ())
+    start = int(starts[0]) if starts.size else None
+    end = None
+    if ends.size:
+        ef = np.asarray(cpm.ef, dtype=float)[ends]
+        latest = ends[ef >= ef.max() - _TOL * max(1.0, abs(float(ef.max())))]
+        end = int(latest[-1])
+    return start, end
+
+
+def _link_names(ids: list[str], net: Network, mask: np.ndarray) -> list[str]:
+    return [f"{ids[p]}->{ids[s]}" for p, s in zip(net.pred[mask], net.succ[mask], strict=True)]
+
+
+def _long(values_days: np.ndarray) -> np.ndarray:
+    return values_days > LONG_DAYS + _TOL
+
+
+def _days_text(days_per_unit: float) -> str:
+    if days_per_unit == 1.0:
+        return f"{LONG_DAYS:g} working days"
+    return f"{LONG_DAYS:g} working days (= {LONG_DAYS / days_per_unit:.4g} schedule units)"
+
+
+def redundant_links(net: Network) -> np.ndarray:
+    """Mask of plain finish-to-start links (lag 0) implied by other links.
+
+    A link A->C (FS, lag 0) says C starts no earlier than A finishes. It is redundant
+    when other links already say so. With durations >= 0, track what each link
+    bounds: FS (lag >= 0) bounds the successor's start by the predecessor's finish,
+    SS its start by the predecessor's start, FF its finish by the predecessor's finish,
+    SF its finish by the predecessor's start, and an activity's start bounds its own
+    finish. On the graph of (activity, start|finish) nodes built from all links with
+    lag >= 0, the link A->C is redundant when (C, start) is reachable from
+    (A, finish) other than by its own edge: the edge is missing from the transitive
+    reduction (networkx.transitive_reduction; Aho, Garey & Ullman 1972). A second
+    copy of the same plain link, or a plain link beside an FS link with a positive lag
+    between the same pair, is redundant too. Negative-lag links imply nothing here.
+    """
+    n, m = net.n, net.link_count
+    out = np.zeros(m, dtype=bool)
+    if m == 0:
+        return out
+    plain = (net.kind == FS) & (net.lag == 0)
+
+    def s_node(i: int) -> int:
+        return 2 * i
+
+    def f_node(i: int) -> int:
+        return 2 * i + 1
+
+    g = nx.DiGraph()
+    g.add_nodes_from(range(2 * n))
+    g.add_edges_from((s_node(i), f_node(i)) for i in range(n))
+    implied_by_lagged: set[tuple[int, int]] = set()
+    links = zip(
+        net.pred.tolist(), net.succ.tolist(), net.kind.tolist(), net.lag.tolist(), strict=True
+    )
+    for p, s, k, lag in links:
+        if lag < 0:
+            continue
+        if k == FS:
+            g.add_edge(f_node(p), s_node(s))
+            if lag > 0:
+                implied_by_lagged.add((p, s))
+        elif k == SS:
+            g.add_edge(s_node(p), s_node(s))
+        elif k == FF:
+            g.add_edge(f_node(p), f_node(s))
+        elif k == SF:
+            g.add_edge(s_node(p), f_node(s))
+    kept = nx.transitive_reduction(g)
+    seen: set[tuple[int, int]] = set()
+    for j in np.flatnonzero(plain):
+        p, s = int(net.pred[j]), int(net.succ[j])
+        if (p, s) in seen or (p, s) in implied_by_lagged:
+            out[j] = True
+        elif not kept.has_edge(f_node(p), s_node(s)):
+            out[j] = True
+        seen.add((p, s))
+    return out
+
+
+def _logic_checks(
+    ids: list[str], te: np.ndarray, net: Network, cpm: CpmResult, days_per_unit: float
+) -> list[Check]:
+    n, m = net.n, net.link_count
+    start, end = project_ends(net, cpm)
+    open_start = ~net.has_pred()
+    open_end = ~net.has_succ()
+    if start is not None:
+        open_start[start] = False
+    if end is not None:
+        open_end[end] = False
+    missing = [ids[i] for i in np.flatnonzero(open_start | open_end)]
+    leads = net.lag < 0
+    lags = net.lag > 0
+    other_types = net.kind != FS
+    tf_days = np.asarray(cpm.total_float, dtype=float) * days_per_unit
+    te_days = te * days_per_unit
+    type_counts = ", ".join(
+        f"{name} {int(np.sum(net.kind == code))}" for code, name in enumerate(LINK_TYPES)
+    )
+    ends_text = (
+        f"project start {ids[start] if start is not None else '-'}, "
+        f"project end {ids[end] if end is not None else '-'}"
+    )
+    return [
+        _share_check(
+            "missing predecessors or successors",
+            LOGIC,
+            missing,
+            n,
+            5,
+            "activities",
+            "An activity with an open start or finish can slip without moving anything "
+            "after it, so the dates and floats around it understate the risk.",
+            DCMA,
+            detail=ends_text + " are not counted",
+        ),
+        _zero_check(
+            "leads (negative lags)",
+            LOGIC,
+            _link_names(ids, net, leads),
+            m,
+            "0 links",
+            "A lead lets a successor start before its predecessor's work is done, which "
+            "hides overlap assumptions and can squeeze the critical path.",
+            DCMA,
+        ),
+        _share_check(
+            "lags (positive)",
+            LOGIC,
+            _link_names(ids, net, lags),
+            m,
+            5,
+            "links",
+            "A lag is waiting time nobody is doing or estimating; it often hides work "
+            "that should be an activity with its own range.",
+            DCMA,
+        ),
+        Check(
+            name="links other than finish-to-start",
+            group=LOGIC,
+            threshold="<= 10% of links (finish-to-start >= 90%)",
+            count=int(other_types.sum()),
+            percent=_percent(int(other_types.sum()), m),
+            passed=_at_most(int(other_types.sum()), m, 10),
+            activities=_link_names(ids, net, other_types),
+            matters="Start-to-start, finish-to-finish and start-to-finish links make the "
+            "critical path harder to follow and float harder to interpret.",
+            source=DCMA,
+            detail=type_counts,
+        ),
+        _share_check(
+            "high total float",
+            LOGIC,
+            [ids[i] for i in np.flatnonzero(_long(tf_days))],
+            n,
+            5,
+            "activities",
+            "Very large float usually means missing successors, so the activity could "
+            "slip a long way without the schedule showing any effect.",
+            DCMA,
+            detail=f"total float > {_days_text(days_per_unit)}",
+        ),
+        _share_check(
+            "high duration",
+            LOGIC,
+            [ids[i] for i in np.flatnonzero(_long(te_days))],
+            n,
+            5,
+            "activities",
+            "Long activities are hard to estimate and to track; breaking them down gives "
+            "better ranges and earlier warning.",
+            DCMA,
+            detail=f"expected time (O + 4M + P) / 6 > {_days_text(days_per_unit)}",
+        ),
+    ]
+
+
+def _estimate_checks(ids: list[str], o: np.ndarray, m: np.ndarray, p: np.ndarray) -> list[Check]:
+    n = len(ids)
+    fixed = (o == m) & (m == p) & ~((o == 0) & (m == 0) & (p == 0))
+    outside = (m < o) | (m > p)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        wide = np.where(o > 0, p / np.where(o > 0, o, 1.0) > SPREAD_LIMIT, p > 0)
+    return [
+        _share_check(
+            "fixed durations (O = M = P)",
+            ESTIMATES,
+            [ids[i] for i in np.flatnonzero(fixed)],
+            n,
+            10,
+            "activities",
+            "An activity without a range adds no uncertainty, so the simulated spread of "
+            "the finish is too narrow if its duration is really uncertain.",
+            "common practice, no published source: a three-point analysis needs ranges; "
+            "milestones (O = M = P = 0) are not counted",
+        ),
+        _zero_check(
+            "most likely outside optimistic..pessimistic",
+            ESTIMATES,
+            [ids[i] for i in np.flatnonzero(outside)],
+            n,
+            "0 activities",
+            "A most likely value outside its own range means the estimate was entered "
+            "wrongly and the PERT figures for it are meaningless.",
+            "definition of a three-point estimate: O <= M <= P (Malcolm et al. 1959)",
+        ),
+        _share_check(
+            f"wide spread (P / O > {SPREAD_LIMIT:g})",
+            ESTIMATES,
+            [ids[i] for i in np.flatnonzero(wide)],
+            n,
+            5,
+            "activities",
+            "A pessimistic value more than ten times the optimistic one usually means "
+            "the scope is unclear and the range is a guess.",
+            "common practice, no published source: flags guesswork; O = 0 with P > 0 "
+            "counts as an unbounded spread",
+        ),
+    ]
+
+
+def _structure_checks(ids: list[str], net: Network, cpm: CpmResult) -> list[Check]:
+    n = net.n
+    start, end = project_ends(net, cpm)
+    no_pred = np.flatnonzero(~net.has_pred())
+    no_succ = np.flatnonzero(~net.has_succ())
+    extra_starts = [ids[i] for i in no_pred if i != start]
+    extra_ends = [ids[i] for i in no_succ if i != end]
+
+    g = nx.Graph()
+    g.add_nodes_from(range(n))
+    g.add_edges_from(zip(net.pred.tolist(), net.succ.tolist(), strict=True))
+    groups = sorted(nx.connected_components(g), key=lambda c: (-len(c), min(c)))
+    outside_main = sorted(i for c in groups[1:] for i in c)
+    sizes = ", ".join(str(len(c)) for c in groups)
+    redundant = redundant_links(net)
+    return [
+        _zero_check(
+            "more than one start activity",
+            STRUCTURE,
+            extra_starts,
+            None,
+            "1 activity without predecessors",
+            "Each extra start is an activity whose early dates nothing drives; the "
+            "project start should be a single activity or milestone.",
+            "common practice: one start and one finish for a closed network",
+            detail=f"project start taken as {ids[start]} (first listed)"
+            if start is not None
+            else "",
+        ),
+        _zero_check(
+            "more than one end activity",
+            STRUCTURE,
+            extra_ends,
+            None,
+            "1 activity without successors",
+            "Each extra end is work whose lateness the project finish never sees.",
+            "common practice: one start and one finish for a closed network",
+            detail=f"project end taken as {ids[end]} (latest early finish)"
+            if end is not None
+            else "",
+        ),
+        _zero_check(
+            "disconnected groups",
+            STRUCTURE,
+            [ids[i] for i in outside_main],
+            n,
+            "1 connected group",
+            "Activities not linked to the main network cannot affect its finish, so "
+            "their risk is missing from the analysis.",
+            "common practice: one connected network (weakly connected components, networkx)",
+            detail=f"{len(groups)} group(s) of sizes {sizes}; activities outside the largest "
+            "are listed"
+            if groups
+            else "",
+        ),
+        _share_check(
+            "redundant links",
+            STRUCTURE,
+            _link_names(ids, net, redundant),
+            net.link_count,
+            5,
+            "links",
+            "A link implied by another path adds nothing today but keeps a dependency "
+            "alive after the path changes, which confuses later edits.",
+            "common practice, no published source; only finish-to-start links without "
+            "lag are judged",
+        ),
+    ]
+
+
+def run_checks(
+    ids: list[str],
+    optimistic,
+    most_likely,
+    pessimistic,
+    net: Network,
+    cpm: CpmResult,
+    days_per_unit: float = 1.0,
+) -> list[Check]:
+    """All health checks, in the order logic, estimates, structure.
+
+    Estimates are in the schedule's time unit; ``days_per_unit`` converts them (and
+    floats) to working days for the 44-working-day limits (see
+    :attr:`converter.calendar.Calendar.days_per_unit`). The PERT expected time
+    (O + 4M + P) / 6 (Malcolm et al. 1959) is the duration judged by "high duration".
+    """
+    o = np.asarray(optimistic, dtype=float).reshape(-1)
+    m = np.asarray(most_likely, dtype=float).reshape(-1)
+    p = np.asarray(pessimistic, dtype=float).reshape(-1)
+    if not (len(ids) == net.n == o.size == m.size == p.size):
+        raise ValueError("ids, estimates and network must have one entry per activity")
+    te = (o + 4.0 * m + p) / 6.0
+    return (
+        _logic_checks(ids, te, net, cpm, days_per_unit)
+        + _estimate_checks(ids, o, m, p)
+        + _structure_checks(ids, net, cpm)
+    )
