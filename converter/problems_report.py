@@ -43,6 +43,12 @@ def advice(problem: Problem) -> str:
     return problem.fix or problem.message
 
 
+def ordered(problems: list[Problem]) -> list[Problem]:
+    """Faults and errors first (they block the conversion), then warnings; stable."""
+    rank = {FAULT: 0, ERROR: 1}
+    return sorted(problems, key=lambda p: rank.get(p.severity, 2))
+
+
 def _counts(problems: list[Problem]) -> str:
     errors = sum(p.severity == ERROR for p in problems)
     warnings = sum(p.severity == WARNING for p in problems)
@@ -68,7 +74,7 @@ def problems_text(input_name: str, problems: list[Problem], details: str | None 
             "again. The file here is exactly as it was dropped."
         )
     lines.append("")
-    for i, p in enumerate(problems, 1):
+    for i, p in enumerate(ordered(problems), 1):
         where = place(p)
         head = f"{i}. {p.severity.upper()}"
         if where:
@@ -118,7 +124,7 @@ def write_problems_xlsx(
         for col, (title, width) in enumerate(zip(HEADERS, WIDTHS, strict=True)):
             sheet.write_string(header_row, col, title, bold)
             sheet.set_column(col, col, width)
-        for i, p in enumerate(problems, 1):
+        for i, p in enumerate(ordered(problems), 1):
             row = header_row + i
             sheet.write_number(row, 0, i, top)
             values = (p.severity, p.sheet, p.cell, p.activity, p.message, advice(p), p.code)

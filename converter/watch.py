@@ -296,10 +296,13 @@ class Watcher:
     def _start(self) -> None:
         root = self.layout.root
         root.mkdir(parents=True, exist_ok=True)
-        for _, path in self.layout.shared():
-            path.mkdir(parents=True, exist_ok=True)
         self.layout.work.mkdir(parents=True, exist_ok=True)
         self.log = make_logger(self.log_path, echo=self.echo)
+        for _, path in self.layout.shared():
+            try:
+                path.mkdir(parents=True, exist_ok=True)
+            except OSError:
+                pass  # reported (and retried) by the first poll
         self.work = df.WorkArea(self.layout)
         mode = "once" if self.once else f"every {self.interval:g} s"
         self.log.info(
