@@ -13,7 +13,7 @@ import traceback
 from pathlib import Path
 
 from . import __version__
-from .api import ConvertOptions, PertbookError, check, convert
+from .api import ConvertOptions, PertbookError, check, convert, output_paths
 from .model import DISTRIBUTIONS, ERROR
 
 EXIT_OK, EXIT_FAULT, EXIT_INVALID = 0, 1, 2
@@ -157,20 +157,40 @@ class ProgressBar:
         self.stream.flush()
 
 
+#: Warnings printed per file; errors are always printed in full.
+WARNINGS_SHOWN = 20
+
+
 def _print_problems(path: str, problems, stream) -> None:
+    warnings = 0
     for p in problems:
+        if p.severity != ERROR:
+            warnings += 1
+            if warnings > WARNINGS_SHOWN:
+                continue
         stream.write(f"{path}: {p}\n")
+    if warnings > WARNINGS_SHOWN:
+        stream.write(f"{path}: ... and {warnings - WARNINGS_SHOWN} more warning(s), all listed "
+                     "on the workbook's Warnings sheet\n")
 
 
 def cmd_convert(args) -> int:
     worst = EXIT_OK
     options = options_from(args)
+    written: set[Path] = set()
     for name in args.inputs:
         if sys.stderr.isatty() and not args.quiet:
             options.progress = ProgressBar()
         code = EXIT_OK
+        xlsx, js = output_paths(Path(name), Path(args.outdir) if args.outdir else None)
+        if xlsx.resolve() in written:  # plan.xlsx and plan.csv in one run: keep both
+            tag = Path(name).suffix.lstrip(".").lower()
+            xlsx = xlsx.with_name(f"{Path(name).stem}-{tag}.analysis.xlsx")
+            js = js.with_name(f"{Path(name).stem}-{tag}.analysis.json")
+            sys.stderr.write(f"{name}: another input has the same name; writing {xlsx.name}\n")
+        written.add(xlsx.resolve())
         try:
-            result = convert(name, options, outdir=args.outdir)
+            result = convert(name, options, workbook_path=xlsx, json_path=js)
             _print_problems(name, result.problems, sys.stderr)
             if result.ok:
                 if not args.quiet:

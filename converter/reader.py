@@ -155,13 +155,39 @@ def read_sheets(path: Path) -> list[SheetData]:
 
     suffix = path.suffix.lower()
     if suffix == ".csv":
-        frame = pd.read_csv(
-            path, header=None, dtype=str, keep_default_na=False, skip_blank_lines=False,
-            encoding="utf-8-sig", sep=None, engine="python",
-        )
-        return [SheetData(name=path.name, rows=_frame_rows(frame))]
+        return [SheetData(name=path.name, rows=read_csv_rows(path))]
     frames = pd.read_excel(path, sheet_name=None, header=None, engine="calamine")
     return [SheetData(name=str(name), rows=_frame_rows(frame)) for name, frame in frames.items()]
+
+
+CSV_DELIMITERS = (",", ";", "\t", "|")
+
+
+def read_csv_rows(path: Path) -> list[list[object]]:
+    """Rows of a CSV file as text (ragged rows allowed, title lines above the header too).
+
+    The delimiter is the candidate seen most often outside quotes in the first 64 KB,
+    so a title line without any delimiter does not mislead it. Encodings tried: UTF-8
+    (with or without BOM), then Windows-1252, which spreadsheet exports often use.
+    """
+    import csv
+
+    data = path.read_bytes()
+    for encoding in ("utf-8-sig", "cp1252"):
+        try:
+            text = data.decode(encoding)
+            break
+        except UnicodeDecodeError:
+            continue
+    else:
+        text = data.decode("latin-1")
+    sample = re.sub(r'"[^"]*"', "", text[:65536])
+    counts = {d: sample.count(d) for d in CSV_DELIMITERS}
+    delimiter = max(CSV_DELIMITERS, key=lambda d: (counts[d], d == ","))
+    rows = []
+    for row in csv.reader(text.splitlines(), delimiter=delimiter):
+        rows.append([_clean(v) for v in row])
+    return rows
 
 
 def match_header(sheet: SheetData, aliases: dict[str, str]) -> TableMatch | None:
@@ -237,13 +263,15 @@ def _choose_sheets(raw: RawInput) -> None:
         if m is None:
             continue
         has_required = sum(k in m.columns for k in REQUIRED_ACTIVITY)
-        rank = (has_required, m.score(), _named(sheet, ACTIVITY_SHEET_NAMES), -pos)
+        rank = (has_required, _named(sheet, ACTIVITY_SHEET_NAMES), m.score(), -pos)
         candidates.append((rank, m))
     if candidates:
         candidates.sort(key=lambda t: t[0], reverse=True)
         raw.activity = candidates[0][1]
         if len(raw.sheets) > 1:
-            why = "it has the most recognised column headers"
+            rank = candidates[0][0]
+            why = ("its name and its column headers mark it as the activity list" if rank[1]
+                   else "it has the most recognised column headers")
             raw.notes.append(
                 f"Activity sheet: {raw.activity.sheet.name} (of {len(raw.sheets)} sheets; {why})."
             )

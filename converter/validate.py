@@ -88,6 +88,7 @@ WEEKDAYS = {
     "sat": 5, "saturday": 5, "sun": 6, "sunday": 6,
 }
 
+_INTEGRAL_TEXT = re.compile(r"^[1-9]\d*\.0+$|^0\.0+$")
 _BRACKET = re.compile(r"^(?P<id>.*?)\s*\[(?P<spec>[^\[\]]*)\]$")
 _SPEC = re.compile(r"^(?P<type>FS|SS|FF|SF)?\s*(?P<lag>[+-]\s*\d+(?:\.\d+)?)?$", re.IGNORECASE)
 
@@ -101,7 +102,10 @@ def id_text(value: object) -> str:
         return str(int(value))
     if isinstance(value, (dt.datetime, dt.date)):
         return value.isoformat()
-    return str(value).strip()
+    text = str(value).strip()
+    if _INTEGRAL_TEXT.match(text):  # "3.0" from a CSV export is ID "3", as a numeric cell
+        return text.split(".")[0]
+    return text
 
 
 def as_number(value: object) -> float | None:
@@ -419,6 +423,8 @@ def _read_estimates(row, cols, r, sheet, ident, out: _Collector):
                   ident, fix="Fill in the Most likely estimate.")
         return None
     if o is None and p is None:
+        if m == 0:
+            return 0.0, 0.0, 0.0, True  # a milestone
         out.warn("deterministic", f"only a most likely value ({m:g}) is given: treated as a "
                  "fixed duration (O = M = P)", sheet, m_cell, ident)
         return m, m, m, True
@@ -445,7 +451,7 @@ def _read_estimates(row, cols, r, sheet, ident, out: _Collector):
         ok = False
     if not ok:
         return None
-    if o == m == p:
+    if o == m == p and m > 0:
         out.warn("deterministic", f"O = M = P = {m:g}: a fixed duration with no spread",
                  sheet, m_cell, ident)
     return o, m, p, o == m == p
@@ -472,7 +478,7 @@ def validate(raw: RawInput, options=None) -> tuple[Schedule | None, list[Problem
         missing = [FIELD_TITLES[k] for k in REQUIRED_ACTIVITY if k not in present]
         if "predecessors" not in present and raw.links is None:
             missing.append(FIELD_TITLES["predecessors"])
-        headers = ", ".join(f'"{h}"' for h in found if h) or "(none)"
+        headers = ", ".join(f'"{" ".join(h.split())}"' for h in found if h) or "(none)"
         out.error("missing-column",
                   f"required column(s) missing: {', '.join(missing)}; headers found: {headers}",
                   sheet.name, cell_name(match.header_row, 0) if match else "A1",
@@ -483,7 +489,7 @@ def validate(raw: RawInput, options=None) -> tuple[Schedule | None, list[Problem
     if "predecessors" not in match.columns and raw.links is None:
         out.error("missing-column",
                   "required column missing: Predecessors (and no links sheet); headers found: "
-                  + ", ".join(f'"{h}"' for h in match.headers if h),
+                  + ", ".join(f'"{" ".join(h.split())}"' for h in match.headers if h),
                   match.sheet.name, cell_name(match.header_row, 0))
         return None, out.problems
 
@@ -502,6 +508,7 @@ def validate(raw: RawInput, options=None) -> tuple[Schedule | None, list[Problem
         if is_blank(raw_id):
             out.error("blank-id", "this row has data but no activity ID", sheet,
                       cell_name(r, cols["id"]), fix="Give the activity an ID or delete the row.")
+            _read_estimates(row, cols, r, sheet, None, out)  # report its other problems too
             continue
         ident = id_text(raw_id)
         if ident in first_row_of:
@@ -509,6 +516,7 @@ def validate(raw: RawInput, options=None) -> tuple[Schedule | None, list[Problem
                       f'ID "{ident}" is used again (first on row {first_row_of[ident] + 1})',
                       sheet, cell_name(r, cols["id"]), ident,
                       fix="Every activity needs its own ID.")
+            _read_estimates(row, cols, r, sheet, ident, out)
             continue
         first_row_of[ident] = r
         est = _read_estimates(row, cols, r, sheet, ident, out)
@@ -545,7 +553,8 @@ def validate(raw: RawInput, options=None) -> tuple[Schedule | None, list[Problem
         activities.append(Activity(ident, name, o, m, p, row=r + 1, distribution=dist,
                                    group=group, target=target))
         pred_cells.append((r, _cell(row, cols, "predecessors")))
-    if not activities and not any(p.severity == ERROR for p in out.problems):
+    if not activities and not any(p.code in ("blank-id", "duplicate-id")
+                                  for p in out.problems):
         out.error("empty", "no activities below the header row", sheet,
                   cell_name(match.header_row + 1, cols["id"]),
                   fix="Add one row per activity under the header.")

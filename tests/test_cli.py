@@ -133,9 +133,6 @@ def test_problem_lines_one_per_problem(tmp_path, capsys):
     assert f"{path}: invalid input (3 problem(s)); no workbook written" in err
 
 
-@pytest.mark.xfail(strict=True, reason="BUG validate.py validate(): the missing-column "
-                   "message quotes header cells verbatim, so a wrapped header ('Most\\nlikely') "
-                   "splits the problem over two stderr lines")
 def test_wrapped_header_text_stays_on_one_line(tmp_path, capsys):
     rows = [["ID", "Predecessors", "Optimistic", "Most\nlikely"], ["A", None, 1, 2]]
     path = write_xlsx(tmp_path / "wrap.xlsx", {"Activities": rows})

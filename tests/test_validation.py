@@ -118,9 +118,6 @@ def test_problems_in_rows_after_a_bad_row_are_still_found(tmp_path):
         ("negative-estimate", "Activities", f"F{k + 2}", f"N{k}") for k in range(1, 6)}
 
 
-@pytest.mark.xfail(strict=True, reason="BUG validate.py validate(): the duplicate-id branch "
-                   "`continue`s before _read_estimates, so the row's other problems only "
-                   "appear on a second run")
 def test_duplicate_id_row_still_has_its_estimates_checked(tmp_path):
     # row 3 repeats ID A and also has O = "x" (D3) and M = -2 (E3)
     _, problems = run(two_rows(tmp_path / "dup.xlsx", ["A", "again", None, "x", -2, 3]))
@@ -131,8 +128,6 @@ def test_duplicate_id_row_still_has_its_estimates_checked(tmp_path):
     }
 
 
-@pytest.mark.xfail(strict=True, reason="BUG validate.py validate(): the blank-id branch "
-                   "`continue`s before _read_estimates, so the row's other problems are hidden")
 def test_blank_id_row_still_has_its_estimates_checked(tmp_path):
     # row 3 has no ID and O = "x" (D3)
     _, problems = run(two_rows(tmp_path / "blank.xlsx", [None, "no id", None, "x", 2, 3]))
@@ -211,8 +206,6 @@ def test_header_without_rows_is_empty(tmp_path):
     assert errors(problems) == {("empty", "Activities", "A2", None)}  # first row under header
 
 
-@pytest.mark.xfail(strict=True, reason="BUG validate.py validate(): 'no activities below the "
-                   "header row' is raised only if no error (e.g. a settings one) came first")
 def test_empty_table_reported_alongside_a_settings_problem(tmp_path):
     path = write_xlsx(tmp_path / "h.xlsx", {"Activities": [HEADER],
                                             "Settings": [["Start date", "soon"]]})
@@ -221,9 +214,6 @@ def test_empty_table_reported_alongside_a_settings_problem(tmp_path):
                                 ("bad-setting", "Settings", "B1", None)}
 
 
-@pytest.mark.xfail(strict=True, reason="BUG reader.py read_sheets: an empty .csv raises "
-                   "pandas EmptyDataError/'Could not determine delimiter' and is reported as "
-                   "'not a readable workbook' instead of an empty sheet")
 def test_empty_csv_is_an_empty_sheet(tmp_path):
     path = tmp_path / "blank.csv"
     path.write_bytes(b"")
@@ -349,9 +339,6 @@ def test_csv_input_with_title_row_exported_by_a_spreadsheet(tmp_path):
     assert errors(problems) == {("not-a-number", "b.csv", "E5", "B")}
 
 
-@pytest.mark.xfail(strict=True, reason="BUG reader.py read_sheets: pandas' sniffer "
-                   "(sep=None) looks at the first line only, so a CSV whose title line has no "
-                   "delimiter is split on spaces and the header below is never found")
 def test_csv_with_plain_title_line(tmp_path):
     path = tmp_path / "t.csv"
     path.write_text("Boiler shutdown\n\nID,Predecessors,O,M,P\nA,,1,2,3\nB,A,1,2,3\n",

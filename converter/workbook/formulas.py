@@ -10,6 +10,13 @@ from xlsxwriter.utility import quote_sheetname, xl_rowcol_to_cell
 
 from ..model import FF, FS, SF, SS
 
+#: Functions newer than the first OOXML edition are stored with the ``_xlfn.`` prefix
+#: (ECMA-376 / Microsoft's "future functions" list); spreadsheets show the plain name.
+NORM_S_DIST = "_xlfn.NORM.S.DIST"
+NORM_S_INV = "_xlfn.NORM.S.INV"
+MAXIFS = "_xlfn.MAXIFS"
+MINIFS = "_xlfn.MINIFS"
+
 #: Longest formula a spreadsheet accepts (Excel's documented limit).
 FORMULA_LIMIT = 8192
 
@@ -96,11 +103,11 @@ def z_score(value: str, mean: str, sd: str) -> str:
 
 def p_meet(value: str, mean: str, sd: str) -> str:
     """P(normal duration <= value); 1 or 0 when the spread is zero."""
-    return f"=IF({sd}>0,NORM.S.DIST(({value}-{mean})/{sd},TRUE),IF({value}>={mean},1,0))"
+    return f"=IF({sd}>0,{NORM_S_DIST}(({value}-{mean})/{sd},TRUE),IF({value}>={mean},1,0))"
 
 
 def duration_at(confidence: str, mean: str = "ProjectMean", sd: str = "ProjectSD") -> str:
-    return f"={mean}+NORM.S.INV({confidence})*{sd}"
+    return f"={mean}+{NORM_S_INV}({confidence})*{sd}"
 
 
 def path_length(coef: str, te: str, lags: str) -> str:
