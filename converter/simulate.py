@@ -36,6 +36,8 @@ same per-activity samples as the correlated one, only in another order.
 from __future__ import annotations
 
 import math
+import mmap
+import os
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 
@@ -114,34 +116,162 @@ def _kind_codes(kinds, n: int) -> np.ndarray:
     return out
 
 
-def sample_durations(rng: np.random.Generator, o, m, p, kinds, size: int) -> np.ndarray:
+def sample_durations(
+    rng: np.random.Generator, o, m, p, kinds, size: int, out: np.ndarray | None = None
+) -> np.ndarray:
     """Draw ``size`` durations for each activity: an ``(n, size)`` float64 matrix.
 
-    ``kinds`` is one distribution name or code for all, or one per activity. The
-    PERT-beta is drawn with ``Generator.beta`` and scaled to [O, P]; the triangular
-    with ``Generator.triangular``; the uniform with ``Generator.uniform``. Rows are
-    drawn kind by kind (PERT, triangular, uniform), each kind in activity order.
+    ``kinds`` is one distribution name or code for all, or one per activity. Rows
+    are drawn kind by kind (PERT, triangular, uniform), each kind in activity
+    order, a few rows at a time; O = P rows are the constant. The PERT-beta uses
+    Cheng's algorithm (:func:`beta_cheng`) scaled to [O, P]; the triangular and
+    the uniform invert their distribution functions: for the triangular with
+    c = (M - O) / (P - O), x = O + sqrt(u (P - O)(M - O)) if u <= c, else
+    P - sqrt((1 - u)(P - O)(P - M)). ``out`` may be given to reuse memory.
     """
     o, m, p = (np.asarray(v, dtype=float).reshape(-1) for v in (o, m, p))
     n = o.size
     codes = _kind_codes(kinds, n)
-    out = np.empty((n, size))
+    if out is None:
+        out = np.empty((n, size))
     const = o == p
     out[const] = o[const, None]
+    rows_per = max(1, _BLOCK // max(size, 1))
     for code in (PERT, TRIANGULAR, UNIFORM):
         rows = np.flatnonzero((codes == code) & ~const)
         if not rows.size:
             continue
-        lo, mode, hi = o[rows, None], m[rows, None], p[rows, None]
-        shape = (rows.size, size)
         if code == PERT:
-            a, b = pert_beta_parameters(lo, mode, hi)
-            out[rows] = lo + (hi - lo) * rng.beta(a, b, size=shape)
-        elif code == TRIANGULAR:
-            out[rows] = rng.triangular(lo, mode, hi, size=shape)
-        else:
-            out[rows] = rng.uniform(lo, hi, size=shape)
+            a, b = pert_beta_parameters(o[rows], m[rows], p[rows])
+            _beta_into(rng, a, b, o[rows], p[rows] - o[rows], size, out, rows)
+            continue
+        for r0 in range(0, rows.size, rows_per):
+            sel = rows[r0 : r0 + rows_per]
+            lo, hi = o[sel, None], p[sel, None]
+            u = rng.random((sel.size, size))
+            if code == TRIANGULAR:
+                mode = m[sel, None]
+                width = hi - lo
+                left = np.sqrt(u * (width * (mode - lo)))
+                left += lo
+                right = np.sqrt((1.0 - u) * (width * (hi - mode)))
+                np.subtract(hi, right, out=right)
+                out[sel] = np.where(u <= (mode - lo) / width, left, right)
+            else:
+                u *= hi - lo
+                u += lo
+                out[sel] = u
     return out
+
+
+_LN4 = math.log(4.0)
+_ONE_PLUS_LN5 = 1.0 + math.log(5.0)
+_BLOCK = 8192  # draws handled together (a block's temporaries stay in cache)
+
+
+def beta_cheng(rng: np.random.Generator, alpha, beta, size: int) -> np.ndarray:
+    """Beta(alpha_i, beta_i) draws, ``(k, size)``, for shape parameters >= 1.
+
+    Cheng (1978), "Generating beta variates with nonintegral shape parameters",
+    *Communications of the ACM* 21(4), algorithm BB (for min(alpha, beta) > 1), an
+    exact rejection method, vectorised: one candidate per draw in cache-sized
+    blocks, then rounds of fresh candidates for the rejected ones until none is
+    left. A shape equal to 1 is drawn by inversion: Beta(1, b) = 1 - U^(1/b),
+    Beta(a, 1) = U^(1/a).
+    """
+    alpha = np.asarray(alpha, dtype=float).reshape(-1)
+    beta = np.asarray(beta, dtype=float).reshape(-1)
+    out = np.empty((alpha.size, size))
+    _beta_into(rng, alpha, beta, np.zeros(alpha.size), np.ones(alpha.size), size, out,
+               np.arange(alpha.size))
+    return out
+
+
+def _beta_into(rng, alpha, beta, lo, width, size, out, rows) -> None:
+    """out[rows[i]] = lo[i] + width[i] * Beta(alpha[i], beta[i]) draws (see beta_cheng)."""
+    if (alpha < 1).any() or (beta < 1).any():
+        raise ValueError("beta_cheng needs shape parameters >= 1")
+    a = np.minimum(alpha, beta)
+    b = np.maximum(alpha, beta)
+    edge = a == 1.0
+    big = a + b
+    scale = np.sqrt((big - 2.0) / np.where(edge, 1.0, 2.0 * a * b - big))
+    shift = a + 1.0 / scale
+    # x -> lo + width * x, or lo + width * (1 - x) = (lo + width) - width * x when flipped
+    flip = alpha > beta
+    base = np.where(flip, lo + width, lo)
+    mult = np.where(flip, -width, width)
+    params = (a, b, big, scale, shift)
+    rows_per = max(1, _BLOCK // max(size, 1))
+    cols_per = min(size, _BLOCK)
+    inner = np.flatnonzero(~edge)
+    with np.errstate(divide="ignore"):
+        for r0 in range(0, inner.size, rows_per):
+            idx = inner[r0 : r0 + rows_per]
+            block = tuple(v[idx, None] for v in params)
+            for c0 in range(0, size, cols_per):
+                c1 = min(size, c0 + cols_per)
+                x = _cheng_accepted(rng, block, idx.size, c1 - c0)
+                x *= mult[idx, None]
+                x += base[idx, None]
+                out[rows[idx], c0:c1] = x
+    for i in np.flatnonzero(edge):  # a shape of 1: inversion
+        u = rng.random(size)
+        x = 1.0 - u ** (1.0 / beta[i]) if alpha[i] == 1.0 else u ** (1.0 / alpha[i])
+        out[rows[i]] = lo[i] + width[i] * x
+
+
+def _cheng_accepted(rng, params, rows: int, cols: int) -> np.ndarray:
+    """``cols`` accepted BB draws per row: the first accepted of a few more candidates."""
+    # acceptance of BB is about 0.75 at a = 1, 0.8 at 1.2, 0.9 at 2 (measured); draw
+    # enough candidates that a row is rarely short
+    share = float(np.interp(float(params[0].min()), (1.0, 1.2, 2.0), (0.72, 0.78, 0.87)))
+    expect = cols / share
+    extra = int(expect - cols + 4.0 * math.sqrt(expect * (1.0 - share)) / share) + 8
+    x, ok = _cheng_candidates(rng, params, (rows, cols + extra))
+    rank = np.cumsum(ok, axis=1)
+    got = rank[:, -1]
+    if (got >= cols).all():
+        return x[ok & (rank <= cols)].reshape(rows, cols)
+    out = np.empty((rows, cols))
+    for i in range(rows):  # rare: keep drawing for the rows short of accepted draws
+        have = x[i, ok[i]][:cols]
+        row_params = tuple(v[i : i + 1] for v in params)
+        while have.size < cols:
+            more, more_ok = _cheng_candidates(rng, row_params, (1, cols - have.size + extra))
+            have = np.concatenate([have, more[0, more_ok[0]]])[:cols]
+        out[i] = have
+    return out
+
+
+def _cheng_candidates(rng, params, shape) -> tuple[np.ndarray, np.ndarray]:
+    """One candidate of algorithm BB per draw and whether it is accepted (a <= b)."""
+    a, b, big, scale, shift = params
+    u1 = rng.random(shape)
+    u2 = rng.random(shape)
+    v = np.log(u1 / (1.0 - u1))
+    v *= scale
+    w = np.exp(v)
+    w *= a
+    z = u1 * u1
+    z *= u2
+    r = v * shift
+    r -= _LN4
+    s = r + a
+    s -= w
+    ok = (s + _ONE_PLUS_LN5) >= 5.0 * z
+    bw = w + b
+    x = w / bw
+    slow = np.flatnonzero(~ok)
+    if slow.size:
+        t = np.log(z.reshape(-1)[slow])
+        big_s = np.broadcast_to(big, shape).reshape(-1)[slow]
+        bw_s = bw.reshape(-1)[slow]
+        tail = r.reshape(-1)[slow] + big_s * np.log(big_s / bw_s)
+        accept = (s.reshape(-1)[slow] > t) | (tail >= t)
+        ok.reshape(-1)[slow] = accept
+    ok &= u1 > 0.0  # the algorithm works on the open interval (0, 1)
+    return x, ok
 
 
 def induce_rank_correlation(rng: np.random.Generator, x: np.ndarray, rho: float) -> np.ndarray:
@@ -272,10 +402,11 @@ def draw_samples(
     _check_correlation(correlation)
     store = np.empty((inp.n, inp.iterations), dtype=np.float32)
     for j, (a, b) in enumerate(inp.chunks()):
-        d = _sample_chunk(inp, j, b - a)
-        if correlation > 0:
-            _correlate_chunk(inp, j, d, correlation)
-        store[:, a:b] = d
+        store[:, a:b] = _sample_chunk(inp, j, b - a)
+        if correlation > 0 and inp.groups:
+            d = store[:, a:b].astype(float)
+            _correlate_chunk(inp, j, d, float(correlation))
+            store[:, a:b] = d
     return store
 
 
@@ -447,32 +578,30 @@ def _backward(plan: _Plan, d: np.ndarray, finish: np.ndarray, y: np.ndarray,
         y[st.nodes] = acc
 
 
-class _Tally:
-    """Per-chunk passes and the counts they feed."""
+class _Passes:
+    """Both passes on a chunk of iterations and the counts taken from them."""
 
-    def __init__(self, net: Network, iterations: int, targets: dict[int, float] | None):
-        self.net = net
+    def __init__(self, net: Network, targets: dict[int, float] | None):
+        self.n = net.n
         self.plan = _plan(net)
-        self.project = np.empty(iterations)
-        self.critical = np.zeros(net.n, dtype=np.int64)
-        self.targets = dict(targets or {})
+        self.targets = {int(i): float(t) for i, t in (targets or {}).items()}
         for i in self.targets:
-            if not 0 <= int(i) < net.n:
+            if not 0 <= i < net.n:
                 raise ValueError(f"target activity index {i} out of range")
-        self.target_hits = {int(i): 0 for i in self.targets}
-        self._buffers: dict[int, tuple[np.ndarray, ...]] = {}
+        self._buffers: tuple[int, tuple[np.ndarray, ...]] | None = None
 
-    def _buf(self, cols: int):
-        if cols not in self._buffers:
-            n = self.net.n
-            self._buffers = {cols: (np.empty((2 * n, cols)), np.empty((2 * n, cols)),
-                                    np.empty((n, cols), dtype=bool))}
-        return self._buffers[cols]
+    def buffers(self, cols: int) -> tuple[np.ndarray, ...]:
+        """Reused work matrices for ``cols`` iterations: durations, early, late, flags."""
+        if self._buffers is None or self._buffers[0] != cols:
+            n = self.n
+            self._buffers = (cols, (np.empty((n, cols)), np.empty((2 * n, cols)),
+                                    np.empty((2 * n, cols)), np.empty((n, cols), dtype=bool)))
+        return self._buffers[1]
 
-    def add(self, a: int, d: np.ndarray) -> None:
-        """Run the passes on float64 ``d`` (n, c) for iterations a .. a + c."""
+    def run(self, d: np.ndarray) -> tuple[np.ndarray, np.ndarray, dict[int, int]]:
+        """Project finish per column, critical counts per activity, target hits."""
         n, cols = d.shape
-        x, y, crit = self._buf(cols)
+        _, x, y, crit = self.buffers(cols)
         nonneg = bool(d.min() >= 0.0) if d.size else True
         _forward(self.plan, d, x, nonneg)
         finish = x[n:].max(axis=0) if n else np.zeros(cols)
@@ -481,10 +610,144 @@ class _Tally:
         tf = y[:n]
         tf -= x[:n]
         np.less_equal(tf, tol, out=crit)
-        self.critical += crit.sum(axis=1)
-        self.project[a : a + cols] = finish
-        for i, t in self.targets.items():
-            self.target_hits[int(i)] += int(np.count_nonzero(x[n + int(i)] <= t))
+        hits = {i: int(np.count_nonzero(x[n + i] <= t)) for i, t in self.targets.items()}
+        return finish, crit.sum(axis=1), hits
+
+
+@dataclass
+class _Job:
+    """What a run's chunks need; forked workers inherit it (see _run_parallel)."""
+
+    inp: _Inputs
+    passes: _Passes
+    store: np.ndarray  # (n, iterations) float32 samples
+    project: np.ndarray  # (iterations,) project durations of the current run
+    centred: np.ndarray  # (iterations,) centred ranks of ``project`` for the rank step
+    correlation: float
+
+
+def _chunk(job: _Job, j: int, correlate: bool) -> tuple[int, np.ndarray, dict[int, int]]:
+    """Sample (or, for the correlated run, re-order) chunk ``j``, run the passes."""
+    a, b = job.inp.chunks()[j]
+    d = job.passes.buffers(b - a)[0]
+    if correlate:
+        d[...] = job.store[:, a:b]
+        _correlate_chunk(job.inp, j, d, job.correlation)
+        job.store[:, a:b] = d
+    else:
+        sample_durations(_rng(job.inp.seed, 0, j), job.inp.o, job.inp.m, job.inp.p,
+                         job.inp.codes, b - a, out=d)
+        job.store[:, a:b] = d
+        d[...] = job.store[:, a:b]  # the passes use the stored (float32) values
+    finish, crit, hits = job.passes.run(d)
+    job.project[a:b] = finish
+    return b - a, crit, hits
+
+
+def _rank_rows(job: _Job, r0: int, r1: int, syy: float) -> np.ndarray:
+    out = np.empty(r1 - r0)
+    for a in range(r0, r1, _RANK_ROWS):
+        b = min(r1, a + _RANK_ROWS)
+        out[a - r0 : b - r0] = _spearman_block(job.store[a:b], job.centred, syy)
+    return out
+
+
+class _Counts:
+    def __init__(self, n: int, targets: dict[int, float]):
+        self.critical = np.zeros(n, dtype=np.int64)
+        self.hits = {i: 0 for i in targets}
+
+    def add(self, crit: np.ndarray, hits: dict[int, int]) -> None:
+        self.critical += crit
+        for i, h in hits.items():
+            self.hits[i] += h
+
+
+def _run_serial(job: _Job, correlate: bool, tick) -> tuple[_Counts, np.ndarray]:
+    counts = _Counts(job.inp.n, job.passes.targets)
+    for j in range(len(job.inp.chunks())):
+        done, crit, hits = _chunk(job, j, correlate)
+        counts.add(crit, hits)
+        tick(done)
+    syy = _centre_ranks(job)
+    return counts, _rank_rows(job, 0, job.inp.n, syy)
+
+
+def _centre_ranks(job: _Job) -> float:
+    y = job.project
+    job.centred[:] = stats.rankdata(y) - (y.size + 1) / 2.0
+    return float(job.centred @ job.centred)
+
+
+_JOB: _Job | None = None  # the job of the parallel run in progress (inherited by fork)
+
+
+def _worker_start() -> None:
+    """Keep freed memory in the worker: many short-lived numpy temporaries otherwise
+    cost a page fault per page each time (glibc mallopt; ignored elsewhere)."""
+    try:
+        import ctypes
+
+        libc = ctypes.CDLL("libc.so.6")
+        m_trim_threshold, m_top_pad, m_mmap_threshold = -1, -2, -3
+        libc.mallopt(m_trim_threshold, 1 << 30)
+        libc.mallopt(m_top_pad, 64 << 20)
+        libc.mallopt(m_mmap_threshold, 1 << 30)
+    except (OSError, AttributeError):
+        pass
+
+
+def _pool_chunk(args: tuple[int, bool]):
+    assert _JOB is not None
+    return _chunk(_JOB, *args)
+
+
+def _pool_rank(args: tuple[int, int, float]):
+    assert _JOB is not None
+    r0, r1, syy = args
+    return r0, _rank_rows(_JOB, r0, r1, syy)
+
+
+def _run_parallel(pool, job: _Job, correlate: bool, tick) -> tuple[_Counts, np.ndarray]:
+    counts = _Counts(job.inp.n, job.passes.targets)
+    tasks = [(j, correlate) for j in range(len(job.inp.chunks()))]
+    for done, crit, hits in pool.imap_unordered(_pool_chunk, tasks):
+        counts.add(crit, hits)
+        tick(done)
+    syy = _centre_ranks(job)
+    n = job.inp.n
+    step = max(_RANK_ROWS, -(-n // (8 * _RANK_ROWS)) * _RANK_ROWS)
+    sensitivity = np.empty(n)
+    for r0, values in pool.imap_unordered(
+        _pool_rank, [(r0, min(n, r0 + step), syy) for r0 in range(0, n, step)]
+    ):
+        sensitivity[r0 : r0 + values.size] = values
+    return counts, sensitivity
+
+
+def _worker_count(workers: int | None, inp: _Inputs) -> int:
+    if workers is None:
+        if inp.n * inp.iterations < _PARALLEL_ELEMENTS:
+            return 1
+        workers = min(2, os.cpu_count() or 1)
+    workers = max(1, int(workers))
+    if workers > 1:
+        import multiprocessing
+
+        if (
+            "fork" not in multiprocessing.get_all_start_methods()
+            or multiprocessing.current_process().daemon
+        ):
+            return 1
+    return min(workers, len(inp.chunks()))
+
+
+def _shared(shape: tuple[int, ...], dtype) -> tuple[np.ndarray, mmap.mmap]:
+    """A zero-initialised array in anonymous shared memory (visible to forked workers)."""
+    count = int(np.prod(shape))
+    size = max(1, count * np.dtype(dtype).itemsize)
+    mem = mmap.mmap(-1, size)
+    return np.frombuffer(mem, dtype=dtype, count=count).reshape(shape), mem
 
 
 # --------------------------------------------------------------------------- ranks
@@ -566,9 +829,9 @@ def spearman_rows(samples: np.ndarray, y: np.ndarray, rows: np.ndarray | None = 
 # --------------------------------------------------------------------------- summary
 
 
-def _summary(tally: _Tally, sensitivity: np.ndarray, *, iterations, seed, distribution,
-             correlation, due, pert_mean) -> SimulationResult:
-    y = tally.project
+def _summary(project: np.ndarray, counts: _Counts, sensitivity: np.ndarray, *, iterations,
+             seed, distribution, correlation, due, pert_mean) -> SimulationResult:
+    y = project
     count = y.size
     mean = float(y.mean())
     sd = float(y.std(ddof=1))
@@ -590,9 +853,9 @@ def _summary(tally: _Tally, sensitivity: np.ndarray, *, iterations, seed, distri
         p_meet_due_std_error=se_due,
         percentiles={q: float(v) for q, v in zip(PERCENTILE_KEYS, values, strict=True)},
         merge_bias=mean - float(pert_mean),
-        criticality=tally.critical / count,
+        criticality=counts.critical / count,
         sensitivity=sensitivity,
-        target_p={i: h / count for i, h in tally.target_hits.items()},
+        target_p={i: h / count for i, h in counts.hits.items()},
     )
 
 
@@ -604,31 +867,36 @@ def simulate_durations(
 ) -> SimulationResult:
     """Analyse a given ``(n, iterations)`` matrix of durations as a simulation would.
 
-    Useful to feed samples from any source (e.g. normal draws) through the same
-    passes and statistics; :func:`simulate` is ``draw_samples`` followed by this.
+    Feeds samples from any source (e.g. normal draws) through the same passes and
+    statistics as :func:`simulate`; ``simulate(...)`` equals
+    ``simulate_durations(net, draw_samples(...))`` for the same inputs.
     """
     durations = np.asarray(durations)
     if durations.ndim != 2 or durations.shape[0] != net.n or durations.shape[1] < 2:
         raise ValueError("durations must be (activities, iterations >= 2)")
     iterations = durations.shape[1]
-    tally = _Tally(net, iterations, targets)
+    passes = _Passes(net, targets)
+    counts = _Counts(net.n, passes.targets)
+    project = np.empty(iterations)
     step = chunk_size(net.n, iterations)
     for a in range(0, iterations, step):
         b = min(a + step, iterations)
-        tally.add(a, np.asarray(durations[:, a:b], dtype=float))
+        finish, crit, hits = passes.run(np.array(durations[:, a:b], dtype=float))
+        project[a:b] = finish
+        counts.add(crit, hits)
         if progress is not None:
             progress(b, iterations)
-    sensitivity = spearman_rows(durations, tally.project)
-    return _summary(tally, sensitivity, iterations=iterations, seed=seed,
+    sensitivity = spearman_rows(durations, project)
+    return _summary(project, counts, sensitivity, iterations=iterations, seed=seed,
                     distribution=distribution, correlation=correlation, due=due,
                     pert_mean=pert_mean)
 
 
-def _run_name(inp: _Inputs) -> str:
+def _run_name(inp: _Inputs, default: str) -> str:
     kinds = set(inp.codes[inp.o < inp.p].tolist())
     if len(kinds) > 1:
         return "mixed"
-    return DISTRIBUTIONS[kinds.pop()] if kinds else None  # type: ignore[return-value]
+    return DISTRIBUTIONS[kinds.pop()] if kinds else default
 
 
 def simulate(
@@ -641,46 +909,70 @@ def simulate(
 ) -> SimulationResult:
     """Monte Carlo simulation of the network's project duration (see module docstring).
 
-    With ``correlation > 0`` and at least one group of two or more activities the
-    result's ``independent`` holds the same run (same samples) without the
-    correlation. ``progress(done, total)`` is called after each chunk; ``total``
-    counts the iterations of both runs when there are two. ``workers`` (default:
-    automatic) splits large runs over that many processes; the numbers do not
-    depend on it.
+    With ``correlation > 0`` and at least one group of two or more varying
+    activities, the result's ``independent`` is the same run (same samples, same
+    seed) without the correlation. ``progress(done, total)`` is called after each
+    chunk; ``total`` counts the iterations of both runs when there are two.
+    ``workers``: processes to share a large run (default: 2 from 20 million samples
+    where ``fork`` is available, else 1); the numbers do not depend on it.
     """
+    global _JOB
     inp = _prepare(optimistic, most_likely, pessimistic, distribution, distributions, groups,
                    iterations, seed)
     _check_correlation(correlation)
     if inp.n != net.n:
         raise ValueError("one estimate per network activity is needed")
-    name = _run_name(inp) or distribution
     correlated = float(correlation) > 0.0 and bool(inp.groups)
-    runs = 2 if correlated else 1
-    total = runs * inp.iterations
-    common = dict(iterations=inp.iterations, seed=inp.seed, distribution=name, due=due,
-                  pert_mean=pert_mean)
-    store = np.empty((inp.n, inp.iterations), dtype=np.float32)
+    total = (2 if correlated else 1) * inp.iterations
+    done = [0]
 
-    tally = _Tally(net, inp.iterations, targets)
-    for j, (a, b) in enumerate(inp.chunks()):
-        d = _sample_chunk(inp, j, b - a)
-        store[:, a:b] = d
-        tally.add(a, store[:, a:b].astype(float))
+    def tick(count: int) -> None:
+        done[0] += count
         if progress is not None:
-            progress(b, total)
-    first = _summary(tally, spearman_rows(store, tally.project), correlation=0.0, **common)
+            progress(done[0], total)
+
+    common = dict(iterations=inp.iterations, seed=inp.seed, due=due, pert_mean=pert_mean,
+                  distribution=_run_name(inp, distribution))
+    count = _worker_count(workers, inp)
+    mems: list[mmap.mmap] = []
+    if count > 1:
+        arrays = []
+        for shape, dtype in (((inp.n, inp.iterations), np.float32),
+                             ((inp.iterations,), np.float64), ((inp.iterations,), np.float64)):
+            arr, mem = _shared(shape, dtype)
+            arrays.append(arr)
+            mems.append(mem)
+        store, project, centred = arrays
+        del arrays
+    else:
+        store = np.empty((inp.n, inp.iterations), dtype=np.float32)
+        project, centred = np.empty(inp.iterations), np.empty(inp.iterations)
+    job = _Job(inp, _Passes(net, targets), store, project, centred, float(correlation))
+    results = []
+    try:
+        if count > 1:
+            import multiprocessing
+
+            _JOB = job
+            with multiprocessing.get_context("fork").Pool(count, _worker_start) as pool:
+                for correlate in (False, True)[: 1 + correlated]:
+                    counts, sens = _run_parallel(pool, job, correlate, tick)
+                    results.append((project.copy(), counts, sens))
+        else:
+            for correlate in (False, True)[: 1 + correlated]:
+                counts, sens = _run_serial(job, correlate, tick)
+                results.append((project.copy(), counts, sens))
+    finally:
+        _JOB = None
+        del job, store, project, centred
+        for mem in mems:
+            try:
+                mem.close()
+            except BufferError:  # an array still refers to it; freed with that array
+                pass
+    first = _summary(*results[0], correlation=0.0, **common)
     if not correlated:
         return first
-
-    tally = _Tally(net, inp.iterations, targets)
-    for j, (a, b) in enumerate(inp.chunks()):
-        d = store[:, a:b].astype(float)
-        _correlate_chunk(inp, j, d, float(correlation))
-        store[:, a:b] = d
-        tally.add(a, d)
-        if progress is not None:
-            progress(inp.iterations + b, total)
-    result = _summary(tally, spearman_rows(store, tally.project), correlation=correlation,
-                      **common)
+    result = _summary(*results[1], correlation=correlation, **common)
     result.independent = first
     return result

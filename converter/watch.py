@@ -25,6 +25,7 @@ import logging
 import logging.handlers
 import os
 import signal
+import sys
 import threading
 import time
 import traceback
@@ -295,7 +296,10 @@ class Watcher:
 
     def _start(self) -> None:
         root = self.layout.root
-        root.mkdir(parents=True, exist_ok=True)
+        if not root.parent.is_dir():  # an unmounted share: do not build a local look-alike
+            raise FileNotFoundError(errno.ENOENT, "the folder's parent is not there "
+                                    "(is the share mounted?)", str(root.parent))
+        root.mkdir(exist_ok=True)
         self.layout.work.mkdir(parents=True, exist_ok=True)
         self.log = make_logger(self.log_path, echo=self.echo)
         for _, path in self.layout.shared():
@@ -842,7 +846,7 @@ def run_watch(args: argparse.Namespace) -> int:
     try:
         return watcher_from_args(args).run()
     except OSError as exc:
-        print(f"pertbook watch: {_describe(exc)}")
+        print(f"pertbook watch: {_describe(exc)}", file=sys.stderr)
         return 1
 
 

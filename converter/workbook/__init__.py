@@ -21,6 +21,7 @@ from .styles import Formats
 from .summary import write_summary
 from .timeline import write_timeline
 
+
 class _PreparedFormulaSheet(xlsxwriter.worksheet.Worksheet):
     """A worksheet that takes formula text as written.
 
