@@ -94,12 +94,11 @@ def write_simulation(wb, fmt, a, lay: Layout) -> None:
             ws.write_number(r, 2, float(sim.independent.percentiles[q]), fmt.num)
         r += 1
     r += 1
-    hist_top = r
-    _write_histogram(wb, ws, fmt, a, hist_top)
-    _write_drivers(wb, ws, fmt, a, lay)
+    r = _write_histogram(wb, ws, fmt, a, r)
+    _write_drivers(wb, ws, fmt, a, r + 2)
 
 
-def _write_histogram(wb, ws, fmt, a, top: int) -> None:
+def _write_histogram(wb, ws, fmt, a, top: int) -> int:
     sim = a.simulation
     edges, counts = a.histogram
     ws.write_string(top, 0, "Histogram of simulated durations", fmt.title)
@@ -125,6 +124,16 @@ def _write_histogram(wb, ws, fmt, a, top: int) -> None:
         ws.write_number(r, 4, float(max(counts)) if k == due_bin else 0.0, fmt.int)
     last = first + len(edges) - 1
     chart = wb.add_chart({"type": "column"})
+    if due_bin is not None:  # drawn first, full height behind the counts
+        chart.add_series({
+            "name": "Due date falls in this bin",
+            "categories": [SIMULATION, first, 0, last, 0],
+            "values": [SIMULATION, first, 4, last, 4],
+            "fill": {"color": PALETTE["clay"], "transparency": 30},
+            "border": {"none": True},
+            "gap": 15,
+            "overlap": 100,
+        })
     chart.add_series({
         "name": "Iterations",
         "categories": [SIMULATION, first, 0, last, 0],
@@ -132,15 +141,8 @@ def _write_histogram(wb, ws, fmt, a, top: int) -> None:
         "fill": {"color": PALETTE["moss"]},
         "border": {"color": "#FFFFFF"},
         "gap": 15,
+        "overlap": 100,
     })
-    if due_bin is not None:
-        chart.add_series({
-            "name": "Due date falls in this bin",
-            "categories": [SIMULATION, first, 0, last, 0],
-            "values": [SIMULATION, first, 4, last, 4],
-            "fill": {"color": PALETTE["clay"]},
-            "gap": 15,
-        })
     line = wb.add_chart({"type": "line"})
     line.add_series({
         "name": "Cumulative share",
@@ -160,25 +162,24 @@ def _write_histogram(wb, ws, fmt, a, top: int) -> None:
     chart.set_legend({"position": "bottom"})
     chart.set_size({"width": 720, "height": 360})
     chart.set_chartarea({"border": {"none": True}})
-    ws.insert_chart(top, 6, chart)
+    ws.insert_chart(3, 6, chart)
+    return last
 
 
-def _write_drivers(wb, ws, fmt, a, lay: Layout) -> None:
+def _write_drivers(wb, ws, fmt, a, start: int) -> None:
     sim = a.simulation
-    col = 12
-    ws.set_column(col, col, 12)
-    ws.set_column(col + 1, col + 1, 30)
-    ws.set_column(col + 2, col + 3, 14)
-    ws.write_string(2, col, "Risk drivers: activities ranked by sensitivity", fmt.title)
+    col = 0
+    ws.write_string(start, col, "Risk drivers: activities ranked by sensitivity", fmt.title)
     heads = ["Activity", "Description", "Sensitivity (rank correlation)", "Criticality index"]
     for k, h in enumerate(heads):
-        ws.write_string(3, col + k, h, fmt.header)
-    ws.set_row(3, 32)
+        ws.write_string(start + 1, col + k, h, fmt.header)
+    ws.set_row(start + 1, 32)
+    base = start + 2
     sens = np.nan_to_num(np.asarray(sim.sensitivity, float), nan=0.0)
     order = sorted(range(len(a.ids)), key=lambda i: (-abs(sens[i]), -sim.criticality[i], i))
     acts = a.schedule.activities
     for k, i in enumerate(order):
-        r = 4 + k
+        r = base + k
         ws.write_string(r, col, a.ids[i])
         ws.write_string(r, col + 1, acts[i].name)
         s = float(sim.sensitivity[i])
@@ -191,8 +192,8 @@ def _write_drivers(wb, ws, fmt, a, lay: Layout) -> None:
     bar = wb.add_chart({"type": "bar"})
     bar.add_series({
         "name": "Sensitivity",
-        "categories": [SIMULATION, 4, col, 3 + top, col],
-        "values": [SIMULATION, 4, col + 2, 3 + top, col + 2],
+        "categories": [SIMULATION, base, col, base + top - 1, col],
+        "values": [SIMULATION, base, col + 2, base + top - 1, col + 2],
         "fill": {"color": PALETTE["ink"]},
         "gap": 40,
     })
@@ -202,20 +203,22 @@ def _write_drivers(wb, ws, fmt, a, lay: Layout) -> None:
     bar.set_x_axis({"min": -1 if sens.min() < 0 else 0, "max": 1, "num_format": "0.0",
                     "major_gridlines": {"visible": True, "line": {"color": "#E3E3E3"}}})
     bar.set_legend({"none": True})
-    bar.set_size({"width": 520, "height": 360})
-    ws.insert_chart(4, col + 5, bar)
+    bar.set_size({"width": 720, "height": 380})
+    ws.insert_chart(23, 6, bar)
     crit_order = sorted(range(len(a.ids)), key=lambda i: (-sim.criticality[i], i))[:top]
-    c2 = col + 14
-    ws.write_string(3, c2, "Activity", fmt.header)
-    ws.write_string(3, c2 + 1, "Criticality index", fmt.header)
+    c2 = col
+    ctop = base + len(order) + 2
+    ws.write_string(ctop - 1, c2, "Most often critical", fmt.title)
+    ws.write_string(ctop, c2, "Activity", fmt.header)
+    ws.write_string(ctop, c2 + 1, "Criticality index", fmt.header)
     for k, i in enumerate(crit_order):
-        ws.write_string(4 + k, c2, a.ids[i])
-        ws.write_number(4 + k, c2 + 1, float(sim.criticality[i]), fmt.prob)
+        ws.write_string(ctop + 1 + k, c2, a.ids[i])
+        ws.write_number(ctop + 1 + k, c2 + 1, float(sim.criticality[i]), fmt.prob)
     cbar = wb.add_chart({"type": "bar"})
     cbar.add_series({
         "name": "Criticality index",
-        "categories": [SIMULATION, 4, c2, 3 + top, c2],
-        "values": [SIMULATION, 4, c2 + 1, 3 + top, c2 + 1],
+        "categories": [SIMULATION, ctop + 1, c2, ctop + top, c2],
+        "values": [SIMULATION, ctop + 1, c2 + 1, ctop + top, c2 + 1],
         "fill": {"color": PALETTE["amber"]},
         "gap": 40,
     })
@@ -225,5 +228,5 @@ def _write_drivers(wb, ws, fmt, a, lay: Layout) -> None:
     cbar.set_x_axis({"min": 0, "max": 1, "num_format": "0%",
                      "major_gridlines": {"visible": True, "line": {"color": "#E3E3E3"}}})
     cbar.set_legend({"none": True})
-    cbar.set_size({"width": 520, "height": 360})
-    ws.insert_chart(24, col + 5, cbar)
+    cbar.set_size({"width": 720, "height": 380})
+    ws.insert_chart(43, 6, cbar)

@@ -132,12 +132,16 @@ def write_summary(wb, fmt, a, lay: Layout) -> None:
          "(the cautious choice).")
     riskier = a.riskier_paths
     if riskier:
-        names = ", ".join(f"path {k + 1}" for k in riskier)
-        line("Paths riskier than the critical path", lambda r: ws.write_string(
-            r, 1, names, fmt.flag),
-            "These shorter paths have more spread and a LOWER chance of meeting the due date "
-            "than the critical path, so the critical-path figure above overstates the chance "
-            "of finishing on time. See the Paths sheet.")
+        names = "; ".join(_path_words(a, k) for k in riskier[:5])
+        if len(riskier) > 5:
+            names += f"; and {len(riskier) - 5} more"
+        row = line("Paths riskier than the critical path", lambda r: ws.write_string(
+            r, 1, names[:32000], fmt.flag))
+        ws.write_string(row + 0, 3, "These shorter paths have more spread and a LOWER chance "
+                        "of meeting the due date than the critical path, so the critical-path "
+                        "figure above overstates the chance of finishing on time. See the "
+                        "Paths sheet.", fmt.wrap)
+        ws.set_row(row, 45)
     if a.p_all_paths is not None:
         k = len(a.paths)
         prange = f"{PATHS}!$F${FIRST + 1}:$F${FIRST + k}"
@@ -148,10 +152,10 @@ def write_summary(wb, fmt, a, lay: Layout) -> None:
         line("... and at most", lambda r: ws.write_formula(
             r, 1, f"=MIN({prange})", fmt.prob, a.p_all_paths[1]),
             "The smallest single-path chance.")
-    _write_simulated(ws, fmt, a, r + 1, line)
+    _write_simulated(ws, fmt, a, r + 1)
 
 
-def _write_simulated(ws, fmt, a, start: int, line) -> None:
+def _write_simulated(ws, fmt, a, start: int) -> None:
     sim = a.simulation
     r = start
     if sim is not None:
@@ -159,7 +163,6 @@ def _write_simulated(ws, fmt, a, start: int, line) -> None:
         ws.write_string(r, 3, f"{sim.iterations:,} iterations, seed {sim.seed}, "
                         f"{sim.distribution} durations; values, not formulas (see Simulation).",
                         fmt.subtitle)
-    # the nested ``line`` keeps its own row counter; re-sync by writing directly
     rows = []
     if sim is not None:
         rows.append(("Simulated mean finish", sim.mean, fmt.big))
@@ -193,6 +196,14 @@ def _write_simulated(ws, fmt, a, start: int, line) -> None:
     ws.merge_range(r, 0, r + 3, 3, CAUTION, fmt.caution)
 
 
+def _path_words(a, k: int) -> str:
+    pr = a.paths[k]
+    ids = [a.ids[i] for i in pr.path.activities]
+    route = " > ".join(ids) if len(ids) <= 6 else " > ".join(ids[:3] + ["..."] + ids[-2:])
+    return (f"path {k + 1} ({route}): expected {pr.path.mean:.1f}, sd {pr.path.sd:.1f}, "
+            f"chance {pr.p_meet_due:.0%}")
+
+
 def gap_explanation(a) -> str:
     sim = a.simulation
     parts = []
@@ -216,8 +227,12 @@ def gap_explanation(a) -> str:
     if sim.correlation > 0 and sim.independent is not None:
         parts.append(f"Correlation {sim.correlation:g} within groups widens the spread: sd "
                      f"{sim.sd:.2f} against {sim.independent.sd:.2f} if independent.")
-    parts.append("The simulation samples beta-shaped durations whose variance is "
-                 "(mu-a)(b-mu)/7, not the rounder ((b-a)/6)^2 of the PERT formula.")
+    if sim.distribution == "pert":
+        parts.append("The simulation samples beta-shaped durations whose variance is "
+                     "(mu-a)(b-mu)/7, not the rounder ((b-a)/6)^2 of the PERT formula.")
+    else:
+        parts.append(f"The simulation samples {sim.distribution} durations, whose spread "
+                     "differs from the ((b-a)/6)^2 of the PERT formula.")
     return " ".join(parts)
 
 
