@@ -362,14 +362,15 @@ def resolve_settings(sheet: SheetData | None, options) -> tuple[Settings, list[P
             setattr(settings, key, value)
             settings.sources[key] = "command line"
     if settings.start_date is None and isinstance(settings.due, dt.date):
+        from_sheet = settings.source_of("due").startswith("settings sheet")
         problems.append(Problem(
             ERROR, "due-date-without-start",
             f"the due date {settings.due.isoformat()} is a calendar date but there is no "
-            "start date to count from",
-            reader.sheet if sheet is not None else None,
-            reader.values.get("due", (None, None))[1],
-            fix="Add a 'Start date' row to the settings sheet, or give the due date "
-                "as a number of time units."))
+            "start date to count from" + ("" if from_sheet else " (--due on the command line)"),
+            reader.sheet if from_sheet else None,
+            reader.values.get("due", (None, None))[1] if from_sheet else None,
+            fix="Add a 'Start date' row to the settings sheet (or --start-date), or give "
+                "the due date as a number of time units."))
     return settings, problems
 
 
