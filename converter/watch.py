@@ -21,6 +21,7 @@ from __future__ import annotations
 import argparse
 import concurrent.futures as cf
 import errno
+import json
 import logging
 import logging.handlers
 import os
@@ -608,7 +609,9 @@ class Watcher:
                 if has_json:
                     items.append([df.RESULT_JSON, "outbox", out_stem, ".analysis.json"])
                 items.append([df.RESULT_XLSX, "outbox", out_stem, ".analysis.xlsx"])
-                items.append([job.name, "archive", stem, suffix])
+                arch_stem = df.unique_stem(self.layout.archive, stem, [suffix])
+                items.append([job.name, "archive", arch_stem, suffix])
+                self._name_input_in_json(job, self.layout.archive / f"{arch_stem}{suffix}")
                 figures = headline_text(getattr(result, "headline", {}) or {})
                 warnings = [p for p in getattr(result, "problems", []) if p.severity != "error"]
                 if warnings:
@@ -643,7 +646,25 @@ class Watcher:
         items.append([df.PROBLEMS_TXT, "failed", s, ".problems.txt"])
         items.append([df.PROBLEMS_XLSX, "failed", s, ".problems.xlsx"])
         items.append([job.name, "failed", s, suffix])  # the input last: its report is there
+        if has_json:
+            self._name_input_in_json(job, self.layout.failed / f"{s}{suffix}")
         return items
+
+    def _name_input_in_json(self, job: Job, final: Path) -> None:
+        """Point the JSON's input file at where the input will be, not the working folder."""
+        path = job.dir / df.RESULT_JSON
+        try:
+            data = json.loads(path.read_text(encoding="utf-8"))
+        except (OSError, ValueError):
+            return
+        entry = data.get("input") if isinstance(data, dict) else None
+        if not isinstance(entry, dict) or not isinstance(entry.get("file"), str):
+            return
+        entry["file"] = final.relative_to(self.layout.root).as_posix() \
+            if _under(final, self.layout.root) else str(final)
+        tmp = job.dir / ".pb-json.tmp"
+        tmp.write_text(json.dumps(data, indent=2, allow_nan=False), encoding="utf-8")
+        os.replace(tmp, path)
 
     def _job_dir_writable(self, job: Job) -> bool:
         probe = job.dir / ".pb-probe"

@@ -18,6 +18,7 @@ from __future__ import annotations
 
 import errno
 import hashlib
+import json
 import os
 import signal
 import subprocess
@@ -262,6 +263,9 @@ def test_main_once_exit_codes_and_options(tmp_path):
             "--iterations", str(ITER), "--json"]
     assert main(args) == 0
     assert names(root / "outbox") == {"a.analysis.xlsx", "a.analysis.json"}
+    # the JSON names where the input now is, not the watcher's working folder
+    data = json.loads((root / "outbox" / "a.analysis.json").read_text(encoding="utf-8"))
+    assert data["input"]["file"] == "archive/a.csv"
     (root / "inbox" / "b.csv").write_bytes(schedule_csv(5, bad=True))
     assert main(args) == 2
     assert names(root / "failed") == {"b.csv", "b.problems.txt", "b.problems.xlsx",
@@ -399,6 +403,31 @@ def test_outbox_lost_after_converting_result_is_placed_when_back(tmp_path):
     assert not work_jobs(root)
 
 
+def test_share_gone_for_a_while_then_back(tmp_path):
+    root = tmp_path / "drop"
+    away = tmp_path / "drop-away"  # the share unmounted: the path is simply not there
+    (root / "inbox").mkdir(parents=True)
+    w = watcher(root, max_backoff=0.2)
+    thread, out = _run_in_thread(w)
+    try:
+        wait_for(lambda: "watching" in log_text(root), "the watcher to start")
+        root.rename(away)
+        # the log file stays open, so its lines follow the folder
+        wait_for(lambda: log_text(away).count("cannot be used") >= 3, "3 retries")
+        assert not root.exists()  # nothing was created locally in its place
+        data = schedule_csv(5)
+        (away / "inbox" / "back.csv").write_bytes(data)
+        away.rename(root)
+        wait_for(lambda: (root / "archive" / "back.csv").exists(), "the conversion")
+    finally:
+        w.stop()
+        thread.join()
+    assert out["code"] == 0
+    assert sha(root / "archive" / "back.csv") == sha(data)
+    assert names(root / "outbox") == {"back.analysis.xlsx"}
+    assert "usable again" in log_text(root)
+
+
 # --------------------------------------------------------------------------- several watchers
 
 
@@ -439,6 +468,7 @@ def test_sigkill_mid_batch_then_restart_loses_nothing(tmp_path):
     for name, data in dropped.items():
         (root / "inbox" / name).write_bytes(data)
     archive, outbox = root / "archive", root / "outbox"
+    claimed_at_kill = []
     for kill_at in (4, 12, 20):  # three kills at different points of the batch
         proc = _spawn(root, "--workers", "2")
         try:
@@ -447,13 +477,16 @@ def test_sigkill_mid_batch_then_restart_loses_nothing(tmp_path):
         finally:
             proc.send_signal(signal.SIGKILL)
             proc.wait()
+        claimed_at_kill.append(len(work_jobs(root)))
         # whatever is in the outbox is whole: results arrive by rename only
         for name in names(outbox):
             assert name.endswith(".analysis.xlsx"), name
             assert is_complete_xlsx(outbox / name), name
+    assert any(claimed_at_kill), claimed_at_kill  # some kill caught files in hand
     proc = _spawn(root, "--once", "--workers", "2")
     _, err = proc.communicate(timeout=DEADLINE * 2)
     assert proc.returncode == 0, err.decode()
+    assert "left by a stopped watcher" in log_text(root)
     assert names(root / "inbox") == set()
     assert names(root / "failed") == set()
     assert names(archive) == set(dropped)  # a second conversion would add a stamped name
