@@ -382,9 +382,6 @@ class WorkArea:
         path.mkdir()
         return path
 
-    def jobs(self) -> list[Path]:
-        return sorted(p for p in self.dir.iterdir() if p.is_dir())
-
     def _abandoned(self, path: Path, now: float, stale_after: float) -> bool:
         try:
             host, pid_text, _ = path.name.rsplit("-", 2)

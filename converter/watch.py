@@ -20,6 +20,7 @@ from __future__ import annotations
 
 import argparse
 import concurrent.futures as cf
+import dataclasses
 import errno
 import json
 import logging
@@ -203,8 +204,8 @@ class Watcher:
         recover_every: float = 60.0,
     ) -> None:
         self.layout = df.Layout.under(folder, **(names or {}))
-        self.options = options or ConvertOptions()
-        self.options.progress = None  # must cross a process boundary
+        # no progress callback: the options cross a process boundary
+        self.options = dataclasses.replace(options or ConvertOptions(), progress=None)
         self.convert_fn = convert_fn
         self.interval = max(float(interval), 0.01)
         self.workers = (os.cpu_count() or 1) if workers is None else max(int(workers), 0)
@@ -592,7 +593,7 @@ class Watcher:
         has_json = (jdir / df.RESULT_JSON).exists()
         if kind == "oserror":
             code, text = payload
-            if code in FULL_ERRNOS or not self._job_dir_writable(job):
+            if code in STORAGE_ERRNOS or not self._job_dir_writable(job):
                 self._put_back(job, f"{job.name}: storage trouble while converting",
                                OSError(code, os.strerror(code) if code else text.splitlines()[-1]))
                 return None
