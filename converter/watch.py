@@ -79,7 +79,16 @@ class Job:
 
 
 def _worker_init(parent: int, single_thread: bool) -> None:
-    """Pool worker start: ignore Ctrl+C/SIGTERM (the watcher decides), die with the watcher."""
+    """Pool worker start: ignore Ctrl+C/SIGTERM (the watcher decides), die with the watcher.
+
+    On POSIX the worker leads a process group of its own, so the watcher (or the worker
+    itself, once orphaned) can stop it together with any processes the converter starts.
+    """
+    if hasattr(os, "setpgrp"):
+        try:
+            os.setpgrp()
+        except OSError:
+            pass
     signal.signal(signal.SIGINT, signal.SIG_IGN)
     if hasattr(signal, "SIGTERM"):
         signal.signal(signal.SIGTERM, signal.SIG_IGN)
@@ -91,6 +100,7 @@ def _worker_init(parent: int, single_thread: bool) -> None:
         while True:
             time.sleep(0.5)
             if os.getppid() != parent or not df.pid_alive(parent):
+                _kill_own_group()
                 os._exit(0)
 
     threading.Thread(target=orphan_check, daemon=True, name="orphan-check").start()
@@ -100,6 +110,23 @@ def _worker_init(parent: int, single_thread: bool) -> None:
             __import__(module)
         except Exception:  # noqa: BLE001 - warming up only; convert reports real errors
             pass
+
+
+def _kill_own_group() -> None:
+    """SIGKILL this process's group, but only if this process leads it."""
+    if hasattr(os, "killpg") and os.getpgrp() == os.getpid():
+        os.killpg(os.getpid(), signal.SIGKILL)
+
+
+def _kill_worker(proc) -> None:
+    """Stop a pool worker now, with whatever it started (its process group on POSIX)."""
+    try:
+        if hasattr(os, "killpg") and os.getpgid(proc.pid) == proc.pid:
+            os.killpg(proc.pid, signal.SIGKILL)
+        else:
+            proc.kill()
+    except (OSError, ValueError):
+        pass
 
 
 def run_conversion(convert_fn: ConvertFn, job_dir: Path, name: str, options: ConvertOptions):
@@ -221,6 +248,7 @@ class Watcher:
 
         self.counts = {"converted": 0, "invalid": 0, "fault": 0}
         self.stop_requested = False
+        self._stop_announced = False
         self._signals = 0
         self._pool = None
         self._inflight: dict[cf.Future, Job] = {}
@@ -353,8 +381,8 @@ class Watcher:
         self.log.warning("stopping now; files in hand go back to the inbox")
         pool, self._pool = self._pool, None
         if isinstance(pool, cf.ProcessPoolExecutor):
-            for proc in list(getattr(pool, "_processes", {}).values()):
-                proc.terminate()
+            for proc in list((getattr(pool, "_processes", None) or {}).values()):
+                _kill_worker(proc)  # workers ignore SIGTERM
             pool.shutdown(wait=True, cancel_futures=True)
         jobs = list(self._inflight.values()) + list(self._isolate) + self._stuck
         self._inflight.clear()
@@ -371,6 +399,10 @@ class Watcher:
     def _finished(self) -> bool:
         busy = bool(self._inflight or self._isolate)
         if self.stop_requested:
+            if not self._stop_announced:
+                self._stop_announced = True
+                n = len(self._inflight) + len(self._isolate)
+                self.log.info("stopping%s", f" after the {n} file(s) in hand" if n else "")
             return not busy
         if not self.once:
             return False
