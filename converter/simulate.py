@@ -55,7 +55,7 @@ PERCENTILE_KEYS: tuple[float, ...] = (
     0.01, 0.05, 0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7, 0.8, 0.9, 0.95, 0.99,
 )
 
-_CHUNK_ELEMENTS = 5_000_000  # activities x iterations per chunk (about 40 MB a matrix)
+_CHUNK_ELEMENTS = 2_500_000  # activities x iterations per chunk (20 MB a float64 matrix)
 _PARALLEL_ELEMENTS = 20_000_000  # use worker processes from this many samples on
 _RANK_ROWS = 16  # activities ranked together in the sensitivity step
 
@@ -164,8 +164,9 @@ def sample_durations(
     return out
 
 
-_LN4 = math.log(4.0)
-_ONE_PLUS_LN5 = 1.0 + math.log(5.0)
+_LN4 = np.float32(math.log(4.0))
+_ONE_PLUS_LN5 = np.float32(1.0 + math.log(5.0))
+_F1, _F5 = np.float32(1.0), np.float32(5.0)
 _BLOCK = 8192  # draws handled together (a block's temporaries stay in cache)
 
 
@@ -208,7 +209,7 @@ def _beta_into(rng, alpha, beta, lo, width, size, out, rows) -> None:
     with np.errstate(divide="ignore"):
         for r0 in range(0, inner.size, rows_per):
             idx = inner[r0 : r0 + rows_per]
-            block = tuple(v[idx, None] for v in params)
+            block = tuple(v[idx, None].astype(np.float32) for v in params)
             for c0 in range(0, size, cols_per):
                 c1 = min(size, c0 + cols_per)
                 x = _cheng_accepted(rng, block, idx.size, c1 - c0)
@@ -225,7 +226,8 @@ def _cheng_accepted(rng, params, rows: int, cols: int) -> np.ndarray:
     """``cols`` accepted BB draws per row: the first accepted of a few more candidates."""
     # acceptance of BB is about 0.75 at a = 1, 0.8 at 1.2, 0.9 at 2 (measured); draw
     # enough candidates that a row is rarely short
-    share = float(np.interp(float(params[0].min()), (1.0, 1.2, 2.0), (0.72, 0.78, 0.87)))
+    low = float(params[0].min())
+    share = 0.72 + 0.3 * (low - 1.0) if low < 1.2 else min(0.87, 0.78 + 0.1125 * (low - 1.2))
     expect = cols / share
     extra = int(expect - cols + 4.0 * math.sqrt(expect * (1.0 - share)) / share) + 8
     x, ok = _cheng_candidates(rng, params, (rows, cols + extra))
@@ -233,7 +235,7 @@ def _cheng_accepted(rng, params, rows: int, cols: int) -> np.ndarray:
     got = rank[:, -1]
     if (got >= cols).all():
         return x[ok & (rank <= cols)].reshape(rows, cols)
-    out = np.empty((rows, cols))
+    out = np.empty((rows, cols), dtype=np.float32)
     for i in range(rows):  # rare: keep drawing for the rows short of accepted draws
         have = x[i, ok[i]][:cols]
         row_params = tuple(v[i : i + 1] for v in params)
@@ -245,11 +247,15 @@ def _cheng_accepted(rng, params, rows: int, cols: int) -> np.ndarray:
 
 
 def _cheng_candidates(rng, params, shape) -> tuple[np.ndarray, np.ndarray]:
-    """One candidate of algorithm BB per draw and whether it is accepted (a <= b)."""
+    """One candidate of algorithm BB per draw and whether it is accepted (a <= b).
+
+    Computed in single precision (``params`` are float32), the precision the
+    samples are kept in.
+    """
     a, b, big, scale, shift = params
-    u1 = rng.random(shape)
-    u2 = rng.random(shape)
-    v = np.log(u1 / (1.0 - u1))
+    u1 = rng.random(shape, dtype=np.float32)
+    u2 = rng.random(shape, dtype=np.float32)
+    v = np.log(u1 / (_F1 - u1))
     v *= scale
     w = np.exp(v)
     w *= a
@@ -259,7 +265,7 @@ def _cheng_candidates(rng, params, shape) -> tuple[np.ndarray, np.ndarray]:
     r -= _LN4
     s = r + a
     s -= w
-    ok = (s + _ONE_PLUS_LN5) >= 5.0 * z
+    ok = (s + _ONE_PLUS_LN5) >= _F5 * z
     bw = w + b
     x = w / bw
     slow = np.flatnonzero(~ok)
@@ -270,7 +276,7 @@ def _cheng_candidates(rng, params, shape) -> tuple[np.ndarray, np.ndarray]:
         tail = r.reshape(-1)[slow] + big_s * np.log(big_s / bw_s)
         accept = (s.reshape(-1)[slow] > t) | (tail >= t)
         ok.reshape(-1)[slow] = accept
-    ok &= u1 > 0.0  # the algorithm works on the open interval (0, 1)
+    ok &= u1 > _F1 - _F1  # the algorithm works on the open interval (0, 1)
     return x, ok
 
 
@@ -337,7 +343,7 @@ class _Inputs:
 
 
 def chunk_size(n: int, iterations: int) -> int:
-    """Iterations per chunk: about five million samples, at least 64 iterations."""
+    """Iterations per chunk: about 2.5 million samples, at least 64 iterations."""
     return max(1, min(iterations, max(64, _CHUNK_ELEMENTS // max(n, 1))))
 
 
@@ -725,11 +731,22 @@ def _run_parallel(pool, job: _Job, correlate: bool, tick) -> tuple[_Counts, np.n
     return counts, sensitivity
 
 
+def _usable_cores() -> int:
+    """Cores this process may use; 1 when OMP_NUM_THREADS=1 asks for one numeric thread
+    (as a pool of converters does, see watch.py)."""
+    if os.environ.get("OMP_NUM_THREADS", "").strip() == "1":
+        return 1
+    try:
+        return len(os.sched_getaffinity(0))
+    except (AttributeError, OSError):
+        return os.cpu_count() or 1
+
+
 def _worker_count(workers: int | None, inp: _Inputs) -> int:
     if workers is None:
         if inp.n * inp.iterations < _PARALLEL_ELEMENTS:
             return 1
-        workers = min(2, os.cpu_count() or 1)
+        workers = min(4, _usable_cores())
     workers = max(1, int(workers))
     if workers > 1:
         import multiprocessing
@@ -754,17 +771,24 @@ def _shared(shape: tuple[int, ...], dtype) -> tuple[np.ndarray, mmap.mmap]:
 
 
 def _sorted_block(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Per row: original column of each sorted position, and the sorted sort keys."""
+    """Per row: original column of each sorted position, and the sorted sort keys.
+
+    float32 rows are sorted as 64-bit integers holding the value's order-preserving
+    bit pattern above the column number (one integer sort instead of an argsort).
+    """
     rows, cols = x.shape
-    if x.dtype == np.float32 and cols < 2**32:
-        bits = (x + np.float32(0.0)).view(np.uint32)  # + 0 turns -0.0 into +0.0
-        flip = np.where(bits >> np.uint32(31), np.uint32(0xFFFFFFFF), np.uint32(0x80000000))
-        keys = (bits ^ flip).astype(np.uint64)
-        keys <<= np.uint64(32)
-        keys |= np.arange(cols, dtype=np.uint64)
+    if x.dtype == np.float32 and cols < 2**32 and np.little_endian:
+        keys = np.empty((rows, cols), dtype=np.uint64)
+        halves = keys.view(np.uint32).reshape(rows, cols, 2)  # [..., 0] is the low half
+        if x.min() > 0:
+            halves[..., 1] = x.view(np.uint32)  # positive floats order as their bits
+        else:
+            bits = (x + np.float32(0.0)).view(np.uint32)  # + 0 turns -0.0 into +0.0
+            flip = np.where(bits >> np.uint32(31), np.uint32(0xFFFFFFFF), np.uint32(0x80000000))
+            halves[..., 1] = bits ^ flip
+        halves[..., 0] = np.arange(cols, dtype=np.uint32)
         keys.sort(axis=1)
-        where = (keys & np.uint64(0xFFFFFFFF)).astype(np.intp)
-        return where, keys >> np.uint64(32)
+        return halves[..., 0], halves[..., 1]
     where = np.argsort(x, axis=1, kind="stable")
     values = np.take_along_axis(x, where, axis=1)
     return where, values + 0.0
@@ -783,7 +807,8 @@ def _spearman_block(x: np.ndarray, centred_y: np.ndarray, syy: float) -> np.ndar
     varying = x.min(axis=1) < x.max(axis=1)
     if not varying.any() or syy <= 0:
         return out
-    x = x[varying]
+    if not varying.all():
+        x = x[varying]
     where, keys = _sorted_block(np.ascontiguousarray(x))
     ry = centred_y[where]  # y ranks in each row's sorted order
     centred = np.arange(1, cols + 1) - (cols + 1) / 2.0
@@ -913,8 +938,9 @@ def simulate(
     activities, the result's ``independent`` is the same run (same samples, same
     seed) without the correlation. ``progress(done, total)`` is called after each
     chunk; ``total`` counts the iterations of both runs when there are two.
-    ``workers``: processes to share a large run (default: 2 from 20 million samples
-    where ``fork`` is available, else 1); the numbers do not depend on it.
+    ``workers``: processes to share a large run (default: from 20 million samples,
+    one per usable core up to 4, where ``fork`` is available and this is not itself
+    a daemonic worker; else 1); the numbers do not depend on it.
     """
     global _JOB
     inp = _prepare(optimistic, most_likely, pessimistic, distribution, distributions, groups,
