@@ -115,6 +115,31 @@ def calendar_days_input(path: Path) -> Path:
     return write_xlsx(path, {"Activities": rows, "Settings": settings})
 
 
+def edge_input(path: Path) -> Path:
+    """The start date is itself a holiday, holidays fall before the start and on a weekend,
+    leads push early starts below zero (clipped at the start), milestones at both ends, a
+    date target and a due date before the expected finish."""
+    rows = [HEADER + ["Target"],
+            ["M0", "Start milestone", None, 0, 0, 0, None],
+            ["E1", "Strip out", "M0", 2, 3, 4, None],
+            ["E2", "Temporary supply", "E1[SF-5]", 1, 2, 3, None],
+            ["E3", "Isolate", "E1[SS-1]", 1, 1, 1, D(2026, 4, 2)],
+            ["E4", "Reconnect", "E2, E3[FF-3]", 2.5, 3.5, 6, None],
+            ["E5", "Finish milestone", "E4", 0, 0, 0, 3]]
+    settings = settings_rows(D(2026, 4, 1), "working days", "Mon-Fri",
+                             [D(2026, 3, 20), D(2026, 4, 1), D(2026, 4, 4), D(2026, 4, 8)],
+                             D(2026, 4, 3))
+    return write_xlsx(path, {"Activities": rows, "Settings": settings})
+
+
+def zero_spread_input(path: Path) -> Path:
+    """No spread at all (sd 0: z is "n/a"), in weeks of a Sunday-to-Thursday calendar."""
+    rows = [HEADER, ["A", "Fixed task", None, 2, 2, 2], ["B", "Fixed follow-on", "A", 3, 3, 3]]
+    settings = settings_rows(D(2026, 4, 1), "weeks", "Sun-Thu", [D(2026, 4, 9)],
+                             D(2026, 5, 1))
+    return write_xlsx(path, {"Activities": rows, "Settings": settings})
+
+
 #: Critical path S-A-E (TE 13, small spread) against S-B-E (TE 12.5, large spread): for a
 #: due duration between the two the shorter path is the less likely to be met.
 RISKY_DUE = 13.5
@@ -161,11 +186,13 @@ CASES: dict[str, tuple[object, dict]] = {
     "weeks": (weeks_input, {}),
     "calendar-days": (calendar_days_input, {}),
     "riskier": (riskier_input, {"due": RISKY_DUE}),
+    "edge": (edge_input, {}),
+    "zero-spread": (zero_spread_input, {}),
     "big": (big_input, {"simulate": False}),
     "warehouse-nosim": (SAMPLES / "warehouse-fitout.xlsx", {"simulate": False}),
 }
 SAMPLE_CASES = ["warehouse", "warehouse-due45", "clinic", "boiler"]
-GENERATED_CASES = ["typed", "weeks", "calendar-days", "riskier"]
+GENERATED_CASES = ["typed", "weeks", "calendar-days", "riskier", "edge", "zero-spread"]
 RECALC_CASES = SAMPLE_CASES + GENERATED_CASES
 
 
@@ -756,15 +783,26 @@ def test_reproduce_command_reproduces_the_simulation(made, tmp_path, capsys, key
     assert again["simulation"] == c.data["simulation"]
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "converter/workbook/simulation.py reproduce_command: --due is left out whenever the "
-    "schedule has a calendar (a.due_date is then set), so a due given on the command line "
-    "is lost and the rerun uses the input's own due date"))
-def test_reproduce_command_keeps_a_command_line_due_on_a_calendar_schedule(
-        stages, tmp_path, capsys):
-    c = run_convert(SAMPLES / "clinic-it-rollout.xlsx", tmp_path / "one", due=80.0)
+REPRODUCE_BUG = (
+    "converter/workbook/simulation.py reproduce_command (line 24-25): --due is written only "
+    "when a.due_date is unset, i.e. never once the schedule has a calendar, so a due given on "
+    "the command line (number or date) is lost and the rerun uses the input's own due or "
+    "none; --start-date given on the command line is never written; and '--due {a.due:g}' "
+    "keeps 6 significant digits (45.123456 -> 45.1235)")
+
+
+@pytest.mark.xfail(strict=True, reason=REPRODUCE_BUG)
+@pytest.mark.parametrize("sample, options", [
+    ("clinic-it-rollout.xlsx", {"due": 80.0}),  # calendar schedule, due as a duration
+    ("clinic-it-rollout.xlsx", {"due": "2027-06-30"}),  # calendar schedule, due as a date
+    ("boiler-shutdown.csv", {"start_date": "2027-05-03", "due": "2027-05-20"}),
+    ("warehouse-fitout.xlsx", {"due": 45.123456}),  # no calendar: digits lost
+], ids=["due-number-calendar", "due-date", "csv-start-and-due", "due-digits"])
+def test_reproduce_command_keeps_command_line_settings(stages, tmp_path, capsys, sample,
+                                                      options):
+    c = run_convert(SAMPLES / sample, tmp_path / "one", **options)
     again = _rerun_reproduce_command(c, tmp_path / "two")
-    assert again["project"]["due"] == c.data["project"]["due"] == 80.0
+    assert again["project"]["due"] == c.data["project"]["due"]
     assert again["simulation"] == c.data["simulation"]
 
 
@@ -855,3 +893,22 @@ def test_generated_schedules_cover_what_they_claim(made):
     assert made("weeks").data["calendar"]["unit"] == "weeks"
     assert made("weeks").data["calendar"]["working_days"] == [0, 1, 2, 3, 4, 5]
     assert made("calendar-days").data["calendar"]["unit"] == "calendar days"
+
+
+def test_edge_calendar_and_zero_spread_by_hand(made):
+    # 2026-04-01 (a Wednesday) is a holiday, so work starts on Thursday 2026-04-02 (read off
+    # a calendar by hand); leads never start an activity before the project start.
+    edge = made("edge").data
+    by_id = {a["id"]: a for a in edge["activities"]}
+    assert by_id["M0"]["early_start_date"] == "2026-04-02"
+    assert all(a["es"] >= 0 for a in edge["activities"])
+    assert edge["project"]["due"] < edge["project"]["expected_duration"]  # z < 0
+    assert edge["project"]["z"] < 0
+    # zero spread: z undefined, the chance is 1 or 0 (due on or after the finish, or not)
+    zero = made("zero-spread")
+    project = zero.data["project"]
+    assert project["sd"] == 0 and project["z"] is None
+    assert project["p_meet_due"] == (1.0 if project["due"] >= project["expected_duration"]
+                                     else 0.0)
+    summary = zero.wb(data_only=True)["Summary"]
+    assert label_cell(summary, "z =").value == "n/a"
