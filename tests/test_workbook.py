@@ -783,15 +783,6 @@ def test_reproduce_command_reproduces_the_simulation(made, tmp_path, capsys, key
     assert again["simulation"] == c.data["simulation"]
 
 
-REPRODUCE_BUG = (
-    "converter/workbook/simulation.py reproduce_command (line 24-25): --due is written only "
-    "when a.due_date is unset, i.e. never once the schedule has a calendar, so a due given on "
-    "the command line (number or date) is lost and the rerun uses the input's own due or "
-    "none; --start-date given on the command line is never written; and '--due {a.due:g}' "
-    "keeps 6 significant digits (45.123456 -> 45.1235)")
-
-
-@pytest.mark.xfail(strict=True, reason=REPRODUCE_BUG)
 @pytest.mark.parametrize("sample, options", [
     ("clinic-it-rollout.xlsx", {"due": 80.0}),  # calendar schedule, due as a duration
     ("clinic-it-rollout.xlsx", {"due": "2027-06-30"}),  # calendar schedule, due as a date

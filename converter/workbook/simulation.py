@@ -15,14 +15,21 @@ TOP_DRIVERS = 15
 
 
 def reproduce_command(a) -> str:
+    """The command that reruns this simulation: iterations, seed and distribution always,
+    plus every other setting that came from the command line (numbers in full)."""
     sim = a.simulation
+    st = a.schedule.settings
     parts = ["pertbook convert", f'"{Path(a.schedule.input_file).name}"',
              f"--iterations {sim.iterations}", f"--seed {sim.seed}"]
     if sim.distribution in ("pert", "triangular", "uniform"):
         parts.append(f"--distribution {sim.distribution}")
-    parts.append(f"--correlation {sim.correlation:g}")
-    if a.due is not None and not a.due_date:
-        parts.append(f"--due {a.due:g}")
+    parts.append(f"--correlation {sim.correlation!r}")
+    given = {k for k, v in st.sources.items() if v == "command line"}
+    if "start_date" in given and st.start_date is not None:
+        parts.append(f"--start-date {st.start_date.isoformat()}")
+    if "due" in given and st.due is not None:
+        due = st.due.isoformat() if hasattr(st.due, "isoformat") else repr(float(st.due))
+        parts.append(f"--due {due}")
     return " ".join(parts)
 
 
