@@ -38,6 +38,8 @@ def build_json(path: Path, problems, analysis) -> dict:
     a = analysis
     s = a.schedule.settings
     cal = a.calendar
+    data["input"]["sheet"] = a.schedule.sheet
+    data["notes"] = list(a.schedule.notes)
     data["time_unit"] = s.time_unit
     data["activity_count"] = len(a.ids)
     data["start_date"] = _iso(s.start_date)
