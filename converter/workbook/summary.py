@@ -22,7 +22,7 @@ def _abs(row: int, col: int = 1) -> str:
 
 def write_summary(wb, fmt, a, lay: Layout) -> None:
     ws = wb.add_worksheet(SUMMARY)
-    ws.set_column(0, 0, 44)
+    ws.set_column(0, 0, 52)
     ws.set_column(1, 1, 18)
     ws.set_column(2, 2, 14)
     ws.set_column(3, 3, 70)
@@ -42,8 +42,8 @@ def write_summary(wb, fmt, a, lay: Layout) -> None:
         write(r)
         if note:
             ws.write_string(r, 3, note, fmt.wrap)
-            if len(note) > 85:
-                ws.set_row(r, 15 * (len(note) // 85 + 1))
+            if len(note) > 80:
+                ws.set_row(r, 15 * (len(note) // 80 + 1))
         r += 1
         return r - 1
 
@@ -132,16 +132,16 @@ def write_summary(wb, fmt, a, lay: Layout) -> None:
          "(the cautious choice).")
     riskier = a.riskier_paths
     if riskier:
-        names = "; ".join(_path_words(a, k) for k in riskier[:5])
+        numbers = ", ".join(str(k + 1) for k in riskier[:20]) + (" ..." if len(riskier) > 20
+                                                                 else "")
+        words = "; ".join(_path_words(a, k) for k in riskier[:5])
         if len(riskier) > 5:
-            names += f"; and {len(riskier) - 5} more"
-        row = line("Paths riskier than the critical path", lambda r: ws.write_string(
-            r, 1, names[:32000], fmt.flag))
-        ws.write_string(row + 0, 3, "These shorter paths have more spread and a LOWER chance "
-                        "of meeting the due date than the critical path, so the critical-path "
-                        "figure above overstates the chance of finishing on time. See the "
-                        "Paths sheet.", fmt.wrap)
-        ws.set_row(row, 45)
+            words += f"; and {len(riskier) - 5} more"
+        note = (f"{words}. These shorter paths have more spread and a LOWER chance of meeting "
+                "the due date than the critical path, so the critical-path figure above "
+                "overstates the chance of finishing on time. See the Paths sheet.")
+        line("Paths riskier than the critical path (path no.)", lambda r: ws.write_string(
+            r, 1, numbers, fmt.flag), note[:32000])
     if a.p_all_paths is not None:
         k = len(a.paths)
         prange = f"{PATHS}!$F${FIRST + 1}:$F${FIRST + k}"
@@ -180,8 +180,9 @@ def _write_simulated(ws, fmt, a, start: int) -> None:
         r += 1
     if sim is not None:
         ws.write_string(r, 0, "Why the two views differ", fmt.label)
-        ws.write_string(r, 3, gap_explanation(a), fmt.wrap)
-        ws.set_row(r, 75)
+        text = gap_explanation(a)
+        ws.write_string(r, 3, text, fmt.wrap)
+        ws.set_row(r, 15 * (len(text) // 80 + 1))
         r += 2
     failed = [c for c in a.checks if not c.passed]
     ws.write_string(r, 0, "Schedule health checks failed", fmt.label)
