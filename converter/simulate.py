@@ -5,7 +5,8 @@ passes and records the project duration, which activities were critical (total
 float ~ 0) and whether each targeted activity finished by its target. This is
 the simulation approach to PERT networks of Van Slyke (1963), "Monte Carlo
 methods and the PERT problem", *Operations Research* 11(5), with the
-criticality index of that paper and of Martin (1965).
+criticality index (share of iterations in which an activity is critical) of
+that paper.
 
 Iterations are handled a chunk at a time: the samples of a chunk form an
 ``(n, c)`` matrix and both passes run on all ``c`` columns at once (no Python
@@ -38,6 +39,7 @@ from __future__ import annotations
 import math
 import mmap
 import os
+import threading
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 
@@ -101,18 +103,22 @@ def pert_beta_parameters(o, m, p) -> tuple[np.ndarray, np.ndarray]:
 
 
 def _kind_codes(kinds, n: int) -> np.ndarray:
+    """Distribution codes (PERT, TRIANGULAR, UNIFORM) from one name/code or one per activity."""
     if isinstance(kinds, (str, int, np.integer)):
         kinds = [kinds] * n
-    out = np.empty(n, dtype=np.int8)
-    for i, k in enumerate(kinds):
-        if isinstance(k, str):
-            if k not in KIND_CODES:
-                raise ValueError(f"unknown distribution {k!r} (use one of {DISTRIBUTIONS})")
-            out[i] = KIND_CODES[k]
-        else:
-            out[i] = int(k)
+    if isinstance(kinds, np.ndarray) and kinds.dtype.kind in "iu":
+        out = kinds.astype(np.int8).reshape(-1)
+    else:
+        kinds = list(kinds)
+        if any(isinstance(k, str) and k not in KIND_CODES for k in kinds):
+            bad = next(k for k in kinds if isinstance(k, str) and k not in KIND_CODES)
+            raise ValueError(f"unknown distribution {bad!r} (use one of {DISTRIBUTIONS})")
+        out = np.array([KIND_CODES[k] if isinstance(k, str) else int(k) for k in kinds],
+                       dtype=np.int8)
     if out.size != n:
         raise ValueError("one distribution per activity is needed")
+    if out.size and (out.min() < 0 or out.max() > UNIFORM):
+        raise ValueError("distribution codes are 0 (pert), 1 (triangular), 2 (uniform)")
     return out
 
 
@@ -125,7 +131,7 @@ def sample_durations(
     are drawn kind by kind (PERT, triangular, uniform), each kind in activity
     order, a few rows at a time; O = P rows are the constant. The PERT-beta uses
     Cheng's algorithm (:func:`beta_cheng`) scaled to [O, P]; the triangular and
-    the uniform invert their distribution functions: for the triangular with
+    uniform invert their distribution functions: for the triangular with
     c = (M - O) / (P - O), x = O + sqrt(u (P - O)(M - O)) if u <= c, else
     P - sqrt((1 - u)(P - O)(P - M)). ``out`` may be given to reuse memory.
     """
@@ -175,10 +181,12 @@ def beta_cheng(rng: np.random.Generator, alpha, beta, size: int) -> np.ndarray:
 
     Cheng (1978), "Generating beta variates with nonintegral shape parameters",
     *Communications of the ACM* 21(4), algorithm BB (for min(alpha, beta) > 1), an
-    exact rejection method, vectorised: one candidate per draw in cache-sized
-    blocks, then rounds of fresh candidates for the rejected ones until none is
-    left. A shape equal to 1 is drawn by inversion: Beta(1, b) = 1 - U^(1/b),
-    Beta(a, 1) = U^(1/a).
+    exact rejection method, vectorised: for each cache-sized block of draws a
+    few more candidates than needed are made and each row keeps its first
+    accepted ones (rows left short draw again). The candidates are computed in
+    single precision (uniforms with 24 bits), the precision the simulation keeps
+    its samples in. A shape equal to 1 is drawn by inversion: Beta(1, b) =
+    1 - U^(1/b), Beta(a, 1) = U^(1/a).
     """
     alpha = np.asarray(alpha, dtype=float).reshape(-1)
     beta = np.asarray(beta, dtype=float).reshape(-1)
@@ -212,7 +220,7 @@ def _beta_into(rng, alpha, beta, lo, width, size, out, rows) -> None:
             block = tuple(v[idx, None].astype(np.float32) for v in params)
             for c0 in range(0, size, cols_per):
                 c1 = min(size, c0 + cols_per)
-                x = _cheng_accepted(rng, block, idx.size, c1 - c0)
+                x = _cheng_accepted(rng, block, idx.size, c1 - c0).astype(float)
                 x *= mult[idx, None]
                 x += base[idx, None]
                 out[rows[idx], c0:c1] = x
@@ -222,14 +230,15 @@ def _beta_into(rng, alpha, beta, lo, width, size, out, rows) -> None:
         out[rows[i]] = lo[i] + width[i] * x
 
 
-def _cheng_accepted(rng, params, rows: int, cols: int) -> np.ndarray:
+def _cheng_accepted(rng, params, rows: int, cols: int, extra: int | None = None) -> np.ndarray:
     """``cols`` accepted BB draws per row: the first accepted of a few more candidates."""
-    # acceptance of BB is about 0.75 at a = 1, 0.8 at 1.2, 0.9 at 2 (measured); draw
-    # enough candidates that a row is rarely short
-    low = float(params[0].min())
-    share = 0.72 + 0.3 * (low - 1.0) if low < 1.2 else min(0.87, 0.78 + 0.1125 * (low - 1.2))
-    expect = cols / share
-    extra = int(expect - cols + 4.0 * math.sqrt(expect * (1.0 - share)) / share) + 8
+    if extra is None:
+        # acceptance of BB is about 0.75 at a = 1, 0.8 at 1.2, 0.9 at 2 (measured); draw
+        # enough candidates that a row is rarely short
+        low = float(params[0].min())
+        share = 0.72 + 0.3 * (low - 1.0) if low < 1.2 else min(0.87, 0.78 + 0.11 * (low - 1.2))
+        expect = cols / share
+        extra = int(expect - cols + 4.0 * math.sqrt(expect * (1.0 - share)) / share) + 8
     x, ok = _cheng_candidates(rng, params, (rows, cols + extra))
     rank = np.cumsum(ok, axis=1)
     got = rank[:, -1]
@@ -600,8 +609,8 @@ class _Passes:
         """Reused work matrices for ``cols`` iterations: durations, early, late, flags."""
         if self._buffers is None or self._buffers[0] != cols:
             n = self.n
-            self._buffers = (cols, (np.empty((n, cols)), np.empty((2 * n, cols)),
-                                    np.empty((2 * n, cols)), np.empty((n, cols), dtype=bool)))
+            self._buffers = (cols, (_mapped((n, cols), float), _mapped((2 * n, cols), float),
+                                    _mapped((2 * n, cols), float), _mapped((n, cols), bool)))
         return self._buffers[1]
 
     def run(self, d: np.ndarray) -> tuple[np.ndarray, np.ndarray, dict[int, int]]:
@@ -686,6 +695,7 @@ def _centre_ranks(job: _Job) -> float:
 
 
 _JOB: _Job | None = None  # the job of the parallel run in progress (inherited by fork)
+_JOB_LOCK = threading.Lock()  # one parallel run at a time per process
 
 
 def _worker_start() -> None:
@@ -698,7 +708,7 @@ def _worker_start() -> None:
         m_trim_threshold, m_top_pad, m_mmap_threshold = -1, -2, -3
         libc.mallopt(m_trim_threshold, 1 << 30)
         libc.mallopt(m_top_pad, 64 << 20)
-        libc.mallopt(m_mmap_threshold, 1 << 30)
+        libc.mallopt(m_mmap_threshold, 32 << 20)  # glibc's largest allowed value
     except (OSError, AttributeError):
         pass
 
@@ -759,12 +769,26 @@ def _worker_count(workers: int | None, inp: _Inputs) -> int:
     return min(workers, len(inp.chunks()))
 
 
-def _shared(shape: tuple[int, ...], dtype) -> tuple[np.ndarray, mmap.mmap]:
-    """A zero-initialised array in anonymous shared memory (visible to forked workers)."""
+def _mapped(shape: tuple[int, ...], dtype, shared: bool = False) -> np.ndarray:
+    """A zeroed array in anonymous memory, shared with forked workers if ``shared``.
+
+    The pages are mapped up front (MAP_POPULATE where the platform has it): one
+    call instead of a page fault per 4 KB page, several times faster on first use
+    for the large sample store and work matrices. The mapping lives as long as the
+    array (numpy keeps it as the array's base).
+    """
     count = int(np.prod(shape))
     size = max(1, count * np.dtype(dtype).itemsize)
-    mem = mmap.mmap(-1, size)
-    return np.frombuffer(mem, dtype=dtype, count=count).reshape(shape), mem
+    flags = mmap.MAP_SHARED if shared else mmap.MAP_PRIVATE
+    populate = getattr(mmap, "MAP_POPULATE", 0)
+    anonymous = getattr(mmap, "MAP_ANONYMOUS", getattr(mmap, "MAP_ANON", 0))
+    try:
+        mem = mmap.mmap(-1, size, flags=flags | anonymous | populate)
+    except (OSError, ValueError, TypeError):
+        if not shared:
+            return np.zeros(shape, dtype=dtype)
+        mem = mmap.mmap(-1, size)
+    return np.frombuffer(mem, dtype=dtype, count=count).reshape(shape)
 
 
 # --------------------------------------------------------------------------- ranks
@@ -960,42 +984,28 @@ def simulate(
     common = dict(iterations=inp.iterations, seed=inp.seed, due=due, pert_mean=pert_mean,
                   distribution=_run_name(inp, distribution))
     count = _worker_count(workers, inp)
-    mems: list[mmap.mmap] = []
-    if count > 1:
-        arrays = []
-        for shape, dtype in (((inp.n, inp.iterations), np.float32),
-                             ((inp.iterations,), np.float64), ((inp.iterations,), np.float64)):
-            arr, mem = _shared(shape, dtype)
-            arrays.append(arr)
-            mems.append(mem)
-        store, project, centred = arrays
-        del arrays
-    else:
-        store = np.empty((inp.n, inp.iterations), dtype=np.float32)
-        project, centred = np.empty(inp.iterations), np.empty(inp.iterations)
+    store = _mapped((inp.n, inp.iterations), np.float32, shared=count > 1)
+    project = _mapped((inp.iterations,), float, shared=count > 1)
+    centred = _mapped((inp.iterations,), float, shared=count > 1)
     job = _Job(inp, _Passes(net, targets), store, project, centred, float(correlation))
+    runs = (False, True)[: 1 + correlated]
     results = []
-    try:
-        if count > 1:
-            import multiprocessing
+    if count > 1:
+        import multiprocessing
 
+        with _JOB_LOCK:
             _JOB = job
-            with multiprocessing.get_context("fork").Pool(count, _worker_start) as pool:
-                for correlate in (False, True)[: 1 + correlated]:
-                    counts, sens = _run_parallel(pool, job, correlate, tick)
-                    results.append((project.copy(), counts, sens))
-        else:
-            for correlate in (False, True)[: 1 + correlated]:
-                counts, sens = _run_serial(job, correlate, tick)
-                results.append((project.copy(), counts, sens))
-    finally:
-        _JOB = None
-        del job, store, project, centred
-        for mem in mems:
             try:
-                mem.close()
-            except BufferError:  # an array still refers to it; freed with that array
-                pass
+                with multiprocessing.get_context("fork").Pool(count, _worker_start) as pool:
+                    for correlate in runs:
+                        counts, sens = _run_parallel(pool, job, correlate, tick)
+                        results.append((project.copy(), counts, sens))
+            finally:
+                _JOB = None
+    else:
+        for correlate in runs:
+            counts, sens = _run_serial(job, correlate, tick)
+            results.append((project.copy(), counts, sens))
     first = _summary(*results[0], correlation=0.0, **common)
     if not correlated:
         return first

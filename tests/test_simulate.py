@@ -76,6 +76,19 @@ def test_beta_cheng_few_draws_per_row():
     assert stats.kstest(x, stats.beta(1.6, 4.4).cdf).pvalue > 0.001
 
 
+def test_beta_cheng_rows_short_of_accepted_draws_are_completed():
+    # no spare candidates: almost every row needs the top-up path; scipy.stats.beta by KS
+    a, b = 1.3, 4.7
+    big = a + b
+    scale = math.sqrt((big - 2) / (2 * a * b - big))  # Cheng (1978), algorithm BB set-up
+    params = tuple(np.full((4, 1), v, dtype=np.float32) for v in (a, b, big, scale,
+                                                                  a + 1 / scale))
+    with np.errstate(divide="ignore"):
+        x = sim._cheng_accepted(np.random.default_rng(7), params, 4, 50_000, extra=0)
+    assert x.shape == (4, 50_000)
+    assert stats.kstest(x.reshape(-1), stats.beta(a, b).cdf).pvalue > 0.001
+
+
 @pytest.mark.parametrize("o,m,p", ESTIMATES)
 def test_triangular_sampler_matches_scipy(o, m, p):
     # scipy.stats.triang(c = (M - O)/(P - O), loc = O, scale = P - O), KS at n = 200,000
@@ -279,6 +292,13 @@ def test_induced_rank_correlation():
     # the re-ordering keeps each activity's draws: same sorted values as the independent run
     x0 = sim.draw_samples(o, m, p, groups=groups, correlation=0.0, iterations=count, seed=12)
     np.testing.assert_array_equal(np.sort(x, axis=1), np.sort(x0, axis=1))
+
+
+def test_correlation_with_more_group_members_than_draws():
+    # 6 members, 4 draws: the scores' own correlation matrix is singular (no correction)
+    x = np.random.default_rng(3).random((6, 4))
+    y = sim.induce_rank_correlation(np.random.default_rng(4), x, 0.5)
+    np.testing.assert_array_equal(np.sort(y, axis=1), np.sort(x, axis=1))
 
 
 def test_full_correlation_gives_equal_ranks():

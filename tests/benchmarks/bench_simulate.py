@@ -14,7 +14,7 @@ Each case runs in a fresh interpreter so that peak memory (ru_maxrss) is its own
 Peak memory is reported three ways: the parent's peak resident set, the largest
 worker's (both ru_maxrss), and the peak of all processes together: their private
 resident memory plus the growth of shared memory (the sample store the workers share,
-counted once), polled every 50 ms.
+counted once), polled every 0.2 s.
 """
 
 from __future__ import annotations
@@ -95,7 +95,7 @@ class PeakMemory:
     its children plus the growth of the system's shared memory (the shared sample
     store, counted once), polled in a thread."""
 
-    def __init__(self, interval: float = 0.05):
+    def __init__(self, interval: float = 0.2):
         self.interval, self.peak_kb, self._stop = interval, 0, threading.Event()
         self._thread = threading.Thread(target=self._run, daemon=True)
         self._shmem0 = _shmem_kb()
