@@ -19,7 +19,7 @@ from scipy import integrate, stats
 
 from converter import simulate as sim
 from converter.model import FF, FS, SF, SS
-from converter.network import backward_pass, build_network, forward_pass, schedule
+from converter.network import build_network, schedule
 
 # --------------------------------------------------------------------------- helpers
 
@@ -392,26 +392,6 @@ def test_typed_links_give_direct_computation():
     direct = np.max([ef0, ef1, ef2, ef3, ef4], axis=0)
     np.testing.assert_allclose(r.durations, direct, rtol=0, atol=1e-12)
     assert r.target_p == {}
-
-
-def test_fast_passes_equal_network_passes():
-    # the simulation's slot form of the passes against network.forward_pass/backward_pass
-    rng = np.random.default_rng(18)
-    for trial in range(40):
-        n = int(rng.integers(1, 40))
-        net = random_typed_network(rng, n, typed=bool(trial % 2))
-        d = np.round(rng.random((n, 5)) * 10, 1) - (3.0 if trial % 3 == 0 else 0.0)
-        es, ef = forward_pass(net, d)
-        ls, lf = backward_pass(net, d, ef.max(axis=0))
-        plan = sim._plan(net)
-        x, y = np.empty((2 * n, 5)), np.empty((2 * n, 5))
-        nonneg = bool(d.min() >= 0)
-        sim._forward(plan, d, x, nonneg)
-        sim._backward(plan, d, x[n:].max(axis=0), y, nonneg)
-        np.testing.assert_array_equal(x[:n], es)
-        np.testing.assert_array_equal(x[n:], ef)
-        np.testing.assert_array_equal(y[:n], ls)
-        np.testing.assert_array_equal(y[n:], lf)
 
 
 def random_typed_network(rng, n, typed=True):
