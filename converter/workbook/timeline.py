@@ -79,7 +79,13 @@ def write_timeline(wb, fmt, a, lay: Layout) -> None:
     chart.set_x_axis({"name": f"Time ({a.schedule.settings.time_unit}) from the start",
                       "min": 0,
                       "major_gridlines": {"visible": True, "line": {"color": "#E3E3E3"}}})
-    chart.set_legend({"position": "bottom", "delete_series": [0]})
+    chart.set_legend({"none": True})  # a key in cells instead: viewers drop legend entries
+    key = [("Critical", PALETTE["ink"], "#FFFFFF"), ("Not critical", PALETTE["moss"], "#FFFFFF"),
+           ("Total float", PALETTE["amber"], "#000000")]
+    for k, (label, fill, ink) in enumerate(key):
+        ws.merge_range(2, 6 + 2 * k, 2, 7 + 2 * k, label,
+                       wb.add_format({"bg_color": fill, "font_color": ink, "bold": True,
+                                      "align": "center"}))
     height = max(320, 18 * len(rows) + 120)
     chart.set_size({"width": 900, "height": min(height, 4000)})
     ws.insert_chart(top, 6, chart)
