@@ -441,3 +441,33 @@ def test_convert_with_simulation(tmp_path, capsys):
     data = json.loads((tmp_path / "sim.analysis.json").read_text(encoding="utf-8"))
     assert data["simulation"]["iterations"] == 500
     assert "Simulation" in openpyxl.load_workbook(tmp_path / "sim.analysis.xlsx").sheetnames
+
+
+def test_template_command_writes_once_and_never_overwrites(tmp_path, capsys):
+    out = tmp_path / "plan.xlsx"
+    code, _, _ = main(capsys, "template", str(out))
+    assert code == 0 and out.exists()
+    before = out.read_bytes()
+    code, _, err = main(capsys, "template", str(out))  # a second call must not replace it
+    assert code == 2 and "not overwritten" in err
+    assert out.read_bytes() == before
+    wb = openpyxl.load_workbook(out)
+    assert {"Activities", "Settings"} <= set(wb.sheetnames)
+    code, _, _ = main(capsys, "template", str(tmp_path / "plan.csv"))
+    assert code == 2
+
+
+def test_same_stem_inputs_keep_both_results(tmp_path, capsys):
+    xlsx = tmp_path / "plan.xlsx"
+    csv = tmp_path / "plan.csv"
+    rows = [["ID", "Predecessors", "Optimistic", "Most likely", "Pessimistic"],
+            ["A", "", 1, 2, 3], ["B", "A", 2, 3, 5]]
+    wb = openpyxl.Workbook()
+    for r in rows:
+        wb.active.append(r)
+    wb.save(xlsx)
+    csv.write_text("\n".join(",".join(str(v) for v in r) for r in rows) + "\n")
+    code, _, _ = main(capsys, "convert", str(xlsx), str(csv), "--no-simulation")
+    assert code == 0
+    assert (tmp_path / "plan.analysis.xlsx").exists()
+    assert (tmp_path / "plan-csv.analysis.xlsx").exists()
