@@ -58,7 +58,7 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
     c = lay.cols
     for key, col in c.items():
         ws.write_string(FIRST - 1, col, HEADERS[key], fmt.header)
-    ws.set_row(FIRST - 1, 45)
+    ws.set_row(FIRST - 1, 60)
     ws.freeze_panes(FIRST, 2)
     ws.set_column(c["id"], c["id"], 10)
     ws.set_column(c["name"], c["name"], 34)
@@ -118,7 +118,7 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
         ws.write_formula(r, c["ff"], ff_formula, fmt.num, float(cpm.free_float[i]))
         crit = "Yes" if cpm.critical[i] else "No"
         ws.write_formula(r, c["crit"], f.is_critical(lay.cell(i, "tf")),
-                         fmt.critical if cpm.critical[i] else fmt.text, crit)
+                         fmt.critical if cpm.critical[i] else fmt.center, crit)
         if cal is not None:
             for key, src, fn, pyfn in (
                 ("es_date", "es", cal.start_date_formula, cal.start_date),
@@ -190,7 +190,8 @@ def write_links(wb, fmt, a, lay: Layout) -> None:
                                            lag, lay.cell(p, "te", True)),
                          fmt.num, float(a.link_pull[k]))
         driving = bool(np.abs(cpm.link_slack[k]) <= tol)
-        ws.write_formula(r, 7, f.is_critical(f.ref(r, 5)), fmt.text, "Yes" if driving else "No")
+        ws.write_formula(r, 7, f.is_critical(f.ref(r, 5)), fmt.center,
+                         "Yes" if driving else "No")
     if net.link_count:
         ws.autofilter(FIRST - 1, 0, FIRST + net.link_count - 1, len(LINK_HEADERS) - 1)
     else:

@@ -23,7 +23,7 @@ def write_paths(wb, fmt, a, lay: Layout) -> None:
                     "skip it.", fmt.subtitle)
     for col, h in enumerate(SUMMARY_HEADERS):
         ws.write_string(FIRST - 1, col, h, fmt.header)
-    ws.set_row(FIRST - 1, 32)
+    ws.set_row(FIRST - 1, 45)
     ws.set_column(0, 0, 8)
     ws.set_column(1, 7, 13)
     ws.set_column(8, 8, 80)
@@ -75,7 +75,7 @@ def write_paths(wb, fmt, a, lay: Layout) -> None:
                 ws.write_string(row, 6, flag, fmt.flag if n in riskier else fmt.text)
         else:
             ws.write_string(row, 4, "no due date")
-        ws.write_number(row, 7, len(path.activities), fmt.int)
+        ws.write_number(row, 7, len(path.activities), fmt.int_center)
         route = " > ".join(a.ids[i] for i in path.activities)
         ws.write_string(row, 8, route[:32000])
     if a.tied_longest > 1:

@@ -45,4 +45,6 @@ class Formats:
         self.good = add({"font_color": PALETTE["moss"], "bold": True})
         self.caution = add({"text_wrap": True, "valign": "top", "font_color": PALETTE["clay"],
                             "italic": True})
-        self.critical = add({"bold": True, "font_color": PALETTE["ink"]})
+        self.critical = add({"bold": True, "font_color": PALETTE["ink"], "align": "center"})
+        self.center = add({"align": "center"})
+        self.int_center = add({"num_format": "0", "align": "center"})
