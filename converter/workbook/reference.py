@@ -3,46 +3,100 @@
 from __future__ import annotations
 
 import datetime as dt
+import re
 
 from ..model import LINK_TYPES
 from .activities import serial
+from .formulas import ref
 from .layout import HEALTH, INPUT, METHOD, SETTINGS, WARNINGS, Layout
 from .summary import CAUTION
 
 WEEKDAY_NAMES = ("Mon", "Tue", "Wed", "Thu", "Fri", "Sat", "Sun")
 
 
+_SHARE = re.compile(r"^<= (\d+)% of (activities|links)")
+_NONE = re.compile(r"^[01] ")
+
+#: Checks whose count the sheet can recount with COUNTIF over the tables.
+_COUNTED_ON_LINKS = {
+    "leads (negative lags)": ("lag", '"<0"'),
+    "lags (positive)": ("lag", '">0"'),
+}
+
+
+def _count_formula(c, a, lay: Layout) -> str | None:
+    """A COUNTIF that recounts the check from the Activities / Links tables, if it can."""
+    links = a.net.link_count
+    if c.name in _COUNTED_ON_LINKS and links:
+        key, crit = _COUNTED_ON_LINKS[c.name]
+        return f"=COUNTIF({lay.link_column(key)},{crit})"
+    if c.name == "links other than finish-to-start" and links:
+        col = lay.link_column("type")
+        return f'=COUNTA({col})-COUNTIF({col},"FS")'
+    dpu = a.calendar.days_per_unit if a.calendar else None
+    if dpu is None:
+        from ..analysis import _days_per_unit
+        st = a.schedule.settings
+        dpu = _days_per_unit(st.time_unit, st.working_days)
+    limit = f"(44+1E-9)/{dpu!r}"
+    if c.name == "high total float":
+        return f'=COUNTIF({lay.column("tf")},">"&{limit})'
+    if c.name == "high duration":
+        return f'=COUNTIF({lay.column("te")},">"&{limit})'
+    return None
+
+
 def write_health(wb, fmt, a, lay: Layout) -> None:
     ws = wb.add_worksheet(HEALTH)
     ws.write_string(0, 0, "Schedule health check: can the logic be trusted?", fmt.title)
     failed = sum(1 for c in a.checks if not c.passed)
-    ws.write_string(1, 0, f"{failed} of {len(a.checks)} checks failed. Counts are computed by "
-                    "pertbook from the links and estimates; each offender is listed so it can "
-                    "be looked up on the Activities or Links sheet.", fmt.subtitle)
-    heads = ["Group", "Check", "Threshold", "Count", "Percent", "Result", "Offending activities",
-             "Why it matters", "Source of the threshold"]
+    ws.write_string(1, 0, f"{failed} of {len(a.checks)} checks failed. Counts of link types, "
+                    "lags, long floats and long durations are COUNTIF formulas over the "
+                    "Activities and Links sheets; the others are counted by pertbook, with "
+                    "each offender listed so it can be looked up.", fmt.subtitle)
+    heads = ["Group", "Check", "Threshold", "Count", "Out of", "Percent", "Result",
+             "Offending activities", "Why it matters", "Source of the threshold"]
     for col, h in enumerate(heads):
         ws.write_string(3, col, h, fmt.header)
-    widths = [10, 34, 22, 8, 9, 8, 40, 50, 40]
+    widths = [10, 34, 22, 8, 8, 9, 8, 40, 50, 40]
     for col, w in enumerate(widths):
         ws.set_column(col, col, w)
+    n_act, n_links = len(a.ids), a.net.link_count
     for k, c in enumerate(a.checks):
         r = 4 + k
         ws.write_string(r, 0, c.group)
         ws.write_string(r, 1, c.name, fmt.wrap)
         ws.write_string(r, 2, c.threshold, fmt.wrap)
-        ws.write_number(r, 3, c.count, fmt.int)
-        if c.percent is not None:
-            ws.write_number(r, 4, c.percent / 100.0, fmt.prob)
-        ws.write_string(r, 5, "pass" if c.passed else "FAIL", fmt.good if c.passed else fmt.flag)
+        formula = _count_formula(c, a, lay)
+        if formula:
+            ws.write_formula(r, 3, formula, fmt.int, c.count)
+        else:
+            ws.write_number(r, 3, c.count, fmt.int)
+        share = _SHARE.match(c.threshold)
+        base = None
+        if share or c.percent is not None:
+            on_links = (share.group(2) == "links") if share else "link" in c.threshold
+            base = n_links if on_links else n_act
+            ws.write_number(r, 4, base, fmt.int)
+        if c.percent is not None and base:
+            ws.write_formula(r, 5, f"={ref(r, 3)}/{ref(r, 4)}", fmt.prob, c.percent / 100.0)
+        verdict = "pass" if c.passed else "FAIL"
+        style = fmt.good if c.passed else fmt.flag
+        if share and base is not None:
+            ws.write_formula(r, 6, f'=IF({ref(r, 3)}*100<={share.group(1)}*{ref(r, 4)},'
+                             f'"pass","FAIL")', style, verdict)
+        elif _NONE.match(c.threshold):
+            ws.write_formula(r, 6, f'=IF({ref(r, 3)}<=0,"pass","FAIL")', style, verdict)
+        else:
+            ws.write_string(r, 6, verdict, style)
         shown = ", ".join(c.activities[:200])
         if len(c.activities) > 200:
             shown += f", ... ({len(c.activities)} in all)"
         if c.detail:
             shown = (shown + " " if shown else "") + f"({c.detail})"
-        ws.write_string(r, 6, shown, fmt.wrap)
-        ws.write_string(r, 7, c.matters, fmt.wrap)
-        ws.write_string(r, 8, c.source, fmt.wrap)
+        ws.write_string(r, 7, shown, fmt.wrap)
+        ws.write_string(r, 8, c.matters, fmt.wrap)
+        ws.write_string(r, 9, c.source, fmt.wrap)
     ws.freeze_panes(4, 2)
 
 
