@@ -391,8 +391,8 @@ def _read_estimates(row, cols, r, sheet, ident, out: _Collector):
     values: dict[str, float | None] = {}
     bad = False
     for key in ("optimistic", "most_likely", "pessimistic"):
-        c = cols[key]
-        raw = row[c] if c < len(row) else None
+        c = cols.get(key)
+        raw = row[c] if c is not None and c < len(row) else None
         if is_blank(raw):
             values[key] = None
             continue
@@ -424,8 +424,8 @@ def _read_estimates(row, cols, r, sheet, ident, out: _Collector):
                   ident, fix="Fill in the Most likely estimate.")
         return None
     if o is None and p is None:
-        if m == 0:
-            return 0.0, 0.0, 0.0, True  # a milestone
+        if m == 0 or "optimistic" not in cols:  # a milestone / a sheet of fixed durations
+            return m, m, m, True
         out.warn("deterministic", f"only a most likely value ({m:g}) is given: treated as a "
                  "fixed duration (O = M = P)", sheet, m_cell, ident)
         return m, m, m, True
@@ -471,7 +471,10 @@ def validate(raw: RawInput, options=None) -> tuple[Schedule | None, list[Problem
     settings, setting_problems = resolve_settings(raw.settings, options)
     out.problems.extend(setting_problems)
     match = raw.activity
-    if match is None or any(k not in match.columns for k in REQUIRED_ACTIVITY):
+    spread_cols = {"optimistic", "pessimistic"} & set(match.columns if match else ())
+    fixed_only = match is not None and not spread_cols
+    if match is None or any(k not in match.columns for k in REQUIRED_ACTIVITY
+                            if not (fixed_only and k in ("optimistic", "pessimistic"))):
         sheet = match.sheet if match else next((s for s in raw.sheets if not s.empty),
                                                raw.sheets[0])
         found = match.headers if match else _first_nonblank_row(sheet)
@@ -496,6 +499,11 @@ def validate(raw: RawInput, options=None) -> tuple[Schedule | None, list[Problem
 
     sheet = match.sheet.name
     cols = match.columns
+    if fixed_only:
+        out.warn("fixed-durations", "no Optimistic or Pessimistic column: every duration is "
+                 "fixed at its Most likely value, so the chances shown carry no spread",
+                 sheet, cell_name(match.header_row, cols["most_likely"]),
+                 fix="Add Optimistic and Pessimistic columns for a risk analysis.")
     activities: list[Activity] = []
     pred_cells: list[tuple[int, object]] = []  # (row index, predecessor cell value)
     first_row_of: dict[str, int] = {}

@@ -588,3 +588,22 @@ def test_good_input_has_no_problems(tmp_path):
     assert problems == []
     assert [(lk.pred, lk.succ) for lk in schedule.links] == [
         ("A", "B"), ("A", "C"), ("B", "D"), ("C", "D")]
+
+
+def test_sheet_of_fixed_durations_needs_no_spread_columns(tmp_path):
+    # Only ID, Predecessors and Most likely: every duration fixed (O = M = P), one warning
+    # at the header instead of one per row (common practice for a deterministic schedule).
+    rows = [["ID", "Predecessors", "Most likely"], ["A", None, 5], ["B", "A", 3]]
+    schedule, problems = run(write_xlsx(tmp_path / "fixed.xlsx", {"Activities": rows}))
+    assert schedule is not None
+    assert [(p.severity, p.code, p.cell) for p in problems] == [
+        ("warning", "fixed-durations", "C1")]
+    assert [(a.optimistic, a.most_likely, a.pessimistic) for a in schedule.activities] == [
+        (5, 5, 5), (3, 3, 3)]
+
+
+def test_one_spread_column_without_the_other_is_missing(tmp_path):
+    rows = [["ID", "Predecessors", "Optimistic", "Most likely"], ["A", None, 1, 2]]
+    _, problems = run(write_xlsx(tmp_path / "half.xlsx", {"Activities": rows}))
+    (p,) = problems
+    assert p.code == "missing-column" and "Pessimistic" in p.message
