@@ -33,6 +33,10 @@ def write_timeline(wb, fmt, a, lay: Layout) -> None:
     ws.write_string(0, 0, "Timeline: early start to early finish, then total float", fmt.title)
     note = ("Dark bars: critical activities; green bars: the others; amber: total float "
             "(how far the activity can slip without moving the finish).")
+    milestones = [a.ids[i] for i in rows if a.te[i] == 0]
+    if milestones:
+        shown = ", ".join(milestones[:10]) + (" ..." if len(milestones) > 10 else "")
+        note += f" Milestones (zero duration, no bar): {shown}."
     if cut:
         note += (f" The schedule has {len(a.ids):,} activities: only the {len(rows)} on the "
                  "listed near-critical paths or with the least float are charted.")
