@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import os
 import sys
 from pathlib import Path
 
@@ -11,7 +12,15 @@ TESTS = Path(__file__).resolve().parent
 if str(TESTS) not in sys.path:  # helper modules (recalc, psplib) import as top-level names
     sys.path.insert(0, str(TESTS))
 
+from hypothesis import settings  # noqa: E402
 from recalc import soffice_path  # noqa: E402
+
+# CI runs the property tests on a fixed sequence of examples (reproducible, no flakes from
+# a new random draw); locally they explore afresh each run. No deadlines: the machine is
+# shared and timing is not what these tests check.
+settings.register_profile("ci", derandomize=True, deadline=None, print_blob=True)
+settings.register_profile("dev", deadline=None)
+settings.load_profile("ci" if os.environ.get("CI") else "dev")
 
 
 @pytest.fixture(scope="session")
