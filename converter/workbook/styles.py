@@ -34,6 +34,7 @@ class Formats:
         self.num = add({"num_format": NUMBER_FORMAT})
         self.num4 = add({"num_format": "0.0000"})
         self.int = add({"num_format": "0"})
+        self.sci = add({"num_format": "0.0E+00"})
         self.prob = add({"num_format": PROB_FORMAT})
         self.prob2 = add({"num_format": "0.00%"})
         self.date = add({"num_format": DATE_FORMAT})

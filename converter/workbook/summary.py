@@ -86,7 +86,7 @@ def write_summary(wb, fmt, a, lay: Layout) -> None:
         r, 1, "=SQRT(ProjectVariance)", fmt.big, a.project_sd))
     wb.define_name("ProjectSD", _abs(row))
     row = line("Float tolerance (counts as zero)", lambda r: ws.write_formula(
-        r, 1, "=1E-9*MAX(1,ABS(ProjectFinish))", fmt.num4, 1e-9 * max(1.0, abs(a.project_mean))))
+        r, 1, "=1E-9*MAX(1,ABS(ProjectFinish))", fmt.sci, 1e-9 * max(1.0, abs(a.project_mean))))
     wb.define_name("FloatTolerance", _abs(row))
 
     if a.due is not None:
@@ -173,6 +173,12 @@ def _write_simulated(ws, fmt, a, start: int) -> None:
         for q in (0.8, 0.9):
             rows.append((f"Simulated P{int(q * 100)}", sim.percentile(q), fmt.num))
         rows.append(("Merge bias (simulated mean - PERT mean)", sim.merge_bias, fmt.num))
+    else:
+        ws.write_string(r, 0, "Simulated view", fmt.label)
+        ws.write_string(r, 1, "not run")
+        ws.write_string(r, 3, "Converted with --no-simulation: only the single-path view "
+                        "above, which understates the finish where parallel paths merge.",
+                        fmt.wrap)
     r += 1
     for label, value, style in rows:
         ws.write_string(r, 0, label, style if style is fmt.flag else fmt.label)
