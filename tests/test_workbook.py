@@ -905,3 +905,28 @@ def test_edge_calendar_and_zero_spread_by_hand(made):
                                      else 0.0)
     summary = zero.wb(data_only=True)["Summary"]
     assert label_cell(summary, "z =").value == "n/a"
+
+
+def test_very_wide_merge_uses_a_conditional_formula_that_recalculates(tmp_path, soffice):
+    # An activity with 900 typed predecessors: MAX over 900 link cells would pass Excel's
+    # 8,192-character formula limit (Excel specifications and limits, from memory), so the
+    # early start falls back to MAXIFS over the Links table; LibreOffice must agree.
+    from converter.api import ConvertOptions, convert
+
+    n = 900
+    rows = [["ID", "Predecessors", "Optimistic", "Most likely", "Pessimistic"]]
+    rows += [[f"P{i}", None, 1, 2 + i % 7, 9] for i in range(n)]
+    rows.append(["FANIN", ", ".join(f"P{i}[SS+1]" for i in range(n)), 1, 1, 2])
+    rows.append(["OUT", "FANIN", 1, 2, 3])
+    src = write_xlsx(tmp_path / "fan.xlsx", {"Activities": rows})
+    result = convert(src, ConvertOptions(iterations=200), outdir=tmp_path)
+    assert result.ok
+    ws = openpyxl.load_workbook(result.workbook)["Activities"]
+    es = ws.cell(5 + n, 9).value  # FANIN's early start (row 5 + 900, column I)
+    assert es.startswith("=MAX(0,_xlfn.MAXIFS(Links!"), es
+    assert all(len(c.value) <= 8192 for row in ws.iter_rows() for c in row
+               if isinstance(c.value, str) and c.value.startswith("="))
+    report = compare_recalculated(result.workbook, recalculate(result.workbook, tmp_path / "re",
+                                                               soffice=soffice))
+    assert report.compared > 5000
+    assert not report, report[:5]

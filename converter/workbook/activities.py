@@ -91,8 +91,8 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
                   else lay.link_cell(k, "push") for k in incoming[i]]
         es_formula = f.early_start(pushes)
         if not f.fits(es_formula):
-            es_formula = (f"=MAX(0,{f.MAXIFS}({lay.link_column('push')},{lay.link_column('to')},"
-                          f"{lay.cell(i, 'id')}))")
+            es_formula = f.over_links("MAX", "0", f.MAXIFS, lay.link_column("push"),
+                                      lay.link_column("to"), lay.cell(i, "id"))
         ws.write_formula(r, c["es"], es_formula, fmt.num, float(cpm.es[i]))
         ws.write_formula(r, c["ef"], f.plus(lay.cell(i, "es"), lay.cell(i, "te")), fmt.num,
                          float(cpm.ef[i]))
@@ -100,8 +100,8 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
                  else lay.link_cell(k, "pull") for k in outgoing[i]]
         lf_formula = f.late_finish(pulls)
         if not f.fits(lf_formula):
-            lf_formula = (f"=MIN(ProjectFinish,{f.MINIFS}({lay.link_column('pull')},"
-                          f"{lay.link_column('from')},{lay.cell(i, 'id')}))")
+            lf_formula = f.over_links("MIN", "ProjectFinish", f.MINIFS, lay.link_column("pull"),
+                                      lay.link_column("from"), lay.cell(i, "id"))
         ws.write_formula(r, c["lf"], lf_formula, fmt.num, float(cpm.lf[i]))
         ws.write_formula(r, c["ls"], f.minus(lay.cell(i, "lf"), lay.cell(i, "te")), fmt.num,
                          float(cpm.ls[i]))
@@ -112,9 +112,9 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
                   for k in outgoing[i]]
         ff_formula = f.free_float(lay.cell(i, "ef"), slacks)
         if not f.fits(ff_formula):
-            ff_formula = (f"=MIN(ProjectFinish-{lay.cell(i, 'ef')},{f.MINIFS}("
-                          f"{lay.link_column('slack')},{lay.link_column('from')},"
-                          f"{lay.cell(i, 'id')}))")
+            ff_formula = f.over_links("MIN", f"ProjectFinish-{lay.cell(i, 'ef')}", f.MINIFS,
+                                      lay.link_column("slack"), lay.link_column("from"),
+                                      lay.cell(i, "id"))
         ws.write_formula(r, c["ff"], ff_formula, fmt.num, float(cpm.free_float[i]))
         crit = "Yes" if cpm.critical[i] else "No"
         ws.write_formula(r, c["crit"], f.is_critical(lay.cell(i, "tf")),

@@ -118,5 +118,12 @@ def path_variance(coef: str, var: str) -> str:
     return f"=SUMPRODUCT({coef},{coef},{var})"
 
 
+def over_links(outer: str, first: str, conditional: str, values: str, keys: str,
+               key: str) -> str:
+    """The same MAX/MIN as a conditional aggregate over the Links table, for an activity
+    with so many links that the plain formula would pass the length limit."""
+    return f"={outer}({first},{conditional}({values},{keys},{key}))"
+
+
 def fits(formula: str) -> bool:
     return len(formula) <= FORMULA_LIMIT
