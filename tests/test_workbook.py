@@ -916,13 +916,16 @@ def test_very_wide_merge_uses_a_conditional_formula_that_recalculates(tmp_path, 
     n = 900
     rows = [["ID", "Predecessors", "Optimistic", "Most likely", "Pessimistic"]]
     rows += [[f"P{i}", None, 1, 2 + i % 7, 9] for i in range(n)]
-    rows.append(["FANIN", ", ".join(f"P{i}[SS+1]" for i in range(n)), 1, 1, 2])
-    rows.append(["OUT", "FANIN", 1, 2, 3])
+    # an ID with spreadsheet wildcards, and a decoy the wildcards would match: the criterion
+    # must match the ID exactly
+    rows.append(["FAN*IN?", ", ".join(f"P{i}[SS+1]" for i in range(n)), 1, 1, 2])
+    rows.append(["FANxINy", "P3[FS+40]", 1, 1, 2])
+    rows.append(["OUT", "FAN*IN?, FANxINy", 1, 2, 3])
     src = write_xlsx(tmp_path / "fan.xlsx", {"Activities": rows})
     result = convert(src, ConvertOptions(iterations=200), outdir=tmp_path)
     assert result.ok
     ws = openpyxl.load_workbook(result.workbook)["Activities"]
-    es = ws.cell(5 + n, 9).value  # FANIN's early start (row 5 + 900, column I)
+    es = ws.cell(5 + n, 9).value  # FAN*IN?'s early start (row 5 + 900, column I)
     assert es.startswith("=MAX(0,_xlfn.MAXIFS(Links!"), es
     assert all(len(c.value) <= 8192 for row in ws.iter_rows() for c in row
                if isinstance(c.value, str) and c.value.startswith("="))

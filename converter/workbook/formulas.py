@@ -121,8 +121,10 @@ def path_variance(coef: str, var: str) -> str:
 def over_links(outer: str, first: str, conditional: str, values: str, keys: str,
                key: str) -> str:
     """The same MAX/MIN as a conditional aggregate over the Links table, for an activity
-    with so many links that the plain formula would pass the length limit."""
-    return f"={outer}({first},{conditional}({values},{keys},{key}))"
+    with so many links that the plain formula would pass the length limit. The ID is
+    matched exactly: ``=`` in front, and the wildcards ``* ? ~`` escaped."""
+    exact = f'"="&SUBSTITUTE(SUBSTITUTE(SUBSTITUTE({key},"~","~~"),"*","~*"),"?","~?")'
+    return f"={outer}({first},{conditional}({values},{keys},{exact}))"
 
 
 def fits(formula: str) -> bool:
