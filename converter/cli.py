@@ -206,6 +206,11 @@ def cmd_convert(args) -> int:
                 code = EXIT_INVALID
                 n = sum(1 for p in result.problems if p.severity == ERROR)
                 sys.stderr.write(f"{name}: invalid input ({n} problem(s)); no workbook written\n")
+        except OSError as exc:  # the output folder or disk, not the schedule
+            code = EXIT_FAULT
+            sys.stderr.write(f"{name}: cannot write the results: {exc}\n")
+            if args.debug:
+                traceback.print_exc()
         except (PertbookError, Exception) as exc:  # noqa: BLE001 - the tool's own fault
             code = EXIT_FAULT
             sys.stderr.write(f"{name}: internal error: {type(exc).__name__}: {exc}\n")

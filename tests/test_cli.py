@@ -471,3 +471,14 @@ def test_same_stem_inputs_keep_both_results(tmp_path, capsys):
     assert code == 0
     assert (tmp_path / "plan.analysis.xlsx").exists()
     assert (tmp_path / "plan-csv.analysis.xlsx").exists()
+
+
+def test_unwritable_output_folder_is_a_clear_message_not_a_traceback(tmp_path, capsys):
+    src = tmp_path / "plan.csv"
+    src.write_text("ID,Predecessors,Optimistic,Most likely,Pessimistic\nA,,1,2,3\n")
+    blocker = tmp_path / "out"
+    blocker.write_text("a file where the output folder should be")
+    code, _, err = main(capsys, "convert", str(src), "--outdir", str(blocker), "--no-simulation")
+    assert code == 1
+    assert "cannot write the results" in err and "Traceback" not in err
+    assert blocker.read_text() == "a file where the output folder should be"
