@@ -1,7 +1,8 @@
 """Files -> sheets of raw values with their places; header matching.
 
 Workbooks (.xlsx .xlsm .xls .ods) are read with pandas' ``calamine`` engine
-(python-calamine); .csv with pandas' CSV reader as text. Values keep their sheet
+(python-calamine); .csv with the standard csv module as text (ragged rows and title
+lines above the header are common in exported CSV files). Values keep their sheet
 position (row 0 = sheet row 1, column 0 = column A) so every problem can name its cell.
 The reader only reads: it never writes to or moves the input.
 """
