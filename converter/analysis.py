@@ -15,7 +15,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from . import pert
-from .calendar import Calendar
+from .calendar import Calendar, days_per_unit
 from .checks import Check, run_checks
 from .model import Schedule
 from .network import CpmResult, Network, build_network, driving_push, link_pull
@@ -80,6 +80,7 @@ class Analysis:
     finish_table: list[tuple[float, float, float | None]] = field(default_factory=list)
     confidence_table: list[tuple[float, float, float | None]] = field(default_factory=list)
     histogram: tuple[np.ndarray, np.ndarray] | None = None  # (bin upper edges, counts)
+    days_per_unit: float = 1.0  # working days in one schedule unit (health thresholds)
 
     @property
     def project_sd(self) -> float:
@@ -215,9 +216,8 @@ def analyse(schedule: Schedule, options=None) -> Analysis:
         for t in targets:
             t.p_simulated = simulation.target_p.get(t.activity)
 
-    days_per_unit = calendar.days_per_unit if calendar else _days_per_unit(s.time_unit,
-                                                                         s.working_days)
-    checks = run_checks(ids, o, m, p, net, cpm, days_per_unit=days_per_unit)
+    unit_days = days_per_unit(s.time_unit, s.working_days)
+    checks = run_checks(ids, o, m, p, net, cpm, days_per_unit=unit_days)
     finish_table = _finish_table(project_mean, sd, simulation)
     levels = sorted({round(x, 4) for x in (0.05, *np.arange(0.1, 0.91, 0.1), 0.95)}
                     | set(s.confidence_levels))
@@ -229,6 +229,7 @@ def analyse(schedule: Schedule, options=None) -> Analysis:
     histogram = _histogram(simulation.durations) if simulation is not None else None
     return Analysis(
         finish_table=finish_table, confidence_table=confidence_table, histogram=histogram,
+        days_per_unit=unit_days,
         schedule=schedule, net=net, ids=ids, o=o, m=m, p=p, te=te, var=var, cpm=cpm,
         paths=path_results, project_mean=project_mean, project_variance=project_variance,
         due=due, due_date=due_date, z=z, p_meet_due=p_due, confidence=confidence,
@@ -237,14 +238,6 @@ def analyse(schedule: Schedule, options=None) -> Analysis:
         link_push=driving_push(net, cpm.es, cpm.ef, te),
         link_pull=link_pull(net, cpm.ls, cpm.lf, te),
     )
-
-
-def _days_per_unit(unit: str, working_days: tuple[int, ...]) -> float:
-    if unit == "weeks":
-        return float(len(working_days))
-    if unit == "calendar days":
-        return len(working_days) / 7.0
-    return 1.0
 
 
 def nice_step(span: float, rows: int = 25) -> float:

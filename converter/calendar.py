@@ -51,6 +51,17 @@ DECIMALS = 9
 _ONE_DAY = np.timedelta64(1, "D")
 
 
+def days_per_unit(unit: str, working_days: tuple[int, ...]) -> float:
+    """Working days in one unit of a schedule (also without a start date): 1 for working
+    days, the number of working weekdays for weeks, ``len(working_days) / 7`` for
+    calendar days."""
+    if unit == "weeks":
+        return float(len(working_days))
+    if unit == "calendar days":
+        return len(working_days) / 7.0
+    return 1.0
+
+
 def _round_half_away(x: np.ndarray, decimals: int) -> np.ndarray:
     """Round halves away from zero, as the spreadsheet ROUND does (numpy rounds half to even)."""
     scale = 10.0**decimals
@@ -108,11 +119,7 @@ class Calendar:
         days the average share of working weekdays, ``len(working_days) / 7``
         (5/7 for Monday to Friday; holidays are not counted in).
         """
-        if self.unit == "weeks":
-            return float(len(self.working_days))
-        if self.unit == "calendar days":
-            return len(self.working_days) / 7.0
-        return 1.0
+        return days_per_unit(self.unit, self.working_days)
 
     @property
     def _steps_per_unit(self) -> float:

@@ -33,12 +33,7 @@ def _count_formula(c, a, lay: Layout) -> str | None:
     if c.name == "links other than finish-to-start" and links:
         col = lay.link_column("type")
         return f'=COUNTA({col})-COUNTIF({col},"FS")'
-    dpu = a.calendar.days_per_unit if a.calendar else None
-    if dpu is None:
-        from ..analysis import _days_per_unit
-        st = a.schedule.settings
-        dpu = _days_per_unit(st.time_unit, st.working_days)
-    limit = f"(44+1E-9)/{dpu!r}"
+    limit = f"(44+1E-9)/{a.days_per_unit!r}"
     if c.name == "high total float":
         return f'=COUNTIF({lay.column("tf")},">"&{limit})'
     if c.name == "high duration":
