@@ -85,9 +85,11 @@ def write_simulation(wb, fmt, a, lay: Layout) -> None:
         r += 1
     ws.write_string(r, 0, "Merge bias = simulated mean - PERT mean", fmt.label)
     ws.write_formula(r, 1, f"=B{mean_row + 1}-ProjectMean", fmt.num, float(sim.merge_bias))
-    ws.write_string(r, 3, "Positive where paths merge: the finish waits for the latest of "
-                    "several uncertain paths, and the mean of a maximum exceeds the largest mean.",
-                    fmt.subtitle)
+    r += 1
+    ws.merge_range(r, 0, r, 3, "Merge bias is positive where paths merge: the finish waits for "
+                   "the latest of several uncertain paths, and the mean of a maximum exceeds "
+                   "the largest mean.", fmt.wrap)
+    ws.set_row(r, 30)
     r += 2
     ws.write_string(r, 0, "Percentile", fmt.header)
     ws.write_string(r, 1, "Duration", fmt.header)
@@ -109,9 +111,11 @@ def _write_histogram(wb, ws, fmt, a, top: int) -> int:
     sim = a.simulation
     edges, counts = a.histogram
     ws.write_string(top, 0, "Histogram of simulated durations", fmt.title)
-    heads = ["Bin (up to)", "Iterations", "Share", "Cumulative share", "Due date bin"]
+    heads = ["Bin (up to)", "Iterations", "Share", "Cumulative share",
+             "Due date marker (chart)"]
     for col, h in enumerate(heads):
         ws.write_string(top + 1, col, h, fmt.header)
+    ws.set_row(top + 1, 30)
     first = top + 2
     total = float(counts.sum())
     width = float(edges[1] - edges[0]) if edges.size > 1 else 0.0
@@ -128,7 +132,8 @@ def _write_histogram(wb, ws, fmt, a, top: int) -> int:
         ws.write_formula(r, 2, f"=B{r + 1}/{int(total)}", fmt.prob2, n / total)
         ws.write_formula(r, 3, f"=SUM($B${first + 1}:B{r + 1})/{int(total)}", fmt.prob2,
                          cumulative / total)
-        ws.write_number(r, 4, float(max(counts)) if k == due_bin else 0.0, fmt.int)
+        # the marker column stands a little above the tallest bar so it shows behind it
+        ws.write_number(r, 4, 1.1 * float(max(counts)) if k == due_bin else 0.0, fmt.int)
     last = first + len(edges) - 1
     chart = wb.add_chart({"type": "column"})
     if due_bin is not None:  # drawn first, full height behind the counts
