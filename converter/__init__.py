@@ -7,7 +7,7 @@ __all__ = ["__version__", "convert", "check", "ConvertOptions", "ConvertResult"]
 
 def __getattr__(name):
     if name in ("convert", "check", "ConvertOptions", "ConvertResult"):
-        from . import api
+        from converter import api
 
         return getattr(api, name)
     raise AttributeError(name)

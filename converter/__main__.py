@@ -1,5 +1,5 @@
 """``python -m converter`` runs the pertbook command line."""
 
-from .cli import main
+from converter.cli import main
 
 raise SystemExit(main())

@@ -11,7 +11,7 @@ import tempfile
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from .model import ERROR, Problem
+from converter.model import ERROR, Problem
 
 
 class PertbookError(Exception):
@@ -80,8 +80,8 @@ def _atomic_write(target: Path, write) -> None:
 
 def load(path: str | os.PathLike, options: ConvertOptions | None = None):
     """Read and validate: returns ``(schedule or None, problems)``."""
-    from .reader import read_input
-    from .validate import validate
+    from converter.read.sheets import read_input
+    from converter.validate.schedule import validate
 
     options = options or ConvertOptions()
     path = Path(path)
@@ -117,9 +117,9 @@ def convert(
     written for invalid input. With ``options.json`` the JSON summary is written
     (also for invalid input). The input file is only ever read.
     """
-    from .analysis import analyse
-    from .jsonout import build_json
-    from .workbook import write_workbook
+    from converter.analyse.analysis import analyse
+    from converter.write.json_summary import build_json
+    from converter.write.workbook import write_workbook
 
     options = options or ConvertOptions()
     path = Path(path)

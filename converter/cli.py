@@ -12,9 +12,9 @@ import time
 import traceback
 from pathlib import Path
 
-from . import __version__
-from .api import ConvertOptions, PertbookError, check, convert, output_paths
-from .model import DISTRIBUTIONS, ERROR
+from converter import __version__
+from converter.api import ConvertOptions, PertbookError, check, convert, output_paths
+from converter.model import DISTRIBUTIONS, ERROR
 
 EXIT_OK, EXIT_FAULT, EXIT_INVALID = 0, 1, 2
 #: A fault outranks invalid input, which outranks success, when several files are given.
@@ -109,7 +109,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("output", metavar="OUT.xlsx")
     p.add_argument("--force", action="store_true", help="replace OUT.xlsx if it exists")
 
-    from .watch import add_watch_arguments
+    from converter.drop.watcher import add_watch_arguments
 
     p = sub.add_parser("watch", help="convert every sheet dropped into FOLDER/inbox",
                        epilog=EPILOG_WATCH, formatter_class=argparse.RawDescriptionHelpFormatter)
@@ -243,7 +243,7 @@ def cmd_check(args) -> int:
 
 
 def cmd_template(args) -> int:
-    from .template import write_template
+    from converter.write.template import write_template
 
     out = Path(args.output)
     if out.exists() and not args.force:
@@ -269,7 +269,7 @@ def main(argv: list[str] | None = None) -> int:
         return cmd_check(args)
     if args.command == "template":
         return cmd_template(args)
-    from .watch import run_watch
+    from converter.drop.watcher import run_watch
 
     return run_watch(args)
 

@@ -1,4 +1,4 @@
-"""Tests for converter.calendar: offsets to dates and back.
+"""Tests for converter.analyse.calendar: offsets to dates and back.
 
 Outside references: numpy.busday_offset / busday_count / is_busday, Python's datetime
 (weekday of a date), and hand counts written beside each check. The formula strings are
@@ -18,7 +18,7 @@ import re
 import numpy as np
 import pytest
 
-from converter.calendar import Calendar
+from converter.analyse.calendar import Calendar
 from converter.model import Settings
 
 D = dt.date

@@ -1,4 +1,4 @@
-"""Tests for converter.checks: each check failed exactly once by a network built for it.
+"""Tests for converter.analyse.checks: each check failed exactly once by a network built for it.
 
 Outside references: the thresholds of the US Defense Contract Management Agency
 14-Point Schedule Assessment (from memory: missing logic <= 5%, leads 0, lags <= 5%,
@@ -15,9 +15,9 @@ import networkx as nx
 import numpy as np
 import pytest
 
-from converter.checks import Check, redundant_links, run_checks
+from converter.analyse.checks import Check, redundant_links, run_checks
+from converter.analyse.network import build_network, schedule
 from converter.model import FF, FS, SF, SS
-from converter.network import build_network, schedule
 
 
 def _run(ids, links, est=None, days_per_unit=1.0):

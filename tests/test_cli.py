@@ -21,7 +21,6 @@ import zipfile
 
 import openpyxl
 import pytest
-from conftest import require_modules
 from helpers import (
     BAD_INPUTS,
     GOOD_ROWS,
@@ -233,9 +232,9 @@ def _boom(*args, **kwargs):
 
 
 def test_internal_fault_exit_1_short_message(tmp_path, capsys, monkeypatch):
-    import converter.analysis
+    import converter.analyse.analysis
 
-    monkeypatch.setattr(converter.analysis, "analyse", _boom)
+    monkeypatch.setattr(converter.analyse.analysis, "analyse", _boom)
     path = good_xlsx(tmp_path / "plan.xlsx")
     code, _, err = main(capsys, "convert", path, "--no-simulation")
     assert code == 1
@@ -246,9 +245,9 @@ def test_internal_fault_exit_1_short_message(tmp_path, capsys, monkeypatch):
 
 
 def test_internal_fault_with_debug_shows_traceback(tmp_path, capsys, monkeypatch):
-    import converter.analysis
+    import converter.analyse.analysis
 
-    monkeypatch.setattr(converter.analysis, "analyse", _boom)
+    monkeypatch.setattr(converter.analyse.analysis, "analyse", _boom)
     path = good_xlsx(tmp_path / "plan.xlsx")
     code, _, err = main(capsys, "--debug", "convert", path, "--no-simulation")
     assert code == 1
@@ -256,9 +255,9 @@ def test_internal_fault_with_debug_shows_traceback(tmp_path, capsys, monkeypatch
 
 
 def test_internal_fault_outranks_invalid_input(tmp_path, capsys, monkeypatch):
-    import converter.analysis
+    import converter.analyse.analysis
 
-    monkeypatch.setattr(converter.analysis, "analyse", _boom)
+    monkeypatch.setattr(converter.analyse.analysis, "analyse", _boom)
     bad, _ = build_bad("self-link", tmp_path)
     good = good_xlsx(tmp_path / "plan.xlsx")
     code, _, err = main(capsys, "convert", bad, good, "--no-simulation")
@@ -433,7 +432,6 @@ def test_bad_due_option_is_invalid_input_not_a_crash(tmp_path, capsys):
 
 # --------------------------------------------------------------------------- with simulation
 def test_convert_with_simulation(tmp_path, capsys):
-    require_modules("converter.simulate:simulate")
     path = good_xlsx(tmp_path / "sim.xlsx")
     code, _, err = main(capsys, "convert", path, "--json", "--iterations", "500",
                         "--seed", "3")

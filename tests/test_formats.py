@@ -21,7 +21,6 @@ from pathlib import Path
 
 import openpyxl
 import pytest
-from conftest import require_modules
 from helpers import write_csv, write_xlsx
 
 SEED = 97531
@@ -141,8 +140,6 @@ SAME = ("time_unit", "activity_count", "start_date", "calendar", "project", "act
 
 @pytest.fixture(scope="module")
 def converted(tmp_path_factory):
-    require_modules("converter.analysis", "converter.jsonout",
-                    "converter.workbook:write_workbook", "converter.simulate:simulate")
     from converter.api import ConvertOptions, convert
 
     root = tmp_path_factory.mktemp("formats")
@@ -209,8 +206,6 @@ PLAN = [["Plant room replacement: three-point estimates (working days)"], []] + 
 
 @pytest.mark.parametrize("fmt", ["xlsx", "xls", "ods"])
 def test_activity_sheet_found_by_its_headers_when_not_first(tmp_path, fmt):
-    require_modules("converter.analysis", "converter.jsonout",
-                    "converter.workbook:write_workbook", "converter.simulate:simulate")
     from converter.api import ConvertOptions, convert, load
 
     # "Tasks" is a usual activity-sheet name but lacks the estimate columns; the real
@@ -249,8 +244,6 @@ def test_activity_sheet_found_by_its_headers_when_not_first(tmp_path, fmt):
 def test_sample_with_numeric_ids_and_a_title_row_converts_alike(tmp_path, fmt):
     # The warehouse sample (numeric IDs, a title above the header, a settings sheet) read
     # with openpyxl and rewritten by another writer gives the sample's own figures.
-    require_modules("converter.analysis", "converter.jsonout",
-                    "converter.workbook:write_workbook", "converter.simulate:simulate")
     from converter.api import ConvertOptions, convert
 
     sample = Path(__file__).resolve().parents[1] / "samples" / "warehouse-fitout.xlsx"

@@ -8,8 +8,8 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
+from converter.analyse.network import CycleError, build_network, forward_pass, schedule
 from converter.model import FF, FS, SF, SS
-from converter.network import CycleError, build_network, forward_pass, schedule
 
 
 class TestHandWorked:

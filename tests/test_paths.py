@@ -1,4 +1,4 @@
-"""Tests for converter.paths: k longest paths and path counts.
+"""Tests for converter.analyse.paths: k longest paths and path counts.
 
 External references: networkx (all_simple_paths / all_simple_edge_paths enumerate every
 path for a brute force), the precedence diagramming link rules of Moder, Phillips & Davis
@@ -18,9 +18,9 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
+from converter.analyse.network import build_network, schedule
+from converter.analyse.paths import count_paths, k_longest_paths
 from converter.model import FF, FS, SF, SS
-from converter.network import build_network, schedule
-from converter.paths import count_paths, k_longest_paths
 
 # --------------------------------------------------------------------------- brute force
 

@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from converter import pert
+from converter.analyse import pert
 
 
 class TestExpectedTime:

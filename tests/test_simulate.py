@@ -1,4 +1,4 @@
-"""Tests for converter.simulate: samplers, Monte Carlo statistics, criticality, sensitivity.
+"""Tests for the simulation: samplers, Monte Carlo statistics, criticality, sensitivity.
 
 External references, named beside each check: scipy.stats (beta, triang, uniform, norm,
 kstest, spearmanr, rankdata), scipy.integrate, numpy (percentile, var), the PERT
@@ -17,9 +17,9 @@ import numpy as np
 import pytest
 from scipy import integrate, stats
 
-from converter import simulate as sim
+from converter.analyse.network import build_network, schedule
+from converter.analyse.simulate import runs as sim
 from converter.model import FF, FS, SF, SS
-from converter.network import build_network, schedule
 
 # --------------------------------------------------------------------------- helpers
 

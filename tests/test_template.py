@@ -10,10 +10,9 @@ from pathlib import Path
 import openpyxl
 import pytest
 import xlsxwriter
-from conftest import require_modules
 from recalc import compare_recalculated, recalculate
 
-from converter.template import (
+from converter.write.template import (
     COLUMNS,
     MOST_LIKELY_RULE,
     PESSIMISTIC_RULE,
@@ -101,7 +100,7 @@ def test_committed_template_equals_a_fresh_one(fresh):
             for ca, cb in zip(ra, rb, strict=True):
                 assert (ca.value, ca.number_format) == (cb.value, cb.number_format), (
                     f"{name}!{ca.coordinate}: regenerate templates/pertbook-template.xlsx "
-                    "with converter.template.write_template"
+                    "with converter.write.template.write_template"
                 )
         da = {(k, v.type, v.formula1, v.formula2, v.prompt) for k, v in _validations(a).items()}
         db = {(k, v.type, v.formula1, v.formula2, v.prompt) for k, v in _validations(b).items()}
@@ -170,10 +169,8 @@ def _fill(template: Path, target: Path) -> None:
 
 
 def test_filled_template_reads(tmp_path, fresh):
-    try:
-        from converter.api import load
-    except Exception as exc:  # the reader is being written alongside
-        pytest.skip(f"converter.api.load is not importable yet ({exc!r})")
+    from converter.api import load
+
     filled = tmp_path / "filled.xlsx"
     _fill(fresh, filled)
     sched, problems = load(filled)
@@ -194,7 +191,6 @@ def test_filled_template_reads(tmp_path, fresh):
 
 
 def test_filled_template_converts(tmp_path, fresh, convert_api):
-    require_modules("converter.simulate")  # this conversion runs the simulation
     convert, ConvertOptions = convert_api
     filled = tmp_path / "filled.xlsx"
     _fill(fresh, filled)

@@ -32,17 +32,17 @@ import openpyxl
 import pytest
 
 from converter import api
-from converter import drop_folder as df
 from converter.api import ConvertOptions
+from converter.drop import folder as df
+from converter.drop.watcher import Watcher, add_watch_arguments, main, options_from_args
 from converter.model import Problem
-from converter.problems_report import problems_text, write_problems_xlsx
-from converter.watch import Watcher, add_watch_arguments, main, options_from_args
+from converter.write.problems import problems_text, write_problems_xlsx
 
 REPO = Path(__file__).resolve().parents[1]
 ITER = 200  # few Monte Carlo iterations: the lifecycle, not the statistics, is under test
 HEADER = "ID,Description,Predecessors,Optimistic,Most likely,Pessimistic"
 WATCH_CMD = [sys.executable, "-c",
-             "import sys; from converter.watch import main; sys.exit(main(sys.argv[1:]))"]
+             "import sys; from converter.drop.watcher import main; sys.exit(main(sys.argv[1:]))"]
 DEADLINE = 180.0  # a hang guard only; no test passes or fails on speed
 
 

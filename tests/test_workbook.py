@@ -36,7 +36,6 @@ from pathlib import Path
 import numpy as np
 import openpyxl
 import pytest
-from conftest import require_modules
 from helpers import write_xlsx
 from openpyxl.utils import range_boundaries
 from recalc import compare_recalculated, recalculate
@@ -223,13 +222,7 @@ def run_convert(source: Path, outdir: Path, **options) -> Converted:
 
 
 @pytest.fixture(scope="module")
-def stages():
-    require_modules("converter.analysis", "converter.jsonout",
-                    "converter.workbook:write_workbook", "converter.simulate:simulate")
-
-
-@pytest.fixture(scope="module")
-def made(stages, tmp_path_factory):
+def made(tmp_path_factory):
     """``made(key)``: the conversion of CASES[key], done once per module."""
     root = tmp_path_factory.mktemp("workbook")
     cache: dict[str, Converted] = {}
@@ -677,7 +670,7 @@ def zip_members(path: Path) -> dict[str, bytes]:
         return {n: z.read(n) for n in z.namelist()}
 
 
-def test_same_seed_same_numbers_and_same_workbook(stages, tmp_path, monkeypatch):
+def test_same_seed_same_numbers_and_same_workbook(tmp_path, monkeypatch):
     import xlsxwriter.core
 
     source = typed_input(tmp_path / "plan.xlsx")
@@ -692,7 +685,7 @@ def test_same_seed_same_numbers_and_same_workbook(stages, tmp_path, monkeypatch)
     assert differ == []
 
 
-def test_different_seed_different_simulated_figures(stages, tmp_path):
+def test_different_seed_different_simulated_figures(tmp_path):
     source = typed_input(tmp_path / "plan.xlsx")
     one = run_convert(source, tmp_path / "one", seed=1)
     two = run_convert(source, tmp_path / "two", seed=2)
@@ -789,7 +782,7 @@ def test_reproduce_command_reproduces_the_simulation(made, tmp_path, capsys, key
     ("boiler-shutdown.csv", {"start_date": "2027-05-03", "due": "2027-05-20"}),
     ("warehouse-fitout.xlsx", {"due": 45.123456}),  # no calendar: digits lost
 ], ids=["due-number-calendar", "due-date", "csv-start-and-due", "due-digits"])
-def test_reproduce_command_keeps_command_line_settings(stages, tmp_path, capsys, sample,
+def test_reproduce_command_keeps_command_line_settings(tmp_path, capsys, sample,
                                                       options):
     c = run_convert(SAMPLES / sample, tmp_path / "one", **options)
     again = _rerun_reproduce_command(c, tmp_path / "two")

@@ -53,12 +53,12 @@ def make_input(path: Path, n: int, links: int, seed: int = 1) -> None:
 
 
 def time_validate_schedule(path: Path) -> dict:
-    from converter.analysis import analyse  # noqa: F401  (import cost outside the timing)
+    from converter.analyse.analysis import analyse  # noqa: F401  (import cost outside the timing)
+    from converter.analyse.network import build_network, schedule
+    from converter.analyse.pert import expected_time
     from converter.api import ConvertOptions
-    from converter.network import build_network, schedule
-    from converter.pert import expected_time
-    from converter.reader import read_input
-    from converter.validate import validate
+    from converter.read.sheets import read_input
+    from converter.validate.schedule import validate
 
     t0 = time.perf_counter()
     raw, _ = read_input(path)

@@ -15,8 +15,8 @@ import numpy as np
 
 sys.path.insert(0, str(FsPath(__file__).resolve().parents[2]))
 
-from converter.network import build_network, schedule  # noqa: E402
-from converter.paths import count_paths, k_longest_paths  # noqa: E402
+from converter.analyse.network import build_network, schedule  # noqa: E402
+from converter.analyse.paths import count_paths, k_longest_paths  # noqa: E402
 
 
 def layered(layers: int, width: int, fan_out: int, rng: np.random.Generator):

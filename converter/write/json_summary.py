@@ -5,8 +5,8 @@ from __future__ import annotations
 import math
 from pathlib import Path
 
-from .model import ERROR, LINK_TYPES
-from .reader import sha256_of
+from converter.model import ERROR, LINK_TYPES
+from converter.read.sheets import sha256_of
 
 
 def _num(x) -> float | None:

@@ -3,10 +3,10 @@ interim targets, and the finish-probability curve."""
 
 from __future__ import annotations
 
-from . import formulas as f
-from .activities import serial
-from .layout import FIRST, PROBABILITY, Layout
-from .styles import PALETTE
+from converter.write.workbook import formulas as f
+from converter.write.workbook.activities import serial
+from converter.write.workbook.layout import FIRST, PROBABILITY, Layout
+from converter.write.workbook.styles import PALETTE
 
 
 def write_probability(wb, fmt, a, lay: Layout) -> None:

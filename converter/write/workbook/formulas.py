@@ -8,7 +8,7 @@ from __future__ import annotations
 
 from xlsxwriter.utility import quote_sheetname, xl_rowcol_to_cell
 
-from ..model import FF, FS, SF, SS
+from converter.model import FF, FS, SF, SS
 
 #: Functions newer than the first OOXML edition are stored with the ``_xlfn.`` prefix
 #: (ECMA-376 / Microsoft's "future functions" list); spreadsheets show the plain name.

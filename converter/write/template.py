@@ -12,7 +12,7 @@ from pathlib import Path
 
 import xlsxwriter
 
-from .model import (
+from converter.model import (
     DEFAULT_CONFIDENCE,
     DEFAULT_ITERATIONS,
     DEFAULT_PATHS,

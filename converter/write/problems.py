@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from .model import ERROR, WARNING, Problem
+from converter.model import ERROR, WARNING, Problem
 
 FAULT = "fault"
 

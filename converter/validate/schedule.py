@@ -14,7 +14,7 @@ from collections.abc import Iterable
 
 import networkx as nx
 
-from .model import (
+from converter.model import (
     DISTRIBUTIONS,
     ERROR,
     LINK_TYPES,
@@ -26,7 +26,7 @@ from .model import (
     Schedule,
     Settings,
 )
-from .reader import (
+from converter.read.sheets import (
     ACTIVITY_COLUMNS,
     REQUIRED_ACTIVITY,
     RawInput,

@@ -29,7 +29,7 @@ from functools import cached_property
 
 import numpy as np
 
-from .model import FF, FS, SF, SS
+from converter.model import FF, FS, SF, SS
 
 
 class CycleError(ValueError):

@@ -8,8 +8,8 @@ from pathlib import Path
 
 import numpy as np
 
-from .layout import SIMULATION, Layout
-from .styles import PALETTE
+from converter.write.workbook.layout import SIMULATION, Layout
+from converter.write.workbook.styles import PALETTE
 
 TOP_DRIVERS = 15
 

@@ -37,10 +37,10 @@ from concurrent.futures.process import BrokenProcessPool
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from . import drop_folder as df
-from .api import ConvertOptions, convert
-from .model import DISTRIBUTIONS
-from .problems_report import fault_problem, write_problems_text, write_problems_xlsx
+from converter.api import ConvertOptions, convert
+from converter.drop import folder as df
+from converter.model import DISTRIBUTIONS
+from converter.write.problems import fault_problem, write_problems_text, write_problems_xlsx
 
 #: errno values that say the storage is in trouble (full, gone, read-only), not the file.
 STORAGE_ERRNOS = {
@@ -104,8 +104,12 @@ def _worker_init(parent: int, single_thread: bool) -> None:
                 os._exit(0)
 
     threading.Thread(target=orphan_check, daemon=True, name="orphan-check").start()
-    for module in ("converter.reader", "converter.validate", "converter.analysis",
-                   "converter.workbook"):
+    for module in (
+        "converter.read.sheets",
+        "converter.validate.schedule",
+        "converter.analyse.analysis",
+        "converter.write.workbook",
+    ):
         try:
             __import__(module)
         except Exception:  # noqa: BLE001 - warming up only; convert reports real errors

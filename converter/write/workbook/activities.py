@@ -12,9 +12,9 @@ import math
 
 import numpy as np
 
-from ..model import FS, LINK_TYPES
-from . import formulas as f
-from .layout import ACTIVITIES, FIRST, LINKS, Layout
+from converter.model import FS, LINK_TYPES
+from converter.write.workbook import formulas as f
+from converter.write.workbook.layout import ACTIVITIES, FIRST, LINKS, Layout
 
 HEADERS = {
     "id": "ID", "name": "Description", "pred": "Predecessors (as given)",

@@ -2,9 +2,9 @@
 
 from __future__ import annotations
 
-from ..model import LINK_TYPES
-from . import formulas as f
-from .layout import FIRST, PATHS, Layout
+from converter.model import LINK_TYPES
+from converter.write.workbook import formulas as f
+from converter.write.workbook.layout import FIRST, PATHS, Layout
 
 SUMMARY_HEADERS = ["Path", "Expected length", "Variance", "Standard deviation", "z",
                    "Chance of meeting the due date", "Riskier than the critical path?",

@@ -5,8 +5,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from .layout import TIMELINE, Layout
-from .styles import PALETTE
+from converter.write.workbook.layout import TIMELINE, Layout
+from converter.write.workbook.styles import PALETTE
 
 #: Above this many activities, only the critical and near-critical ones are charted.
 CHART_LIMIT = 250

@@ -14,16 +14,16 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from . import pert
-from .calendar import Calendar, days_per_unit
-from .checks import Check, run_checks
-from .model import Schedule
-from .network import CpmResult, Network, build_network, driving_push, link_pull
-from .network import schedule as run_cpm
-from .paths import Path, count_paths, k_longest_paths
+from converter.analyse import pert
+from converter.analyse.calendar import Calendar, days_per_unit
+from converter.analyse.checks import Check, run_checks
+from converter.analyse.network import CpmResult, Network, build_network, driving_push, link_pull
+from converter.analyse.network import schedule as run_cpm
+from converter.analyse.paths import Path, count_paths, k_longest_paths
+from converter.model import Schedule
 
 if TYPE_CHECKING:
-    from .simulate import SimulationResult
+    from converter.analyse.simulate.runs import SimulationResult
 
 #: Finish-probability table spans the analytic P1..P99.
 TABLE_LOW, TABLE_HIGH = 0.01, 0.99
@@ -196,7 +196,7 @@ def analyse(schedule: Schedule, options=None) -> Analysis:
 
     simulation = None
     if options is None or getattr(options, "simulate", True):
-        from .simulate import simulate
+        from converter.analyse.simulate.runs import simulate
 
         dists = [a.distribution for a in acts]
         groups = [a.group for a in acts]

@@ -4,9 +4,9 @@ from __future__ import annotations
 
 from xlsxwriter.utility import xl_rowcol_to_cell
 
-from . import formulas as f
-from .activities import serial
-from .layout import ACTIVITIES, FIRST, LINKS, PATHS, SUMMARY, Layout
+from converter.write.workbook import formulas as f
+from converter.write.workbook.activities import serial
+from converter.write.workbook.layout import ACTIVITIES, FIRST, LINKS, PATHS, SUMMARY, Layout
 
 CAUTION = (
     "Caution: these figures are estimates computed from the team's own three-point "

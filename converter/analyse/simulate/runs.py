@@ -46,8 +46,8 @@ from dataclasses import dataclass, field
 import numpy as np
 from scipy import linalg, special, stats
 
-from .model import DEFAULT_ITERATIONS, DEFAULT_SEED, DISTRIBUTIONS
-from .network import Network, backward_into, forward_into, pass_plan
+from converter.analyse.network import Network, backward_into, forward_into, pass_plan
+from converter.model import DEFAULT_ITERATIONS, DEFAULT_SEED, DISTRIBUTIONS
 
 PERT, TRIANGULAR, UNIFORM = range(3)
 KIND_CODES: dict[str, int] = {name: i for i, name in enumerate(DISTRIBUTIONS)}

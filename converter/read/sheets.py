@@ -18,7 +18,7 @@ from pathlib import Path
 
 from xlsxwriter.utility import xl_rowcol_to_cell
 
-from .model import ERROR, Problem
+from converter.model import ERROR, Problem
 
 WORKBOOK_SUFFIXES = (".xlsx", ".xlsm", ".xls", ".ods")
 SUFFIXES = WORKBOOK_SUFFIXES + (".csv",)

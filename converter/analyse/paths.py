@@ -48,8 +48,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .model import FF, FS, SF, SS
-from .network import Network, critical_tolerance, forward_pass
+from converter.analyse.network import Network, critical_tolerance, forward_pass
+from converter.model import FF, FS, SF, SS
 
 
 @dataclass

@@ -23,8 +23,8 @@ from dataclasses import dataclass
 import networkx as nx
 import numpy as np
 
-from .model import FF, FS, LINK_TYPES, SF, SS
-from .network import CpmResult, Network
+from converter.analyse.network import CpmResult, Network
+from converter.model import FF, FS, LINK_TYPES, SF, SS
 
 LOGIC, ESTIMATES, STRUCTURE = "logic", "estimates", "structure"
 
@@ -437,7 +437,7 @@ def run_checks(
 
     Estimates are in the schedule's time unit; ``days_per_unit`` converts them (and
     floats) to working days for the 44-working-day limits (see
-    :attr:`converter.calendar.Calendar.days_per_unit`). The PERT expected time
+    :attr:`converter.analyse.calendar.Calendar.days_per_unit`). The PERT expected time
     (O + 4M + P) / 6 (Malcolm et al. 1959) is the duration judged by "high duration".
     """
     o = np.asarray(optimistic, dtype=float).reshape(-1)

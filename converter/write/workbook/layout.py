@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
-from .formulas import ref, span
+from converter.write.workbook.formulas import ref, span
 
 SUMMARY = "Summary"
 ACTIVITIES = "Activities"

@@ -5,11 +5,11 @@ from __future__ import annotations
 import datetime as dt
 import re
 
-from ..model import LINK_TYPES
-from .activities import serial
-from .formulas import ref
-from .layout import HEALTH, INPUT, METHOD, SETTINGS, WARNINGS, Layout
-from .summary import CAUTION
+from converter.model import LINK_TYPES
+from converter.write.workbook.activities import serial
+from converter.write.workbook.formulas import ref
+from converter.write.workbook.layout import HEALTH, INPUT, METHOD, SETTINGS, WARNINGS, Layout
+from converter.write.workbook.summary import CAUTION
 
 WEEKDAY_NAMES = ("Mon", "Tue", "Wed", "Thu", "Fri", "Sat", "Sun")
 

@@ -11,15 +11,21 @@ from pathlib import Path
 import xlsxwriter
 import xlsxwriter.worksheet
 
-from .activities import write_activities, write_links
-from .layout import Layout
-from .paths_sheet import write_paths
-from .probability import write_probability
-from .reference import write_health, write_input, write_method, write_settings, write_warnings
-from .simulation import write_simulation
-from .styles import Formats
-from .summary import write_summary
-from .timeline import write_timeline
+from converter.write.workbook.activities import write_activities, write_links
+from converter.write.workbook.layout import Layout
+from converter.write.workbook.paths_sheet import write_paths
+from converter.write.workbook.probability import write_probability
+from converter.write.workbook.reference import (
+    write_health,
+    write_input,
+    write_method,
+    write_settings,
+    write_warnings,
+)
+from converter.write.workbook.simulation import write_simulation
+from converter.write.workbook.styles import Formats
+from converter.write.workbook.summary import write_summary
+from converter.write.workbook.timeline import write_timeline
 
 
 class _PreparedFormulaSheet(xlsxwriter.worksheet.Worksheet):

@@ -1,0 +1,1 @@
+"""Analyse: Schedule -> Analysis (CPM, PERT, near-critical paths, simulation); no file I/O."""

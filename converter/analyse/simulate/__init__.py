@@ -1,0 +1,1 @@
+"""Monte Carlo simulation over the array passes: sampling, correlation, runs, ranks."""

@@ -1,0 +1,1 @@
+"""The drop folder: folder layout and safe moves, converting claimed files, the polling loop."""

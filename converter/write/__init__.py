@@ -1,0 +1,1 @@
+"""Write: Analysis -> files (the workbook, the JSON summary, problem reports, the template)."""
