@@ -8,7 +8,7 @@ from pathlib import Path
 
 import pytest
 
-TESTS = Path(__file__).resolve().parent
+TESTS = Path(__file__).resolve().parent / "support"
 if str(TESTS) not in sys.path:  # helper modules (recalc, psplib) import as top-level names
     sys.path.insert(0, str(TESTS))
 

@@ -1,4 +1,4 @@
-"""The LibreOffice recalculation harness (tests/recalc.py) can pass and can fail.
+"""The LibreOffice recalculation harness (tests/support/recalc.py) can pass and can fail.
 
 Reference values come from scipy.stats.norm (normal distribution) and
 numpy.busday_offset (working-day arithmetic), never from the harness itself;

@@ -18,7 +18,7 @@ from pathlib import Path
 
 import openpyxl
 
-REPO = Path(__file__).resolve().parents[1]
+REPO = Path(__file__).resolve().parents[2]
 
 #: The plain header: A=ID, B=Description, C=Predecessors, D=Optimistic, E=Most likely,
 #: F=Pessimistic. Cells named in the tests are worked out by hand from this layout.

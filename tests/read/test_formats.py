@@ -246,7 +246,7 @@ def test_sample_with_numeric_ids_and_a_title_row_converts_alike(tmp_path, fmt):
     # with openpyxl and rewritten by another writer gives the sample's own figures.
     from converter.api import ConvertOptions, convert
 
-    sample = Path(__file__).resolve().parents[1] / "samples" / "warehouse-fitout.xlsx"
+    sample = Path(__file__).resolve().parents[2] / "samples" / "warehouse-fitout.xlsx"
     book = openpyxl.load_workbook(sample, data_only=True)
     sheets = {ws.title: [list(r) for r in ws.iter_rows(values_only=True)
                          if any(v is not None for v in r)] for ws in book.worksheets}

@@ -38,7 +38,7 @@ from converter.drop.watcher import Watcher, add_watch_arguments, main, options_f
 from converter.model import Problem
 from converter.write.problems import problems_text, write_problems_xlsx
 
-REPO = Path(__file__).resolve().parents[1]
+REPO = Path(__file__).resolve().parents[2]
 ITER = 200  # few Monte Carlo iterations: the lifecycle, not the statistics, is under test
 HEADER = "ID,Description,Predecessors,Optimistic,Most likely,Pessimistic"
 WATCH_CMD = [sys.executable, "-c",

@@ -20,7 +20,7 @@ from converter.write.template import (
     write_template,
 )
 
-COMMITTED = Path(__file__).resolve().parents[1] / "templates" / "pertbook-template.xlsx"
+COMMITTED = Path(__file__).resolve().parents[2] / "templates" / "pertbook-template.xlsx"
 HEADERS = [
     "ID", "Description", "Predecessors", "Optimistic", "Most likely", "Pessimistic",
     "Distribution", "Group", "Target",

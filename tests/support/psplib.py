@@ -51,7 +51,7 @@ def psplib_root() -> Path:
     given = os.environ.get("PERTBOOK_PSPLIB")
     if given:
         return Path(given)
-    return Path(__file__).resolve().parents[2] / "shared" / "data" / "psplib"
+    return Path(__file__).resolve().parents[3] / "shared" / "data" / "psplib"
 
 
 def instance_files(folder: Path) -> list[Path]:

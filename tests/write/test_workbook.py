@@ -1,7 +1,7 @@
 """The analysis workbook: formulas, names, charts, determinism, checked from outside.
 
 What is checked against what:
-- LibreOffice Calc recalculates every formula of each produced workbook (tests/recalc.py,
+- LibreOffice Calc recalculates every formula of each produced workbook (tests/support/recalc.py,
   a private profile that forces recalculation on load) and every recalculated value must
   equal the cached value the converter wrote: the three samples, the warehouse sample with
   a command-line due duration, and generated schedules with every link type, lags and
@@ -41,7 +41,7 @@ from openpyxl.utils import range_boundaries
 from recalc import compare_recalculated, recalculate
 from scipy.stats import norm
 
-REPO = Path(__file__).resolve().parents[1]
+REPO = Path(__file__).resolve().parents[2]
 SAMPLES = REPO / "samples"
 SEED = 424242
 ITERATIONS = 2000
