@@ -53,7 +53,6 @@ class Network:
     kind: np.ndarray
     lag: np.ndarray
     order: np.ndarray  # a topological order of the activities
-    level: np.ndarray  # forward level: 0 for activities without predecessors
     forward_steps: tuple[_Step, ...]
     backward_steps: tuple[_Step, ...]
 
@@ -65,9 +64,6 @@ class Network:
     @property
     def link_count(self) -> int:
         return int(self.pred.size)
-
-    def predecessors(self, j: int) -> np.ndarray:
-        return self.pred[self.succ == j]
 
     def has_pred(self) -> np.ndarray:
         out = np.zeros(self.n, dtype=bool)
@@ -158,7 +154,6 @@ def build_network(
         kind=kind,
         lag=lag,
         order=order,
-        level=level,
         forward_steps=_steps(level, succ),
         backward_steps=_steps(height, pred),
     )
@@ -192,7 +187,41 @@ def _columns(d: np.ndarray) -> np.ndarray:
 
 
 def forward_pass(net: Network, d: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Early start and early finish for durations ``d`` of shape (n,) or (n, m)."""
+    """Early starts and early finishes: the forward pass of the critical path method.
+
+    Each activity starts as early as its incoming links allow (link rules in the module
+    docstring) and never before 0; it finishes its duration later. The pass visits the
+    topological levels in order, one vectorised step per level.
+
+    Parameters
+    ----------
+    net : Network
+        The network, from :func:`build_network`.
+    d : numpy.ndarray
+        Durations, shape ``(n,)``, or ``(n, m)`` for ``m`` scenarios at once.
+
+    Returns
+    -------
+    es, ef : numpy.ndarray
+        Early start and early finish, the shape of ``d``.
+
+    References
+    ----------
+    Kelley & Walker (1959), "Critical-path planning and scheduling", *Proceedings of the
+    Eastern Joint IRE-AIEE-ACM Computer Conference*, 160-173; Kelley (1961),
+    "Critical-path planning and scheduling: mathematical basis", *Operations Research*
+    9(3), 296-320. Typed links and lags: Moder, Phillips & Davis (1983), see the module
+    docstring.
+
+    Examples
+    --------
+    Activity 0 precedes 1 and 2, which both precede 3 (finish-to-start):
+
+    >>> net = build_network(4, [0, 0, 1, 2], [1, 2, 3, 3])
+    >>> es, ef = forward_pass(net, np.array([2.0, 3.0, 5.0, 1.0]))
+    >>> es.tolist(), ef.tolist()
+    ([0.0, 2.0, 2.0, 7.0], [2.0, 5.0, 7.0, 8.0])
+    """
     d = np.asarray(d, dtype=float)
     dd = _columns(d)
     x = np.empty((2 * net.n, dd.shape[1]))
@@ -205,7 +234,41 @@ def forward_pass(net: Network, d: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 def backward_pass(
     net: Network, d: np.ndarray, finish: np.ndarray | float
 ) -> tuple[np.ndarray, np.ndarray]:
-    """Late start and late finish anchored at ``finish`` (per scenario for 2-D ``d``)."""
+    """Late starts and late finishes: the backward pass of the critical path method.
+
+    Each activity finishes as late as its outgoing links allow and never after
+    ``finish``; it starts its duration earlier. The pass visits the topological heights
+    in order (the activities without successors first).
+
+    Parameters
+    ----------
+    net : Network
+        The network, from :func:`build_network`.
+    d : numpy.ndarray
+        Durations, shape ``(n,)`` or ``(n, m)``.
+    finish : float or numpy.ndarray
+        The project finish the pass is anchored at; one per scenario for 2-D ``d``.
+
+    Returns
+    -------
+    ls, lf : numpy.ndarray
+        Late start and late finish, the shape of ``d``.
+
+    References
+    ----------
+    Kelley & Walker (1959); Kelley (1961), *Operations Research* 9(3) (see
+    :func:`forward_pass`).
+
+    Examples
+    --------
+    The network of :func:`forward_pass`, anchored at its finish 8: activity 1 may
+    start 2 units late.
+
+    >>> net = build_network(4, [0, 0, 1, 2], [1, 2, 3, 3])
+    >>> ls, lf = backward_pass(net, np.array([2.0, 3.0, 5.0, 1.0]), 8.0)
+    >>> ls.tolist(), lf.tolist()
+    ([0.0, 4.0, 2.0, 7.0], [2.0, 7.0, 7.0, 8.0])
+    """
     d = np.asarray(d, dtype=float)
     dd = _columns(d)
     cols = dd.shape[1]
@@ -232,16 +295,71 @@ class CpmResult:
     link_slack: np.ndarray  # per link: successor ES minus the start the link allows
 
 
+#: Relative float tolerance: a float within this share of the project length (at least
+#: 1 time unit) counts as zero. The one home of the rule; see :func:`critical_tolerance`.
+RELATIVE_TOLERANCE = 1e-9
+
+
 def critical_tolerance(finish: float) -> float:
-    """Float at or below this counts as zero: 1e-9 relative to the project length."""
-    return 1e-9 * max(1.0, abs(float(finish)))
+    """Float at or below this counts as zero: 1e-9 relative to the project length.
+
+    ``RELATIVE_TOLERANCE * max(1, |finish|)``; :func:`critical_tolerances` is the same
+    rule for one finish per column. Summing durations along a path rounds at about
+    1e-16 relative, far below this, while schedule figures are given to far coarser
+    steps, so true floats are never mistaken for zero.
+
+    Examples
+    --------
+    >>> critical_tolerance(16.0)
+    1.6e-08
+    >>> critical_tolerance(0.5)
+    1e-09
+    """
+    return RELATIVE_TOLERANCE * max(1.0, abs(float(finish)))
+
+
+def critical_tolerances(finish: np.ndarray) -> np.ndarray:
+    """:func:`critical_tolerance` of each value of ``finish`` (e.g. one per simulated iteration).
+
+    Examples
+    --------
+    >>> critical_tolerances(np.array([0.5, 16.0])).tolist()
+    [1e-09, 1.6e-08]
+    """
+    return RELATIVE_TOLERANCE * np.maximum(1.0, np.abs(finish))
 
 
 def schedule(net: Network, d: np.ndarray) -> CpmResult:
     """Forward pass, backward pass, total and free float, critical flags (1-D ``d``).
 
-    Free float is the least slack over the activity's outgoing links and to the
-    project finish; total float is LS - ES.
+    The project finish is the largest early finish; the backward pass is anchored at it.
+    Total float is LS - ES; free float is the least slack over the activity's outgoing
+    links and to the project finish. Floats within :func:`critical_tolerance` of zero
+    are set to zero, and an activity is critical when its total float is zero.
+
+    Parameters
+    ----------
+    net : Network
+        The network, from :func:`build_network`.
+    d : numpy.ndarray
+        Durations, shape ``(n,)``.
+
+    Returns
+    -------
+    CpmResult
+        Early and late dates, floats, critical flags, the finish and each link's slack.
+
+    References
+    ----------
+    Kelley & Walker (1959); Kelley (1961), *Operations Research* 9(3) (see
+    :func:`forward_pass`); free float as in Moder, Phillips & Davis (1983).
+
+    Examples
+    --------
+    >>> net = build_network(4, [0, 0, 1, 2], [1, 2, 3, 3])
+    >>> r = schedule(net, np.array([2.0, 3.0, 5.0, 1.0]))
+    >>> r.finish, r.total_float.tolist(), r.critical.tolist()
+    (8.0, [0.0, 2.0, 0.0, 0.0], [True, False, True, True])
     """
     d = np.asarray(d, dtype=float)
     es, ef = forward_pass(net, d)
