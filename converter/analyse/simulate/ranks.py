@@ -128,7 +128,7 @@ def spearman_rows(
     Examples
     --------
     >>> samples = np.array([[1.0, 2.0, 3.0, 4.0], [4.0, 3.0, 2.0, 1.0], [1.0, 1.0, 1.0, 1.0]])
-    >>> spearman_rows(samples, np.array([10.0, 20.0, 30.0, 25.0])).tolist()
+    >>> np.round(spearman_rows(samples, np.array([10.0, 20.0, 30.0, 25.0])), 12).tolist()
     [0.8, -0.8, nan]
     """
     ry, syy = centred_ranks(np.asarray(y, dtype=float))

@@ -34,13 +34,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from converter.analyse.network import (
-    Network,
-    backward_into,
-    critical_tolerances,
-    forward_into,
-    pass_plan,
-)
+from converter.analyse.network import Network, critical_tolerances
+from converter.analyse.passes import backward_into, forward_into, pass_plan
 from converter.analyse.simulate import workers as processes
 from converter.analyse.simulate.correlation import induce_rank_correlation
 from converter.analyse.simulate.inputs import Inputs, check_correlation, chunk_size, prepare
@@ -386,7 +381,7 @@ def simulate(
     >>> from converter.analyse.network import build_network
     >>> net = build_network(4, [0, 0, 1, 2], [1, 2, 3, 3])
     >>> r = simulate(net, [0, 2, 4, 0], [0, 3, 6, 0], [0, 9, 8, 0], iterations=2000, seed=1)
-    >>> r.criticality[0], bool(r.criticality[2] > 0.8), r.mean > 6.0
+    >>> float(r.criticality[0]), bool(r.criticality[2] > 0.8), r.mean > 6.0
     (1.0, True, True)
     """
     inp = prepare(optimistic, most_likely, pessimistic, distribution, distributions, groups,
