@@ -450,3 +450,28 @@ def test_bad_arguments_raise():
         sim.simulate(net, [1.0], [2.0], [4.0])
     with pytest.raises(ValueError):
         sim.simulate(net, [1.0, 1.0], [2.0, 2.0], [4.0, 3.0], iterations=1)
+
+
+def test_convert_options_choose_the_simulation_workers(monkeypatch):
+    # ConvertOptions.simulation_workers reaches simulate(workers=...); None leaves the choice
+    # to the simulation (common practice: an explicit argument, no environment variable).
+    from pathlib import Path
+
+    from converter.analyse.analysis import analyse
+    from converter.analyse.simulate import runs
+    from converter.api import ConvertOptions, load
+
+    seen = []
+    real = runs.simulate
+
+    def spy(*args, **kwargs):
+        seen.append(kwargs.get("workers", "absent"))
+        return real(*args, **kwargs)
+
+    monkeypatch.setattr(runs, "simulate", spy)
+    sample = Path(__file__).resolve().parents[2] / "samples" / "boiler-shutdown.csv"
+    for workers_option in (1, None):
+        options = ConvertOptions(iterations=200, simulation_workers=workers_option)
+        schedule, _ = load(sample, options)
+        assert analyse(schedule, options).simulation is not None
+    assert seen == [1, None]
