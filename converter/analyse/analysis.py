@@ -212,6 +212,7 @@ def analyse(schedule: Schedule, options=None) -> Analysis:
             targets=target_offsets or None,
             pert_mean=project_mean,
             progress=getattr(options, "progress", None) if options is not None else None,
+            workers=getattr(options, "simulation_workers", None),
         )
         for t in targets:
             t.p_simulated = simulation.target_p.get(t.activity)
