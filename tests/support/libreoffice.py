@@ -25,6 +25,7 @@ import subprocess
 import tempfile
 import threading
 import uuid
+import weakref
 from pathlib import Path
 
 #: 0 = RECALC_ALWAYS, 1 = RECALC_NEVER, 2 = RECALC_ASK (LibreOffice ``enum ScRecalcOptions``,
@@ -99,6 +100,13 @@ def find_uno_python(soffice: str) -> str | None:
     return None
 
 
+def _cleanup(work: Path, server: list[subprocess.Popen | None]) -> None:
+    """Kill a still-running listening LibreOffice and remove the work folder (finalizer)."""
+    if server[0] is not None and server[0].poll() is None:
+        kill_group(server[0], grace=5.0)
+    shutil.rmtree(work, ignore_errors=True)
+
+
 class LibreOffice:
     """A headless LibreOffice that recalculates workbooks, started once for many.
 
@@ -140,6 +148,9 @@ class LibreOffice:
         self._pipe = f"pertbook_{os.getpid()}_{uuid.uuid4().hex[:12]}"
         self._server: subprocess.Popen | None = None
         self._lock = threading.Lock()
+        # a test run that ends without closing us (an error, Ctrl-C) still stops LibreOffice
+        self._running: list[subprocess.Popen | None] = [None]  # shared with the finalizer
+        self._finalizer = weakref.finalize(self, _cleanup, self._work, self._running)
 
     # ------------------------------------------------------------------ lifecycle
     def __enter__(self) -> LibreOffice:
@@ -152,7 +163,7 @@ class LibreOffice:
         """Stop the listening LibreOffice (if any) and remove the private profile."""
         with self._lock:
             self._stop_server()
-        shutil.rmtree(self._work, ignore_errors=True)
+        self._finalizer()
 
     def _command(self) -> list[str]:
         return [self.soffice, f"-env:UserInstallation={self._profile.as_uri()}", *_OPTIONS]
@@ -170,12 +181,14 @@ class LibreOffice:
                 start_new_session=True)
         finally:
             log.close()
+        self._running[0] = self._server
         self.starts += 1
 
     def _stop_server(self) -> None:
         if self._server is not None:
             kill_group(self._server, grace=5.0)
             self._server = None
+            self._running[0] = None
 
     # ------------------------------------------------------------------ conversions
     def recalculate(self, xlsx: Path, outdir: Path) -> Path:
@@ -230,10 +243,17 @@ class LibreOffice:
             done = {Path(r["src"]): r for r in lines if "src" in r}
             if rc != 0 or len(done) != len(jobs):
                 self._stop_server()  # a half-finished office is not trusted again
-                return {s: f"UNO client exit code {rc}: {text or 'no output'}"
-                        for s, _ in jobs if s not in done or not done[s]["ok"]}
+                said = " ".join([*(r["error"] for r in lines if "src" not in r), text])
+                why = f"UNO client exit code {rc}: {said.strip() or 'no output'}{self._log_tail()}"
+                return {s: why for s, _ in jobs if s not in done or not done[s]["ok"]}
             return {s: r["error"] for s, r in done.items() if not r["ok"]}
         raise AssertionError("unreachable")
+
+    def _log_tail(self, size: int = 800) -> str:
+        """The end of the listening LibreOffice's own output, for an error message."""
+        log = self._work / "server.log"
+        text = log.read_bytes()[-size:].decode("utf-8", "replace").strip() if log.is_file() else ""
+        return f"; LibreOffice said: {text}" if text else ""
 
     def _client(self, request: dict) -> tuple[int, list[dict], str]:
         proc = subprocess.Popen([self.python, str(CLIENT)], stdin=subprocess.PIPE,
@@ -246,7 +266,7 @@ class LibreOffice:
             self._stop_server()
             names = ", ".join(Path(s).name for s, _ in request["jobs"])
             raise RecalcError(f"LibreOffice did not finish converting {names} "
-                              f"within {self.timeout:.0f} s") from exc
+                              f"within {self.timeout:g} s") from exc
         lines = [json.loads(x) for x in out.decode("utf-8", "replace").splitlines()
                  if x.startswith("{")]
         return proc.returncode, lines, err.decode("utf-8", "replace").strip()
@@ -265,7 +285,7 @@ class LibreOffice:
             kill_group(proc)
             names = ", ".join(s.name for s in sources)
             raise RecalcError(f"LibreOffice did not finish converting {names} "
-                              f"within {self.timeout:.0f} s") from exc
+                              f"within {self.timeout:g} s") from exc
         text = (out + err).decode("utf-8", "replace").strip()
         errors: dict[Path, str] = {}
         for src, target in zip(sources, targets, strict=True):
