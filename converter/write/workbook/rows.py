@@ -24,7 +24,8 @@ import math
 import unicodedata
 from collections.abc import Iterable
 
-#: The workbook's default font size in points (every cell without its own size).
+#: The workbook's default font and its size in points (every cell without its own).
+FONT_NAME = "Calibri"
 DEFAULT_FONT_SIZE = 11.0
 
 #: Character advance in digit widths: the larger of DejaVu Sans and Liberation Sans.
