@@ -15,7 +15,7 @@ import networkx as nx
 import numpy as np
 import pytest
 
-from converter.analyse.checks import Check, redundant_links, run_checks
+from converter.analyse.checks import Above, Check, Limit, redundant_links, run_checks
 from converter.analyse.network import build_network, schedule
 from converter.model import FF, FS, SF, SS
 
@@ -344,3 +344,51 @@ def test_empty_links_and_sizes_checked():
     cpm = schedule(net, np.ones(2))
     with pytest.raises(ValueError):
         run_checks(["A"], [1], [1], [1], net, cpm)
+
+
+# ------------------------------------------------------------------ structured limits
+
+
+def test_limits_are_numbers_not_text():
+    # DCMA 14-point thresholds (from memory, see the module docstring): missing logic
+    # <= 5% of activities, leads 0, lags <= 5% of links, finish-to-start >= 90% (other
+    # types <= 10%), high float and high duration <= 5% of activities, both above 44
+    # working days. Estimate and structure limits: common practice.
+    ids, links = _chain(6)
+    checks = {c.key: c for c in _run(ids, links, days_per_unit=5.0).values()}
+    assert checks["missing_logic"].limit == Limit(5, "activities")
+    assert checks["leads"].limit == Limit(0, unit="links")
+    assert checks["lags"].limit == Limit(5, "links")
+    assert checks["link_types"].limit.most == 10
+    assert checks["link_types"].limit.share_of == "links"
+    for key in ("high_float", "high_duration"):
+        assert checks[key].limit == Limit(5, "activities")
+        assert checks[key].above == Above(44.0, 1e-9, 5.0)
+    assert checks["redundant_links"].limit == Limit(5, "links")
+    assert checks["extra_starts"].limit.most == 0 and checks["extra_starts"].out_of is None
+    assert checks["missing_logic"].out_of == 6 and checks["lags"].out_of == 5
+    assert len(checks) == 13  # every key is distinct
+
+
+def test_limit_text_is_built_from_the_numbers():
+    assert Limit(5, "activities").text == "<= 5% of activities"
+    assert Limit(10, "links", note="finish-to-start >= 90%").text == (
+        "<= 10% of links (finish-to-start >= 90%)"
+    )
+    assert Limit(0, unit="links").text == "0 links"
+    assert Limit(0, wording="1 connected group").text == "1 connected group"
+
+
+@pytest.mark.parametrize(
+    ("count", "out_of", "passes"),
+    [(1, 20, True), (1, 19, False), (0, 0, True), (1, 0, False), (2, 40, True)],
+)
+def test_share_limit_boundary_in_whole_numbers(count, out_of, passes):
+    # exactly 5% passes (DCMA "<= 5%", from memory); nothing is allowed out of nothing
+    assert Limit(5, "links").allows(count, out_of) is passes
+
+
+def test_above_compares_in_working_days():
+    # 8.8 weeks of 5 days = 44 working days: not above; 8.81 weeks is
+    above = Above(44.0, 1e-9, 5.0)
+    assert above.offends(np.array([8.8, 8.81, 0.0])).tolist() == [False, True, False]

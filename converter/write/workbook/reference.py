@@ -3,9 +3,9 @@
 from __future__ import annotations
 
 import datetime as dt
-import re
 
 from converter.model import LINK_TYPES
+from converter.write.workbook import formulas as f
 from converter.write.workbook.activities import serial
 from converter.write.workbook.formulas import ref
 from converter.write.workbook.layout import HEALTH, INPUT, METHOD, SETTINGS, WARNINGS, Layout
@@ -14,30 +14,29 @@ from converter.write.workbook.summary import CAUTION
 WEEKDAY_NAMES = ("Mon", "Tue", "Wed", "Thu", "Fri", "Sat", "Sun")
 
 
-_SHARE = re.compile(r"^<= (\d+)% of (activities|links)")
-_NONE = re.compile(r"^[01] ")
-
-#: Checks whose count the sheet can recount with COUNTIF over the tables.
+#: Checks the sheet recounts with COUNTIF over the Links table: key -> (column, criterion).
 _COUNTED_ON_LINKS = {
-    "leads (negative lags)": ("lag", '"<0"'),
-    "lags (positive)": ("lag", '">0"'),
+    "leads": ("lag", '"<0"'),
+    "lags": ("lag", '">0"'),
 }
+
+#: Checks of a value per activity: key -> the Activities column holding the value.
+_VALUE_COLUMN = {"high_float": "tf", "high_duration": "te"}
 
 
 def _count_formula(c, a, lay: Layout) -> str | None:
     """A COUNTIF that recounts the check from the Activities / Links tables, if it can."""
     links = a.net.link_count
-    if c.name in _COUNTED_ON_LINKS and links:
-        key, crit = _COUNTED_ON_LINKS[c.name]
+    if c.key in _COUNTED_ON_LINKS and links:
+        key, crit = _COUNTED_ON_LINKS[c.key]
         return f"=COUNTIF({lay.link_column(key)},{crit})"
-    if c.name == "links other than finish-to-start" and links:
+    if c.key == "link_types" and links:
         col = lay.link_column("type")
         return f'=COUNTA({col})-COUNTIF({col},"FS")'
-    limit = f"(44+1E-9)/{a.days_per_unit!r}"
-    if c.name == "high total float":
-        return f'=COUNTIF({lay.column("tf")},">"&{limit})'
-    if c.name == "high duration":
-        return f'=COUNTIF({lay.column("te")},">"&{limit})'
+    if c.above is not None and c.key in _VALUE_COLUMN:
+        above = c.above
+        return f.count_above(lay.column(_VALUE_COLUMN[c.key]), above.days, above.tolerance,
+                             above.days_per_unit)
     return None
 
 
@@ -56,7 +55,6 @@ def write_health(wb, fmt, a, lay: Layout) -> None:
     widths = [10, 34, 22, 8, 8, 9, 8, 40, 50, 40]
     for col, w in enumerate(widths):
         ws.set_column(col, col, w)
-    n_act, n_links = len(a.ids), a.net.link_count
     for k, c in enumerate(a.checks):
         r = 4 + k
         ws.write_string(r, 0, c.group)
@@ -67,23 +65,17 @@ def write_health(wb, fmt, a, lay: Layout) -> None:
             ws.write_formula(r, 3, formula, fmt.int, c.count)
         else:
             ws.write_number(r, 3, c.count, fmt.int)
-        share = _SHARE.match(c.threshold)
-        base = None
-        if share or c.percent is not None:
-            on_links = (share.group(2) == "links") if share else "link" in c.threshold
-            base = n_links if on_links else n_act
-            ws.write_number(r, 4, base, fmt.int)
-        if c.percent is not None and base:
+        if c.out_of is not None and (c.limit.share_of is not None or c.percent is not None):
+            ws.write_number(r, 4, c.out_of, fmt.int)
+        if c.percent is not None:
             ws.write_formula(r, 5, f"={ref(r, 3)}/{ref(r, 4)}", fmt.prob, c.percent / 100.0)
         verdict = "pass" if c.passed else "FAIL"
         style = fmt.good if c.passed else fmt.flag
-        if share and base is not None:
-            ws.write_formula(r, 6, f'=IF({ref(r, 3)}*100<={share.group(1)}*{ref(r, 4)},'
-                             f'"pass","FAIL")', style, verdict)
-        elif _NONE.match(c.threshold):
-            ws.write_formula(r, 6, f'=IF({ref(r, 3)}<=0,"pass","FAIL")', style, verdict)
+        if c.limit.share_of is not None:
+            ws.write_formula(r, 6, f.share_passes(ref(r, 3), ref(r, 4), c.limit.most), style,
+                             verdict)
         else:
-            ws.write_string(r, 6, verdict, style)
+            ws.write_formula(r, 6, f.count_passes(ref(r, 3), c.limit.most), style, verdict)
         shown = ", ".join(c.activities[:200])
         if len(c.activities) > 200:
             shown += f", ... ({len(c.activities)} in all)"
@@ -171,8 +163,8 @@ METHOD_TEXT = [
     ("Backward pass", "Late finish (LF) = the smallest finish allowed by the outgoing links, and "
      "never after the project finish (the largest EF). Late start LS = LF - TE."),
     ("Float", "Total float = LS - ES. Free float = the least slack over the activity's outgoing "
-     "links, and to the project finish. Critical = total float zero (within 1e-9 of the project "
-     "length)."),
+     "links, and to the project finish. Critical = total float zero "
+     f"({f.TOLERANCE_WORDS})."),
     ("Project mean and variance", "The expected finish is the longest path on TE. Its variance is "
      "the sum of the variances of the activities on that path (an activity skipped by SS/FF "
      "links counts with its coefficient squared). Where several paths tie for longest, the one "

@@ -29,7 +29,6 @@ class Formats:
         self.label = add({"bold": True})
         self.text = add({})
         self.wrap = add({"text_wrap": True, "valign": "top"})
-        self.input = add({"bg_color": PALETTE["sand"]})
         self.input_num = add({"bg_color": PALETTE["sand"], "num_format": "0.###"})
         self.num = add({"num_format": NUMBER_FORMAT})
         self.num4 = add({"num_format": "0.0000"})
