@@ -170,7 +170,7 @@ def _shown(v) -> str:
 
 
 def _input_widths(headers: list[str], values: list[list[object]]) -> list[float]:
-    """Each column as wide as its header and values need, between 6 and INPUT_MAX_WIDTH characters."""
+    """Each column as wide as its header and values need: 6 to INPUT_MAX_WIDTH characters."""
     widths = []
     for col, head in enumerate(headers):
         need = rows.text_width(head, bold=True)
@@ -184,9 +184,15 @@ def _input_widths(headers: list[str], values: list[list[object]]) -> list[float]
 def write_input(wb, fmt, a, lay: Layout) -> None:
     ws = wb.add_worksheet(INPUT)
     raw = a.schedule.raw
-    ws.write_string(0, 0, f"Input as read from {raw.sheet} (values only; header on sheet row "
-                    f"{raw.header_row})", fmt.title)
     widths = _input_widths(raw.headers, raw.rows)
+    ws.write_string(0, 0, "Input as read", fmt.title)
+    note = (f"Values only, from {raw.sheet} as the converter read it; the header is on sheet "
+            f"row {raw.header_row}.")
+    if len(widths) > 1:
+        ws.merge_range(1, 0, 1, len(widths) - 1, note, fmt.subtitle_wrap)
+    else:
+        ws.write_string(1, 0, note, fmt.subtitle_wrap)
+    ws.set_row(1, rows.row_height([(note, rows.merged_width(widths))], minimum=15.0))
     for col, (h, w) in enumerate(zip(raw.headers, widths, strict=True)):
         ws.write_string(2, col, h, fmt.header)
         ws.set_column(col, col, w)
