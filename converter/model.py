@@ -105,14 +105,6 @@ class Link:
 
 
 @dataclass
-class Setting:
-    """A resolved option value and where it came from."""
-
-    value: object
-    source: str = "default"  # "default", "settings sheet (Settings!B4)", "command line"
-
-
-@dataclass
 class Settings:
     """Options for one conversion; each carries its origin for the workbook."""
 

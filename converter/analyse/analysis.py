@@ -14,20 +14,24 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from converter.analyse import pert
+from converter.analyse import figures, pert
 from converter.analyse.calendar import Calendar, days_per_unit
 from converter.analyse.checks import Check, run_checks
-from converter.analyse.network import CpmResult, Network, build_network, driving_push, link_pull
+from converter.analyse.figures import ActivityDates, ConfidenceRow, FinishRow, Histogram
+from converter.analyse.network import (
+    CpmResult,
+    Network,
+    build_network,
+    critical_tolerance,
+    driving_push,
+    link_pull,
+)
 from converter.analyse.network import schedule as run_cpm
 from converter.analyse.paths import Path, count_paths, k_longest_paths
 from converter.model import Schedule
 
 if TYPE_CHECKING:
     from converter.analyse.simulate.runs import SimulationResult
-
-#: Finish-probability table spans the analytic P1..P99.
-TABLE_LOW, TABLE_HIGH = 0.01, 0.99
-
 
 @dataclass
 class PathResult:
@@ -77,10 +81,20 @@ class Analysis:
     p_all_paths: tuple[float, float] | None  # (lower, upper)
     link_push: np.ndarray = field(default_factory=lambda: np.zeros(0))
     link_pull: np.ndarray = field(default_factory=lambda: np.zeros(0))
-    finish_table: list[tuple[float, float, float | None]] = field(default_factory=list)
-    confidence_table: list[tuple[float, float, float | None]] = field(default_factory=list)
-    histogram: tuple[np.ndarray, np.ndarray] | None = None  # (bin upper edges, counts)
-    days_per_unit: float = 1.0  # working days in one schedule unit (health thresholds)
+    link_driving: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=bool))
+    float_tolerance: float = 0.0  # a float at or below this counts as zero
+    finish_table: list[FinishRow] = field(default_factory=list)
+    confidence_table: list[ConfidenceRow] = field(default_factory=list)
+    histogram: Histogram | None = None
+    # calendar dates (None / empty without a start date)
+    finish_date: dt.date | None = None  # end of the day the expected finish falls on
+    confidence_dates: dict[float, dt.date] = field(default_factory=dict)
+    activity_dates: ActivityDates | None = None
+    # orders for the writers
+    drivers: list[int] = field(default_factory=list)  # by sensitivity (simulated)
+    most_critical: list[int] = field(default_factory=list)  # by criticality index (simulated)
+    timeline: list[int] = field(default_factory=list)  # activities the timeline charts
+    timeline_cut: bool = False  # whether the timeline charts only some activities
 
     @property
     def project_sd(self) -> float:
@@ -167,7 +181,7 @@ def analyse(schedule: Schedule, options=None) -> Analysis:
     project_mean = float(cpm.finish)
     project_variance = float(critical.variance)
     sd = math.sqrt(project_variance)
-    tol = 1e-9 * max(1.0, abs(project_mean))
+    tol = critical_tolerance(project_mean)
     tied = sum(1 for pth in found if abs(pth.mean - critical.mean) <= tol)
 
     z = p_due = None
@@ -179,12 +193,36 @@ def analyse(schedule: Schedule, options=None) -> Analysis:
         p_all = (float(np.prod(probs)), float(min(probs)))
     confidence = {c: pert.duration_at(c, project_mean, sd) for c in s.confidence_levels}
 
+    targets = _targets(acts, net, te, var, cpm, calendar)
+    simulation = None
+    if options is None or getattr(options, "simulate", True):
+        simulation = _simulate(schedule, net, o, m, p, due, targets, project_mean, options)
+
+    unit_days = days_per_unit(s.time_unit, s.working_days)
+    a = Analysis(
+        schedule=schedule, net=net, ids=ids, o=o, m=m, p=p, te=te, var=var, cpm=cpm,
+        paths=path_results, project_mean=project_mean, project_variance=project_variance,
+        due=due, due_date=due_date, z=z, p_meet_due=p_due, confidence=confidence,
+        calendar=calendar, simulation=simulation,
+        checks=run_checks(ids, o, m, p, net, cpm, days_per_unit=unit_days),
+        targets=targets, path_count=count_paths(net), tied_longest=tied, p_all_paths=p_all,
+        link_push=driving_push(net, cpm.es, cpm.ef, te),
+        link_pull=link_pull(net, cpm.ls, cpm.lf, te),
+        link_driving=np.abs(cpm.link_slack) <= tol,
+        float_tolerance=tol,
+    )
+    _add_figures(a)
+    return a
+
+
+def _targets(acts, net: Network, te, var, cpm: CpmResult,
+             calendar: Calendar | None) -> list[TargetResult]:
+    """Interim targets: each activity's finish against its target on its longest path."""
     targets: list[TargetResult] = []
-    target_offsets: dict[int, float] = {}
-    for i, a in enumerate(acts):
-        if a.target is None:
+    for i, act in enumerate(acts):
+        if act.target is None:
             continue
-        t_off, t_date = _due_offset(a.target, calendar)
+        t_off, t_date = _due_offset(act.target, calendar)
         ends = np.zeros(len(acts), dtype=bool)
         ends[i] = True
         to_it = k_longest_paths(net, te, var, 1, ends=ends)
@@ -192,98 +230,49 @@ def analyse(schedule: Schedule, options=None) -> Analysis:
         mean_i = float(cpm.ef[i])
         targets.append(TargetResult(i, t_off, t_date, mean_i, v,
                                     pert.p_meet(t_off, mean_i, math.sqrt(v)), None))
-        target_offsets[i] = t_off
+    return targets
 
-    simulation = None
-    if options is None or getattr(options, "simulate", True):
-        from converter.analyse.simulate.runs import simulate
 
-        dists = [a.distribution for a in acts]
-        groups = [a.group for a in acts]
-        simulation = simulate(
-            net, o, m, p,
-            distribution=s.distribution,
-            distributions=dists if any(dists) else None,
-            groups=groups if any(groups) else None,
-            correlation=s.correlation,
-            iterations=s.iterations,
-            seed=s.seed,
-            due=due,
-            targets=target_offsets or None,
-            pert_mean=project_mean,
-            progress=getattr(options, "progress", None) if options is not None else None,
-            workers=getattr(options, "simulation_workers", None),
-        )
-        for t in targets:
-            t.p_simulated = simulation.target_p.get(t.activity)
+def _simulate(schedule: Schedule, net: Network, o, m, p, due, targets: list[TargetResult],
+              project_mean: float, options) -> SimulationResult:
+    """The Monte Carlo run; fills each target's simulated chance."""
+    from converter.analyse.simulate.runs import simulate
 
-    unit_days = days_per_unit(s.time_unit, s.working_days)
-    checks = run_checks(ids, o, m, p, net, cpm, days_per_unit=unit_days)
-    finish_table = _finish_table(project_mean, sd, simulation)
-    levels = sorted({round(x, 4) for x in (0.05, *np.arange(0.1, 0.91, 0.1), 0.95)}
-                    | set(s.confidence_levels))
-    confidence_table = [
-        (c, pert.duration_at(c, project_mean, sd),
-         simulation.percentile(c) if simulation is not None else None)
-        for c in levels
-    ]
-    histogram = _histogram(simulation.durations) if simulation is not None else None
-    return Analysis(
-        finish_table=finish_table, confidence_table=confidence_table, histogram=histogram,
-        days_per_unit=unit_days,
-        schedule=schedule, net=net, ids=ids, o=o, m=m, p=p, te=te, var=var, cpm=cpm,
-        paths=path_results, project_mean=project_mean, project_variance=project_variance,
-        due=due, due_date=due_date, z=z, p_meet_due=p_due, confidence=confidence,
-        calendar=calendar, simulation=simulation, checks=checks, targets=targets,
-        path_count=count_paths(net), tied_longest=tied, p_all_paths=p_all,
-        link_push=driving_push(net, cpm.es, cpm.ef, te),
-        link_pull=link_pull(net, cpm.ls, cpm.lf, te),
+    s = schedule.settings
+    dists = [a.distribution for a in schedule.activities]
+    groups = [a.group for a in schedule.activities]
+    simulation = simulate(
+        net, o, m, p,
+        distribution=s.distribution,
+        distributions=dists if any(dists) else None,
+        groups=groups if any(groups) else None,
+        correlation=s.correlation,
+        iterations=s.iterations,
+        seed=s.seed,
+        due=due,
+        targets={t.activity: t.target for t in targets} or None,
+        pert_mean=project_mean,
+        progress=getattr(options, "progress", None) if options is not None else None,
+        workers=getattr(options, "simulation_workers", None),
     )
+    for t in targets:
+        t.p_simulated = simulation.target_p.get(t.activity)
+    return simulation
 
 
-def nice_step(span: float, rows: int = 25) -> float:
-    """A round step (1, 2 or 5 x 10^k) giving about ``rows`` rows over ``span``."""
-    if span <= 0:
-        return 1.0
-    raw = span / rows
-    power = 10.0 ** math.floor(math.log10(raw))
-    for mult in (1, 2, 5, 10):
-        if mult * power >= raw:
-            return mult * power
-    return 10 * power
-
-
-def _finish_table(mean: float, sd: float, simulation) -> list[tuple[float, float, float | None]]:
-    """Durations in round steps from the analytic P1 to P99 (the simulated range if sd is 0)."""
-    from scipy.stats import norm
-
-    if sd > 0:
-        lo, hi = mean + norm.ppf(TABLE_LOW) * sd, mean + norm.ppf(TABLE_HIGH) * sd
-    elif simulation is not None and simulation.sd > 0:
-        lo, hi = simulation.percentile(TABLE_LOW), simulation.percentile(TABLE_HIGH)
-    else:
-        lo = hi = mean
-    step = nice_step(hi - lo)
-    start = math.floor(lo / step) * step
-    stop = math.ceil(hi / step) * step
-    count = int(round((stop - start) / step)) + 1
-    rows = []
-    for k in range(count):
-        t = round(start + k * step, 10)
-        rows.append((t, pert.p_meet(t, mean, sd),
-                     simulation.p_finish_by(t) if simulation is not None else None))
-    return rows
-
-
-def _histogram(durations: np.ndarray, bins: int = 30) -> tuple[np.ndarray, np.ndarray]:
-    """Counts of simulated durations in equal bins; returns (upper edges, counts)."""
-    lo, hi = float(durations.min()), float(durations.max())
-    if hi <= lo:
-        return np.array([hi]), np.array([durations.size])
-    step = nice_step(hi - lo, bins)
-    start = math.floor(lo / step) * step
-    edges = np.arange(start, hi + step, step)
-    if edges[-1] < hi:
-        edges = np.append(edges, edges[-1] + step)
-    counts, _ = np.histogram(durations, bins=edges)
-    return edges[1:], counts
+def _add_figures(a: Analysis) -> None:
+    """The tables, dates and orders the writers place (see :mod:`figures`)."""
+    sim, cal, sd = a.simulation, a.calendar, a.project_sd
+    a.finish_table = figures.finish_table(a.project_mean, sd, sim, cal)
+    levels = figures.confidence_levels(a.schedule.settings.confidence_levels)
+    a.confidence_table = figures.confidence_table(levels, a.project_mean, sd, sim, cal)
+    if sim is not None:
+        a.histogram = figures.histogram(sim.durations, a.due)
+        a.drivers = figures.risk_drivers(sim)
+        a.most_critical = figures.most_critical(sim)
+    if cal is not None:
+        a.finish_date = cal.finish_date(a.project_mean)
+        a.confidence_dates = {c: cal.finish_date(v) for c, v in a.confidence.items()}
+        a.activity_dates = figures.activity_dates(cal, a.cpm)
+    a.timeline, a.timeline_cut = figures.timeline_rows(
+        len(a.ids), [pr.path.activities for pr in a.paths], a.cpm.total_float)

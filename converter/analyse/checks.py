@@ -12,105 +12,194 @@ project end is the activity without successors that finishes last (early finish;
 tie the last listed). Other activities without predecessors or successors are the
 "open ends" the logic and structure checks report.
 
-Logic thresholds: US Defense Contract Management Agency 14-Point Schedule Assessment
-(thresholds from memory). Estimate and structure thresholds: common practice.
+Logic thresholds: the US Defense Contract Management Agency's 14-point schedule
+assessment (:data:`DCMA`); why they matter: the US Government Accountability Office's
+schedule assessment guide (:data:`GAO`). Estimate and structure thresholds: common
+practice. Each check cites its sources as data (:attr:`Check.cited`); :data:`SOURCES`
+lists every source once.
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
+from typing import Literal
 
 import networkx as nx
 import numpy as np
 
-from converter.analyse.network import CpmResult, Network
-from converter.model import FF, FS, LINK_TYPES, SF, SS
+from converter.analyse.network import CpmResult, Network, critical_tolerance
+from converter.analyse.redundant import redundant_links
+from converter.model import FS, LINK_TYPES
 
 LOGIC, ESTIMATES, STRUCTURE = "logic", "estimates", "structure"
 
-DCMA = "US Defense Contract Management Agency 14-Point Schedule Assessment (thresholds from memory)"
+
+
+@dataclass(frozen=True)
+class Source:
+    """A published source the checks cite: ``short`` in a table cell, ``full`` once below."""
+
+    short: str
+    full: str
+
+
+# The DCMA citation and the check numbers below are from memory (not checked against the
+# document here). The pamphlet's 14-point assessment gives, among its 14 checks: 1 logic,
+# missing predecessors or successors <= 5% of incomplete tasks; 2 leads, 0; 3 lags <= 5%
+# of links; 4 relationship types, finish-to-start >= 90%; 6 high float, total float over
+# 44 working days <= 5%; 8 high duration, over 44 working days <= 5%. The GAO guide's
+# best-practice numbers are from memory too.
+DCMA = Source(
+    "DCMA 2012",
+    "US Defense Contract Management Agency (DCMA), Earned Value Management System (EVMS) "
+    "Program Analysis Pamphlet (PAP), DCMA-EA PAM 200.1, October 2012: the 14-point "
+    "schedule assessment.",
+)
+GAO = Source(
+    "GAO 2015",
+    "US Government Accountability Office (GAO), Schedule Assessment Guide: Best Practices "
+    "for Project Schedules, GAO-16-89G, December 2015.",
+)
+MALCOLM = Source(
+    "Malcolm et al. 1959",
+    "D. G. Malcolm, J. H. Roseboom, C. E. Clark and W. Fazar, Application of a technique "
+    "for research and development program evaluation, Operations Research 7(5), 1959.",
+)
+COMMON = Source("common practice", "Common practice of schedule review: no published source.")
+
+#: Every source the checks cite, in the order a reader meets them.
+SOURCES: tuple[Source, ...] = (DCMA, GAO, MALCOLM, COMMON)
+
+
+@dataclass(frozen=True)
+class Citation:
+    """Where a check's threshold (``why=False``) or its reason (``why=True``) comes from."""
+
+    source: Source
+    where: str = ""  # the part of the source, e.g. "check 1 (logic)"
+    why: bool = False
+
+    @property
+    def text(self) -> str:
+        where = f", {self.where}" if self.where else ""
+        return ("why: " if self.why else "") + self.source.short + where
+
+
+SEQUENCING = "sequencing all activities"
+
+
+def _dcma(check: int, name: str, best_practice: int, practice: str) -> tuple[Citation, ...]:
+    return (Citation(DCMA, f"check {check} ({name})"),
+            Citation(GAO, f"best practice {best_practice} ({practice})", why=True))
 
 #: DCMA "high float" and "high duration" limit, in working days.
 LONG_DAYS = 44.0
 
+#: A value within this many working days of :data:`LONG_DAYS` counts as equal to it: the
+#: float tolerance's floor (``critical_tolerance`` of a zero-length project, 1e-9).
+LONG_TOLERANCE = critical_tolerance(0.0)
+
 #: Spread P/O above this flags a guessed range.
 SPREAD_LIMIT = 10.0
 
-_TOL = 1e-9
+
+@dataclass(frozen=True)
+class Limit:
+    """The most offenders a check allows.
+
+    With ``share_of`` set, ``most`` is a percentage of that many activities or links;
+    otherwise it is a count of offenders. ``unit`` names what a count counts;
+    ``wording`` replaces the count's text where the limit reads better as what a clean
+    network has ("1 connected group"); ``note`` follows a share in brackets.
+    """
+
+    most: float
+    share_of: Literal["activities", "links"] | None = None
+    unit: str = ""
+    wording: str = ""
+    note: str = ""
+
+    @property
+    def text(self) -> str:
+        """How the limit reads on the Health check sheet and in the JSON."""
+        if self.share_of is not None:
+            note = f" ({self.note})" if self.note else ""
+            return f"<= {self.most:g}% of {self.share_of}{note}"
+        return self.wording or f"{self.most:g} {self.unit}"
+
+    def allows(self, count: int, out_of: int | None) -> bool:
+        """Whether ``count`` offenders (of ``out_of``) pass; exactly the share passes."""
+        if self.share_of is None:
+            return count <= self.most
+        return count * 100 <= self.most * (out_of or 0)
+
+
+@dataclass(frozen=True)
+class Above:
+    """An activity offends when a value of it exceeds ``days`` working days.
+
+    ``tolerance`` (working days) absorbs float noise; ``days_per_unit`` converts the
+    schedule's unit to working days (the sheet compares in schedule units).
+    """
+
+    days: float
+    tolerance: float
+    days_per_unit: float
+
+    def offends(self, values: np.ndarray) -> np.ndarray:
+        """Mask of ``values`` (in schedule units) above the limit."""
+        return values * self.days_per_unit > self.days + self.tolerance
 
 
 @dataclass
 class Check:
-    """One health check: what was counted, against which threshold, and why it matters."""
+    """One health check: what was counted, against which limit, and why it matters.
 
+    ``key`` names the check for code (stable); ``name`` is its title for people.
+    ``out_of`` is the number of activities or links the offenders are counted among
+    (None where the check is an absolute count). ``above`` is the value limit of a
+    check that judges a value per activity (high float, high duration).
+    """
+
+    key: str
     name: str
     group: str  # "logic" | "estimates" | "structure"
-    threshold: str
-    count: int
-    percent: float | None
-    passed: bool
+    limit: Limit
     activities: list[str]  # offending activity IDs, or "PRED->SUCC" for link checks
+    out_of: int | None
     matters: str
-    source: str
+    cited: tuple[Citation, ...]
     detail: str = ""  # extra facts for the reader (e.g. group sizes, which activity is the start)
+    above: Above | None = field(default=None)
+
+    @property
+    def count(self) -> int:
+        return len(self.activities)
+
+    @property
+    def percent(self) -> float | None:
+        return 100.0 * self.count / self.out_of if self.out_of else None
+
+    @property
+    def passed(self) -> bool:
+        return self.limit.allows(self.count, self.out_of)
+
+    @property
+    def threshold(self) -> str:
+        return self.limit.text
+
+    @property
+    def source(self) -> str:
+        """The citations as a table cell reads them."""
+        return "; ".join(c.text for c in self.cited)
 
 
-def _percent(count: int, base: int) -> float | None:
-    return 100.0 * count / base if base else None
+def _share(pct: float, of: Literal["activities", "links"], note: str = "") -> Limit:
+    return Limit(pct, share_of=of, note=note)
 
 
-def _at_most(count: int, base: int, pct: int) -> bool:
-    """count <= pct% of base, in integers (exactly pct% passes)."""
-    return count * 100 <= pct * base
-
-
-def _share_check(
-    name: str,
-    group: str,
-    offenders: list[str],
-    base: int,
-    pct: int,
-    base_name: str,
-    matters: str,
-    source: str,
-    detail: str = "",
-) -> Check:
-    return Check(
-        name=name,
-        group=group,
-        threshold=f"<= {pct}% of {base_name}",
-        count=len(offenders),
-        percent=_percent(len(offenders), base),
-        passed=_at_most(len(offenders), base, pct),
-        activities=offenders,
-        matters=matters,
-        source=source,
-        detail=detail,
-    )
-
-
-def _zero_check(
-    name: str,
-    group: str,
-    offenders: list[str],
-    base: int | None,
-    threshold: str,
-    matters: str,
-    source: str,
-    detail: str = "",
-) -> Check:
-    return Check(
-        name=name,
-        group=group,
-        threshold=threshold,
-        count=len(offenders),
-        percent=_percent(len(offenders), base) if base is not None else None,
-        passed=not offenders,
-        activities=offenders,
-        matters=matters,
-        source=source,
-        detail=detail,
-    )
+def _none(unit: str = "", wording: str = "") -> Limit:
+    return Limit(0, unit=unit, wording=wording)
 
 
 def project_ends(net: Network, cpm: CpmResult) -> tuple[int | None, int | None]:
@@ -121,7 +210,7 @@ def project_ends(net: Network, cpm: CpmResult) -> tuple[int | None, int | None]:
     end = None
     if ends.size:
         ef = np.asarray(cpm.ef, dtype=float)[ends]
-        latest = ends[ef >= ef.max() - _TOL * max(1.0, abs(float(ef.max())))]
+        latest = ends[ef >= ef.max() - critical_tolerance(float(ef.max()))]
         end = int(latest[-1])
     return start, end
 
@@ -130,86 +219,10 @@ def _link_names(ids: list[str], net: Network, mask: np.ndarray) -> list[str]:
     return [f"{ids[p]}->{ids[s]}" for p, s in zip(net.pred[mask], net.succ[mask], strict=True)]
 
 
-def _long(values_days: np.ndarray) -> np.ndarray:
-    return values_days > LONG_DAYS + _TOL
-
-
 def _days_text(days_per_unit: float) -> str:
     if days_per_unit == 1.0:
         return f"{LONG_DAYS:g} working days"
     return f"{LONG_DAYS:g} working days (= {LONG_DAYS / days_per_unit:.4g} schedule units)"
-
-
-#: Reachability is tracked for this many target nodes at a time (bounds memory).
-_CHUNK = 4096
-
-
-def redundant_links(net: Network) -> np.ndarray:
-    """Mask of plain finish-to-start links (lag 0) implied by other links.
-
-    A link A->C (FS, lag 0) says C starts no earlier than A finishes. It is redundant
-    when other links already say so. With durations >= 0, track what each link
-    bounds: FS (lag >= 0) bounds the successor's start by the predecessor's finish,
-    SS its start by the predecessor's start, FF its finish by the predecessor's finish,
-    SF its finish by the predecessor's start, and an activity's start bounds its own
-    finish. On the graph of (activity, start|finish) nodes built from all links with
-    lag >= 0, the link A->C is redundant when (C, start) is reachable from
-    (A, finish) by a path of two or more edges, i.e. the edge is not in the graph's
-    transitive reduction (Aho, Garey & Ullman 1972; the tests compare with
-    networkx.transitive_reduction). A second copy of the same plain link, or a plain
-    link beside an FS link with a positive lag between the same pair, is redundant
-    too. Negative-lag links imply nothing here.
-
-    Reachability is computed as bitsets over the targets, in reverse topological
-    order, ``_CHUNK`` targets at a time: linear in nodes + edges per chunk.
-    """
-    n, m = net.n, net.link_count
-    out = np.zeros(m, dtype=bool)
-    plain = (net.kind == FS) & (net.lag == 0)
-    if not plain.any():
-        return out
-    # node 2i = start of activity i, 2i + 1 = its finish
-    adj: list[set[int]] = [set() for _ in range(2 * n)]
-    for i in range(n):
-        adj[2 * i].add(2 * i + 1)  # a start bounds its own finish (duration >= 0)
-    tail_end = {FS: 1, FF: 1, SS: 0, SF: 0}  # 1: the link starts from the predecessor's finish
-    head_end = {FS: 0, SS: 0, FF: 1, SF: 1}  # 1: the link bounds the successor's finish
-    lagged: set[tuple[int, int]] = set()
-    links = zip(
-        net.pred.tolist(), net.succ.tolist(), net.kind.tolist(), net.lag.tolist(), strict=True
-    )
-    for p, s, k, lag in links:
-        if lag < 0:
-            continue
-        adj[2 * p + tail_end[k]].add(2 * s + head_end[k])
-        if k == FS and lag > 0:
-            lagged.add((p, s))
-    judged: list[tuple[int, int, int]] = []  # (link, node of A's finish, node of C's start)
-    seen: set[tuple[int, int]] = set()
-    for j in np.flatnonzero(plain).tolist():
-        p, s = int(net.pred[j]), int(net.succ[j])
-        if (p, s) in seen or (p, s) in lagged:
-            out[j] = True
-        else:
-            judged.append((j, 2 * p + 1, 2 * s))
-        seen.add((p, s))
-    targets = sorted({v for _, _, v in judged})
-    order: list[int] = []
-    for i in net.order[::-1].tolist():  # successors before predecessors; finish before start
-        order += [2 * i + 1, 2 * i]
-    for lo in range(0, len(targets), _CHUNK):
-        bit = {v: 1 << b for b, v in enumerate(targets[lo : lo + _CHUNK])}
-        reach = [0] * (2 * n)  # reach[u]: targets in this chunk reachable from u (u included)
-        for u in order:
-            r = bit.get(u, 0)
-            for w in adj[u]:
-                r |= reach[w]
-            reach[u] = r
-        for j, u, v in judged:
-            b = bit.get(v)
-            if b is not None and any(reach[w] & b for w in adj[u] if w != v):
-                out[j] = True
-    return out
 
 
 def _logic_checks(
@@ -223,12 +236,7 @@ def _logic_checks(
         open_start[start] = False
     if end is not None:
         open_end[end] = False
-    missing = [ids[i] for i in np.flatnonzero(open_start | open_end)]
-    leads = net.lag < 0
-    lags = net.lag > 0
-    other_types = net.kind != FS
-    tf_days = np.asarray(cpm.total_float, dtype=float) * days_per_unit
-    te_days = te * days_per_unit
+    above = Above(LONG_DAYS, LONG_TOLERANCE, days_per_unit)
     type_counts = ", ".join(
         f"{name} {int(np.sum(net.kind == code))}" for code, name in enumerate(LINK_TYPES)
     )
@@ -237,75 +245,77 @@ def _logic_checks(
         f"project end {ids[end] if end is not None else '-'}"
     )
     return [
-        _share_check(
-            "missing predecessors or successors",
-            LOGIC,
-            missing,
-            n,
-            5,
-            "activities",
-            "An activity with an open start or finish can slip without moving anything "
-            "after it, so the dates and floats around it understate the risk.",
-            DCMA,
+        Check(
+            key="missing_logic",
+            name="missing predecessors or successors",
+            group=LOGIC,
+            limit=_share(5, "activities"),
+            activities=[ids[i] for i in np.flatnonzero(open_start | open_end)],
+            out_of=n,
+            matters="An activity with an open start or finish can slip without moving "
+            "anything after it, so the dates and floats around it understate the risk.",
+            cited=_dcma(1, "logic", 2, SEQUENCING),
             detail=ends_text + " are not counted",
         ),
-        _zero_check(
-            "leads (negative lags)",
-            LOGIC,
-            _link_names(ids, net, leads),
-            m,
-            "0 links",
-            "A lead lets a successor start before its predecessor's work is done, which "
-            "hides overlap assumptions and can squeeze the critical path.",
-            DCMA,
-        ),
-        _share_check(
-            "lags (positive)",
-            LOGIC,
-            _link_names(ids, net, lags),
-            m,
-            5,
-            "links",
-            "A lag is waiting time nobody is doing or estimating; it often hides work "
-            "that should be an activity with its own range.",
-            DCMA,
+        Check(
+            key="leads",
+            name="leads (negative lags)",
+            group=LOGIC,
+            limit=_none("links"),
+            activities=_link_names(ids, net, net.lag < 0),
+            out_of=m,
+            matters="A lead lets a successor start before its predecessor's work is done, "
+            "which hides overlap assumptions and can squeeze the critical path.",
+            cited=_dcma(2, "leads", 2, SEQUENCING),
         ),
         Check(
+            key="lags",
+            name="lags (positive)",
+            group=LOGIC,
+            limit=_share(5, "links"),
+            activities=_link_names(ids, net, net.lag > 0),
+            out_of=m,
+            matters="A lag is waiting time nobody is doing or estimating; it often hides "
+            "work that should be an activity with its own range.",
+            cited=_dcma(3, "lags", 2, SEQUENCING),
+        ),
+        Check(
+            key="link_types",
             name="links other than finish-to-start",
             group=LOGIC,
-            threshold="<= 10% of links (finish-to-start >= 90%)",
-            count=int(other_types.sum()),
-            percent=_percent(int(other_types.sum()), m),
-            passed=_at_most(int(other_types.sum()), m, 10),
-            activities=_link_names(ids, net, other_types),
+            limit=_share(10, "links", note="finish-to-start >= 90%"),
+            activities=_link_names(ids, net, net.kind != FS),
+            out_of=m,
             matters="Start-to-start, finish-to-finish and start-to-finish links make the "
             "critical path harder to follow and float harder to interpret.",
-            source=DCMA,
+            cited=_dcma(4, "relationship types", 2, SEQUENCING),
             detail=type_counts,
         ),
-        _share_check(
-            "high total float",
-            LOGIC,
-            [ids[i] for i in np.flatnonzero(_long(tf_days))],
-            n,
-            5,
-            "activities",
-            "Very large float usually means missing successors, so the activity could "
-            "slip a long way without the schedule showing any effect.",
-            DCMA,
+        Check(
+            key="high_float",
+            name="high total float",
+            group=LOGIC,
+            limit=_share(5, "activities"),
+            activities=[ids[i] for i in np.flatnonzero(above.offends(cpm.total_float))],
+            out_of=n,
+            matters="Very large float usually means missing successors, so the activity "
+            "could slip a long way without the schedule showing any effect.",
+            cited=_dcma(6, "high float", 7, "ensuring reasonable total float"),
             detail=f"total float > {_days_text(days_per_unit)}",
+            above=above,
         ),
-        _share_check(
-            "high duration",
-            LOGIC,
-            [ids[i] for i in np.flatnonzero(_long(te_days))],
-            n,
-            5,
-            "activities",
-            "Long activities are hard to estimate and to track; breaking them down gives "
-            "better ranges and earlier warning.",
-            DCMA,
+        Check(
+            key="high_duration",
+            name="high duration",
+            group=LOGIC,
+            limit=_share(5, "activities"),
+            activities=[ids[i] for i in np.flatnonzero(above.offends(te))],
+            out_of=n,
+            matters="Long activities are hard to estimate and to track; breaking them down "
+            "gives better ranges and earlier warning.",
+            cited=_dcma(8, "high duration", 4, "establishing the durations of all activities"),
             detail=f"expected time (O + 4M + P) / 6 > {_days_text(days_per_unit)}",
+            above=above,
         ),
     ]
 
@@ -317,39 +327,42 @@ def _estimate_checks(ids: list[str], o: np.ndarray, m: np.ndarray, p: np.ndarray
     with np.errstate(divide="ignore", invalid="ignore"):
         wide = np.where(o > 0, p / np.where(o > 0, o, 1.0) > SPREAD_LIMIT, p > 0)
     return [
-        _share_check(
-            "fixed durations (O = M = P)",
-            ESTIMATES,
-            [ids[i] for i in np.flatnonzero(fixed)],
-            n,
-            10,
-            "activities",
-            "An activity without a range adds no uncertainty, so the simulated spread of "
-            "the finish is too narrow if its duration is really uncertain.",
-            "common practice, no published source: a three-point analysis needs ranges; "
-            "milestones (O = M = P = 0) are not counted",
+        Check(
+            key="fixed_durations",
+            name="fixed durations (O = M = P)",
+            group=ESTIMATES,
+            limit=_share(10, "activities"),
+            activities=[ids[i] for i in np.flatnonzero(fixed)],
+            out_of=n,
+            matters="An activity without a range adds no uncertainty, so the simulated "
+            "spread of the finish is too narrow if its duration is really uncertain.",
+            cited=(Citation(COMMON),
+                   Citation(GAO, "best practice 8 (conducting a schedule risk analysis)",
+                            why=True)),
+            detail="milestones (O = M = P = 0) are not counted",
         ),
-        _zero_check(
-            "most likely outside optimistic..pessimistic",
-            ESTIMATES,
-            [ids[i] for i in np.flatnonzero(outside)],
-            n,
-            "0 activities",
-            "A most likely value outside its own range means the estimate was entered "
-            "wrongly and the PERT figures for it are meaningless.",
-            "definition of a three-point estimate: O <= M <= P (Malcolm et al. 1959)",
+        Check(
+            key="most_likely_outside",
+            name="most likely outside optimistic..pessimistic",
+            group=ESTIMATES,
+            limit=_none("activities"),
+            activities=[ids[i] for i in np.flatnonzero(outside)],
+            out_of=n,
+            matters="A most likely value outside its own range means the estimate was "
+            "entered wrongly and the PERT figures for it are meaningless.",
+            cited=(Citation(MALCOLM, "three-point estimate O <= M <= P"),),
         ),
-        _share_check(
-            f"wide spread (P / O > {SPREAD_LIMIT:g})",
-            ESTIMATES,
-            [ids[i] for i in np.flatnonzero(wide)],
-            n,
-            5,
-            "activities",
-            "A pessimistic value more than ten times the optimistic one usually means "
-            "the scope is unclear and the range is a guess.",
-            "common practice, no published source: flags guesswork; O = 0 with P > 0 "
-            "counts as an unbounded spread",
+        Check(
+            key="wide_spread",
+            name=f"wide spread (P / O > {SPREAD_LIMIT:g})",
+            group=ESTIMATES,
+            limit=_share(5, "activities"),
+            activities=[ids[i] for i in np.flatnonzero(wide)],
+            out_of=n,
+            matters="A pessimistic value more than ten times the optimistic one usually "
+            "means the scope is unclear and the range is a guess.",
+            cited=(Citation(COMMON),),
+            detail="O = 0 with P > 0 counts as an unbounded spread",
         ),
     ]
 
@@ -359,8 +372,6 @@ def _structure_checks(ids: list[str], net: Network, cpm: CpmResult) -> list[Chec
     start, end = project_ends(net, cpm)
     no_pred = np.flatnonzero(~net.has_pred())
     no_succ = np.flatnonzero(~net.has_succ())
-    extra_starts = [ids[i] for i in no_pred if i != start]
-    extra_ends = [ids[i] for i in no_succ if i != end]
 
     g = nx.Graph()
     g.add_nodes_from(range(n))
@@ -368,58 +379,63 @@ def _structure_checks(ids: list[str], net: Network, cpm: CpmResult) -> list[Chec
     groups = sorted(nx.connected_components(g), key=lambda c: (-len(c), min(c)))
     outside_main = sorted(i for c in groups[1:] for i in c)
     sizes = ", ".join(str(len(c)) for c in groups)
-    redundant = redundant_links(net)
+    closed = (Citation(COMMON, "one start and one finish"),
+              Citation(GAO, f"best practice 2 ({SEQUENCING})", why=True))
     return [
-        _zero_check(
-            "more than one start activity",
-            STRUCTURE,
-            extra_starts,
-            None,
-            "1 activity without predecessors",
-            "Each extra start is an activity whose early dates nothing drives; the "
+        Check(
+            key="extra_starts",
+            name="more than one start activity",
+            group=STRUCTURE,
+            limit=_none(wording="1 activity without predecessors"),
+            activities=[ids[i] for i in no_pred if i != start],
+            out_of=None,
+            matters="Each extra start is an activity whose early dates nothing drives; the "
             "project start should be a single activity or milestone.",
-            "common practice: one start and one finish for a closed network",
-            detail=f"project start taken as {ids[start]} (first listed)"
+            cited=closed,
+            detail=f"project start taken as {ids[start]}, the first listed"
             if start is not None
             else "",
         ),
-        _zero_check(
-            "more than one end activity",
-            STRUCTURE,
-            extra_ends,
-            None,
-            "1 activity without successors",
-            "Each extra end is work whose lateness the project finish never sees.",
-            "common practice: one start and one finish for a closed network",
-            detail=f"project end taken as {ids[end]} (latest early finish)"
+        Check(
+            key="extra_ends",
+            name="more than one end activity",
+            group=STRUCTURE,
+            limit=_none(wording="1 activity without successors"),
+            activities=[ids[i] for i in no_succ if i != end],
+            out_of=None,
+            matters="Each extra end is work whose lateness the project finish never sees.",
+            cited=closed,
+            detail=f"project end taken as {ids[end]}, the latest early finish"
             if end is not None
             else "",
         ),
-        _zero_check(
-            "disconnected groups",
-            STRUCTURE,
-            [ids[i] for i in outside_main],
-            n,
-            "1 connected group",
-            "Activities not linked to the main network cannot affect its finish, so "
-            "their risk is missing from the analysis.",
-            "common practice: one connected network (weakly connected components, networkx)",
+        Check(
+            key="disconnected",
+            name="disconnected groups",
+            group=STRUCTURE,
+            limit=_none(wording="1 connected group"),
+            activities=[ids[i] for i in outside_main],
+            out_of=n,
+            matters="Activities not linked to the main network cannot affect its finish, "
+            "so their risk is missing from the analysis.",
+            cited=(Citation(COMMON, "one connected network"),
+                   Citation(GAO, "best practice 5 (horizontal traceability)", why=True)),
             detail=f"{len(groups)} group(s) of sizes {sizes}; activities outside the largest "
             "are listed"
             if groups
             else "",
         ),
-        _share_check(
-            "redundant links",
-            STRUCTURE,
-            _link_names(ids, net, redundant),
-            net.link_count,
-            5,
-            "links",
-            "A link implied by another path adds nothing today but keeps a dependency "
-            "alive after the path changes, which confuses later edits.",
-            "common practice, no published source; only finish-to-start links without "
-            "lag are judged",
+        Check(
+            key="redundant_links",
+            name="redundant links",
+            group=STRUCTURE,
+            limit=_share(5, "links"),
+            activities=_link_names(ids, net, redundant_links(net)),
+            out_of=net.link_count,
+            matters="A link implied by another path adds nothing today but keeps a "
+            "dependency alive after the path changes, which confuses later edits.",
+            cited=(Citation(COMMON),),
+            detail="only finish-to-start links without lag are judged",
         ),
     ]
 

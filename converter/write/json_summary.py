@@ -62,7 +62,7 @@ def build_json(path: Path, problems, analysis) -> dict:
         "duration_at_confidence": {repr(float(c)): _num(v) for c, v in a.confidence.items()},
         "p_meet_due_all_paths": None if a.p_all_paths is None else {
             "lower": _num(a.p_all_paths[0]), "upper": _num(a.p_all_paths[1])},
-        "finish_date": _iso(cal.finish_date(a.project_mean)) if cal else None,
+        "finish_date": _iso(a.finish_date),
         "path_count": str(a.path_count) if a.path_count > 2**53 else a.path_count,
         "tied_longest_paths": a.tied_longest,
     }
@@ -70,6 +70,7 @@ def build_json(path: Path, problems, analysis) -> dict:
     sim = a.simulation
     acts = []
     cpm = a.cpm
+    dates = a.activity_dates
     for i, ident in enumerate(a.ids):
         row = {
             "id": ident,
@@ -85,10 +86,10 @@ def build_json(path: Path, problems, analysis) -> dict:
             "critical": bool(cpm.critical[i]),
             "criticality": _num(sim.criticality[i]) if sim is not None else None,
             "sensitivity": _num(sim.sensitivity[i]) if sim is not None else None,
-            "early_start_date": _iso(cal.start_date(cpm.es[i])) if cal else None,
-            "early_finish_date": _iso(cal.finish_date(cpm.ef[i])) if cal else None,
-            "late_start_date": _iso(cal.start_date(cpm.ls[i])) if cal else None,
-            "late_finish_date": _iso(cal.finish_date(cpm.lf[i])) if cal else None,
+            "early_start_date": _iso(dates.early_start[i]) if dates else None,
+            "early_finish_date": _iso(dates.early_finish[i]) if dates else None,
+            "late_start_date": _iso(dates.late_start[i]) if dates else None,
+            "late_finish_date": _iso(dates.late_finish[i]) if dates else None,
         }
         acts.append(row)
     data["activities"] = acts

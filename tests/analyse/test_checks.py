@@ -15,7 +15,16 @@ import networkx as nx
 import numpy as np
 import pytest
 
-from converter.analyse.checks import Check, redundant_links, run_checks
+from converter.analyse.checks import (
+    DCMA,
+    GAO,
+    SOURCES,
+    Above,
+    Check,
+    Limit,
+    redundant_links,
+    run_checks,
+)
 from converter.analyse.network import build_network, schedule
 from converter.model import FF, FS, SF, SS
 
@@ -76,7 +85,12 @@ def test_missing_successor_counted_once():
     assert (c.count, c.activities) == (1, ["B"])
     assert c.percent == pytest.approx(25.0)  # 1 of 4 activities
     assert not c.passed
-    assert "DCMA" not in c.source and "Defense Contract Management Agency" in c.source
+    # the threshold's source is the published DCMA pamphlet, cited in full once
+    assert c.cited[0].source is DCMA and c.cited[0].where == "check 1 (logic)"
+    assert "Defense Contract Management Agency" in DCMA.full
+    assert "DCMA-EA PAM 200.1" in DCMA.full and "October 2012" in DCMA.full
+    assert c.source == "DCMA 2012, check 1 (logic); why: GAO 2015, best practice 2 " \
+        "(sequencing all activities)"
 
 
 def test_missing_predecessor_counted_once():
@@ -344,3 +358,59 @@ def test_empty_links_and_sizes_checked():
     cpm = schedule(net, np.ones(2))
     with pytest.raises(ValueError):
         run_checks(["A"], [1], [1], [1], net, cpm)
+
+
+# ------------------------------------------------------------------ structured limits
+
+
+def test_limits_are_numbers_not_text():
+    # DCMA 14-point thresholds (from memory, see the module docstring): missing logic
+    # <= 5% of activities, leads 0, lags <= 5% of links, finish-to-start >= 90% (other
+    # types <= 10%), high float and high duration <= 5% of activities, both above 44
+    # working days. Estimate and structure limits: common practice.
+    ids, links = _chain(6)
+    checks = {c.key: c for c in _run(ids, links, days_per_unit=5.0).values()}
+    assert checks["missing_logic"].limit == Limit(5, "activities")
+    assert checks["leads"].limit == Limit(0, unit="links")
+    assert checks["lags"].limit == Limit(5, "links")
+    assert checks["link_types"].limit.most == 10
+    assert checks["link_types"].limit.share_of == "links"
+    for key in ("high_float", "high_duration"):
+        assert checks[key].limit == Limit(5, "activities")
+        assert checks[key].above == Above(44.0, 1e-9, 5.0)
+    assert checks["redundant_links"].limit == Limit(5, "links")
+    assert checks["extra_starts"].limit.most == 0 and checks["extra_starts"].out_of is None
+    assert checks["missing_logic"].out_of == 6 and checks["lags"].out_of == 5
+    assert len(checks) == 13  # every key is distinct
+
+
+def test_limit_text_is_built_from_the_numbers():
+    assert Limit(5, "activities").text == "<= 5% of activities"
+    assert Limit(10, "links", note="finish-to-start >= 90%").text == (
+        "<= 10% of links (finish-to-start >= 90%)"
+    )
+    assert Limit(0, unit="links").text == "0 links"
+    assert Limit(0, wording="1 connected group").text == "1 connected group"
+
+
+@pytest.mark.parametrize(
+    ("count", "out_of", "passes"),
+    [(1, 20, True), (1, 19, False), (0, 0, True), (1, 0, False), (2, 40, True)],
+)
+def test_share_limit_boundary_in_whole_numbers(count, out_of, passes):
+    # exactly 5% passes (DCMA "<= 5%", from memory); nothing is allowed out of nothing
+    assert Limit(5, "links").allows(count, out_of) is passes
+
+
+def test_above_compares_in_working_days():
+    # 8.8 weeks of 5 days = 44 working days: not above; 8.81 weeks is
+    above = Above(44.0, 1e-9, 5.0)
+    assert above.offends(np.array([8.8, 8.81, 0.0])).tolist() == [False, True, False]
+
+
+def test_every_check_cites_a_listed_source():
+    ids, links = _chain(6)
+    for c in _run(ids, links).values():
+        assert c.cited and all(cit.source in SOURCES for cit in c.cited)
+        assert "from memory" not in c.source
+    assert "GAO-16-89G" in GAO.full and "December 2015" in GAO.full

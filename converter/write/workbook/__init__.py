@@ -11,12 +11,13 @@ from pathlib import Path
 import xlsxwriter
 import xlsxwriter.worksheet
 
+from converter.write.workbook import pages
 from converter.write.workbook.activities import write_activities, write_links
+from converter.write.workbook.health import write_health
 from converter.write.workbook.layout import Layout
 from converter.write.workbook.paths_sheet import write_paths
 from converter.write.workbook.probability import write_probability
 from converter.write.workbook.reference import (
-    write_health,
     write_input,
     write_method,
     write_settings,
@@ -95,7 +96,8 @@ def write_workbook(analysis, path: str | Path) -> None:
     write_input(wb, fmt, analysis, lay)
     write_warnings(wb, fmt, analysis, lay)
     for ws in wb.worksheets():
-        _printable(ws)
+        if not pages.is_set_up(ws):  # sheets that plan their own pages keep their plan
+            _printable(ws)
     wb.close()
 
 

@@ -10,8 +10,6 @@ from __future__ import annotations
 
 import math
 
-import numpy as np
-
 from converter.model import FS, LINK_TYPES
 from converter.write.workbook import formulas as f
 from converter.write.workbook.layout import ACTIVITIES, FIRST, LINKS, Layout
@@ -74,6 +72,7 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
     kinds, lags = net.kind.tolist(), net.lag.tolist()
     cal = a.calendar
     holidays = "Holidays" if (cal is not None and cal.holidays) else None
+    dates = a.activity_dates
     sim = a.simulation
     raw_preds = _predecessor_text(a)
     for i, act in enumerate(a.schedule.activities):
@@ -119,16 +118,15 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
         crit = "Yes" if cpm.critical[i] else "No"
         ws.write_formula(r, c["crit"], f.is_critical(lay.cell(i, "tf")),
                          fmt.critical if cpm.critical[i] else fmt.center, crit)
-        if cal is not None:
-            for key, src, fn, pyfn in (
-                ("es_date", "es", cal.start_date_formula, cal.start_date),
-                ("ef_date", "ef", cal.finish_date_formula, cal.finish_date),
-                ("ls_date", "ls", cal.start_date_formula, cal.start_date),
-                ("lf_date", "lf", cal.finish_date_formula, cal.finish_date),
+        if dates is not None:
+            for key, src, fn, when in (
+                ("es_date", "es", cal.start_date_formula, dates.early_start),
+                ("ef_date", "ef", cal.finish_date_formula, dates.early_finish),
+                ("ls_date", "ls", cal.start_date_formula, dates.late_start),
+                ("lf_date", "lf", cal.finish_date_formula, dates.late_finish),
             ):
-                value = getattr(cpm, src)[i]
                 ws.write_formula(r, c[key], "=" + fn(lay.cell(i, src), "ProjectStart", holidays),
-                                 fmt.date, serial(pyfn(float(value))))
+                                 fmt.date, serial(when[i]))
         if sim is not None:
             ws.write_number(r, c["criticality"], float(sim.criticality[i]), fmt.prob)
             s = float(sim.sensitivity[i])
@@ -172,7 +170,6 @@ def write_links(wb, fmt, a, lay: Layout) -> None:
     ws.freeze_panes(FIRST, 2)
     net, cpm = a.net, a.cpm
     ids = a.ids
-    tol = 1e-9 * max(1.0, abs(cpm.finish))
     for k in range(net.link_count):
         r = FIRST + k
         p, s, kind = int(net.pred[k]), int(net.succ[k]), int(net.kind[k])
@@ -189,9 +186,8 @@ def write_links(wb, fmt, a, lay: Layout) -> None:
         ws.write_formula(r, 6, f.link_pull(kind, lay.cell(s, "ls", True), lay.cell(s, "lf", True),
                                            lag, lay.cell(p, "te", True)),
                          fmt.num, float(a.link_pull[k]))
-        driving = bool(np.abs(cpm.link_slack[k]) <= tol)
         ws.write_formula(r, 7, f.is_critical(f.ref(r, 5)), fmt.center,
-                         "Yes" if driving else "No")
+                         "Yes" if a.link_driving[k] else "No")
     if net.link_count:
         ws.autofilter(FIRST - 1, 0, FIRST + net.link_count - 1, len(LINK_HEADERS) - 1)
     else:

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 from xlsxwriter.utility import quote_sheetname, xl_rowcol_to_cell
 
+from converter.analyse.network import critical_tolerance
 from converter.model import FF, FS, SF, SS
 
 #: Functions newer than the first OOXML edition are stored with the ``_xlfn.`` prefix
@@ -19,6 +20,34 @@ MINIFS = "_xlfn.MINIFS"
 
 #: Longest formula a spreadsheet accepts (Excel's documented limit).
 FORMULA_LIMIT = 8192
+
+
+def number(x: float) -> str:
+    """A number as formula text: ``44``, ``0.5``, ``1E-9`` (shortest round-trip digits).
+
+    Examples
+    --------
+    >>> number(44.0), number(0.5), number(1e-9), number(2.5e-08)
+    ('44', '0.5', '1E-9', '2.5E-8')
+    """
+    text = repr(float(x))
+    if "e" in text:
+        mantissa, exponent = text.split("e")
+        text = f"{mantissa.removesuffix('.0')}E{int(exponent)}"
+    return text.removesuffix(".0")
+
+
+#: The float tolerance relative to the project length, as ``network.critical_tolerance``
+#: computes it: its value for a project of length 0 (or 1) is the factor.
+TOLERANCE_FACTOR = critical_tolerance(0.0)
+
+#: The same rule in words, for the Method sheet.
+TOLERANCE_WORDS = f"within {number(TOLERANCE_FACTOR).lower()} of the project length"
+
+
+def float_tolerance(finish: str) -> str:
+    """Float at or below this counts as zero (``network.critical_tolerance``)."""
+    return f"={number(TOLERANCE_FACTOR)}*MAX(1,ABS({finish}))"
 
 
 def ref(row: int, col: int, sheet: str | None = None, absolute: bool = False) -> str:
@@ -95,6 +124,21 @@ def link_pull(kind: int, succ_ls: str, succ_lf: str, lag: str, pred_te: str) -> 
     if kind == SF:
         return f"={succ_lf}-{lag}+{pred_te}"
     raise ValueError(kind)
+
+
+def share_passes(count: str, out_of: str, most_percent: float) -> str:
+    """"pass" when count <= most_percent % of out_of (in whole numbers: exactly it passes)."""
+    return f'=IF({count}*100<={number(most_percent)}*{out_of},"pass","FAIL")'
+
+
+def count_passes(count: str, most: float) -> str:
+    """"pass" when count <= most."""
+    return f'=IF({count}<={number(most)},"pass","FAIL")'
+
+
+def count_above(values: str, days: float, tolerance: float, days_per_unit: float) -> str:
+    """How many values exceed ``days`` working days (+ tolerance), in schedule units."""
+    return f'=COUNTIF({values},">"&({number(days)}+{number(tolerance)})/{days_per_unit!r})'
 
 
 def z_score(value: str, mean: str, sd: str) -> str:

@@ -28,12 +28,12 @@ def write_probability(wb, fmt, a, lay: Layout) -> None:
         ws.write_string(FIRST - 1, col, h, fmt.header)
     ws.set_row(FIRST - 1, 45)
     r = FIRST
-    for t, p_an, p_sim in a.finish_table:
+    for t, p_an, p_sim, when in a.finish_table:
         ws.write_number(r, 0, t, fmt.num)
-        if cal is not None:
+        if when is not None:
             ws.write_formula(r, 1, "=" + cal.finish_date_formula(f.ref(r, 0), "ProjectStart",
                                                                  holidays),
-                             fmt.date, serial(cal.finish_date(t)))
+                             fmt.date, serial(when))
         ws.write_formula(r, 2, f.p_meet(f.ref(r, 0), "ProjectMean", "ProjectSD"), fmt.prob2,
                          p_an)
         if p_sim is not None:
@@ -71,19 +71,17 @@ def write_probability(wb, fmt, a, lay: Layout) -> None:
     for col, h in enumerate(heads):
         ws.write_string(FIRST - 1, c0 + col, h, fmt.header)
     r = FIRST
-    for conf, d_an, d_sim in a.confidence_table:
+    for conf, d_an, d_sim, date_an, date_sim in a.confidence_table:
         ws.write_number(r, c0, conf, fmt.prob)
         ws.write_formula(r, c0 + 1, f.duration_at(f.ref(r, c0)), fmt.num, d_an)
-        if cal is not None:
+        if date_an is not None:
             ws.write_formula(r, c0 + 2, "=" + cal.finish_date_formula(
-                f.ref(r, c0 + 1), "ProjectStart", holidays), fmt.date,
-                serial(cal.finish_date(d_an)))
+                f.ref(r, c0 + 1), "ProjectStart", holidays), fmt.date, serial(date_an))
         if d_sim is not None:
             ws.write_number(r, c0 + 3, d_sim, fmt.num)
-            if cal is not None:
+            if date_sim is not None:
                 ws.write_formula(r, c0 + 4, "=" + cal.finish_date_formula(
-                    f.ref(r, c0 + 3), "ProjectStart", holidays), fmt.date,
-                    serial(cal.finish_date(d_sim)))
+                    f.ref(r, c0 + 3), "ProjectStart", holidays), fmt.date, serial(date_sim))
         r += 1
     r = max(r, last + 1) + 2
     if a.targets:

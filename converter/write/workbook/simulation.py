@@ -6,8 +6,6 @@ from __future__ import annotations
 import math
 from pathlib import Path
 
-import numpy as np
-
 from converter.write.workbook.layout import SIMULATION, Layout
 from converter.write.workbook.styles import PALETTE
 
@@ -109,7 +107,7 @@ def write_simulation(wb, fmt, a, lay: Layout) -> None:
 
 def _write_histogram(wb, ws, fmt, a, top: int) -> int:
     sim = a.simulation
-    edges, counts = a.histogram
+    hist = a.histogram
     ws.write_string(top, 0, "Histogram of simulated durations", fmt.title)
     heads = ["Bin (up to)", "Iterations", "Share", "Cumulative share",
              "Due date marker (chart)"]
@@ -117,24 +115,17 @@ def _write_histogram(wb, ws, fmt, a, top: int) -> int:
         ws.write_string(top + 1, col, h, fmt.header)
     ws.set_row(top + 1, 30)
     first = top + 2
-    total = float(counts.sum())
-    width = float(edges[1] - edges[0]) if edges.size > 1 else 0.0
-    due_bin = None
-    if a.due is not None and edges.size:
-        idx = int(np.searchsorted(edges, a.due, side="left"))
-        due_bin = idx if idx < edges.size and (edges[idx] - width) <= a.due else None
-    cumulative = 0.0
-    for k, (edge, n) in enumerate(zip(edges.tolist(), counts.tolist())):
+    total, due_bin = hist.iterations, hist.due_bin
+    for k, (edge, n) in enumerate(zip(hist.upper, hist.counts, strict=True)):
         r = first + k
-        cumulative += n
         ws.write_number(r, 0, edge, fmt.num)
         ws.write_number(r, 1, n, fmt.int)
-        ws.write_formula(r, 2, f"=B{r + 1}/{int(total)}", fmt.prob2, n / total)
-        ws.write_formula(r, 3, f"=SUM($B${first + 1}:B{r + 1})/{int(total)}", fmt.prob2,
-                         cumulative / total)
+        ws.write_formula(r, 2, f"=B{r + 1}/{total}", fmt.prob2, hist.share[k])
+        ws.write_formula(r, 3, f"=SUM($B${first + 1}:B{r + 1})/{total}", fmt.prob2,
+                         hist.cumulative[k])
         # the marker column stands a little above the tallest bar so it shows behind it
-        ws.write_number(r, 4, 1.1 * float(max(counts)) if k == due_bin else 0.0, fmt.int)
-    last = first + len(edges) - 1
+        ws.write_number(r, 4, 1.1 * max(hist.counts) if k == due_bin else 0.0, fmt.int)
+    last = first + len(hist.upper) - 1
     chart = wb.add_chart({"type": "column"})
     if due_bin is not None:  # drawn first, full height behind the counts
         chart.add_series({
@@ -187,8 +178,7 @@ def _write_drivers(wb, ws, fmt, a, start: int) -> None:
         ws.write_string(start + 1, col + k, h, fmt.header)
     ws.set_row(start + 1, 32)
     base = start + 2
-    sens = np.nan_to_num(np.asarray(sim.sensitivity, float), nan=0.0)
-    order = sorted(range(len(a.ids)), key=lambda i: (-abs(sens[i]), -sim.criticality[i], i))
+    order = a.drivers
     acts = a.schedule.activities
     for k, i in enumerate(order):
         r = base + k
@@ -212,12 +202,13 @@ def _write_drivers(wb, ws, fmt, a, start: int) -> None:
     bar.set_title({"name": f"Top {top} risk drivers (sensitivity)",
                    "name_font": {"size": 12, "bold": True}})
     bar.set_y_axis({"reverse": True})
-    bar.set_x_axis({"min": -1 if sens.min() < 0 else 0, "max": 1, "num_format": "0.0",
+    negative = any(s < 0 for s in sim.sensitivity.tolist())  # NaN (fixed) is not
+    bar.set_x_axis({"min": -1 if negative else 0, "max": 1, "num_format": "0.0",
                     "major_gridlines": {"visible": True, "line": {"color": "#E3E3E3"}}})
     bar.set_legend({"none": True})
     bar.set_size({"width": 720, "height": 380})
     ws.insert_chart(23, 6, bar)
-    crit_order = sorted(range(len(a.ids)), key=lambda i: (-sim.criticality[i], i))[:top]
+    crit_order = a.most_critical[:top]
     c2 = col
     ctop = base + len(order) + 2
     ws.write_string(ctop - 1, c2, "Most often critical", fmt.title)

@@ -29,7 +29,6 @@ class Formats:
         self.label = add({"bold": True})
         self.text = add({})
         self.wrap = add({"text_wrap": True, "valign": "top"})
-        self.input = add({"bg_color": PALETTE["sand"]})
         self.input_num = add({"bg_color": PALETTE["sand"], "num_format": "0.###"})
         self.num = add({"num_format": NUMBER_FORMAT})
         self.num4 = add({"num_format": "0.0000"})
@@ -49,3 +48,18 @@ class Formats:
         self.critical = add({"bold": True, "font_color": PALETTE["ink"], "align": "center"})
         self.center = add({"align": "center"})
         self.int_center = add({"num_format": "0", "align": "center"})
+        # top-aligned and left-aligned variants for tables with wrapped text
+        self.label_top = add({"bold": True, "valign": "top", "text_wrap": True})
+        self.section = add({"bold": True, "font_color": PALETTE["ink"], "bottom": 1,
+                            "bottom_color": PALETTE["slate"]})
+        self.int_top = add({"num_format": "0", "align": "center", "valign": "top"})
+        self.prob_top = add({"num_format": PROB_FORMAT, "valign": "top"})
+        self.good_top = add({"font_color": PALETTE["moss"], "bold": True, "valign": "top",
+                             "align": "center"})
+        self.flag_top = add({"bold": True, "font_color": PALETTE["clay"], "valign": "top",
+                             "align": "center"})
+        self.subtitle_wrap = add({"italic": True, "font_color": "#555555", "text_wrap": True,
+                                  "valign": "top"})
+        self.left = add({"align": "left", "valign": "top"})
+        self.num_left = add({"align": "left", "valign": "top", "num_format": "General"})
+        self.date_left = add({"num_format": DATE_FORMAT, "align": "left", "valign": "top"})

@@ -6,7 +6,7 @@ from xlsxwriter.utility import xl_rowcol_to_cell
 
 from converter.write.workbook import formulas as f
 from converter.write.workbook.activities import serial
-from converter.write.workbook.layout import ACTIVITIES, FIRST, LINKS, PATHS, SUMMARY, Layout
+from converter.write.workbook.layout import FIRST, PATHS, SUMMARY, Layout
 
 CAUTION = (
     "Caution: these figures are estimates computed from the team's own three-point "
@@ -77,7 +77,7 @@ def write_summary(wb, fmt, a, lay: Layout) -> None:
     if cal is not None:
         ws.write_formula(row, 2, "=" + cal.finish_date_formula("ProjectMean", "ProjectStart",
                                                               holidays),
-                         fmt.big_date, serial(cal.finish_date(a.project_mean)))
+                         fmt.big_date, serial(a.finish_date))
     row = line("Variance along the critical path", lambda r: ws.write_formula(
         r, 1, f"={PATHS}!$C${FIRST + 1}", fmt.num4, a.project_variance),
         "Sum of the variances of the activities on path 1 of the Paths sheet.")
@@ -86,7 +86,7 @@ def write_summary(wb, fmt, a, lay: Layout) -> None:
         r, 1, "=SQRT(ProjectVariance)", fmt.big, a.project_sd))
     wb.define_name("ProjectSD", _abs(row))
     row = line("Float tolerance (counts as zero)", lambda r: ws.write_formula(
-        r, 1, "=1E-9*MAX(1,ABS(ProjectFinish))", fmt.sci, 1e-9 * max(1.0, abs(a.project_mean))))
+        r, 1, f.float_tolerance("ProjectFinish"), fmt.sci, a.float_tolerance))
     wb.define_name("FloatTolerance", _abs(row))
 
     if a.due is not None:
@@ -106,7 +106,7 @@ def write_summary(wb, fmt, a, lay: Layout) -> None:
             if cal is not None:
                 ws.write_formula(row, 2, "=" + cal.finish_date_formula(
                     "DueDuration", "ProjectStart", holidays), fmt.date,
-                    serial(cal.finish_date(a.due)))
+                    serial(a.due_date))
         row = line("z = (due - mean) / sd", lambda r: ws.write_formula(
             r, 1, f.z_score("DueDuration", "ProjectMean", "ProjectSD"), fmt.num4,
             a.z if a.z is not None else "n/a"))
@@ -124,7 +124,7 @@ def write_summary(wb, fmt, a, lay: Layout) -> None:
         if cal is not None:
             ws.write_formula(row, 2, "=" + cal.finish_date_formula(
                 f.ref(row, 1), "ProjectStart", holidays), fmt.date,
-                serial(cal.finish_date(value)))
+                serial(a.confidence_dates[c]))
     crit = " > ".join(a.critical_ids)
     line("Critical path", lambda r: ws.write_string(r, 1, crit[:32000]),
          None if a.tied_longest <= 1 else
@@ -214,7 +214,7 @@ def _path_words(a, k: int) -> str:
 def gap_explanation(a) -> str:
     sim = a.simulation
     parts = []
-    if sim.merge_bias > 1e-9:
+    if sim.merge_bias > a.float_tolerance:
         parts.append(
             f"The simulated mean is {sim.merge_bias:.2f} later than the PERT mean: where parallel "
             "paths merge, the finish is the LATEST of them, and the expected maximum of several "
@@ -247,5 +247,3 @@ def _dt(d):
     import datetime as dt
     return dt.datetime(d.year, d.month, d.day)
 
-
-__all__ = ["write_summary", "ACTIVITIES", "LINKS"]

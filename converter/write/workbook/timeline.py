@@ -3,33 +3,13 @@ drawn after each bar, critical activities in their own colour."""
 
 from __future__ import annotations
 
-import numpy as np
-
 from converter.write.workbook.layout import TIMELINE, Layout
 from converter.write.workbook.styles import PALETTE
-
-#: Above this many activities, only the critical and near-critical ones are charted.
-CHART_LIMIT = 250
-
-
-def chart_rows(a) -> tuple[list[int], bool]:
-    """Activities to chart (sheet order) and whether the list was cut down."""
-    n = len(a.ids)
-    if n <= CHART_LIMIT:
-        return list(range(n)), False
-    keep = {i for pr in a.paths for i in pr.path.activities}
-    if len(keep) < CHART_LIMIT:
-        by_float = np.argsort(a.cpm.total_float, kind="stable")
-        for i in by_float.tolist():
-            if len(keep) >= CHART_LIMIT:
-                break
-            keep.add(i)
-    return sorted(keep)[: max(CHART_LIMIT, 1)], True
 
 
 def write_timeline(wb, fmt, a, lay: Layout) -> None:
     ws = wb.add_worksheet(TIMELINE)
-    rows, cut = chart_rows(a)
+    rows, cut = a.timeline, a.timeline_cut
     ws.write_string(0, 0, "Timeline: early start to early finish, then total float", fmt.title)
     note = ("Dark bars: critical activities; green bars: the others; amber: total float "
             "(how far the activity can slip without moving the finish).")

@@ -1,0 +1,228 @@
+"""Figures the workbook and the JSON show, computed once so the writers only place them.
+
+Tables on round durations (finish probability, durations at confidence), the histogram
+of simulated finishes with the bin that holds the due date, calendar dates, the order
+of risk drivers and of the timeline's activities.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import math
+from dataclasses import dataclass
+from typing import TYPE_CHECKING, NamedTuple
+
+import numpy as np
+
+from converter.analyse import pert
+from converter.analyse.calendar import Calendar
+from converter.analyse.network import CpmResult
+
+if TYPE_CHECKING:
+    from converter.analyse.simulate.runs import SimulationResult
+
+#: Finish-probability table spans the analytic P1..P99.
+TABLE_LOW, TABLE_HIGH = 0.01, 0.99
+
+#: Above this many activities, the timeline charts only the critical and near-critical ones.
+CHART_LIMIT = 250
+
+
+def nice_step(span: float, rows: int = 25) -> float:
+    """A round step (1, 2 or 5 x 10^k) giving about ``rows`` rows over ``span``.
+
+    Examples
+    --------
+    >>> nice_step(37.0), nice_step(0.9, rows=10), nice_step(0.0)
+    (2.0, 0.1, 1.0)
+    """
+    if span <= 0:
+        return 1.0
+    raw = span / rows
+    power = 10.0 ** math.floor(math.log10(raw))
+    for mult in (1, 2, 5, 10):
+        if mult * power >= raw:
+            return mult * power
+    return 10 * power
+
+
+class FinishRow(NamedTuple):
+    """Chance of finishing by ``duration``; ``date`` is the end of the day it falls on."""
+
+    duration: float
+    p_analytic: float
+    p_simulated: float | None
+    date: dt.date | None
+
+
+class ConfidenceRow(NamedTuple):
+    """The duration (and its date) met with chance ``confidence``."""
+
+    confidence: float
+    analytic: float
+    simulated: float | None
+    analytic_date: dt.date | None
+    simulated_date: dt.date | None
+
+
+def _finish_dates(calendar: Calendar | None, offsets: list[float]) -> list[dt.date | None]:
+    if calendar is None or not offsets:
+        return [None] * len(offsets)
+    return calendar.finish_dates(offsets)
+
+
+def finish_table(
+    mean: float, sd: float, simulation: SimulationResult | None, calendar: Calendar | None
+) -> list[FinishRow]:
+    """Durations in round steps from the analytic P1 to P99 (the simulated range if sd is 0)."""
+    from scipy.stats import norm
+
+    if sd > 0:
+        lo, hi = mean + norm.ppf(TABLE_LOW) * sd, mean + norm.ppf(TABLE_HIGH) * sd
+    elif simulation is not None and simulation.sd > 0:
+        lo, hi = simulation.percentile(TABLE_LOW), simulation.percentile(TABLE_HIGH)
+    else:
+        lo = hi = mean
+    step = nice_step(hi - lo)
+    start = math.floor(lo / step) * step
+    stop = math.ceil(hi / step) * step
+    count = int(round((stop - start) / step)) + 1
+    durations = [round(start + k * step, 10) for k in range(count)]
+    dates = _finish_dates(calendar, durations)
+    return [
+        FinishRow(t, pert.p_meet(t, mean, sd),
+                  simulation.p_finish_by(t) if simulation is not None else None, d)
+        for t, d in zip(durations, dates, strict=True)
+    ]
+
+
+def confidence_table(
+    levels: list[float],
+    mean: float,
+    sd: float,
+    simulation: SimulationResult | None,
+    calendar: Calendar | None,
+) -> list[ConfidenceRow]:
+    """For each confidence level, the analytic and the simulated duration with their dates."""
+    rows = []
+    for c in levels:
+        analytic = pert.duration_at(c, mean, sd)
+        simulated = simulation.percentile(c) if simulation is not None else None
+        analytic_date = simulated_date = None
+        if calendar is not None:
+            analytic_date = calendar.finish_date(analytic)
+            if simulated is not None:
+                simulated_date = calendar.finish_date(simulated)
+        rows.append(ConfidenceRow(c, analytic, simulated, analytic_date, simulated_date))
+    return rows
+
+
+def confidence_levels(chosen: tuple[float, ...]) -> list[float]:
+    """5%, 10% ... 90%, 95% and the chosen levels, sorted, without repeats."""
+    return sorted({round(x, 4) for x in (0.05, *np.arange(0.1, 0.91, 0.1), 0.95)} | set(chosen))
+
+
+@dataclass
+class Histogram:
+    """Simulated durations in equal bins.
+
+    ``upper[k]`` is the upper edge of bin ``k``; ``share`` and ``cumulative`` are the
+    count and the running count over the iterations. ``due_bin`` is the bin that holds
+    the due date (None without one, or when it lies outside every bin).
+    """
+
+    upper: list[float]
+    counts: list[int]
+    iterations: int
+    share: list[float]
+    cumulative: list[float]
+    due_bin: int | None
+
+
+def histogram(durations: np.ndarray, due: float | None, bins: int = 30) -> Histogram:
+    """Counts of simulated durations in about ``bins`` bins of a round width.
+
+    Examples
+    --------
+    >>> h = histogram(np.array([1.0, 2.0, 2.5, 4.0]), due=2.2, bins=3)
+    >>> h.upper, h.counts, h.due_bin
+    ([2.0, 3.0, 4.0], [1, 2, 1], 1)
+    """
+    lo, hi = float(durations.min()), float(durations.max())
+    if hi <= lo:
+        edges, counts = np.array([hi]), np.array([durations.size])
+    else:
+        step = nice_step(hi - lo, bins)
+        start = math.floor(lo / step) * step
+        edges = np.arange(start, hi + step, step)
+        if edges[-1] < hi:
+            edges = np.append(edges, edges[-1] + step)
+        counts, _ = np.histogram(durations, bins=edges)
+        edges = edges[1:]
+    total = float(counts.sum())
+    width = float(edges[1] - edges[0]) if edges.size > 1 else 0.0
+    due_bin = None
+    if due is not None and edges.size:
+        k = int(np.searchsorted(edges, due, side="left"))
+        due_bin = k if k < edges.size and (edges[k] - width) <= due else None
+    return Histogram(
+        upper=edges.tolist(),
+        counts=counts.tolist(),
+        iterations=int(total),
+        share=(counts / total).tolist(),
+        cumulative=(np.cumsum(counts) / total).tolist(),
+        due_bin=due_bin,
+    )
+
+
+@dataclass
+class ActivityDates:
+    """Calendar dates of each activity's early and late start and finish."""
+
+    early_start: list[dt.date]
+    early_finish: list[dt.date]
+    late_start: list[dt.date]
+    late_finish: list[dt.date]
+
+
+def activity_dates(calendar: Calendar, cpm: CpmResult) -> ActivityDates:
+    """Start dates (work at the offset) and finish dates (end of the day reached)."""
+    return ActivityDates(
+        early_start=calendar.start_dates(cpm.es),
+        early_finish=calendar.finish_dates(cpm.ef),
+        late_start=calendar.start_dates(cpm.ls),
+        late_finish=calendar.finish_dates(cpm.lf),
+    )
+
+
+def risk_drivers(simulation: SimulationResult) -> list[int]:
+    """Activities by falling absolute sensitivity, then criticality, then sheet order.
+
+    A fixed duration (sensitivity NaN) ranks as sensitivity 0.
+    """
+    sens = np.nan_to_num(np.asarray(simulation.sensitivity, float), nan=0.0)
+    crit = simulation.criticality
+    return sorted(range(sens.size), key=lambda i: (-abs(sens[i]), -crit[i], i))
+
+
+def most_critical(simulation: SimulationResult) -> list[int]:
+    """Activities by falling criticality index, then sheet order."""
+    crit = simulation.criticality
+    return sorted(range(len(crit)), key=lambda i: (-crit[i], i))
+
+
+def timeline_rows(n: int, path_activities: list[list[int]], total_float) -> tuple[list[int], bool]:
+    """Activities the timeline charts (sheet order) and whether the list was cut down.
+
+    Up to :data:`CHART_LIMIT` activities all are charted; beyond, those on the listed
+    paths, then the ones with the least total float.
+    """
+    if n <= CHART_LIMIT:
+        return list(range(n)), False
+    keep = {i for acts in path_activities for i in acts}
+    if len(keep) < CHART_LIMIT:
+        for i in np.argsort(total_float, kind="stable").tolist():
+            if len(keep) >= CHART_LIMIT:
+                break
+            keep.add(i)
+    return sorted(keep)[:CHART_LIMIT], True

@@ -1,0 +1,343 @@
+"""Page set-up: how each sheet prints (orientation, scale, print titles, page breaks).
+
+A sheet is laid on A4 paper. It prints at full size where it fits, scaled down to the page
+width where the text stays readable (at least :data:`MIN_FONT` points), and otherwise in
+bands of columns, one page wide each, repeating the title columns (ID and description)
+and the header rows on every page, in "over, then down" order so that an activity's
+whole row is read on consecutive pages. Rows are broken into pages by hand, so that no
+page is left with a stray row or two: a tiny overflow is taken back by printing a little
+smaller, a larger one is shared evenly among the pages; a chart or a block the caller
+names is never split.
+
+Widths are estimated on the wide side (see :func:`column_points`), so a renderer that
+draws narrower columns only leaves more margin.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+
+from converter.write.workbook.rows import DEFAULT_FONT_SIZE, FONT_NAME
+
+#: The smallest body text a reader should have to read on paper, in points (common
+#: practice for printed tables; 8 pt is the usual floor for footnotes).
+MIN_FONT = 8.0
+
+#: A4 in points (210 x 297 mm).
+A4 = (595.0, 842.0)
+A4_CODE = 9  # the paper code of the spreadsheet format (ECMA-376 paperSize)
+
+#: Margins in inches: left, right, top, bottom; header and footer sit inside top/bottom.
+MARGINS = (0.4, 0.4, 0.55, 0.6)
+HEADER_MARGIN = 0.25
+FOOTER = "&L&A&RPage &P of &N"  # sheet name on the left, page numbers on the right
+
+#: Digit advance in em of the font a renderer actually draws with: Arial is drawn as
+#: Liberation Sans (0.556, its hmtx table) where it is not installed; Calibri, where neither
+#: it nor its twin Carlito is installed, as DejaVu Sans (0.636). Excel itself sizes a column
+#: unit as 7 px (5.25 pt) for both fonts, which is narrower.
+DIGIT_EM = {"Arial": 0.556, "Calibri": 0.636}
+
+#: Safety margin on every estimated width, and the share of the page height planned on.
+WIDTH_MARGIN = 1.03
+HEIGHT_SHARE = 0.96
+
+#: Fixed padding of a column in points (LibreOffice measured about 4-5 pt).
+COLUMN_PAD = 5.0
+
+#: Default row height in points (Excel's 15 pt; a renderer's own optimal height is lower).
+DEFAULT_ROW = 15.0
+
+#: A last page holding fewer rows than this, or less than this share of a page, is stray.
+STRAY_ROWS = 3
+STRAY_SHARE = 0.12
+
+
+def column_points(width_chars: float, font_name: str = FONT_NAME,
+                  font_size: float = DEFAULT_FONT_SIZE) -> float:
+    """Printed width in points of a column ``width_chars`` characters wide (on the wide side).
+
+    Examples
+    --------
+    >>> round(column_points(10, "Arial", 10.0), 1)
+    62.4
+    """
+    digit = DIGIT_EM.get(font_name, max(DIGIT_EM.values())) * font_size
+    return (width_chars * digit + COLUMN_PAD) * WIDTH_MARGIN
+
+
+def printable(landscape: bool, paper: tuple[float, float] = A4) -> tuple[float, float]:
+    """Width and height in points inside the margins of the page.
+
+    Examples
+    --------
+    >>> printable(True)
+    (784.4, 512.2)
+    """
+    short, long = paper
+    width, height = (long, short) if landscape else (short, long)
+    left, right, top, bottom = MARGINS
+    return (round(width - 72.0 * (left + right), 1), round(height - 72.0 * (top + bottom), 1))
+
+
+@dataclass
+class PagePlan:
+    """How a sheet prints; :func:`apply` sets it on an xlsxwriter worksheet."""
+
+    landscape: bool
+    scale: int  # percent
+    col_breaks: list[int] = field(default_factory=list)  # a page starts at these columns
+    row_breaks: list[int] = field(default_factory=list)  # a page starts at these rows
+    header_rows: tuple[int, int] | None = None
+    title_cols: tuple[int, int] | None = None
+    last_row: int = 0
+    last_col: int = 0
+
+    @property
+    def pages_wide(self) -> int:
+        return len(self.col_breaks) + 1
+
+    @property
+    def pages_tall(self) -> int:
+        return len(self.row_breaks) + 1
+
+
+def _bands(widths: list[float], first: int, room: float) -> list[int]:
+    """Columns at which a new page starts when ``widths[first:]`` are laid in ``room``."""
+    breaks, used = [], 0.0
+    for col in range(first, len(widths)):
+        if used > 0 and used + widths[col] > room:
+            breaks.append(col)
+            used = 0.0
+        used += widths[col]
+    return breaks
+
+
+def plan_columns(widths: Sequence[float], title_cols: tuple[int, int] | None,
+                 room: float, min_scale: float) -> tuple[float, list[int]]:
+    """Scale and column breaks for columns ``widths`` (points) on pages ``room`` wide.
+
+    One band when the whole width fits at ``min_scale`` or more; otherwise the fewest bands
+    at ``min_scale``, the title columns repeated on each, then the largest scale that keeps
+    that many bands, the columns shared evenly.
+
+    Examples
+    --------
+    >>> plan_columns([100.0] * 4, None, 500.0, 0.8)
+    (1.0, [])
+    >>> plan_columns([100.0] * 10, (0, 1), 400.0, 0.8)
+    (0.8, [5, 8])
+    """
+    widths = list(widths)
+    total = sum(widths)
+    if total <= room:
+        return 1.0, []
+    if room / total >= min_scale:
+        return room / total, []
+    lead = 0 if title_cols is None else title_cols[1] + 1
+    title = sum(widths[:lead])
+    space = room / min_scale - title
+    if space <= 0 or any(w > space for w in widths[lead:]):  # titles too wide to repeat
+        return min_scale, _bands(widths, 0, room / min_scale)
+    breaks = _bands(widths, lead, space)
+    bands = len(breaks) + 1
+    # share the columns evenly: the narrowest room that still gives the same band count
+    low, high = max(widths[lead:]), space
+    for _ in range(40):
+        mid = (low + high) / 2.0
+        if len(_bands(widths, lead, mid)) + 1 <= bands:
+            high = mid
+        else:
+            low = mid
+    breaks = _bands(widths, lead, high)
+    if lead:
+        breaks = [b for b in breaks if b > lead]
+    widest = max(title + sum(widths[a:b]) for a, b in
+                 zip([lead] + breaks, breaks + [len(widths)]))
+    return min(1.0, room / widest), breaks
+
+
+def plan_rows(heights: Sequence[float], header_rows: tuple[int, int] | None, room: float,
+              keep: Sequence[tuple[int, int]] = ()) -> list[int]:
+    """Row breaks for rows ``heights`` (points, at print scale) on pages ``room`` tall.
+
+    Pages are filled in turn, the header rows repeated at the top of each later page;
+    a block in ``keep`` (first and last row) moves whole to the next page when it would be
+    split (unless it is taller than a page). When the last page would hold a stray row or
+    two, the rows are shared evenly among the pages instead.
+
+    Examples
+    --------
+    >>> plan_rows([10.0] * 25, (0, 0), 100.0)
+    [10, 19]
+    >>> plan_rows([10.0] * 21, (0, 0), 100.0)   # greedy would leave 2 rows alone
+    [8, 15]
+    """
+    breaks = _fill(heights, header_rows, room, keep)
+    if not breaks or not _stray(heights, breaks, room):
+        return breaks
+    pages = len(breaks) + 1
+    low, high = room / pages, room
+    for _ in range(40):  # the smallest page height that still gives this many pages
+        mid = (low + high) / 2.0
+        if len(_fill(heights, header_rows, mid, keep)) + 1 <= pages:
+            high = mid
+        else:
+            low = mid
+    return _fill(heights, header_rows, high, keep)
+
+
+def _fill(heights: Sequence[float], header_rows: tuple[int, int] | None, room: float,
+          keep: Sequence[tuple[int, int]]) -> list[int]:
+    header = 0.0 if header_rows is None else sum(heights[header_rows[0]:header_rows[1] + 1])
+    block_end = {}
+    for first, last in keep:
+        for row in range(first, last + 1):
+            block_end[row] = (first, last)
+    breaks: list[int] = []
+    used = 0.0
+    row = 0
+    while row < len(heights):
+        h = heights[row]
+        start = breaks[-1] if breaks else 0
+        if used + h > room and row > start:
+            first, last = block_end.get(row, (row, row))
+            cut = first if first > start and sum(heights[first:last + 1]) + header <= room \
+                else row
+            breaks.append(cut)
+            row = cut
+            used = header if header_rows is not None and cut > header_rows[1] else 0.0
+            continue
+        used += h
+        row += 1
+    return breaks
+
+
+def _stray(heights: Sequence[float], breaks: list[int], room: float) -> bool:
+    last = heights[breaks[-1]:]
+    return len(last) < STRAY_ROWS or sum(last) < STRAY_SHARE * room
+
+
+def plan(widths_chars: Sequence[float], heights: Sequence[float], *,
+         header_rows: tuple[int, int] | None = None, title_cols: tuple[int, int] | None = None,
+         keep: Sequence[tuple[int, int]] = (), font_name: str = FONT_NAME,
+         font_size: float = DEFAULT_FONT_SIZE, paper: tuple[float, float] = A4) -> PagePlan:
+    """The page set-up of a sheet with columns ``widths_chars`` and rows ``heights`` (pt).
+
+    Parameters
+    ----------
+    widths_chars : sequence of float
+        Width of every printed column, in characters.
+    heights : sequence of float
+        Height of every printed row, in points.
+    header_rows, title_cols : (first, last), optional
+        Rows and columns to repeat on every page.
+    keep : sequence of (first_row, last_row)
+        Blocks (charts, short tables) not to split across pages.
+    font_name, font_size : str, float
+        The sheet's body font: the scale never takes it below :data:`MIN_FONT`.
+    paper : (width, height) in points
+
+    Returns
+    -------
+    PagePlan
+
+    Examples
+    --------
+    >>> p = plan([10, 30] + [9] * 20, [15.0] * 60, header_rows=(3, 3), title_cols=(0, 1),
+    ...          font_name="Arial", font_size=10.0)
+    >>> p.landscape, p.scale, p.pages_wide, p.pages_tall
+    (True, 97, 2, 2)
+    """
+    points = [column_points(w, font_name, font_size) for w in widths_chars]
+    landscape = sum(points) > printable(False, paper)[0]
+    width, height = printable(landscape, paper)
+    height *= HEIGHT_SHARE
+    min_percent = math.ceil(100.0 * min(1.0, MIN_FONT / font_size) - 1e-9)
+    scale, col_breaks = plan_columns(points, title_cols, width, min_percent / 100.0)
+    percent = max(min_percent, min(100, math.floor(scale * 100.0 + 1e-9)))
+    row_breaks = _fill(heights, header_rows, height * 100.0 / percent, keep)
+    if row_breaks and _stray(heights, row_breaks, height * 100.0 / percent):
+        # a tiny overflow: print a little smaller, while the text stays readable
+        for smaller in range(percent - 1, min_percent - 1, -1):
+            fewer = _fill(heights, header_rows, height * 100.0 / smaller, keep)
+            if len(fewer) < len(row_breaks):
+                percent = smaller
+                break
+        row_breaks = plan_rows(heights, header_rows, height * 100.0 / percent, keep)
+    return PagePlan(landscape=landscape, scale=percent, col_breaks=col_breaks,
+                    row_breaks=row_breaks, header_rows=header_rows,
+                    title_cols=title_cols if col_breaks else None,
+                    last_row=len(heights) - 1, last_col=len(widths_chars) - 1)
+
+
+def apply(ws, p: PagePlan) -> None:
+    """Set plan ``p`` on the xlsxwriter worksheet ``ws``."""
+    if p.landscape:
+        ws.set_landscape()
+    else:
+        ws.set_portrait()
+    ws.set_paper(A4_CODE)
+    left, right, top, bottom = MARGINS
+    ws.set_margins(left=left, right=right, top=top, bottom=bottom)
+    ws.set_footer(FOOTER, {"margin": HEADER_MARGIN})
+    ws.print_area(0, 0, p.last_row, p.last_col)
+    ws.set_print_scale(p.scale)
+    if p.header_rows is not None:
+        ws.repeat_rows(*p.header_rows)
+    if p.title_cols is not None:
+        ws.repeat_columns(*p.title_cols)
+    if p.col_breaks:
+        ws.set_v_pagebreaks(p.col_breaks)
+        ws.print_across()
+    if p.row_breaks:
+        ws.set_h_pagebreaks(p.row_breaks)
+
+
+# ------------------------------------------------------------- reading an xlsxwriter sheet
+def sheet_geometry(ws) -> tuple[list[float], list[float], list[tuple[int, int]]]:
+    """Column widths (characters) and row heights (points) of everything printed on ``ws``,
+    cells and charts, and the row span of each chart.
+
+    Reads the worksheet's own bookkeeping (xlsxwriter keeps sizes in pixels: a column of
+    ``w`` characters is ``7 w + 5`` px, a row of ``h`` points ``4 h / 3`` px).
+    """
+    last_row = ws.dim_rowmax if ws.dim_rowmax is not None else 0
+    last_col = ws.dim_colmax if ws.dim_colmax is not None else 0
+    spans = []
+    for row, col, chart, x_offset, y_offset, x_scale, y_scale, anchor, *_ in ws.charts:
+        width = int(0.5 + chart.width * x_scale)
+        height = int(0.5 + chart.height * y_scale)
+        box = ws._position_object_pixels(col, row, x_offset, y_offset, width, height, anchor)
+        col_end, row_end = box[4], box[5]
+        last_row, last_col = max(last_row, row_end), max(last_col, col_end)
+        spans.append((box[1], row_end))
+    widths = []
+    for col in range(last_col + 1):
+        px = ws._size_col(col)
+        widths.append((px - 5) / 7.0 if px >= 12 else px / 12.0)
+    heights = [ws._size_row(row) * 0.75 for row in range(last_row + 1)]
+    return widths, heights, spans
+
+
+def set_up(ws, *, header_rows: tuple[int, int] | None = None,
+           title_cols: tuple[int, int] | None = None, keep: Sequence[tuple[int, int]] = (),
+           font_name: str = FONT_NAME, font_size: float = DEFAULT_FONT_SIZE) -> PagePlan:
+    """Plan and set the page set-up of a finished sheet (call it last); returns the plan.
+
+    ``header_rows`` and ``title_cols`` (first, last) repeat on every page; the rows of each
+    block in ``keep`` and of each chart stay on one page where they fit.
+    """
+    widths, heights, charts = sheet_geometry(ws)
+    p = plan(widths, heights, header_rows=header_rows, title_cols=title_cols,
+             keep=list(keep) + charts, font_name=font_name, font_size=font_size)
+    apply(ws, p)
+    ws.page_plan = p
+    return p
+
+
+def is_set_up(ws) -> bool:
+    """Whether :func:`set_up` has run on ``ws``."""
+    return getattr(ws, "page_plan", None) is not None

@@ -1,0 +1,91 @@
+"""Make the README's page pictures: what a reviewer gets, printed.
+
+Converts a sample, prints the workbook with LibreOffice (PDF) and draws chosen pages as
+PNG with poppler's pdftoppm:
+
+    python tests/pictures/make_pictures.py            # writes samples/pages/*.png
+
+Run it again after a change to the workbook's look, so the pictures stay true. Needs
+LibreOffice (soffice) and poppler-utils.
+"""
+
+from __future__ import annotations
+
+import argparse
+import re
+import shutil
+import subprocess
+import sys
+import tempfile
+from pathlib import Path
+
+REPO = Path(__file__).resolve().parents[2]
+sys.path.insert(0, str(REPO))
+sys.path.insert(0, str(REPO / "tests" / "support"))
+
+from render import page_texts, to_pdf  # noqa: E402
+
+from converter.api import ConvertOptions, convert  # noqa: E402
+
+SAMPLE = REPO / "samples" / "clinic-it-rollout.xlsx"
+OUTDIR = REPO / "samples" / "pages"
+
+#: picture name -> (sheet, which of the sheet's pages, 1 = its first)
+PICTURES = {
+    "summary": ("Summary", 1),
+    "simulation-1": ("Simulation", 1),
+    "simulation-2": ("Simulation", 2),
+    "timeline": ("Timeline", 1),
+}
+
+
+def sheet_pages(pdf: Path) -> dict[str, list[int]]:
+    """Page numbers (from 1) of each sheet, read from the footer's sheet name."""
+    pages: dict[str, list[int]] = {}
+    for number, text in enumerate(page_texts(pdf), start=1):
+        lines = [line for line in text.splitlines() if line.strip()]
+        if not lines or not re.search(r"Page \d+ of \d+\s*$", lines[-1]):
+            continue
+        sheet = re.split(r"\s{2,}", lines[-1].strip())[0]
+        pages.setdefault(sheet, []).append(number)
+    return pages
+
+
+def make_pictures(sample: Path = SAMPLE, outdir: Path = OUTDIR, dpi: int = 70) -> list[Path]:
+    """Write one PNG per entry of :data:`PICTURES` into ``outdir``; returns their paths."""
+    outdir.mkdir(parents=True, exist_ok=True)
+    made = []
+    with tempfile.TemporaryDirectory(prefix="pertbook-pictures-") as tmp:
+        work = Path(tmp)
+        result = convert(sample, ConvertOptions(), outdir=work)
+        if not result.ok:
+            raise SystemExit(f"{sample.name} did not convert: {result.problems}")
+        pdf = to_pdf(work / f"{sample.stem}.analysis.xlsx", work)
+        pages = sheet_pages(pdf)
+        for name, (sheet, k) in PICTURES.items():
+            numbers = pages.get(sheet, [])
+            if len(numbers) < k:
+                continue
+            stem = work / name
+            subprocess.run(["pdftoppm", "-png", "-r", str(dpi), "-f", str(numbers[k - 1]),
+                            "-l", str(numbers[k - 1]), "-singlefile", str(pdf), str(stem)],
+                           check=True, capture_output=True)
+            target = outdir / f"{name}.png"
+            shutil.move(str(stem.with_suffix(".png")), target)
+            made.append(target)
+    return made
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--sample", type=Path, default=SAMPLE)
+    parser.add_argument("--outdir", type=Path, default=OUTDIR)
+    parser.add_argument("--dpi", type=int, default=70)
+    args = parser.parse_args(argv)
+    for path in make_pictures(args.sample, args.outdir, args.dpi):
+        print(path.relative_to(REPO) if path.is_relative_to(REPO) else path)
+    return 0
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())
