@@ -61,9 +61,9 @@ CONFIDENCE_EXAMPLE = "50, 80, 90 or 50%, 80%, 90% or 0.5, 0.8, 0.9"
 def parse_confidence(value: object) -> tuple[float, ...]:
     """Confidence levels as fractions, sorted, from text, a number or a sequence of these.
 
-    A level written with ``%`` is a percentage. A bare number above 1 is a percentage
-    too (``80`` is 80%), one from 0 to 1 a fraction (``0.8``); bare numbers of both kinds
-    in one list are refused as ambiguous. Every level must lie strictly between 0% and
+    A level written with ``%`` is a percentage. A bare number above 1 (in size) is a
+    percentage too (``80`` is 80%), one up to 1 a fraction (``0.8``); bare numbers of both
+    kinds in one list are refused as ambiguous. Every level must lie strictly between 0% and
     100%.
 
     Parameters
@@ -338,9 +338,10 @@ def add_conversion_options(parser: argparse.ArgumentParser) -> None:
     for option in OPTIONS:
         if option.flag is None:
             continue
+        default = "" if option.default == "none" else f" (default {option.default})"
         group.add_argument(option.flag, dest=option.attr, type=_argument_type(option),
                            metavar=option.metavar,
-                           help=f"{option.help} (default {option.default})".replace("%", "%%"))
+                           help=(option.help + default).replace("%", "%%"))
     group.add_argument("--json", action="store_true",
                        help="also write <stem>.analysis.json (also for invalid input)")
     group.add_argument("--no-simulation", action="store_true",
