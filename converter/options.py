@@ -22,16 +22,7 @@ import re
 from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass
 
-from converter.model import (
-    DEFAULT_CONFIDENCE,
-    DEFAULT_ITERATIONS,
-    DEFAULT_PATHS,
-    DEFAULT_SEED,
-    DISTRIBUTIONS,
-    ERROR,
-    Problem,
-    Settings,
-)
+from converter.model import DISTRIBUTIONS, ERROR, Problem, Settings
 from converter.read.values import as_date, as_number, is_blank, normalise
 
 DISTRIBUTION_ALIASES = {
@@ -250,16 +241,16 @@ def parse_working_days(value: object) -> tuple[int, ...]:
 # --------------------------------------------------------------------------- the options
 @dataclass(frozen=True)
 class Option:
-    """One conversion option: its Settings field, parser, default in words and help.
+    """One conversion option: its Settings field, parser and help.
 
     ``attr`` is the :class:`ConvertOptions` field and command-line option (``--due``);
-    ``None`` for options given only on the settings sheet.
+    ``None`` for options given only on the settings sheet. The default is the
+    :class:`~converter.model.Settings` field's own.
     """
 
     setting: str
     attr: str | None
     parse: Callable[[object], object]
-    default: str
     help: str = ""
     metavar: str | None = None
 
@@ -267,33 +258,35 @@ class Option:
     def flag(self) -> str | None:
         return None if self.attr is None else "--" + self.attr.replace("_", "-")
 
-
-def _percent_list(levels: tuple[float, ...]) -> str:
-    return ",".join(f"{c * 100:g}" for c in levels) + "%"
+    @property
+    def default_text(self) -> str:
+        """The default in words, e.g. ``"10000"``, ``"50,80,90,95%"``, ``"none"``."""
+        value = getattr(Settings(), self.setting)
+        if value is None:
+            return "none"
+        if self.setting == "confidence_levels":
+            return ",".join(f"{c * 100:g}" for c in value) + "%"
+        return f"{value:g}" if isinstance(value, float) else str(value)
 
 
 OPTIONS: tuple[Option, ...] = (
-    Option("start_date", "start_date", parse_start_date, "none",
+    Option("start_date", "start_date", parse_start_date,
            "project start date; dates are counted from it", "YYYY-MM-DD"),
-    Option("time_unit", None, parse_time_unit, "working days"),
-    Option("working_days", None, parse_working_days, "Mon-Fri"),
-    Option("due", "due", parse_due, "none",
+    Option("time_unit", None, parse_time_unit),
+    Option("working_days", None, parse_working_days),
+    Option("due", "due", parse_due,
            "due date: a duration in the schedule's time unit (e.g. 60) or a date YYYY-MM-DD "
            "(needs a start date)", "DUE"),
-    Option("iterations", "iterations", parse_iterations, str(DEFAULT_ITERATIONS),
-           "Monte Carlo iterations", "N"),
-    Option("seed", "seed", parse_seed, str(DEFAULT_SEED),
-           "random seed (written into the output)", "S"),
-    Option("distribution", "distribution", parse_distribution, "pert",
+    Option("iterations", "iterations", parse_iterations, "Monte Carlo iterations", "N"),
+    Option("seed", "seed", parse_seed, "random seed (written into the output)", "S"),
+    Option("distribution", "distribution", parse_distribution,
            "duration distribution for the simulation", "|".join(DISTRIBUTIONS)),
-    Option("correlation", "correlation", parse_correlation, "0",
+    Option("correlation", "correlation", parse_correlation,
            "rank correlation among activities of the same group, 0 to below 1", "RHO"),
     Option("confidence_levels", "confidence", parse_confidence,
-           _percent_list(DEFAULT_CONFIDENCE),
            'confidence levels in percent, e.g. "50,80,90" (or "50%,80%" or "0.5,0.8")',
            "LEVELS"),
-    Option("paths", "paths", parse_paths, str(DEFAULT_PATHS),
-           "how many of the longest paths to list", "K"),
+    Option("paths", "paths", parse_paths, "how many of the longest paths to list", "K"),
 )
 BY_SETTING: dict[str, Option] = {o.setting: o for o in OPTIONS}
 
@@ -338,7 +331,7 @@ def add_conversion_options(parser: argparse.ArgumentParser) -> None:
     for option in OPTIONS:
         if option.flag is None:
             continue
-        default = "" if option.default == "none" else f" (default {option.default})"
+        default = "" if option.default_text == "none" else f" (default {option.default_text})"
         group.add_argument(option.flag, dest=option.attr, type=_argument_type(option),
                            metavar=option.metavar,
                            help=(option.help + default).replace("%", "%%"))

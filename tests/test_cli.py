@@ -679,3 +679,14 @@ def test_progress_bar_only_on_a_terminal_and_taken_down(tmp_path):
     quiet = cli.SimulationProgress(Console(file=StringIO(), force_terminal=True), delay=3600)
     quiet(5, 10)  # under the delay: nothing drawn
     assert quiet.bar is None
+
+
+def test_confidence_default_shown_in_help_reads_back_as_the_default():
+    # the issue: the help shows "default 50,80,90,95%"; typed back it must give that default
+    from converter.model import DEFAULT_CONFIDENCE
+    from converter.options import parse_confidence
+
+    text = cli.command_parsers()["convert"].format_help()
+    shown = re.search(r"\(default ([\d,.%]+)\)", text.split("--confidence", 1)[1]).group(1)
+    assert shown == "50,80,90,95%"
+    assert parse_confidence(shown) == DEFAULT_CONFIDENCE == (0.5, 0.8, 0.9, 0.95)
