@@ -687,6 +687,7 @@ def test_confidence_default_shown_in_help_reads_back_as_the_default():
     from converter.options import parse_confidence
 
     text = cli.command_parsers()["convert"].format_help()
-    shown = re.search(r"\(default ([\d,.%]+)\)", text.split("--confidence", 1)[1]).group(1)
+    entry = re.split(r"^  --confidence LEVELS ", text, flags=re.MULTILINE)[1]
+    shown = re.search(r"\(default ([\d,.%]+)\)", entry).group(1)
     assert shown == "50,80,90,95%"
     assert parse_confidence(shown) == DEFAULT_CONFIDENCE == (0.5, 0.8, 0.9, 0.95)
