@@ -19,7 +19,6 @@ import traceback
 from pathlib import Path
 
 from rich.console import Console
-from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeRemainingColumn
 from rich.table import Table
 
 from converter import __version__
@@ -133,13 +132,21 @@ class SimulationProgress:
         self.console = console
         self.delay = delay
         self.start = time.monotonic()
-        self.bar: Progress | None = None
+        self.bar = None  # a rich.progress.Progress once shown
         self.task = None
 
     def __call__(self, done: int, total: int) -> None:
         if self.bar is None:
             if done >= total or time.monotonic() - self.start < self.delay:
                 return
+            from rich.progress import (  # only when shown: keeps start-up quick
+                BarColumn,
+                MofNCompleteColumn,
+                Progress,
+                TextColumn,
+                TimeRemainingColumn,
+            )
+
             self.bar = Progress(TextColumn("simulating"), BarColumn(), MofNCompleteColumn(),
                                 TimeRemainingColumn(), console=self.console, transient=True)
             self.bar.start()
