@@ -6,7 +6,6 @@ import math
 from pathlib import Path
 
 from converter.model import ERROR, LINK_TYPES
-from converter.read.sheets import sha256_of
 
 
 def _num(x) -> float | None:
@@ -20,16 +19,16 @@ def _iso(d) -> str | None:
     return d.isoformat() if d is not None else None
 
 
-def build_json(path: Path, problems, analysis) -> dict:
-    """The JSON document for one input; ``analysis`` is None for invalid input."""
+def build_json(path: Path, problems, analysis, sha256: str | None) -> dict:
+    """The JSON document for one input; ``analysis`` is None for invalid input.
+
+    ``sha256`` is the input's hash as the reader computed it (None when the file could not
+    be opened): nothing here reads the input again.
+    """
     ok = analysis is not None and not any(p.severity == ERROR for p in problems)
-    try:
-        digest = analysis.schedule.sha256 if analysis else sha256_of(path)
-    except OSError:
-        digest = None
     data: dict = {
         "ok": ok,
-        "input": {"file": str(path), "sha256": digest},
+        "input": {"file": str(path), "sha256": sha256},
         "problems": [p.as_dict() for p in problems],
     }
     if analysis is None:
