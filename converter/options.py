@@ -23,7 +23,7 @@ from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass
 
 from converter.model import DISTRIBUTIONS, ERROR, Problem, Settings
-from converter.read.values import as_date, as_number, is_blank, normalise
+from converter.values import as_date, as_number, is_blank, normalise
 
 DISTRIBUTION_ALIASES = {
     "pert": "pert", "beta": "pert", "pertbeta": "pert", "betapert": "pert",

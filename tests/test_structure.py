@@ -19,6 +19,7 @@ PACKAGE = Path(__file__).resolve().parents[1] / "converter"
 #: own part and from parts before it, never from a later one.
 STAGES: tuple[str, ...] = (
     "model",
+    "values",
     "options",
     "read",
     "validate",

@@ -19,7 +19,7 @@ from xlsxwriter.utility import xl_rowcol_to_cell
 
 from converter.model import ERROR, Problem
 from converter.read import SUFFIXES, suffix_list
-from converter.read.values import is_blank, normalise
+from converter.values import is_blank, normalise
 
 #: Accepted header spellings for each activity column (compared after `normalise`).
 ACTIVITY_COLUMNS: dict[str, tuple[str, ...]] = {

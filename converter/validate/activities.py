@@ -20,8 +20,8 @@ from converter.read.sheets import (
     TableMatch,
     cell_name,
 )
-from converter.read.values import as_number, id_text, is_blank
 from converter.validate.problems import Collector
+from converter.values import as_number, id_text, is_blank
 
 FIELD_TITLES = {
     "id": "ID",

@@ -13,8 +13,8 @@ import networkx as nx
 
 from converter.model import LINK_TYPES, Activity, Link
 from converter.read.sheets import TableMatch, cell_name
-from converter.read.values import as_number, id_text, is_blank, normalise
 from converter.validate.problems import Collector
+from converter.values import as_number, id_text, is_blank, normalise
 
 LINK_TYPE_WORDS = {
     "fs": "FS", "finishtostart": "FS", "finishstart": "FS",

@@ -9,7 +9,7 @@ from __future__ import annotations
 from converter.model import WARNING, Problem, Settings
 from converter.options import ConvertOptions, SheetValue, resolve
 from converter.read.sheets import SheetData, cell_name
-from converter.read.values import is_blank, normalise
+from converter.values import is_blank, normalise
 
 SETTING_LABELS: dict[str, tuple[str, ...]] = {
     "start_date": ("start date", "project start", "project start date", "start"),
