@@ -36,6 +36,7 @@ class ConvertOptions:
     start_date: str | None = None
     simulate: bool = True
     progress: object | None = None  # callable(done, total) for the simulation
+    simulation_workers: int | None = None  # simulation processes; None: from usable cores
 
 
 @dataclass

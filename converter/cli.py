@@ -109,7 +109,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("output", metavar="OUT.xlsx")
     p.add_argument("--force", action="store_true", help="replace OUT.xlsx if it exists")
 
-    from converter.drop.watcher import add_watch_arguments
+    from converter.drop import add_watch_arguments
 
     p = sub.add_parser("watch", help="convert every sheet dropped into FOLDER/inbox",
                        epilog=EPILOG_WATCH, formatter_class=argparse.RawDescriptionHelpFormatter)
@@ -269,9 +269,9 @@ def main(argv: list[str] | None = None) -> int:
         return cmd_check(args)
     if args.command == "template":
         return cmd_template(args)
-    from converter.drop.watcher import run_watch
+    from converter.drop import run_watch
 
-    return run_watch(args)
+    return run_watch(args, options_from(args))
 
 
 if __name__ == "__main__":
