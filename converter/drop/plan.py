@@ -111,11 +111,16 @@ def plan_job(name: str, report: Report, files: JobFiles, taken: Taken, stamp: st
 
     Parameters
     ----------
-    name : the input's file name (as dropped).
-    report : what the worker said.
-    files : which results the job folder holds; ``writable`` matters only for an OSError.
-    taken : ``taken(part, file_name)`` is true when ``part`` has a file of that name.
-    stamp : the time stamp for names that would clash (``folder.time_stamp()``).
+    name : str
+        The input's file name, as dropped.
+    report : Report
+        What the worker said.
+    files : JobFiles
+        Which results the job folder holds; ``writable`` matters only for an OSError.
+    taken : callable
+        ``taken(part, file_name)`` is true when ``part`` already has a file of that name.
+    stamp : str
+        The time stamp for names that would clash (``folder.time_stamp()``).
 
     Returns
     -------
