@@ -37,7 +37,8 @@ def test_pool_workers_report_their_ids_and_lead_their_own_group():
         with pytest.raises(BrokenProcessPool):
             pool.submit(pid_and_group).result(timeout=120)
         wait_for(lambda: not any(running(pid) for pid in workers), "the workers to stop")
-        assert pool.worker_pids() == set()
+        # once the pool has reaped them (its own thread joins them) none is listed
+        wait_for(lambda: pool.worker_pids() == set(), "the stopped workers to be unlisted")
     finally:
         pool.shutdown(wait=True)
 
