@@ -11,7 +11,6 @@ output is redirected.
 from __future__ import annotations
 
 import argparse
-import inspect
 import math
 import sys
 import time
@@ -93,7 +92,7 @@ def _build() -> tuple[argparse.ArgumentParser, dict[str, argparse.ArgumentParser
     p.add_argument("output", metavar="OUT.xlsx", help="the workbook to write")
     p.add_argument("--force", action="store_true", help="replace OUT.xlsx if it exists")
 
-    from converter.drop.watcher import add_watch_arguments
+    from converter.drop import add_watch_arguments
 
     p = commands["watch"] = command(
         "watch", "convert every sheet dropped into FOLDER/inbox", EPILOG_WATCH)
@@ -365,16 +364,9 @@ def cmd_template(args) -> int:
 
 
 def cmd_watch(args) -> int:
-    from converter.drop.watcher import run_watch
+    from converter.drop import run_watch
 
-    options = options_from_args(args)
-    # --- SHIM, to be removed by the lead at merge: the agreed contract is
-    # run_watch(args, options); the drop code on this branch still takes run_watch(args)
-    # and builds its options from the same parsed arguments.
-    if len(inspect.signature(run_watch).parameters) < 2:
-        return run_watch(args)
-    # --- end of shim
-    return run_watch(args, options)
+    return run_watch(args, options_from_args(args))
 
 
 COMMANDS = {"convert": cmd_convert, "check": cmd_check, "template": cmd_template,
