@@ -8,6 +8,7 @@ gets the ``ConvertOptions`` built from them. Defaults are the README's ("Command
 from __future__ import annotations
 
 import argparse
+import datetime as dt
 import re
 
 import pytest
@@ -16,6 +17,7 @@ from converter import cli
 from converter.api import ConvertOptions
 from converter.drop import add_watch_arguments, run_watch
 from converter.drop.command import watcher_from_args
+from converter.options import options_from_args
 
 WATCH_FLAGS = ("--interval", "--once", "--workers", "--inbox", "--outbox", "--archive",
                "--failed", "--log", "--once-wait", "--max-backoff", "--quiet")
@@ -65,9 +67,9 @@ def test_cli_watch_builds_convert_options_and_the_watcher():
         "watch", "F", "--due", "2025-03-31", "--json", "--iterations", "500", "--seed", "7",
         "--distribution", "triangular", "--correlation", "0.25", "--paths", "4",
         "--workers", "3", "--inbox", "in", "--log", "none", "--quiet", "--once-wait", "2"])
-    options = cli.options_from(args)
+    options = options_from_args(args)
     assert (options.due, options.json, options.iterations, options.seed) == (
-        "2025-03-31", True, 500, 7)
+        dt.date(2025, 3, 31), True, 500, 7)  # the due parser reads the ISO date
     assert (options.distribution, options.correlation, options.paths) == ("triangular", 0.25, 4)
     w = watcher_from_args(args, options)
     assert w.workers == 3 and w.log_path is None and w.echo is False and w.once_wait == 2.0
@@ -75,7 +77,7 @@ def test_cli_watch_builds_convert_options_and_the_watcher():
     # several conversions side by side: one simulation process each, on a copy
     assert w.options.simulation_workers == 1 and options.simulation_workers is None
     assert w.options.iterations == 500
-    defaults = cli.options_from(cli.build_parser().parse_args(["watch", "F"]))
+    defaults = options_from_args(cli.build_parser().parse_args(["watch", "F"]))
     assert defaults == ConvertOptions()
 
 
