@@ -39,6 +39,7 @@ import pytest
 from helpers import write_xlsx
 from openpyxl.utils import range_boundaries
 from recalc import compare_recalculated
+from reference_cpm import LINK_CODES, reference_cpm
 from scipy.stats import norm
 
 REPO = Path(__file__).resolve().parents[2]
@@ -527,25 +528,40 @@ def test_forward_and_backward_pass_formulas_name_the_linked_rows(made):
 
 
 @pytest.mark.parametrize("key", ["warehouse", "clinic", "typed", "weeks"])
-def test_cached_activity_values_equal_the_json(made, key):
+def test_cached_activity_values_match_an_independent_cpm(made, key):
+    """The Activities sheet's cached figures against outside references.
+
+    TE and variance: the published PERT formulas on the estimates shown (Malcolm et al.
+    1959). Early/late starts and finishes and total float: an independent CPM solved with
+    networkx over the links as read (tests/support/reference_cpm.py).
+    """
     c = made(key)
     ws = c.wb(data_only=True)["Activities"]
     top, cols = activity_columns(ws)
     rows = activity_rows(ws)
-    heads = {"te": "Expected time TE", "variance": "Variance", "es": "Early start",
-             "ef": "Early finish", "ls": "Late start", "lf": "Late finish",
-             "total_float": "Total float", "free_float": "Free float"}
-    for a in c.data["activities"]:
-        r = rows[a["id"]]
-        for key_, head in heads.items():
-            got = ws.cell(r, cols[head]).value
-            assert math.isclose(got, a[key_], rel_tol=1e-12, abs_tol=1e-12), (a["id"], head)
-        assert ws.cell(r, cols["Critical"]).value == ("Yes" if a["critical"] else "No")
-        # TE and variance against the published formulas on the estimates shown
-        o, m, p = (ws.cell(r, cols[h]).value for h in ("Optimistic", "Most likely",
-                                                         "Pessimistic"))
-        assert math.isclose(a["te"], (o + 4 * m + p) / 6, rel_tol=1e-12, abs_tol=1e-12)
-        assert math.isclose(a["variance"], ((p - o) / 6) ** 2, rel_tol=1e-12, abs_tol=1e-12)
+    ids = list(rows)
+    index = {ident: i for i, ident in enumerate(ids)}
+    value = lambda ident, head: ws.cell(rows[ident], cols[head]).value  # noqa: E731
+    te = np.array([value(i, "Expected time TE") for i in ids], dtype=float)
+    for ident in ids:
+        o, m, p = (value(ident, h) for h in ("Optimistic", "Most likely", "Pessimistic"))
+        assert math.isclose(value(ident, "Expected time TE"), (o + 4 * m + p) / 6,
+                            rel_tol=1e-12, abs_tol=1e-12), ident
+        assert math.isclose(value(ident, "Variance"), ((p - o) / 6) ** 2,
+                            rel_tol=1e-12, abs_tol=1e-12), ident
+    links = c.data["links"]  # the links as read from the input (IDs, type, lag)
+    es, ls, finish = reference_cpm(
+        len(ids), [index[lk["from"]] for lk in links], [index[lk["to"]] for lk in links],
+        [LINK_CODES[lk["type"]] for lk in links], [lk["lag"] for lk in links], te)
+    close = lambda a, b: math.isclose(a, b, rel_tol=1e-9, abs_tol=1e-9)  # noqa: E731
+    for i, ident in enumerate(ids):
+        assert close(value(ident, "Early start"), es[i]), (ident, "ES")
+        assert close(value(ident, "Early finish"), es[i] + te[i]), (ident, "EF")
+        assert close(value(ident, "Late start"), ls[i]), (ident, "LS")
+        assert close(value(ident, "Late finish"), ls[i] + te[i]), (ident, "LF")
+        assert close(value(ident, "Total float"), ls[i] - es[i]), (ident, "TF")
+        tol = 1e-9 * max(1.0, abs(finish))  # critical = float within 1e-9 relative
+        assert value(ident, "Critical") == ("Yes" if ls[i] - es[i] <= tol else "No"), ident
 
 
 # --------------------------------------------------------------------------- charts
