@@ -12,16 +12,26 @@ from __future__ import annotations
 
 import argparse
 import math
+import os
 import sys
 import time
 import traceback
+from dataclasses import dataclass
 from pathlib import Path
 
 from rich.console import Console
 from rich.table import Table
 
 from converter import __version__
-from converter.api import ConvertResult, PertbookError, check, convert, output_paths
+from converter.api import (
+    ConvertResult,
+    PertbookError,
+    check,
+    convert,
+    output_paths,
+    process_umask,
+    same_file,
+)
 from converter.model import ERROR
 from converter.options import add_conversion_options, options_from_args
 from converter.read import suffix_list
@@ -268,19 +278,64 @@ def _print_problems(path: str, problems, stream) -> None:
                      "on the workbook's Warnings sheet\n")
 
 
-def _targets(args) -> list[tuple[str, Path, Path]]:
-    """(input, workbook path, JSON path) per input; a second input of the same stem gets
-    ``<stem>-<ext>`` so both results are kept."""
-    out, written = [], set()
-    for name in args.inputs:
-        xlsx, js = output_paths(Path(name), Path(args.outdir) if args.outdir else None)
-        if xlsx.resolve() in written:  # plan.xlsx and plan.csv in one run: keep both
-            tag = Path(name).suffix.lstrip(".").lower()
-            xlsx = xlsx.with_name(f"{Path(name).stem}-{tag}.analysis.xlsx")
-            js = js.with_name(f"{Path(name).stem}-{tag}.analysis.json")
+@dataclass
+class Target:
+    """Where one input's results go, or why it is not converted (``refused``)."""
+
+    name: str
+    xlsx: Path
+    json: Path
+    refused: str | None = None
+
+
+def result_tags(suffix: str):
+    """The tags tried in turn for a result name already given to an earlier input: none,
+    the input's type, then the type counted up.
+
+    Examples
+    --------
+    >>> from itertools import islice
+    >>> list(islice(result_tags(".xlsx"), 4))
+    ['', '-xlsx', '-xlsx-2', '-xlsx-3']
+    """
+    ext = suffix.lstrip(".").lower() or "file"
+    yield ""
+    yield f"-{ext}"
+    n = 2
+    while True:
+        yield f"-{ext}-{n}"
+        n += 1
+
+
+def _key(path: Path) -> str:
+    return os.path.normcase(str(path.resolve()))
+
+
+def _targets(args) -> list[Target]:
+    """Each input's result names, deterministic in argument order: the first input of a
+    stem gets ``<stem>.analysis.xlsx``, a later one ``<stem>-<ext>``, then ``<stem>-<ext>-2``
+    ... (:func:`result_tags`), so no result of the run replaces another. An input whose
+    result would replace a file given as an input of the same run is refused."""
+    outdir = Path(args.outdir) if args.outdir else None
+    inputs = [Path(name) for name in args.inputs]
+    given: set[str] = set()
+    out = []
+    for name, path in zip(args.inputs, inputs):
+        for tag in result_tags(path.suffix):
+            xlsx, js = output_paths(path, outdir, tag)
+            if _key(xlsx) not in given:
+                break
+        if tag:
             sys.stderr.write(f"{name}: another input has the same name; writing {xlsx.name}\n")
-        written.add(xlsx.resolve())
-        out.append((name, xlsx, js))
+        given.add(_key(xlsx))
+        target = Target(name, xlsx, js)
+        for result in (xlsx, js) if args.json else (xlsx,):
+            hit = next((other for other in inputs if same_file(result, other)), None)
+            if hit is not None:
+                target.refused = (f"{name}: not converted: its result {result} would replace "
+                                  f"{hit}, an input of this run; choose another --outdir")
+                break
+        out.append(target)
     return out
 
 
@@ -317,8 +372,13 @@ def cmd_convert(args) -> int:
     options = options_from_args(args)
     out = make_console(sys.stdout)
     worst, shown = EXIT_OK, 0
-    for name, xlsx, js in _targets(args):
-        code, result = _convert_one(args, options, name, xlsx, js)
+    for target in _targets(args):
+        if target.refused:
+            sys.stderr.write(target.refused + "\n")
+            worst = max(worst, EXIT_INVALID, key=_RANK.__getitem__)
+            continue
+        name = target.name
+        code, result = _convert_one(args, options, name, target.xlsx, target.json)
         if code == EXIT_OK and not args.quiet:
             if shown:
                 out.print()  # a blank line between the inputs' headlines
@@ -375,6 +435,7 @@ COMMANDS = {"convert": cmd_convert, "check": cmd_check, "template": cmd_template
 
 def main(argv: list[str] | None = None) -> int:
     """Run ``pertbook``; returns the exit code (a bad argument: 2, with argparse's message)."""
+    process_umask()  # read once, here in the main thread: outputs get the user's usual mode
     parser = build_parser()
     try:
         args = parser.parse_args(argv)

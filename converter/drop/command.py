@@ -28,8 +28,8 @@ def add_watch_arguments(parser: argparse.ArgumentParser) -> None:
     >>> parser = argparse.ArgumentParser()
     >>> add_watch_arguments(parser)
     >>> args = parser.parse_args(["drop", "--once"])
-    >>> (args.folder, args.once, args.interval, args.once_wait, args.max_backoff)
-    ('drop', True, 5.0, 60.0, 60.0)
+    >>> (args.folder, args.once, args.interval, args.once_wait, args.max_backoff, args.stop_wait)
+    ('drop', True, 5.0, 60.0, 60.0, 60.0)
     """
     parser.add_argument("folder", metavar="FOLDER", help="the drop folder (created if missing)")
     parser.add_argument("--interval", type=float, default=5.0, metavar="SECONDS",
@@ -52,6 +52,9 @@ def add_watch_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--max-backoff", type=float, default=60.0, metavar="SECONDS",
                         help="longest wait between retries when a folder cannot be used "
                              "(default %(default)g)")
+    parser.add_argument("--stop-wait", type=float, default=60.0, metavar="SECONDS",
+                        help="after Ctrl+C or SIGTERM, how long the files in hand may take to "
+                             "finish before they go back to the inbox (default %(default)g)")
     parser.add_argument("--quiet", action="store_true",
                         help="log to the file only (without it: also to the terminal)")
 
@@ -74,6 +77,7 @@ def watcher_from_args(args: argparse.Namespace, options: ConvertOptions, **kw) -
         log_path=log_path,
         echo=not args.quiet,
         max_backoff=args.max_backoff,
+        stop_wait=args.stop_wait,
         **kw,
     )
 

@@ -29,6 +29,7 @@ from collections.abc import Callable
 from dataclasses import dataclass, field
 from pathlib import Path
 
+from converter.api import DEFAULT_NAME_MAX, fit_stem, name_limit
 from converter.read import SUFFIXES
 
 ACCEPTED_SUFFIXES = SUFFIXES  # the reader's one list of readable types
@@ -191,10 +192,18 @@ def move_noreplace(src: Path, dst: Path) -> bool:
 
 
 def free_stem(
-    stem: str, suffixes: list[str] | tuple[str, ...], taken: Callable[[str], bool], stamp: str
+    stem: str,
+    suffixes: list[str] | tuple[str, ...],
+    taken: Callable[[str], bool],
+    stamp: str,
+    limit: int = DEFAULT_NAME_MAX,
 ) -> str:
     """``stem``, else ``stem-<stamp>``, else that plus ``-2``, ``-3``...: the first for which
     ``taken(<stem><suffix>)`` is false for every suffix. Pure: ``taken`` answers for the folder.
+
+    Every name fits in ``limit`` bytes (the file system's, :func:`converter.api.name_limit`):
+    a stem too long for it is shortened (:func:`converter.api.fit_stem`), the stamp and
+    count kept whole.
 
     Examples
     --------
@@ -203,20 +212,23 @@ def free_stem(
     'plan-20250314-101502-2'
     >>> free_stem("plan", [".json"], there.__contains__, "20250314-101502")
     'plan'
+    >>> free_stem("p" * 60, [".xlsx"], there.__contains__, "20250314-101502", limit=40)
+    'pppppppppppppppppppppppppp~598b320c'
     """
+
+    def fitted(decoration: str) -> str:
+        return fit_stem(stem, [f"{decoration}{s}" for s in suffixes], limit) + decoration
 
     def free(candidate: str) -> bool:
         return not any(taken(f"{candidate}{s}") for s in suffixes)
 
-    if free(stem):
-        return stem
-    stamped = f"{stem}-{stamp}"
-    if free(stamped):
-        return stamped
-    n = 2
-    while not free(f"{stamped}-{n}"):
+    n = 0
+    while True:
+        decoration = "" if n == 0 else f"-{stamp}" if n == 1 else f"-{stamp}-{n}"
+        candidate = fitted(decoration)
+        if free(candidate):
+            return candidate
         n += 1
-    return f"{stamped}-{n}"
 
 
 def time_stamp() -> str:
@@ -225,8 +237,10 @@ def time_stamp() -> str:
 
 
 def unique_stem(folder: Path, stem: str, suffixes: list[str] | tuple[str, ...]) -> str:
-    """:func:`free_stem` against what is in ``folder`` now, stamped with the current time."""
-    return free_stem(stem, suffixes, lambda name: os.path.lexists(folder / name), time_stamp())
+    """:func:`free_stem` against what is in ``folder`` now, stamped with the current time,
+    fitted to the folder's file-name limit."""
+    return free_stem(stem, suffixes, lambda name: os.path.lexists(folder / name), time_stamp(),
+                     name_limit(folder))
 
 
 def _twin_in(folder: Path, st: os.stat_result) -> Path | None:
@@ -253,7 +267,7 @@ def deliver(src: Path, folder: Path, stem: str, suffix: str) -> Path:
         if twin is not None:
             os.unlink(src)
             return twin
-    name = f"{stem}{suffix}"
+    name = f"{unique_stem(folder, stem, [suffix])}{suffix}"
     for _ in range(1000):
         target = folder / name
         if move_noreplace(src, target):
@@ -266,16 +280,6 @@ def split_name(name: str) -> tuple[str, str]:
     """``("plan.v2", ".xlsx")`` for ``"plan.v2.xlsx"``."""
     p = Path(name)
     return p.stem, p.suffix
-
-
-def can_open(path: Path) -> bool:
-    """True if the file can be opened and read (a writer on Windows may hold a lock)."""
-    try:
-        with open(path, "rb") as fh:
-            fh.read(1)
-    except OSError:
-        return False
-    return True
 
 
 def remove_tree(path: Path) -> None:

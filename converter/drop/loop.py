@@ -15,6 +15,11 @@ Lifecycle of one input (the parts that do each step):
 Folders are polled, not watched: change notifications do not arrive reliably from
 network shares. When a folder cannot be written the watcher logs it, leaves the input
 where it was, and retries with exponential back-off (``health.Health``).
+
+The loop itself never waits on a file: nothing but a regular file is opened (``inbox``,
+``folder.open_check``), and a stop is bounded: after the first Ctrl+C or SIGTERM the files
+in hand get ``stop_wait`` seconds to finish, then the workers are stopped and the files go
+back to the inbox (with ``workers=0`` an alarm interrupts the conversion in this process).
 """
 
 from __future__ import annotations
@@ -23,6 +28,7 @@ import concurrent.futures as cf
 import errno
 import os
 import signal
+import stat
 import threading
 import time
 import traceback
@@ -30,11 +36,11 @@ from collections import deque
 from concurrent.futures.process import BrokenProcessPool
 from pathlib import Path
 
-from converter.api import ConvertOptions, convert
+from converter.api import ConvertOptions, convert, kind_of, process_umask
 from converter.drop import folder as df
 from converter.drop.folder import Job
 from converter.drop.health import Health, close_logger, new_logger, open_log
-from converter.drop.inbox import InboxScan
+from converter.drop.inbox import BUSY, GONE, InboxScan, open_check
 from converter.drop.plan import WORKER_DIED, Report
 from converter.drop.results import Results
 from converter.drop.worker import ConvertFn, InlinePool, WorkerPool, run_conversion, worker_options
@@ -68,6 +74,7 @@ class Watcher:
         max_backoff: float = 60.0,
         stale_after: float = 900.0,
         recover_every: float = 60.0,
+        stop_wait: float = 60.0,
     ) -> None:
         self.layout = df.Layout.under(folder, **(names or {}))
         self.workers = (os.cpu_count() or 1) if workers is None else max(int(workers), 0)
@@ -78,6 +85,7 @@ class Watcher:
         self.once_wait = once_wait
         self.stale_after = stale_after
         self.recover_every = recover_every
+        self.stop_wait = max(float(stop_wait), 0.0)
         if log_path == "":
             log_path = self.layout.root / "pertbook.log"
         self.log_path = Path(log_path) if log_path else None
@@ -95,6 +103,8 @@ class Watcher:
         self._isolate: deque[Job] = deque()  # jobs to rerun alone after a worker died
         self._isolated: Job | None = None
         self._next_recover = 0.0
+        self._stop_deadline: float | None = None
+        self._converting_here = False  # a conversion runs in this process (workers=0)
         self.work: df.WorkArea | None = None
 
     # ------------------------------------------------------------------ running
@@ -109,13 +119,17 @@ class Watcher:
         except KeyboardInterrupt:
             self._abort()
         finally:
+            _disarm_alarm()
             self._close()
             _restore_signals(previous)
         return self.exit_code()
 
     def stop(self) -> None:
-        """Ask the watcher to stop after the files in hand (safe from a signal handler)."""
+        """Ask the watcher to stop after the files in hand, waiting for them at most
+        ``stop_wait`` seconds (safe from a signal handler)."""
         self.stop_requested = True
+        if self._stop_deadline is None:
+            self._stop_deadline = time.monotonic() + self.stop_wait
 
     @property
     def counts(self) -> dict[str, int]:
@@ -144,18 +158,31 @@ class Watcher:
             sig = getattr(signal, name, None)
             if sig is not None:
                 previous[sig] = signal.signal(sig, self._on_signal)
+        if hasattr(signal, "setitimer"):
+            previous[signal.SIGALRM] = signal.signal(signal.SIGALRM, self._on_alarm)
         return previous
 
     def _on_signal(self, signum, frame) -> None:
-        """First Ctrl+C or SIGTERM: finish what is in hand. Second: stop at once."""
+        """First Ctrl+C or SIGTERM: finish what is in hand, within ``stop_wait`` seconds.
+        Second: stop at once."""
         self._signals += 1
         if self._signals > 1:
             raise KeyboardInterrupt
-        self.stop_requested = True
+        self.stop()
+        if self._converting_here and hasattr(signal, "setitimer"):
+            # the conversion runs in this very thread: only an alarm can end it in time
+            signal.setitimer(signal.ITIMER_REAL, max(self.stop_wait, 0.001))
+
+    def _on_alarm(self, signum, frame) -> None:
+        """The stop's time is up while a conversion runs in this process: end it."""
+        if self._converting_here:
+            self.log.warning("the file in hand did not finish within %g s", self.stop_wait)
+            raise KeyboardInterrupt
 
     # ------------------------------------------------------------------ start / stop
 
     def _start(self) -> None:
+        process_umask()  # read once before any worker starts: outputs get the user's mode
         root = self.layout.root
         if not root.parent.is_dir():  # an unmounted share: do not build a local look-alike
             raise FileNotFoundError(errno.ENOENT, "the folder's parent is not there "
@@ -216,6 +243,17 @@ class Watcher:
                 self._stop_announced = True
                 n = len(self._inflight) + len(self._isolate)
                 self.log.info("stopping%s", f" after the {n} file(s) in hand" if n else "")
+            if self._isolate and not self._inflight:  # never started again while stopping
+                jobs = list(self._isolate)
+                self._isolate.clear()
+                self.results.settle_now(jobs)
+                busy = False
+            deadline = self._stop_deadline
+            if busy and deadline is not None and time.monotonic() > deadline:
+                self.log.warning("the files in hand did not finish within %g s",
+                                 self.stop_wait)
+                self._abort()
+                return True
             return not busy
         if not self.once:
             return False
@@ -315,12 +353,16 @@ class Watcher:
 
     def _claim(self, name: str) -> Job | None:
         """Rename ``name`` from the inbox into a new job folder; None if another watcher
-        took it first or its writer still holds it."""
+        took it first, its writer still holds it, or it is not a regular file."""
         src = self.layout.inbox / name
         self.inbox.taken(name)
-        if not df.can_open(src):
-            if os.path.lexists(src):
-                self.inbox.hold(name)  # held open by its writer; try at a later poll
+        why = open_check(src)
+        if why == BUSY:
+            self.inbox.hold(name)  # held open by its writer; try at a later poll
+            return None
+        if why is not None:
+            if why != GONE:
+                self.inbox.refuse(name, why)
             return None
         job_dir = self.work.new_job_dir()
         try:
@@ -331,9 +373,15 @@ class Watcher:
         except OSError:
             df.remove_tree(job_dir)
             raise
+        mode = os.lstat(job_dir / name).st_mode
+        if not stat.S_ISREG(mode):  # swapped since the check: back where it was, untouched
+            df.settle(job_dir, self.layout)
+            self.inbox.refuse(name, kind_of(mode))
+            return None
         return Job(job_dir, name)
 
     def _submit(self, job: Job) -> None:
+        self._converting_here = isinstance(self._pool, InlinePool)
         try:
             future = self._pool.submit(run_conversion, self.convert_fn, job.dir, job.name,
                                        self.options)
@@ -342,18 +390,25 @@ class Watcher:
                 self._isolated = None
             self._isolate.appendleft(job)
             return
+        except KeyboardInterrupt:  # stopped before the job was handed over
+            self._isolate.append(job)  # _abort puts it back in the inbox
+            raise
+        finally:
+            self._converting_here = False
         self._inflight[future] = job
 
     def _collect(self, future: cf.Future) -> None:
-        job = self._inflight.pop(future)
+        job = self._inflight[future]
         try:
-            report = future.result()
+            report = future.result()  # an interrupted inline conversion raises here
         except BrokenProcessPool:
+            self._inflight.pop(future)
             self._pool.broken = True
             self._worker_died(job)
             return
         except Exception:  # noqa: BLE001 - e.g. a result that cannot be unpickled
             report = Report("fault", text=traceback.format_exc())
+        self._inflight.pop(future)
         if self._isolated is job:
             self._isolated = None
         self.results.finish(job, report)
@@ -373,6 +428,11 @@ class Watcher:
         if isinstance(self._pool, WorkerPool):
             self._pool.shutdown(wait=False)
             self._pool = WorkerPool(self.workers)
+
+
+def _disarm_alarm() -> None:
+    if hasattr(signal, "setitimer") and threading.current_thread() is threading.main_thread():
+        signal.setitimer(signal.ITIMER_REAL, 0)
 
 
 def _restore_signals(previous: dict | None) -> None:

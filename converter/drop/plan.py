@@ -9,7 +9,8 @@ carries the plan out; ``folder.settle`` delivers its moves.
 
 Every input ends in exactly one place: ``archive/`` beside its result in ``outbox/``, or
 ``failed/`` beside its problems report. A plan never replaces a file: a name in use is
-stamped with the time (``plan-20250314-101502.analysis.xlsx``), then counted up.
+stamped with the time (``plan-20250314-101502.analysis.xlsx``), then counted up; a name
+longer than the file system takes is shortened to ``<prefix>~<hash>`` (``api.fit_stem``).
 """
 
 from __future__ import annotations
@@ -18,6 +19,7 @@ import errno
 from collections.abc import Callable
 from dataclasses import dataclass
 
+from converter.api import DEFAULT_NAME_MAX
 from converter.drop import folder as df
 from converter.model import Problem
 from converter.write.problems import fault_problem
@@ -106,7 +108,8 @@ class Plan:
 Taken = Callable[[str, str], bool]  # (part, file name) -> a file of that name is there
 
 
-def plan_job(name: str, report: Report, files: JobFiles, taken: Taken, stamp: str) -> Plan:
+def plan_job(name: str, report: Report, files: JobFiles, taken: Taken, stamp: str,
+             limit: int = DEFAULT_NAME_MAX) -> Plan:
     """The plan for the finished job of input ``name``.
 
     Parameters
@@ -121,6 +124,9 @@ def plan_job(name: str, report: Report, files: JobFiles, taken: Taken, stamp: st
         ``taken(part, file_name)`` is true when ``part`` already has a file of that name.
     stamp : str
         The time stamp for names that would clash (``folder.time_stamp()``).
+    limit : int
+        The file system's name limit in bytes (``api.name_limit``): every name planned
+        fits in it, a long stem shortened by ``api.fit_stem`` (``<prefix>~<hash>``).
 
     Returns
     -------
@@ -148,20 +154,21 @@ def plan_job(name: str, report: Report, files: JobFiles, taken: Taken, stamp: st
         result = report.result
         if getattr(result, "ok", False):
             if files.has_xlsx:
-                return _converted(name, result, files.has_json, taken, stamp)
+                return _converted(name, result, files.has_json, taken, stamp, limit)
             text = NO_WORKBOOK
         else:
-            return _invalid(name, result, files.has_json, taken, stamp)
-    return _fault(name, text, files.has_json, taken, stamp)
+            return _invalid(name, result, files.has_json, taken, stamp, limit)
+    return _fault(name, text, files.has_json, taken, stamp, limit)
 
 
-def _converted(name: str, result, has_json: bool, taken: Taken, stamp: str) -> Plan:
+def _converted(name: str, result, has_json: bool, taken: Taken, stamp: str,
+               limit: int) -> Plan:
     stem, suffix = df.split_name(name)
     results = [".analysis.xlsx"] + ([".analysis.json"] if has_json else [])
-    out = df.free_stem(stem, results, lambda file: taken("outbox", file), stamp)
+    out = df.free_stem(stem, results, lambda file: taken("outbox", file), stamp, limit)
     moves = [Move(df.RESULT_JSON, "outbox", out, ".analysis.json")] if has_json else []
     moves.append(Move(df.RESULT_XLSX, "outbox", out, ".analysis.xlsx"))
-    kept = df.free_stem(stem, [suffix], lambda file: taken("archive", file), stamp)
+    kept = df.free_stem(stem, [suffix], lambda file: taken("archive", file), stamp, limit)
     moves.append(Move(name, "archive", kept, suffix))
     note = headline_text(getattr(result, "headline", {}) or {})
     warnings = [p for p in getattr(result, "problems", []) or [] if p.severity != "error"]
@@ -170,27 +177,28 @@ def _converted(name: str, result, has_json: bool, taken: Taken, stamp: str) -> P
     return Plan(CONVERTED, tuple(moves), note)
 
 
-def _invalid(name: str, result, has_json: bool, taken: Taken, stamp: str) -> Plan:
+def _invalid(name: str, result, has_json: bool, taken: Taken, stamp: str, limit: int) -> Plan:
     problems = tuple(getattr(result, "problems", []) or [])
     errors = [p for p in problems if p.severity == "error"]
     first = str(errors[0] if errors else problems[0]) if problems else "no problems"
     note = f"{len(errors)} error{'' if len(errors) == 1 else 's'}; first: {first}"
-    return Plan(INVALID, _to_failed(name, has_json, taken, stamp), note, problems)
+    return Plan(INVALID, _to_failed(name, has_json, taken, stamp, limit), note, problems)
 
 
-def _fault(name: str, text: str, has_json: bool, taken: Taken, stamp: str) -> Plan:
+def _fault(name: str, text: str, has_json: bool, taken: Taken, stamp: str, limit: int) -> Plan:
     summary = text.strip().splitlines()[-1] if text.strip() else "unknown fault"
-    moves = _to_failed(name, has_json, taken, stamp)
+    moves = _to_failed(name, has_json, taken, stamp, limit)
     return Plan(FAULT, moves, summary, (fault_problem(summary),), details=text)
 
 
-def _to_failed(name: str, has_json: bool, taken: Taken, stamp: str) -> tuple[Move, ...]:
+def _to_failed(name: str, has_json: bool, taken: Taken, stamp: str,
+               limit: int) -> tuple[Move, ...]:
     """The input with its problems report (and JSON) into ``failed/``, the input last."""
     stem, suffix = df.split_name(name)
     suffixes = [suffix, ".problems.txt", ".problems.xlsx"]
     if has_json:
         suffixes.append(".problems.json")
-    s = df.free_stem(stem, suffixes, lambda file: taken("failed", file), stamp)
+    s = df.free_stem(stem, suffixes, lambda file: taken("failed", file), stamp, limit)
     moves = [Move(df.RESULT_JSON, "failed", s, ".problems.json")] if has_json else []
     moves.append(Move(df.PROBLEMS_TXT, "failed", s, ".problems.txt"))
     moves.append(Move(df.PROBLEMS_XLSX, "failed", s, ".problems.xlsx"))
@@ -198,11 +206,13 @@ def _to_failed(name: str, has_json: bool, taken: Taken, stamp: str) -> tuple[Mov
     return tuple(moves)
 
 
-def plain_fault_plan(name: str, text: str, taken: Taken, stamp: str) -> Plan:
+def plain_fault_plan(name: str, text: str, taken: Taken, stamp: str,
+                     limit: int = DEFAULT_NAME_MAX) -> Plan:
     """The plan when even the problems report could not be written: the input and a
     plain-text note (``text``, already in the job folder) into ``failed/``."""
     stem, suffix = df.split_name(name)
-    s = df.free_stem(stem, [suffix, ".problems.txt"], lambda file: taken("failed", file), stamp)
+    s = df.free_stem(stem, [suffix, ".problems.txt"], lambda file: taken("failed", file), stamp,
+                     limit)
     moves = (Move(df.PROBLEMS_TXT, "failed", s, ".problems.txt"), Move(name, "failed", s, suffix))
     summary = text.strip().splitlines()[-1] if text.strip() else "unknown fault"
     return Plan(FAULT, moves, summary)

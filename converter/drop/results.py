@@ -17,11 +17,15 @@ import time
 import traceback
 from pathlib import Path
 
+from converter.api import name_limit
 from converter.drop import folder as df
 from converter.drop.folder import Job
 from converter.drop.health import Health
 from converter.drop.plan import RETRY, JobFiles, Plan, Report, plain_fault_plan, plan_job
 from converter.write.problems import write_problems_text, write_problems_xlsx
+
+#: The drop folder's parts that receive files.
+PLACED = ("outbox", "archive", "failed")
 
 
 class Results:
@@ -42,7 +46,7 @@ class Results:
         writable = _writable(job.dir) if report.kind == "oserror" else True
         files = JobFiles((job.dir / df.RESULT_XLSX).exists(),
                          (job.dir / df.RESULT_JSON).exists(), writable)
-        plan = plan_job(job.name, report, files, self._taken, df.time_stamp())
+        plan = plan_job(job.name, report, files, self._taken, df.time_stamp(), self._limit())
         if plan.outcome == RETRY:
             code, text = plan.error or (None, "")
             words = os.strerror(code) if code else (text.strip().splitlines() or ["?"])[-1]
@@ -59,6 +63,10 @@ class Results:
 
     def _taken(self, part: str, name: str) -> bool:
         return os.path.lexists(self.layout.folder(part) / name)
+
+    def _limit(self) -> int:
+        """The shortest file-name limit (bytes) of the folders files are placed in."""
+        return min(name_limit(self.layout.folder(part)) for part in PLACED)
 
     def _prepare(self, job: Job, plan: Plan) -> Plan:
         """Write the plan's problems report and the JSON's input place into the job folder.
@@ -77,7 +85,8 @@ class Results:
         except Exception:  # noqa: BLE001 - the report writer failed: a plain note instead
             text = traceback.format_exc()
             (job.dir / df.PROBLEMS_TXT).write_text(text, encoding="utf-8")
-            return plain_fault_plan(job.name, text, self._taken, df.time_stamp())
+            return plain_fault_plan(job.name, text, self._taken, df.time_stamp(),
+                                    self._limit())
         return plan
 
     def _name_input_in_json(self, job: Job, plan: Plan) -> None:
