@@ -19,7 +19,7 @@ import errno
 from collections.abc import Callable
 from dataclasses import dataclass
 
-from converter.api import DEFAULT_NAME_MAX
+from converter.api import DEFAULT_NAME_MAX, fit_stem
 from converter.drop import folder as df
 from converter.model import Problem
 from converter.write.problems import fault_problem
@@ -198,12 +198,26 @@ def _to_failed(name: str, has_json: bool, taken: Taken, stamp: str,
     suffixes = [suffix, ".problems.txt", ".problems.xlsx"]
     if has_json:
         suffixes.append(".problems.json")
-    s = df.free_stem(stem, suffixes, lambda file: taken("failed", file), stamp, limit)
+    s, own = _failed_stems(name, suffixes, taken, stamp, limit)
     moves = [Move(df.RESULT_JSON, "failed", s, ".problems.json")] if has_json else []
     moves.append(Move(df.PROBLEMS_TXT, "failed", s, ".problems.txt"))
     moves.append(Move(df.PROBLEMS_XLSX, "failed", s, ".problems.xlsx"))
-    moves.append(Move(name, "failed", s, suffix))  # the input last: its report is there
+    moves.append(Move(name, "failed", own, suffix))  # the input last: its report is there
     return tuple(moves)
+
+
+def _failed_stems(name: str, suffixes: list[str], taken: Taken, stamp: str,
+                  limit: int) -> tuple[str, str]:
+    """The stem of the reports in ``failed/`` and the input's own stem there.
+
+    Both are one free stem, so a report sits beside its input; but when only the reports'
+    longer suffixes made the stem too long to fit, the input keeps the name it was
+    dropped with (if that is free), and its reports take the shortened stem.
+    """
+    stem, _ = df.split_name(name)
+    s = df.free_stem(stem, suffixes, lambda file: taken("failed", file), stamp, limit)
+    shortened_only = s != stem and s == fit_stem(stem, suffixes, limit)
+    return s, stem if shortened_only and not taken("failed", name) else s
 
 
 def plain_fault_plan(name: str, text: str, taken: Taken, stamp: str,
@@ -211,9 +225,9 @@ def plain_fault_plan(name: str, text: str, taken: Taken, stamp: str,
     """The plan when even the problems report could not be written: the input and a
     plain-text note (``text``, already in the job folder) into ``failed/``."""
     stem, suffix = df.split_name(name)
-    s = df.free_stem(stem, [suffix, ".problems.txt"], lambda file: taken("failed", file), stamp,
-                     limit)
-    moves = (Move(df.PROBLEMS_TXT, "failed", s, ".problems.txt"), Move(name, "failed", s, suffix))
+    s, own = _failed_stems(name, [suffix, ".problems.txt"], taken, stamp, limit)
+    moves = (Move(df.PROBLEMS_TXT, "failed", s, ".problems.txt"),
+             Move(name, "failed", own, suffix))
     summary = text.strip().splitlines()[-1] if text.strip() else "unknown fault"
     return Plan(FAULT, moves, summary)
 

@@ -20,7 +20,7 @@ from converter.drop.command import watcher_from_args
 from converter.options import options_from_args
 
 WATCH_FLAGS = ("--interval", "--once", "--workers", "--inbox", "--outbox", "--archive",
-               "--failed", "--log", "--once-wait", "--max-backoff", "--quiet")
+               "--failed", "--log", "--once-wait", "--max-backoff", "--stop-wait", "--quiet")
 
 
 def watch_parser() -> argparse.ArgumentParser:
@@ -43,6 +43,7 @@ def test_only_the_watchers_own_options_and_their_defaults():
     assert (args.inbox, args.outbox, args.archive, args.failed) == (
         "inbox", "outbox", "archive", "failed")
     assert (args.log, args.once_wait, args.max_backoff, args.quiet) == (None, 60.0, 60.0, False)
+    assert args.stop_wait == 60.0
     for conversion_option in ("--due", "--json", "--iterations", "--seed"):
         with pytest.raises(SystemExit):
             parser.parse_args(["F", conversion_option, "1"])
@@ -54,6 +55,7 @@ def test_help_shows_every_default():
     assert "(default 5)" in helps["--interval"]
     assert "(default 60)" in helps["--once-wait"]
     assert "(default 60)" in helps["--max-backoff"]
+    assert "(default 60)" in helps["--stop-wait"]
     assert "(default FOLDER/pertbook.log)" in helps["--log"]
     assert "(default one per CPU" in helps["--workers"]
     for part in ("inbox", "outbox", "archive", "failed"):

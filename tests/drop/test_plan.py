@@ -152,6 +152,34 @@ def test_plain_fault_plan_when_the_report_cannot_be_written():
                            ("plan.csv", "failed", f"plan-{STAMP}.csv")]
 
 
+def test_long_names_fit_the_limit_stamped_or_not():
+    # POSIX {NAME_MAX}: bytes of one name; here a small limit stands for the file system's
+    name = "p" * 40 + ".csv"  # fits a 48-byte limit; its derived names would not
+
+    def fits(plan) -> bool:
+        return all(len((m.stem + m.suffix).encode()) <= 48 for m in plan.moves)
+
+    def outbox(plan) -> set[str]:
+        return {m.stem + m.suffix for m in plan.moves if m.part == "outbox"}
+
+    done = plan_job(name, Report("done", ok_result()), JobFiles(True, True), NOTHING, STAMP, 48)
+    assert fits(done)
+    assert done.input_move(name).stem == "p" * 40  # the input keeps its own name
+    stems = {m.stem for m in done.moves if m.part == "outbox"}
+    assert len(stems) == 1 and stems.pop().startswith("p" * 10)
+    taken = taken_in(outbox=outbox(done), archive={name})
+    again = plan_job(name, Report("done", ok_result()), JobFiles(True, True), taken, STAMP, 48)
+    assert fits(again) and not outbox(again) & outbox(done)
+    assert all(m.stem.endswith(f"-{STAMP}") for m in again.moves)  # the stamp kept whole
+
+    bad = plan_job(name, Report("done", bad_result(ERROR)), JobFiles(False, False), NOTHING,
+                   STAMP, 48)
+    assert fits(bad)
+    assert bad.input_move(name).stem == "p" * 40  # only its reports are shortened
+    reports = {m.stem for m in bad.moves if m.source != name}
+    assert len(reports) == 1 and "~" in reports.pop()
+
+
 def test_headline_text_rounds_to_four_figures():
     assert headline_text({"a": 1 / 3, "b": 12, "c": None, "d": "A1-A4"}) == "a=0.3333 b=12 d=A1-A4"
 
