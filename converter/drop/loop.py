@@ -236,6 +236,20 @@ class Watcher:
         self._isolate.clear()
         self.results.settle_now(jobs)
 
+    def _return_isolated(self) -> None:
+        """Stopping: the files waiting to be retried alone go back to the inbox."""
+        while self._isolate:
+            job = self._isolate.popleft()
+            try:
+                df.settle(job.dir, self.layout)
+            except OSError as exc:
+                self.log.error("%s: could not put back (%s); it stays in %s",
+                               job.name, exc, job.dir)
+                self.results.stuck.append(job)
+                continue
+            self.log.info("%s\treturned to the inbox (to be retried at the next start)",
+                          job.name)
+
     def _finished(self) -> bool:
         busy = bool(self._inflight or self._isolate)
         if self.stop_requested:
@@ -244,12 +258,11 @@ class Watcher:
                 n = len(self._inflight) + len(self._isolate)
                 self.log.info("stopping%s", f" after the {n} file(s) in hand" if n else "")
             if self._isolate and not self._inflight:  # never started again while stopping
-                jobs = list(self._isolate)
-                self._isolate.clear()
-                self.results.settle_now(jobs)
-                busy = False
+                self._return_isolated()
+                busy = bool(self._isolate)
             deadline = self._stop_deadline
-            if busy and deadline is not None and time.monotonic() > deadline:
+            running = any(not future.done() for future in self._inflight)
+            if running and deadline is not None and time.monotonic() > deadline:
                 self.log.warning("the files in hand did not finish within %g s",
                                  self.stop_wait)
                 self._abort()

@@ -15,7 +15,6 @@ What is checked against what:
 
 from __future__ import annotations
 
-import logging
 import os
 import signal
 import stat
@@ -130,7 +129,6 @@ def test_a_pipe_swapped_in_after_the_check_goes_back_unopened(tmp_path, monkeypa
     os.mkfifo(inbox / "plan.csv")
     monkeypatch.setattr(loop, "open_check", lambda path: None)  # as if it was a file then
     w = Watcher(root, ConvertOptions(iterations=ITER), workers=0, echo=False, log_path=None)
-    w.log.setLevel(logging.INFO)
     w._start()
     try:
         assert w._claim("plan.csv") is None
@@ -174,6 +172,27 @@ def test_sigterm_stop_is_bounded_when_the_file_in_hand_never_finishes(tmp_path, 
     assert sha(root / "inbox" / "held.csv") == sha(data)  # back where it was dropped
     assert names(root / "outbox") == set() and names(root / "archive") == set()
     assert not work_jobs(root)
+
+
+def test_a_file_waiting_to_be_retried_alone_goes_back_when_stopping(tmp_path):
+    # after a worker died, its files wait to be retried one by one; a stop must not wait
+    # for a retry that is never started while stopping
+    root = tmp_path / "drop"
+    (root / "inbox").mkdir(parents=True)
+    data = schedule_csv(5)
+    (root / "inbox" / "again.csv").write_bytes(data)
+    w = Watcher(root, ConvertOptions(iterations=ITER), workers=0, echo=False, log_path=None)
+    w._start()
+    try:
+        job = w._claim("again.csv")
+        assert job is not None and names(root / "inbox") == set()
+        w._isolate.append(job)
+        w.stop()
+        assert w._finished() is True
+    finally:
+        w._close()
+    assert sha(root / "inbox" / "again.csv") == sha(data)
+    assert w.exit_code() == 0 and not work_jobs(root)
 
 
 # --------------------------------------------------------------------------- long names
