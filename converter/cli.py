@@ -30,7 +30,6 @@ from converter.api import (
     convert,
     output_paths,
     process_umask,
-    same_file,
 )
 from converter.model import ERROR
 from converter.options import add_conversion_options, options_from_args
@@ -311,16 +310,48 @@ def _key(path: Path) -> str:
     return os.path.normcase(str(path.resolve()))
 
 
+class InputIndex:
+    """The inputs of a run by resolved path and by file identity (device, inode), to tell
+    whether an output would replace one of them without comparing every pair."""
+
+    def __init__(self, names: list[str]) -> None:
+        self.by_path: dict[str, str] = {}
+        self.by_inode: dict[tuple[int, int], str] = {}
+        for name in names:
+            self.by_path.setdefault(_key(Path(name)), name)
+            identity = self._identity(Path(name))
+            if identity is not None:
+                self.by_inode.setdefault(identity, name)
+
+    @staticmethod
+    def _identity(path: Path) -> tuple[int, int] | None:
+        try:
+            st = os.stat(path)
+        except (OSError, ValueError):
+            return None
+        return (st.st_dev, st.st_ino) if st.st_ino else None
+
+    def holder(self, path: Path) -> str | None:
+        """The input that ``path`` names (the same path or the same file), if any."""
+        hit = self.by_path.get(_key(path))
+        if hit is None:
+            identity = self._identity(path)
+            hit = self.by_inode.get(identity) if identity is not None else None
+        return hit
+
+
 def _targets(args) -> list[Target]:
     """Each input's result names, deterministic in argument order: the first input of a
     stem gets ``<stem>.analysis.xlsx``, a later one ``<stem>-<ext>``, then ``<stem>-<ext>-2``
     ... (:func:`result_tags`), so no result of the run replaces another. An input whose
-    result would replace a file given as an input of the same run is refused."""
+    result would replace a file given as an input of the same run (the same path, or the
+    same file through a link) is refused."""
     outdir = Path(args.outdir) if args.outdir else None
-    inputs = [Path(name) for name in args.inputs]
+    inputs = InputIndex(args.inputs)
     given: set[str] = set()
     out = []
-    for name, path in zip(args.inputs, inputs):
+    for name in args.inputs:
+        path = Path(name)
         for tag in result_tags(path.suffix):
             xlsx, js = output_paths(path, outdir, tag)
             if _key(xlsx) not in given:
@@ -330,7 +361,7 @@ def _targets(args) -> list[Target]:
         given.add(_key(xlsx))
         target = Target(name, xlsx, js)
         for result in (xlsx, js) if args.json else (xlsx,):
-            hit = next((other for other in inputs if same_file(result, other)), None)
+            hit = inputs.holder(result)
             if hit is not None:
                 target.refused = (f"{name}: not converted: its result {result} would replace "
                                   f"{hit}, an input of this run; choose another --outdir")

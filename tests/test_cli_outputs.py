@@ -192,7 +192,7 @@ def test_umask_is_read_without_changing_it():
 
 
 @pytest.mark.skipif(os.name != "posix", reason="POSIX file modes")
-@pytest.mark.parametrize("umask", [0o022, 0o002])
+@pytest.mark.parametrize("umask", [0o022, 0o002], ids=["umask022", "umask002"])
 def test_outputs_get_the_ordinary_mode_under_the_umask(tmp_path, umask):
     good = good_xlsx(tmp_path / "plan.xlsx")
     bad = write_csv(tmp_path / "bad.csv", [GOOD_ROWS[0], ["A", "a", "Q7", 1, 2, 3]])

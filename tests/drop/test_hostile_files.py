@@ -233,7 +233,7 @@ def test_names_at_the_limit_are_always_placed(tmp_path):
 
 
 # --------------------------------------------------------------------------- modes
-@pytest.mark.parametrize("umask", [0o022, 0o002])
+@pytest.mark.parametrize("umask", [0o022, 0o002], ids=["umask022", "umask002"])
 def test_drop_folder_outputs_get_the_ordinary_mode(tmp_path, umask):
     root = tmp_path / "drop"
     (root / "inbox").mkdir(parents=True)
