@@ -90,6 +90,11 @@ def _too_big(size: int, limits: ReadLimits, verb: str) -> LimitExceeded:
         "PERTBOOK_MAX_UNPACKED_MB.")
 
 
+def _oversized(info: zipfile.ZipInfo) -> Damaged:
+    return Damaged(f"the part {info.filename} unpacks to more than the {info.file_size:,} "
+                   "bytes its entry says (a file made to look small)")
+
+
 class Budget:
     """The unpacked bytes still allowed across all parts of one archive."""
 
@@ -107,8 +112,9 @@ def unpack(data: bytes, info: zipfile.ZipInfo, budget: Budget) -> Iterator[bytes
     """The unpacked bytes of one part, in chunks, whatever its declared size says.
 
     The packed bytes are taken from the local header the central directory points to; the
-    output is counted against ``budget`` as it is produced. A part whose real size differs
-    from its declared one is Damaged (after the whole part is counted).
+    output is counted against ``budget`` as it is produced, and unpacking stops as soon as
+    it passes the part's declared size (Damaged: a part made to look small); a part that
+    ends short of its declared size is Damaged too.
     """
     start = info.header_offset
     if data[start:start + 4] != b"PK\x03\x04":
@@ -122,6 +128,8 @@ def unpack(data: bytes, info: zipfile.ZipInfo, budget: Budget) -> Iterator[bytes
             piece = bytes(packed[at:at + CHUNK])
             budget.spend(len(piece))
             produced += len(piece)
+            if produced > info.file_size:
+                raise _oversized(info)
             yield piece
     else:
         inflate = zlib.decompressobj(-15)
@@ -136,6 +144,8 @@ def unpack(data: bytes, info: zipfile.ZipInfo, budget: Budget) -> Iterator[bytes
                 pending = inflate.unconsumed_tail
                 budget.spend(len(out))
                 produced += len(out)
+                if produced > info.file_size:
+                    raise _oversized(info)
                 if out:
                     yield out
             if inflate.eof:
@@ -143,6 +153,8 @@ def unpack(data: bytes, info: zipfile.ZipInfo, budget: Budget) -> Iterator[bytes
         tail = inflate.flush()  # at most the 32 KB window (RFC 1951)
         budget.spend(len(tail))
         produced += len(tail)
+        if produced > info.file_size:
+            raise _oversized(info)
         if tail:
             yield tail
     if produced != info.file_size:

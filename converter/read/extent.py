@@ -62,16 +62,23 @@ class SheetScan:
     errors: list[tuple[int, int, int, int, str]] = field(default_factory=list)
     far_row: tuple[int, int] = (0, 0)  # the cell that sets ``rows``
     far_column: tuple[int, int] = (0, 0)  # the cell that sets ``columns``
+    #: When given, the scan stops as soon as the sheet alone passes a limit.
+    limits: ReadLimits | None = None
 
     def add(self, row: int, col: int, count_rows: int = 1, count_cols: int = 1) -> None:
         """A value at (row, col), repeated over ``count_rows`` x ``count_cols`` cells."""
         last_row, last_col = row + count_rows - 1, col + count_cols - 1
+        grew = False
         if last_row + 1 > self.rows:
             self.rows = last_row + 1
             self.far_row = (last_row, last_col)
+            grew = True
         if last_col + 1 > self.columns:
             self.columns = last_col + 1
             self.far_column = (last_row, last_col)
+            grew = True
+        if grew and self.limits is not None:
+            check_extents([self], self.limits)
 
     def add_error(self, row: int, col: int, code: str, count_rows: int = 1,
                   count_cols: int = 1) -> None:

@@ -78,7 +78,8 @@ def load_sheets(path: Path, limits: ReadLimits | None = None) -> Loaded:
         else:
             loaded.sheets = _workbook(path, content.data, kind, limits, loaded.notes)
     except LimitExceeded as exc:
-        loaded.problems.append(_problem("too-large", f"{path.name}: {exc}", where, exc.fix,
+        message = str(exc) if exc.sheet else f"{path.name}: {exc}"
+        loaded.problems.append(_problem("too-large", message, where, exc.fix,
                                         sheet=exc.sheet, cell=exc.cell))
     except Encrypted:
         loaded.problems.append(_encrypted(path))

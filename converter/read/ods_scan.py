@@ -23,11 +23,12 @@ import html
 import re
 
 from converter.read.extent import SheetScan
-from converter.read.limits import Damaged
+from converter.read.limits import Damaged, ReadLimits
 from converter.read.xmlscan import TagScanner, attributes
 
 _CELL_END = re.compile(rb"</(?:[A-Za-z_][\w.-]*:)?(?:covered-)?table-cell\s*>")
 _EMPTY_CONTENT = re.compile(rb"\s*</(?:[A-Za-z_][\w.-]*:)?(?:covered-)?table-cell\s*>")
+_ERROR_TYPE = re.compile(rb"""(?:^|\s)(?:[\w.-]+:)?value-type\s*=\s*(["'])error\1""")
 _TEXT = re.compile(rb"<(?:[A-Za-z_][\w.-]*:)?p(?:\s[^>]*)?>([^<]*)<")
 
 
@@ -41,7 +42,8 @@ def _count(attrs: dict[bytes, bytes], key: bytes) -> int:
 class ContentXml:
     """Feeds on content.xml and fills one :class:`SheetScan` per table (sheet)."""
 
-    def __init__(self) -> None:
+    def __init__(self, limits: ReadLimits | None = None) -> None:
+        self.limits = limits
         self.scans: list[SheetScan] = []
         self.depth = 0
         self.row = 0
@@ -49,7 +51,7 @@ class ContentXml:
         self.col = 0
         self.row_last_col = -1
         self.scanner = TagScanner(("table", "table-row", "table-cell", "covered-table-cell"),
-                                  self._tag)
+                                  self._tag, end_names=("table", "table-row"))
 
     def _tag(self, m: re.Match, buf: bytes, final: bool) -> int | None:
         name, end = m.group("name"), bool(m.group("end"))
@@ -80,7 +82,8 @@ class ContentXml:
         self.depth += 1
         if self.depth == 1:  # a table inside a cell's content stays with its sheet
             name = attributes(m.group("attrs")).get(b"name", b"")
-            self.scans.append(SheetScan(html.unescape(name.decode("utf-8", "replace"))))
+            self.scans.append(SheetScan(html.unescape(name.decode("utf-8", "replace")),
+                                        limits=self.limits))
             self.row, self.col, self.row_last_col = 0, 0, -1
         if m.group("attrs").rstrip().endswith(b"/"):
             self.depth -= 1
@@ -89,7 +92,7 @@ class ContentXml:
               empty_element: bool) -> int | None:
         repeat = _count(attrs, b"number-columns-repeated")
         filled = b"value-type" in attrs
-        error = attrs.get(b"value-type") == b"error"
+        error = _ERROR_TYPE.search(m.group("attrs")) is not None
         if not empty_element and not filled:
             if not final and len(buf) - m.end() < 256:
                 return m.start()  # cannot tell yet: see more of the document

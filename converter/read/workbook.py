@@ -84,7 +84,7 @@ def _scan_zip(data: bytes, archive: zipfile.ZipFile, kind: str,
             lower = info.filename.lower()
             if info.filename in named or ("sheet" in lower and lower.endswith(".xml")
                                           and "sharedstrings" not in lower):
-                sheet = SheetXml(named.get(info.filename, info.filename))
+                sheet = SheetXml(named.get(info.filename, info.filename), limits)
                 scanners[info.filename] = sheet.scanner
                 scans.append(sheet.scan)
             elif lower.endswith("sharedstrings.xml"):
@@ -92,7 +92,7 @@ def _scan_zip(data: bytes, archive: zipfile.ZipFile, kind: str,
         order = {name: k for k, name in enumerate(named.values())}
         scans.sort(key=lambda s: order.get(s.name, len(order)))
     else:
-        content = ContentXml()
+        content = ContentXml(limits)
         scanners["content.xml"] = content.scanner
     for info in archive.infolist():
         chunks = unpack(data, info, budget)

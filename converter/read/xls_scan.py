@@ -56,7 +56,7 @@ def scan_xls(data: bytes, limits: ReadLimits) -> list[SheetScan]:
         if kind == BOF:
             current = None
             if pos in sheet_at:
-                current = SheetScan(sheet_at[pos])
+                current = SheetScan(sheet_at[pos], limits=limits)
                 scans.append(current)
         elif kind == FILEPASS:
             raise Encrypted()

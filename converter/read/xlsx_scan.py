@@ -18,28 +18,62 @@ from __future__ import annotations
 import html
 import re
 
-from converter.read.extent import SheetScan, parse_ref
+from converter.read.extent import SheetScan, column_index, parse_ref
 from converter.read.limits import Damaged, LimitExceeded, ReadLimits
 from converter.read.xmlscan import TagScanner, attributes
 
 _CELL_END = re.compile(rb"</(?:[A-Za-z_][\w.-]*:)?c\s*>")
+#: The ways a cell's start tag can begin without a namespace prefix (to count them).
+_CELL_STARTS = (b"<c ", b"<c>", b"<c/", b"<c\t", b"<c\n", b"<c\r")
+#: A cell start tag with a namespace prefix (then the scan goes tag by tag).
+_PREFIXED_CELL = re.compile(rb":c[\s/>]")
+#: A cell start tag of the form spreadsheet programs write, ``r`` first; the groups:
+#: column letters, row digits, ``/`` when the tag is empty. (The literal start lets the
+#: regular expression engine skip ahead quickly.)
+_PLAIN_CELL = re.compile(rb'<c r="([A-Z]{1,3})([0-9]{1,7})"[^<>]*?(/?)>')
 _VALUE = re.compile(rb"<(?:[A-Za-z_][\w.-]*:)?v(?:\s[^>]*)?>([^<]*)<")
 
 
 class SheetXml:
     """Feeds on one worksheet part and fills a :class:`SheetScan`."""
 
-    def __init__(self, name: str):
-        self.scan = SheetScan(name)
+    def __init__(self, name: str, limits: ReadLimits | None = None):
+        self.scan = SheetScan(name, limits=limits)
         self.row = -1
         self.col = -1
-        self.scanner = TagScanner(("row", "c"), self._tag)
+        self.scanner = TagScanner(("row", "c"), self._tag, fast=self._fast)
+
+    def _fast(self, region: bytes) -> bool:
+        """Whole tags of the plain form at C speed; False (scan tag by tag) for anything
+        else: a comment, CDATA or declaration, an error cell, a cell without ``r``."""
+        if b"<!" in region or b't="e"' in region or b"t='e'" in region \
+                or _PREFIXED_CELL.search(region):
+            return False
+        hits = _PLAIN_CELL.findall(region)
+        if len(hits) != sum(region.count(start) for start in _CELL_STARTS):
+            return False
+        valued = [h for h in hits if not h[2]]
+        if valued:
+            letters, digits, _ = zip(*valued)
+            rows = list(map(int, digits))
+            last = max(rows)
+            if last < 1:
+                raise Damaged("a row number is 0")
+            at = rows.index(last)
+            self.scan.add(last - 1, column_index(letters[at].decode()))
+            widest = max(set(letters), key=lambda x: (len(x), x))
+            at = letters.index(widest)
+            self.scan.add(rows[at] - 1, column_index(widest.decode()))
+        if hits:
+            self.row = int(hits[-1][1]) - 1
+            self.col = column_index(hits[-1][0].decode())
+        return True
 
     def _tag(self, m: re.Match, buf: bytes, final: bool) -> int | None:
         if m.group("end"):
             return None
         attrs_text = m.group("attrs")
-        attrs = attributes(attrs_text)
+        attrs = attributes(attrs_text, local=False)  # r and t, as the library reads them
         if m.group("name") == b"row":
             self.row = int(attrs[b"r"]) - 1 if attrs.get(b"r", b"").isdigit() else self.row + 1
             if self.row < 0:

@@ -71,7 +71,7 @@ def test_missing_input_has_no_hash(tmp_path, hash_calls):
 def test_nothing_under_write_reads_or_hashes_the_input():
     # the writers get the hash from the reader; none of them may compute one (common practice:
     # one reading of the input, so the hash describes exactly the bytes that were analysed)
-    for source in (ROOT / "converter" / "write").rglob("*.py"):
-        text = source.read_text(encoding="utf-8")
-        assert "hashlib" not in text and "read_bounded" not in text, source
-        assert "converter.read" not in text, source
+    for module in (ROOT / "converter" / "write").rglob("*.py"):
+        text = module.read_text(encoding="utf-8")
+        assert "hashlib" not in text and "read_bounded" not in text, module
+        assert "converter.read" not in text, module
