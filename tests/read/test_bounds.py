@@ -2,12 +2,13 @@
 
 Each case is crafted in tmp_path (tests/read/crafted.py) and read in a child process that
 reports its peak resident memory (``VmHWM`` of /proc/self/status on Linux, else
-``resource.getrusage(RUSAGE_SELF).ru_maxrss``) and runs under an address-space cap, so a regression fails here instead of
-taking the machine down. Before this reader, python-calamine aborted the process on the
-stray-cell cases ("memory allocation of 549755813888 bytes failed", exit 134; observed
-here with python-calamine 0.9.1) and reserved memory for a shared string table's declared
-count. The limits are the reader's documented defaults (converter/read/limits.py); the
-expected extents are worked out by hand from the cells written.
+``resource.getrusage(RUSAGE_SELF).ru_maxrss``) and runs under an address-space cap, so a
+regression fails here instead of taking the machine down. Before this reader,
+python-calamine aborted the process on the stray-cell cases ("memory allocation of
+549755813888 bytes failed", exit 134; observed here with python-calamine 0.9.1) and
+reserved memory for a shared string table's declared count. The limits are the reader's
+documented defaults (converter/read/limits.py); the expected extents are worked out by
+hand from the cells written.
 """
 
 from __future__ import annotations
