@@ -173,6 +173,8 @@ def _error_cells(raw: RawInput) -> list[Problem]:
         places.append((raw.settings, 0, {"label": 0, "value": 1}, None))
     out: list[Problem] = []
     for sheet, first, columns, ident_col in places:
+        if not sheet.error_cells:
+            continue
         found = 0
         for r in range(first, len(sheet.rows)):
             row = sheet.rows[r]

@@ -96,7 +96,8 @@ def _workbook(path: Path, data: bytes, kind: str, limits: ReadLimits,
     expected = {".xlsx": "xlsx", ".xlsm": "xlsx", ".xls": "xls", ".ods": "ods"}
     if expected[path.suffix.lower()] != kind:
         notes.append(f"{path.name} is {WORDS[kind]} by its content; it was read as one.")
-    return [SheetData(name=name, rows=rows) for name, rows in read_cells(data, scans, limits)]
+    return [SheetData(name=name, rows=rows, error_cells=errors)
+            for name, rows, errors in read_cells(data, scans, limits)]
 
 
 def _header_rank(rows: list[list[object]]) -> tuple[int, int]:

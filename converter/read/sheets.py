@@ -70,10 +70,12 @@ def cell_name(row: int, col: int) -> str:
 
 @dataclass
 class SheetData:
-    """One sheet's values from A1; blanks are ``None``."""
+    """One sheet's values from A1; blanks are ``None``, error cells CellError."""
 
     name: str
     rows: list[list[object]]
+    #: How many cells hold an error value (CellError); 0 lets checks skip the sheet.
+    error_cells: int = 0
 
     def value(self, r: int, c: int) -> object:
         if r < len(self.rows) and c < len(self.rows[r]):

@@ -105,8 +105,9 @@ def _scan_zip(data: bytes, archive: zipfile.ZipFile, kind: str,
 
 
 # --------------------------------------------------------------------------- reading cells
-def read_cells(data: bytes, scans: list[SheetScan], limits: ReadLimits) -> list[tuple[str, list]]:
-    """(sheet name, rows from A1) of every worksheet, read with python-calamine.
+def read_cells(data: bytes, scans: list[SheetScan],
+               limits: ReadLimits) -> list[tuple[str, list, int]]:
+    """(sheet name, rows from A1, error cells) of every worksheet, read with python-calamine.
 
     Raises Damaged when the library fails in any way (a panic included).
     """
@@ -121,8 +122,7 @@ def read_cells(data: bytes, scans: list[SheetScan], limits: ReadLimits) -> list[
         for name in names:
             sheet = book.get_sheet_by_name(name)
             rows = _rows(sheet, name, limits)
-            _place_errors(rows, errors.get(name, []))
-            sheets.append((name, rows))
+            sheets.append((name, rows, _place_errors(rows, errors.get(name, []))))
         return sheets
     except (KeyboardInterrupt, SystemExit):
         raise
@@ -148,8 +148,10 @@ def _rows(sheet, name: str, limits: ReadLimits) -> list[list[object]]:
     width = right + 1
     rows: list[list[object]] = [[None] * width for _ in range(top)]
     pad = [None] * left
-    for values in sheet.iter_rows():
-        rows.append(pad + [cell_value(v) for v in values])
+    for values in sheet.iter_rows():  # text and numbers inline: most cells are one of them
+        rows.append(pad + [(v.strip() or None) if v.__class__ is str
+                           else (int(v) if v.is_integer() else v) if v.__class__ is float
+                           else cell_value(v) for v in values])
     return rows
 
 
@@ -176,8 +178,10 @@ def cell_value(value: object) -> object:
     return value  # int, date, time, timedelta
 
 
-def _place_errors(rows: list[list[object]], blocks: list) -> None:
-    """Put a CellError where the file has an error cell (the library reads it as blank)."""
+def _place_errors(rows: list[list[object]], blocks: list) -> int:
+    """Put a CellError where the file has an error cell (the library reads it as blank);
+    returns how many were placed."""
+    placed = 0
     for row, col, count_rows, count_cols, code in blocks:
         marker = CellError(code)
         for r in range(row, min(row + count_rows, len(rows))):
@@ -185,3 +189,5 @@ def _place_errors(rows: list[list[object]], blocks: list) -> None:
             for c in range(col, min(col + count_cols, len(line))):
                 if line[c] is None:
                     line[c] = marker
+                    placed += 1
+    return placed

@@ -23,8 +23,8 @@ from converter.read.limits import Damaged, LimitExceeded, ReadLimits
 from converter.read.xmlscan import TagScanner, attributes
 
 _CELL_END = re.compile(rb"</(?:[A-Za-z_][\w.-]*:)?c\s*>")
-#: The ways a cell's start tag can begin without a namespace prefix (to count them).
-_CELL_STARTS = (b"<c ", b"<c>", b"<c/", b"<c\t", b"<c\n", b"<c\r")
+#: A cell's start tag without a namespace prefix (to count them).
+_CELL_START = re.compile(rb"<c[\s/>]")
 #: A cell start tag with a namespace prefix (then the scan goes tag by tag).
 _PREFIXED_CELL = re.compile(rb":c[\s/>]")
 #: A cell start tag of the form spreadsheet programs write, ``r`` first; the groups:
@@ -50,7 +50,7 @@ class SheetXml:
                 or _PREFIXED_CELL.search(region):
             return False
         hits = _PLAIN_CELL.findall(region)
-        if len(hits) != sum(region.count(start) for start in _CELL_STARTS):
+        if len(hits) != len(_CELL_START.findall(region)):
             return False
         valued = [h for h in hits if not h[2]]
         if valued:
