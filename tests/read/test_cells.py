@@ -154,3 +154,14 @@ def test_two_most_likely_columns_are_a_warning_naming_both(tmp_path):
     assert p.severity == "warning" and (p.sheet, p.cell) == ("Activities", "G1")
     assert "E1" in p.message and "G1" in p.message and "the first, E1, is used" in p.message
     assert [a.most_likely for a in schedule.activities] == [2, 4]  # column E, not G
+
+
+def test_values_read_show_as_the_user_typed_them(tmp_path):
+    # for messages: the date a user typed in a duration cell, not Python's repr of it
+    import datetime as dt
+
+    from converter.values import as_written
+
+    rows = [HEADER, ["A", "a", None, dt.date(2024, 3, 1), dt.datetime(2024, 1, 2, 10, 30), 3.0]]
+    row = read_input(write_xlsx(tmp_path / "d.xlsx", {"Activities": rows})).raw.sheets[0].rows[1]
+    assert [as_written(v) for v in row[3:]] == ["2024-03-01", "2024-01-02 10:30", "3"]
