@@ -104,3 +104,32 @@ def id_text(value: object) -> str:
     if _INTEGRAL_TEXT.match(text):
         return text.split(".")[0]
     return text
+
+
+def as_written(value: object) -> str:
+    """A cell's value the way the user sees it in the sheet, for messages (not ``repr``).
+
+    Dates show as ``YYYY-MM-DD``, a time of day as ``HH:MM`` (seconds when they are not
+    zero), whole numbers without ``.0``, text as it is, an error cell as its error text.
+
+    Examples
+    --------
+    >>> import datetime as dt
+    >>> as_written(dt.date(2024, 3, 1)), as_written(dt.datetime(2024, 1, 2, 10, 30))
+    ('2024-03-01', '2024-01-02 10:30')
+    >>> as_written(dt.time(8, 0)), as_written(3.0), as_written(2.5), as_written(" NA ")
+    ('08:00', '3', '2.5', 'NA')
+    """
+    if isinstance(value, dt.datetime):
+        if value.time() == dt.time(0):
+            return value.date().isoformat()
+        return value.strftime("%Y-%m-%d %H:%M" if not value.second else "%Y-%m-%d %H:%M:%S")
+    if isinstance(value, dt.date):
+        return value.isoformat()
+    if isinstance(value, dt.time):
+        return value.strftime("%H:%M" if not value.second else "%H:%M:%S")
+    if isinstance(value, float) and math.isfinite(value) and value.is_integer():
+        return str(int(value))
+    if isinstance(value, float):
+        return repr(value)
+    return str(value).strip()

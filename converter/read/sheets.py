@@ -1,25 +1,31 @@
 """Files -> sheets of raw values with their places; header matching.
 
-Workbooks (.xlsx .xlsm .xls .ods) are read with pandas' ``calamine`` engine
-(python-calamine); .csv with the standard csv module as text (ragged rows and title
-lines above the header are common in exported CSV files). Values keep their sheet
-position (row 0 = sheet row 1, column 0 = column A) so every problem can name its cell.
-The reader only reads: it never writes to or moves the input.
+What the other stages use from the reader: :func:`read_input`, the sheets it gives
+(:class:`SheetData`, :class:`TableMatch`, :class:`RawInput`) and the header spellings.
+Workbooks (.xlsx .xlsm .xls .ods) are read with python-calamine, after the checks of
+:mod:`converter.read.load`; .csv with the standard csv module as text (ragged rows and
+title lines above the header are common in exported CSV files). Values keep their sheet
+position (row 0 = sheet row 1, column 0 = column A) so every problem can name its cell,
+and are kept as written: text stays text (``NA`` and ``None`` too), an error cell is a
+:class:`~converter.read.extent.CellError`. Which sheet is which is decided in
+:mod:`converter.read.choose`. The reader only reads: it never writes to or moves the input.
 """
 
 from __future__ import annotations
 
-import datetime as dt
-import hashlib
-import re
 from dataclasses import dataclass, field
 from pathlib import Path
 
 from xlsxwriter.utility import xl_rowcol_to_cell
 
 from converter.model import ERROR, Problem
-from converter.read import SUFFIXES, suffix_list
+from converter.read.extent import CellError
+from converter.read.limits import ReadLimits
 from converter.values import is_blank, normalise
+
+__all__ = ["ACTIVITY_COLUMNS", "CellError", "LINK_COLUMNS", "REQUIRED_ACTIVITY", "RawInput",
+           "ReadLimits", "ReadResult", "SheetData", "TableMatch", "cell_name", "match_header",
+           "read_input", "read_sheets"]
 
 #: Accepted header spellings for each activity column (compared after `normalise`).
 ACTIVITY_COLUMNS: dict[str, tuple[str, ...]] = {
@@ -48,12 +54,13 @@ ACTIVITY_SHEET_NAMES = ("activities", "activity", "tasks", "task", "schedule", "
 SETTINGS_SHEET_NAMES = ("settings", "options", "parameters", "project settings", "setup")
 LINK_SHEET_NAMES = ("links", "relationships", "dependencies", "logic", "link list")
 
+#: Rows of each sheet searched for the header row.
 HEADER_SEARCH_ROWS = 30
 
-
-_ALIASES_ACT = {normalise(a): k for k, v in ACTIVITY_COLUMNS.items() for a in v}
-_ALIASES_LINK = {normalise(a): k for k, v in LINK_COLUMNS.items() for a in v}
-_ALIASES_LINK["lead/lag"] = "lag"
+ACTIVITY_ALIASES = {normalise(a): k for k, v in ACTIVITY_COLUMNS.items() for a in v}
+LINK_ALIASES = {normalise(a): k for k, v in LINK_COLUMNS.items() for a in v}
+LINK_ALIASES["lead/lag"] = "lag"
+_ALIASES_ACT, _ALIASES_LINK = ACTIVITY_ALIASES, LINK_ALIASES  # the former names
 
 
 def cell_name(row: int, col: int) -> str:
@@ -63,10 +70,12 @@ def cell_name(row: int, col: int) -> str:
 
 @dataclass
 class SheetData:
-    """One sheet's values from A1; blanks are ``None``."""
+    """One sheet's values from A1; blanks are ``None``, error cells CellError."""
 
     name: str
     rows: list[list[object]]
+    #: How many cells hold an error value (CellError); 0 lets checks skip the sheet.
+    error_cells: int = 0
 
     def value(self, r: int, c: int) -> object:
         if r < len(self.rows) and c < len(self.rows[r]):
@@ -86,6 +95,8 @@ class TableMatch:
     header_row: int  # 0-based
     columns: dict[str, int]
     headers: list[str]
+    #: A field named by two columns: (field, the column used, the other column), 0-based.
+    duplicates: list[tuple[str, int, int]] = field(default_factory=list)
 
     def score(self) -> int:
         return len(self.columns)
@@ -102,6 +113,14 @@ class RawInput:
     settings: SheetData | None = None
     links: TableMatch | None = None
     notes: list[str] = field(default_factory=list)
+    #: What was searched for the activity header and why each sheet was passed over, one
+    #: sentence per sheet (for a message when no activity list is found).
+    searched: list[str] = field(default_factory=list)
+
+    def search_summary(self) -> str:
+        """The search in one paragraph: ``"Searched ...: Plan: ...; Settings: ..."``."""
+        return (f"Searched the first {HEADER_SEARCH_ROWS} rows of each sheet for the header "
+                "row: " + " ".join(self.searched)) if self.searched else ""
 
 
 @dataclass
@@ -118,178 +137,84 @@ class ReadResult:
     problems: list[Problem]
 
 
-def sha256_of(path: Path) -> str:
-    """The SHA-256 of a file's bytes, as hex, read in 1 MB blocks (FIPS 180-4 via hashlib)."""
-    h = hashlib.sha256()
-    with open(path, "rb") as f:
-        for block in iter(lambda: f.read(1 << 20), b""):
-            h.update(block)
-    return h.hexdigest()
+def read_input(path: str | Path, limits: ReadLimits | None = None) -> ReadResult:
+    """Read one input file; a file that cannot be read is a problem, not an exception.
 
+    Parameters
+    ----------
+    path
+        The file. Only a regular file is opened, never a pipe, device or folder.
+    limits
+        File size, unpacked size, rows, columns and cells allowed; default
+        ``ReadLimits.from_environment()`` (the constants of :mod:`converter.read.limits`,
+        each adjustable with its ``PERTBOOK_MAX_...`` environment variable).
 
-def _digest_or_none(path: Path) -> str | None:
-    try:
-        return sha256_of(path)
-    except OSError:  # missing, a folder, no permission: the problem is reported elsewhere
-        return None
-
-
-def _clean(value: object) -> object:
-    if is_blank(value):
-        return None
-    if hasattr(value, "to_pydatetime"):  # pandas Timestamp
-        value = value.to_pydatetime()
-    if isinstance(value, dt.datetime) and value.time() == dt.time(0):
-        return value.date()
-    if isinstance(value, str):
-        return value.strip()
-    if hasattr(value, "item") and not isinstance(value, (str, bytes)):  # numpy scalar
-        return value.item()
-    return value
-
-
-def _frame_rows(frame) -> list[list[object]]:
-    return [[_clean(v) for v in row] for row in frame.itertuples(index=False, name=None)]
-
-
-def read_sheets(path: Path) -> list[SheetData]:
-    """All sheets of a workbook or the single table of a CSV file, values from A1."""
-    import pandas as pd
-
-    suffix = path.suffix.lower()
-    if suffix == ".csv":
-        return [SheetData(name=path.name, rows=read_csv_rows(path))]
-    frames = pd.read_excel(path, sheet_name=None, header=None, engine="calamine")
-    return [SheetData(name=str(name), rows=_frame_rows(frame)) for name, frame in frames.items()]
-
-
-CSV_DELIMITERS = (",", ";", "\t", "|")
-
-
-def read_csv_rows(path: Path) -> list[list[object]]:
-    """Rows of a CSV file as text (ragged rows allowed, title lines above the header too).
-
-    The delimiter is the candidate seen most often outside quotes in the first 64 KB,
-    so a title line without any delimiter does not mislead it. Encodings tried: UTF-8
-    (with or without BOM), then Windows-1252, which spreadsheet exports often use.
+    Returns
+    -------
+    ReadResult
+        The sheets with the activity, links and settings sheets chosen (``raw``; None when
+        the file cannot be read), the problems met while reading (errors and warnings,
+        each naming the file or the sheet and cell), and the SHA-256 of the bytes read.
     """
-    import csv
+    from converter.read.choose import choose_sheets
+    from converter.read.load import load_sheets
 
-    data = path.read_bytes()
-    for encoding in ("utf-8-sig", "cp1252"):
-        try:
-            text = data.decode(encoding)
-            break
-        except UnicodeDecodeError:
-            continue
-    else:
-        text = data.decode("latin-1")
-    sample = re.sub(r'"[^"]*"', "", text[:65536])
-    counts = {d: sample.count(d) for d in CSV_DELIMITERS}
-    delimiter = max(CSV_DELIMITERS, key=lambda d: (counts[d], d == ","))
-    rows = []
-    for row in csv.reader(text.splitlines(), delimiter=delimiter):
-        rows.append([_clean(v) for v in row])
-    return rows
+    path = Path(path)
+    loaded = load_sheets(path, limits)
+    if loaded.sheets is None or loaded.problems:
+        return ReadResult(path, loaded.sha256, None, loaded.problems)
+    sheets = loaded.sheets
+    if not sheets or all(s.empty for s in sheets):
+        name = sheets[0].name if sheets else path.name
+        return ReadResult(path, loaded.sha256, None, [Problem(
+            ERROR, "empty", f"the sheet {name} is empty: no activities", sheet=name, cell="A1",
+            fix="Put a header row (ID, Predecessors, Optimistic, Most likely, Pessimistic) and "
+                "one row per activity.")])
+    raw = RawInput(path=path, sha256=loaded.sha256, sheets=sheets, notes=list(loaded.notes))
+    problems = choose_sheets(raw)
+    return ReadResult(path, loaded.sha256, raw, problems)
 
 
-def match_header(sheet: SheetData, aliases: dict[str, str]) -> TableMatch | None:
-    """The row (among the first rows) that names the most known columns."""
+def read_sheets(path: Path, limits: ReadLimits | None = None) -> list[SheetData]:
+    """All sheets of a workbook, or the single table of a CSV file, values from A1.
+
+    Raises ValueError with the reader's message when the file cannot be read.
+    """
+    from converter.read.load import load_sheets
+
+    loaded = load_sheets(Path(path), limits)
+    if loaded.sheets is None or loaded.problems:
+        raise ValueError("; ".join(p.message for p in loaded.problems) or "unreadable")
+    return loaded.sheets
+
+
+def match_header(sheet: SheetData, aliases: dict[str, str], first: int = 0,
+                 last: int = HEADER_SEARCH_ROWS) -> TableMatch | None:
+    """The row (of rows ``first`` to ``last - 1``) that names the most known columns.
+
+    A field named twice keeps its first column; the other is listed in ``duplicates``.
+    """
     best: TableMatch | None = None
-    for r, row in enumerate(sheet.rows[:HEADER_SEARCH_ROWS]):
+    for r in range(first, min(last, len(sheet.rows))):
+        row = sheet.rows[r]
         columns: dict[str, int] = {}
+        duplicates: list[tuple[str, int, int]] = []
         for c, v in enumerate(row):
-            if is_blank(v) or not isinstance(v, str):
+            if not isinstance(v, str) or is_blank(v):
                 continue
             key = aliases.get(normalise(v))
             if key and key not in columns:
                 columns[key] = c
+            elif key:
+                duplicates.append((key, columns[key], c))
         if len(columns) >= 2 and (best is None or len(columns) > best.score()):
             headers = ["" if is_blank(v) else str(v) for v in row]
-            best = TableMatch(sheet=sheet, header_row=r, columns=columns, headers=headers)
+            best = TableMatch(sheet=sheet, header_row=r, columns=columns, headers=headers,
+                              duplicates=duplicates)
     return best
 
 
-def _named(sheet: SheetData, names: tuple[str, ...]) -> bool:
+def named(sheet: SheetData, names: tuple[str, ...]) -> bool:
+    """Whether the sheet's name is one of ``names`` (compared like headers)."""
     n = normalise(sheet.name)
     return any(n == normalise(x) for x in names)
-
-
-def read_input(path: str | Path) -> ReadResult:
-    """Read one input file; a file that cannot be read is a problem, not an exception."""
-    path = Path(path)
-    digest = _digest_or_none(path) if path.is_file() else None
-    raw, problems = _read(path, digest)
-    return ReadResult(path=path, sha256=digest, raw=raw, problems=problems)
-
-
-def _read(path: Path, digest: str | None) -> tuple[RawInput | None, list[Problem]]:
-    where = path.name
-    if not path.exists():
-        return None, [Problem(ERROR, "file-missing", f"file not found: {path}", sheet=where,
-                              fix="Check the file name and folder.")]
-    if path.is_dir():
-        return None, [Problem(ERROR, "not-a-file", f"{path} is a folder, not a file",
-                              sheet=where)]
-    if path.suffix.lower() not in SUFFIXES:
-        return None, [Problem(
-            ERROR, "unreadable",
-            f"{path.name} is not a readable workbook: the file type {path.suffix or '(none)'} "
-            f"is not one of {', '.join(SUFFIXES)}",
-            sheet=where, fix=f"Save the activity list as {suffix_list()}.")]
-    try:
-        sheets = read_sheets(path)
-    except PermissionError as exc:
-        return None, [Problem(ERROR, "unreadable", f"{path.name} cannot be opened: {exc}",
-                              sheet=where)]
-    except Exception as exc:  # calamine/pandas raise many types for damaged files
-        detail = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
-        return None, [Problem(
-            ERROR, "unreadable", f"{path.name} is not a readable workbook ({detail})",
-            sheet=where, fix="Open the file in a spreadsheet program and save it again.")]
-    if not sheets or all(s.empty for s in sheets):
-        name = sheets[0].name if sheets else where
-        return None, [Problem(ERROR, "empty", f"the sheet {name} is empty: no activities",
-                              sheet=name, cell="A1",
-                              fix="Put a header row (ID, Predecessors, Optimistic, Most likely, "
-                                  "Pessimistic) and one row per activity.")]
-    raw = RawInput(path=path, sha256=digest, sheets=sheets)
-    _choose_sheets(raw)
-    return raw, []
-
-
-def _choose_sheets(raw: RawInput) -> None:
-    """Find the activity sheet by its headers, the settings and links sheets by name/headers."""
-    settings = [s for s in raw.sheets if _named(s, SETTINGS_SHEET_NAMES)]
-    raw.settings = settings[0] if settings else None
-    candidates: list[tuple[tuple, TableMatch]] = []
-    for pos, sheet in enumerate(raw.sheets):
-        if sheet is raw.settings:
-            continue
-        m = match_header(sheet, _ALIASES_ACT)
-        if m is None:
-            continue
-        has_required = sum(k in m.columns for k in REQUIRED_ACTIVITY)
-        rank = (has_required, _named(sheet, ACTIVITY_SHEET_NAMES), m.score(), -pos)
-        candidates.append((rank, m))
-    if candidates:
-        candidates.sort(key=lambda t: t[0], reverse=True)
-        raw.activity = candidates[0][1]
-        if len(raw.sheets) > 1:
-            rank = candidates[0][0]
-            why = ("its name and its column headers mark it as the activity list" if rank[1]
-                   else "it has the most recognised column headers")
-            raw.notes.append(
-                f"Activity sheet: {raw.activity.sheet.name} (of {len(raw.sheets)} sheets; {why})."
-            )
-    for sheet in raw.sheets:
-        if sheet is raw.settings or (raw.activity and sheet is raw.activity.sheet):
-            continue
-        m = match_header(sheet, _ALIASES_LINK)
-        if m and "pred" in m.columns and "succ" in m.columns:
-            if raw.links is None or _named(sheet, LINK_SHEET_NAMES):
-                raw.links = m
-    if raw.links:
-        raw.notes.append(f"Links sheet: {raw.links.sheet.name}.")
-    if raw.settings:
-        raw.notes.append(f"Settings sheet: {raw.settings.name}.")

@@ -13,21 +13,24 @@ import pytest
 from helpers import GOOD_ROWS, write_xlsx
 
 from converter.api import ConvertOptions, convert, load_input
-from converter.read import sheets
+from converter.read import load, source
 
 ROOT = Path(__file__).resolve().parents[2]
 
 
 @pytest.fixture
 def hash_calls(monkeypatch):
+    # the reader reads the input's bytes once (converter.read.source.read_bounded) and
+    # hashes exactly those bytes; count the readings that gave bytes (and so a hash)
     calls: list[Path] = []
-    real = sheets.sha256_of
+    real = source.read_bounded
 
-    def counting(path):
+    def counting(path, limit):
+        content = real(path, limit)  # raises for a missing file: nothing read, no hash
         calls.append(Path(path))
-        return real(path)
+        return content
 
-    monkeypatch.setattr(sheets, "sha256_of", counting)
+    monkeypatch.setattr(load, "read_bounded", counting)
     return calls
 
 
@@ -68,7 +71,7 @@ def test_missing_input_has_no_hash(tmp_path, hash_calls):
 def test_nothing_under_write_reads_or_hashes_the_input():
     # the writers get the hash from the reader; none of them may compute one (common practice:
     # one reading of the input, so the hash describes exactly the bytes that were analysed)
-    for source in (ROOT / "converter" / "write").rglob("*.py"):
-        text = source.read_text(encoding="utf-8")
-        assert "hashlib" not in text and "sha256_of" not in text, source
-        assert "converter.read" not in text, source
+    for module in (ROOT / "converter" / "write").rglob("*.py"):
+        text = module.read_text(encoding="utf-8")
+        assert "hashlib" not in text and "read_bounded" not in text, module
+        assert "converter.read" not in text, module
