@@ -74,13 +74,17 @@ def _finish_dates(calendar: Calendar | None, offsets: list[float]) -> list[dt.da
 def finish_table(
     mean: float, sd: float, simulation: SimulationResult | None, calendar: Calendar | None
 ) -> list[FinishRow]:
-    """Durations in round steps from the analytic P1 to P99 (the simulated range if sd is 0)."""
+    """Durations in round steps over the analytic P1 to P99 and the simulated P1 to P99
+    (both curves run their whole course on the chart)."""
     from scipy.stats import norm
 
+    ranges = []
     if sd > 0:
-        lo, hi = mean + norm.ppf(TABLE_LOW) * sd, mean + norm.ppf(TABLE_HIGH) * sd
-    elif simulation is not None and simulation.sd > 0:
-        lo, hi = simulation.percentile(TABLE_LOW), simulation.percentile(TABLE_HIGH)
+        ranges.append((mean + norm.ppf(TABLE_LOW) * sd, mean + norm.ppf(TABLE_HIGH) * sd))
+    if simulation is not None and simulation.sd > 0:
+        ranges.append((simulation.percentile(TABLE_LOW), simulation.percentile(TABLE_HIGH)))
+    if ranges:
+        lo, hi = min(r[0] for r in ranges), max(r[1] for r in ranges)
     else:
         lo = hi = mean
     step = nice_step(hi - lo)
@@ -226,3 +230,56 @@ def timeline_rows(n: int, path_activities: list[list[int]], total_float) -> tupl
                 break
             keep.add(i)
     return sorted(keep)[:CHART_LIMIT], True
+
+
+@dataclass
+class TimelineBars:
+    """Where each charted activity's bar sits on the timeline, in the axis unit.
+
+    With a calendar the axis is in dates: ``start`` is the early start date's serial day
+    and the lengths are calendar days (the bar runs from the start of the early start day
+    to the end of the early finish day; the float from there to the end of the late finish
+    day). Without one, the axis is in schedule units from the start: ``start`` is the early
+    start, the bar the expected duration, the float the total float. ``marker`` is the
+    length a milestone's mark takes: an eightieth of the span, at least a day (or 0.5).
+    """
+
+    start: list[float]
+    length: list[float]
+    float_: list[float]
+    dates: bool
+    marker: float = 1.0
+
+
+def timeline_bars(rows: list[int], cpm: CpmResult, te, dates: ActivityDates | None,
+                  epoch: dt.date = dt.date(1899, 12, 30)) -> TimelineBars:
+    """Bars for the activities ``rows`` (see :class:`TimelineBars`).
+
+    ``epoch`` is day 0 of the spreadsheet's serial dates (the 1900 date system).
+
+    Examples
+    --------
+    >>> cpm = CpmResult.__new__(CpmResult)
+    >>> cpm.es, cpm.total_float = np.array([0.0, 2.0]), np.array([0.0, 1.5])
+    >>> b = timeline_bars([0, 1], cpm, np.array([2.0, 0.0]), None)
+    >>> b.start, b.length, b.float_, b.marker
+    ([0.0, 2.0], [2.0, 0.0], [0.0, 1.5], 0.5)
+    """
+    if dates is None:
+        bars = TimelineBars(
+            start=[float(cpm.es[i]) for i in rows],
+            length=[float(te[i]) for i in rows],
+            float_=[max(0.0, float(cpm.total_float[i])) for i in rows],
+            dates=False)
+    else:
+        es, ef, lf = dates.early_start, dates.early_finish, dates.late_finish
+        bars = TimelineBars(
+            start=[float((es[i] - epoch).days) for i in rows],
+            length=[float(max(0, (ef[i] - es[i]).days + 1)) if te[i] > 0 else 0.0
+                    for i in rows],
+            float_=[float(max(0, (lf[i] - ef[i]).days)) for i in rows],
+            dates=True)
+    ends = [s + n + f for s, n, f in zip(bars.start, bars.length, bars.float_, strict=True)]
+    span = (max(ends) - min(bars.start)) if rows else 0.0
+    bars.marker = round(max(span / 80.0, 1.0 if bars.dates else 0.5), 2)
+    return bars

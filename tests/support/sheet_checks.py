@@ -32,7 +32,7 @@ from converter.write.workbook.rows import (
 )
 
 DEFAULT_WIDTH = 8.43  # characters: the spreadsheet default column width
-DEFAULT_HEIGHT = 15.0  # points
+DEFAULT_HEIGHT = 15.0  # points, where the sheet does not give its own default
 
 NS = {
     "c": "http://schemas.openxmlformats.org/drawingml/2006/chart",
@@ -65,6 +65,9 @@ class Sheet:
                     if (r, c) != (r0, c0):
                         self.covered.add((r, c))
         self.breaks = sorted(b.id for b in ws.col_breaks.brk) if ws.col_breaks else []
+        fmt = ws.sheet_format
+        self.default_height = float(fmt.defaultRowHeight) if fmt is not None and \
+            fmt.defaultRowHeight else DEFAULT_HEIGHT
         self.last_col = ws.max_column
         if ws.print_area:
             area = ws.print_area if isinstance(ws.print_area, str) else ws.print_area[0]
@@ -75,7 +78,7 @@ class Sheet:
 
     def height(self, row: int) -> float:
         h = self.ws.row_dimensions[row].height if row in self.ws.row_dimensions else None
-        return float(h) if h else DEFAULT_HEIGHT
+        return float(h) if h else self.default_height
 
     def box(self, row: int, col: int) -> tuple[float, float]:
         """Width (characters) and height (points) of the cell, merges included."""
