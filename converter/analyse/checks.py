@@ -12,8 +12,11 @@ project end is the activity without successors that finishes last (early finish;
 tie the last listed). Other activities without predecessors or successors are the
 "open ends" the logic and structure checks report.
 
-Logic thresholds: US Defense Contract Management Agency 14-Point Schedule Assessment
-(thresholds from memory). Estimate and structure thresholds: common practice.
+Logic thresholds: the US Defense Contract Management Agency's 14-point schedule
+assessment (:data:`DCMA`); why they matter: the US Government Accountability Office's
+schedule assessment guide (:data:`GAO`). Estimate and structure thresholds: common
+practice. Each check cites its sources as data (:attr:`Check.cited`); :data:`SOURCES`
+lists every source once.
 """
 
 from __future__ import annotations
@@ -25,11 +28,69 @@ import networkx as nx
 import numpy as np
 
 from converter.analyse.network import CpmResult, Network, critical_tolerance
-from converter.model import FF, FS, LINK_TYPES, SF, SS
+from converter.analyse.redundant import redundant_links
+from converter.model import FS, LINK_TYPES
 
 LOGIC, ESTIMATES, STRUCTURE = "logic", "estimates", "structure"
 
-DCMA = "US Defense Contract Management Agency 14-Point Schedule Assessment (thresholds from memory)"
+
+
+@dataclass(frozen=True)
+class Source:
+    """A published source the checks cite: ``short`` in a table cell, ``full`` once below."""
+
+    short: str
+    full: str
+
+
+# The DCMA citation and the check numbers below are from memory (not checked against the
+# document here). The pamphlet's 14-point assessment gives, among its 14 checks: 1 logic,
+# missing predecessors or successors <= 5% of incomplete tasks; 2 leads, 0; 3 lags <= 5%
+# of links; 4 relationship types, finish-to-start >= 90%; 6 high float, total float over
+# 44 working days <= 5%; 8 high duration, over 44 working days <= 5%. The GAO guide's
+# best-practice numbers are from memory too.
+DCMA = Source(
+    "DCMA 2012",
+    "US Defense Contract Management Agency (DCMA), Earned Value Management System (EVMS) "
+    "Program Analysis Pamphlet (PAP), DCMA-EA PAM 200.1, October 2012: the 14-point "
+    "schedule assessment.",
+)
+GAO = Source(
+    "GAO 2015",
+    "US Government Accountability Office (GAO), Schedule Assessment Guide: Best Practices "
+    "for Project Schedules, GAO-16-89G, December 2015.",
+)
+MALCOLM = Source(
+    "Malcolm et al. 1959",
+    "D. G. Malcolm, J. H. Roseboom, C. E. Clark and W. Fazar, Application of a technique "
+    "for research and development program evaluation, Operations Research 7(5), 1959.",
+)
+COMMON = Source("common practice", "Common practice of schedule review: no published source.")
+
+#: Every source the checks cite, in the order a reader meets them.
+SOURCES: tuple[Source, ...] = (DCMA, GAO, MALCOLM, COMMON)
+
+
+@dataclass(frozen=True)
+class Citation:
+    """Where a check's threshold (``why=False``) or its reason (``why=True``) comes from."""
+
+    source: Source
+    where: str = ""  # the part of the source, e.g. "check 1 (logic)"
+    why: bool = False
+
+    @property
+    def text(self) -> str:
+        where = f", {self.where}" if self.where else ""
+        return ("why: " if self.why else "") + self.source.short + where
+
+
+SEQUENCING = "sequencing all activities"
+
+
+def _dcma(check: int, name: str, best_practice: int, practice: str) -> tuple[Citation, ...]:
+    return (Citation(DCMA, f"check {check} ({name})"),
+            Citation(GAO, f"best practice {best_practice} ({practice})", why=True))
 
 #: DCMA "high float" and "high duration" limit, in working days.
 LONG_DAYS = 44.0
@@ -107,7 +168,7 @@ class Check:
     activities: list[str]  # offending activity IDs, or "PRED->SUCC" for link checks
     out_of: int | None
     matters: str
-    source: str
+    cited: tuple[Citation, ...]
     detail: str = ""  # extra facts for the reader (e.g. group sizes, which activity is the start)
     above: Above | None = field(default=None)
 
@@ -126,6 +187,11 @@ class Check:
     @property
     def threshold(self) -> str:
         return self.limit.text
+
+    @property
+    def source(self) -> str:
+        """The citations as a table cell reads them."""
+        return "; ".join(c.text for c in self.cited)
 
 
 def _share(pct: float, of: Literal["activities", "links"], note: str = "") -> Limit:
@@ -159,109 +225,6 @@ def _days_text(days_per_unit: float) -> str:
     return f"{LONG_DAYS:g} working days (= {LONG_DAYS / days_per_unit:.4g} schedule units)"
 
 
-#: Reachability is tracked for this many target nodes at a time (bounds memory).
-_CHUNK = 4096
-
-
-def redundant_links(net: Network) -> np.ndarray:
-    """Mask of plain finish-to-start links (lag 0) implied by other links.
-
-    A link A->C (FS, lag 0) says C starts no earlier than A finishes. It is redundant
-    when other links already say so. With durations >= 0, track what each link
-    bounds: FS (lag >= 0) bounds the successor's start by the predecessor's finish,
-    SS its start by the predecessor's start, FF its finish by the predecessor's finish,
-    SF its finish by the predecessor's start, and an activity's start bounds its own
-    finish. On the graph of (activity, start|finish) nodes built from all links with
-    lag >= 0, the link A->C is redundant when (C, start) is reachable from
-    (A, finish) by a path of two or more edges, i.e. the edge is not in the graph's
-    transitive reduction. A second copy of the same plain link, or a plain link beside
-    an FS link with a positive lag between the same pair, is redundant too.
-    Negative-lag links imply nothing here.
-
-    Reachability is computed as bitsets over the targets, in reverse topological
-    order, ``_CHUNK`` targets at a time: linear in nodes + edges per chunk.
-
-    Parameters
-    ----------
-    net : Network
-        The activity network (links with their types and lags).
-
-    Returns
-    -------
-    numpy.ndarray of bool, shape (net.link_count,)
-        True for each plain finish-to-start link that other links imply; other link
-        types and lagged links are never marked.
-
-    References
-    ----------
-    A. V. Aho, M. R. Garey and J. D. Ullman, "The transitive reduction of a directed
-    graph", SIAM Journal on Computing 1(2), 131-137, 1972. The tests compare the result
-    with ``networkx.transitive_reduction`` on plain finish-to-start networks.
-
-    Examples
-    --------
-    A -> B -> C and A -> C: the direct link A -> C is implied by the chain.
-
-    >>> from converter.analyse.network import build_network
-    >>> net = build_network(3, pred=[0, 1, 0], succ=[1, 2, 2])
-    >>> redundant_links(net).tolist()
-    [False, False, True]
-
-    With B -> C finish-to-finish, B bounds only C's finish, so A -> C is needed:
-
-    >>> net = build_network(3, pred=[0, 1, 0], succ=[1, 2, 2], kind=[FS, FF, FS])
-    >>> redundant_links(net).tolist()
-    [False, False, False]
-    """
-    n, m = net.n, net.link_count
-    out = np.zeros(m, dtype=bool)
-    plain = (net.kind == FS) & (net.lag == 0)
-    if not plain.any():
-        return out
-    # node 2i = start of activity i, 2i + 1 = its finish
-    adj: list[set[int]] = [set() for _ in range(2 * n)]
-    for i in range(n):
-        adj[2 * i].add(2 * i + 1)  # a start bounds its own finish (duration >= 0)
-    tail_end = {FS: 1, FF: 1, SS: 0, SF: 0}  # 1: the link starts from the predecessor's finish
-    head_end = {FS: 0, SS: 0, FF: 1, SF: 1}  # 1: the link bounds the successor's finish
-    lagged: set[tuple[int, int]] = set()
-    links = zip(
-        net.pred.tolist(), net.succ.tolist(), net.kind.tolist(), net.lag.tolist(), strict=True
-    )
-    for p, s, k, lag in links:
-        if lag < 0:
-            continue
-        adj[2 * p + tail_end[k]].add(2 * s + head_end[k])
-        if k == FS and lag > 0:
-            lagged.add((p, s))
-    judged: list[tuple[int, int, int]] = []  # (link, node of A's finish, node of C's start)
-    seen: set[tuple[int, int]] = set()
-    for j in np.flatnonzero(plain).tolist():
-        p, s = int(net.pred[j]), int(net.succ[j])
-        if (p, s) in seen or (p, s) in lagged:
-            out[j] = True
-        else:
-            judged.append((j, 2 * p + 1, 2 * s))
-        seen.add((p, s))
-    targets = sorted({v for _, _, v in judged})
-    order: list[int] = []
-    for i in net.order[::-1].tolist():  # successors before predecessors; finish before start
-        order += [2 * i + 1, 2 * i]
-    for lo in range(0, len(targets), _CHUNK):
-        bit = {v: 1 << b for b, v in enumerate(targets[lo : lo + _CHUNK])}
-        reach = [0] * (2 * n)  # reach[u]: targets in this chunk reachable from u (u included)
-        for u in order:
-            r = bit.get(u, 0)
-            for w in adj[u]:
-                r |= reach[w]
-            reach[u] = r
-        for j, u, v in judged:
-            b = bit.get(v)
-            if b is not None and any(reach[w] & b for w in adj[u] if w != v):
-                out[j] = True
-    return out
-
-
 def _logic_checks(
     ids: list[str], te: np.ndarray, net: Network, cpm: CpmResult, days_per_unit: float
 ) -> list[Check]:
@@ -291,7 +254,7 @@ def _logic_checks(
             out_of=n,
             matters="An activity with an open start or finish can slip without moving "
             "anything after it, so the dates and floats around it understate the risk.",
-            source=DCMA,
+            cited=_dcma(1, "logic", 2, SEQUENCING),
             detail=ends_text + " are not counted",
         ),
         Check(
@@ -303,7 +266,7 @@ def _logic_checks(
             out_of=m,
             matters="A lead lets a successor start before its predecessor's work is done, "
             "which hides overlap assumptions and can squeeze the critical path.",
-            source=DCMA,
+            cited=_dcma(2, "leads", 2, SEQUENCING),
         ),
         Check(
             key="lags",
@@ -314,7 +277,7 @@ def _logic_checks(
             out_of=m,
             matters="A lag is waiting time nobody is doing or estimating; it often hides "
             "work that should be an activity with its own range.",
-            source=DCMA,
+            cited=_dcma(3, "lags", 2, SEQUENCING),
         ),
         Check(
             key="link_types",
@@ -325,7 +288,7 @@ def _logic_checks(
             out_of=m,
             matters="Start-to-start, finish-to-finish and start-to-finish links make the "
             "critical path harder to follow and float harder to interpret.",
-            source=DCMA,
+            cited=_dcma(4, "relationship types", 2, SEQUENCING),
             detail=type_counts,
         ),
         Check(
@@ -337,7 +300,7 @@ def _logic_checks(
             out_of=n,
             matters="Very large float usually means missing successors, so the activity "
             "could slip a long way without the schedule showing any effect.",
-            source=DCMA,
+            cited=_dcma(6, "high float", 7, "ensuring reasonable total float"),
             detail=f"total float > {_days_text(days_per_unit)}",
             above=above,
         ),
@@ -350,7 +313,7 @@ def _logic_checks(
             out_of=n,
             matters="Long activities are hard to estimate and to track; breaking them down "
             "gives better ranges and earlier warning.",
-            source=DCMA,
+            cited=_dcma(8, "high duration", 4, "establishing the durations of all activities"),
             detail=f"expected time (O + 4M + P) / 6 > {_days_text(days_per_unit)}",
             above=above,
         ),
@@ -373,8 +336,10 @@ def _estimate_checks(ids: list[str], o: np.ndarray, m: np.ndarray, p: np.ndarray
             out_of=n,
             matters="An activity without a range adds no uncertainty, so the simulated "
             "spread of the finish is too narrow if its duration is really uncertain.",
-            source="common practice, no published source: a three-point analysis needs "
-            "ranges; milestones (O = M = P = 0) are not counted",
+            cited=(Citation(COMMON),
+                   Citation(GAO, "best practice 8 (conducting a schedule risk analysis)",
+                            why=True)),
+            detail="milestones (O = M = P = 0) are not counted",
         ),
         Check(
             key="most_likely_outside",
@@ -385,7 +350,7 @@ def _estimate_checks(ids: list[str], o: np.ndarray, m: np.ndarray, p: np.ndarray
             out_of=n,
             matters="A most likely value outside its own range means the estimate was "
             "entered wrongly and the PERT figures for it are meaningless.",
-            source="definition of a three-point estimate: O <= M <= P (Malcolm et al. 1959)",
+            cited=(Citation(MALCOLM, "three-point estimate O <= M <= P"),),
         ),
         Check(
             key="wide_spread",
@@ -396,8 +361,8 @@ def _estimate_checks(ids: list[str], o: np.ndarray, m: np.ndarray, p: np.ndarray
             out_of=n,
             matters="A pessimistic value more than ten times the optimistic one usually "
             "means the scope is unclear and the range is a guess.",
-            source="common practice, no published source: flags guesswork; O = 0 with "
-            "P > 0 counts as an unbounded spread",
+            cited=(Citation(COMMON),),
+            detail="O = 0 with P > 0 counts as an unbounded spread",
         ),
     ]
 
@@ -414,7 +379,8 @@ def _structure_checks(ids: list[str], net: Network, cpm: CpmResult) -> list[Chec
     groups = sorted(nx.connected_components(g), key=lambda c: (-len(c), min(c)))
     outside_main = sorted(i for c in groups[1:] for i in c)
     sizes = ", ".join(str(len(c)) for c in groups)
-    closed = "common practice: one start and one finish for a closed network"
+    closed = (Citation(COMMON, "one start and one finish"),
+              Citation(GAO, f"best practice 2 ({SEQUENCING})", why=True))
     return [
         Check(
             key="extra_starts",
@@ -425,8 +391,8 @@ def _structure_checks(ids: list[str], net: Network, cpm: CpmResult) -> list[Chec
             out_of=None,
             matters="Each extra start is an activity whose early dates nothing drives; the "
             "project start should be a single activity or milestone.",
-            source=closed,
-            detail=f"project start taken as {ids[start]} (first listed)"
+            cited=closed,
+            detail=f"project start taken as {ids[start]}, the first listed"
             if start is not None
             else "",
         ),
@@ -438,8 +404,8 @@ def _structure_checks(ids: list[str], net: Network, cpm: CpmResult) -> list[Chec
             activities=[ids[i] for i in no_succ if i != end],
             out_of=None,
             matters="Each extra end is work whose lateness the project finish never sees.",
-            source=closed,
-            detail=f"project end taken as {ids[end]} (latest early finish)"
+            cited=closed,
+            detail=f"project end taken as {ids[end]}, the latest early finish"
             if end is not None
             else "",
         ),
@@ -452,8 +418,8 @@ def _structure_checks(ids: list[str], net: Network, cpm: CpmResult) -> list[Chec
             out_of=n,
             matters="Activities not linked to the main network cannot affect its finish, "
             "so their risk is missing from the analysis.",
-            source="common practice: one connected network (weakly connected components, "
-            "networkx)",
+            cited=(Citation(COMMON, "one connected network"),
+                   Citation(GAO, "best practice 5 (horizontal traceability)", why=True)),
             detail=f"{len(groups)} group(s) of sizes {sizes}; activities outside the largest "
             "are listed"
             if groups
@@ -468,8 +434,8 @@ def _structure_checks(ids: list[str], net: Network, cpm: CpmResult) -> list[Chec
             out_of=net.link_count,
             matters="A link implied by another path adds nothing today but keeps a "
             "dependency alive after the path changes, which confuses later edits.",
-            source="common practice, no published source; only finish-to-start links "
-            "without lag are judged",
+            cited=(Citation(COMMON),),
+            detail="only finish-to-start links without lag are judged",
         ),
     ]
 

@@ -15,7 +15,16 @@ import networkx as nx
 import numpy as np
 import pytest
 
-from converter.analyse.checks import Above, Check, Limit, redundant_links, run_checks
+from converter.analyse.checks import (
+    DCMA,
+    GAO,
+    SOURCES,
+    Above,
+    Check,
+    Limit,
+    redundant_links,
+    run_checks,
+)
 from converter.analyse.network import build_network, schedule
 from converter.model import FF, FS, SF, SS
 
@@ -76,7 +85,12 @@ def test_missing_successor_counted_once():
     assert (c.count, c.activities) == (1, ["B"])
     assert c.percent == pytest.approx(25.0)  # 1 of 4 activities
     assert not c.passed
-    assert "DCMA" not in c.source and "Defense Contract Management Agency" in c.source
+    # the threshold's source is the published DCMA pamphlet, cited in full once
+    assert c.cited[0].source is DCMA and c.cited[0].where == "check 1 (logic)"
+    assert "Defense Contract Management Agency" in DCMA.full
+    assert "DCMA-EA PAM 200.1" in DCMA.full and "October 2012" in DCMA.full
+    assert c.source == "DCMA 2012, check 1 (logic); why: GAO 2015, best practice 2 " \
+        "(sequencing all activities)"
 
 
 def test_missing_predecessor_counted_once():
@@ -392,3 +406,11 @@ def test_above_compares_in_working_days():
     # 8.8 weeks of 5 days = 44 working days: not above; 8.81 weeks is
     above = Above(44.0, 1e-9, 5.0)
     assert above.offends(np.array([8.8, 8.81, 0.0])).tolist() == [False, True, False]
+
+
+def test_every_check_cites_a_listed_source():
+    ids, links = _chain(6)
+    for c in _run(ids, links).values():
+        assert c.cited and all(cit.source in SOURCES for cit in c.cited)
+        assert "from memory" not in c.source
+    assert "GAO-16-89G" in GAO.full and "December 2015" in GAO.full

@@ -13,11 +13,11 @@ import xlsxwriter.worksheet
 
 from converter.write.workbook import pages
 from converter.write.workbook.activities import write_activities, write_links
+from converter.write.workbook.health import write_health
 from converter.write.workbook.layout import Layout
 from converter.write.workbook.paths_sheet import write_paths
 from converter.write.workbook.probability import write_probability
 from converter.write.workbook.reference import (
-    write_health,
     write_input,
     write_method,
     write_settings,

@@ -1,4 +1,4 @@
-"""Supporting sheets: health check, settings used, method, input as read, warnings."""
+"""Supporting sheets: settings used, method, input as read, warnings."""
 
 from __future__ import annotations
 
@@ -6,85 +6,12 @@ import datetime as dt
 
 from converter.model import LINK_TYPES
 from converter.write.workbook import formulas as f
+from converter.write.workbook import pages, rows
 from converter.write.workbook.activities import serial
-from converter.write.workbook.formulas import ref
-from converter.write.workbook.layout import HEALTH, INPUT, METHOD, SETTINGS, WARNINGS, Layout
+from converter.write.workbook.layout import INPUT, METHOD, SETTINGS, WARNINGS, Layout
 from converter.write.workbook.summary import CAUTION
 
 WEEKDAY_NAMES = ("Mon", "Tue", "Wed", "Thu", "Fri", "Sat", "Sun")
-
-
-#: Checks the sheet recounts with COUNTIF over the Links table: key -> (column, criterion).
-_COUNTED_ON_LINKS = {
-    "leads": ("lag", '"<0"'),
-    "lags": ("lag", '">0"'),
-}
-
-#: Checks of a value per activity: key -> the Activities column holding the value.
-_VALUE_COLUMN = {"high_float": "tf", "high_duration": "te"}
-
-
-def _count_formula(c, a, lay: Layout) -> str | None:
-    """A COUNTIF that recounts the check from the Activities / Links tables, if it can."""
-    links = a.net.link_count
-    if c.key in _COUNTED_ON_LINKS and links:
-        key, crit = _COUNTED_ON_LINKS[c.key]
-        return f"=COUNTIF({lay.link_column(key)},{crit})"
-    if c.key == "link_types" and links:
-        col = lay.link_column("type")
-        return f'=COUNTA({col})-COUNTIF({col},"FS")'
-    if c.above is not None and c.key in _VALUE_COLUMN:
-        above = c.above
-        return f.count_above(lay.column(_VALUE_COLUMN[c.key]), above.days, above.tolerance,
-                             above.days_per_unit)
-    return None
-
-
-def write_health(wb, fmt, a, lay: Layout) -> None:
-    ws = wb.add_worksheet(HEALTH)
-    ws.write_string(0, 0, "Schedule health check: can the logic be trusted?", fmt.title)
-    failed = sum(1 for c in a.checks if not c.passed)
-    ws.write_string(1, 0, f"{failed} of {len(a.checks)} checks failed. Counts of link types, "
-                    "lags, long floats and long durations are COUNTIF formulas over the "
-                    "Activities and Links sheets; the others are counted by pertbook, with "
-                    "each offender listed so it can be looked up.", fmt.subtitle)
-    heads = ["Group", "Check", "Threshold", "Count", "Out of", "Percent", "Result",
-             "Offending activities", "Why it matters", "Source of the threshold"]
-    for col, h in enumerate(heads):
-        ws.write_string(3, col, h, fmt.header)
-    widths = [10, 34, 22, 8, 8, 9, 8, 40, 50, 40]
-    for col, w in enumerate(widths):
-        ws.set_column(col, col, w)
-    for k, c in enumerate(a.checks):
-        r = 4 + k
-        ws.write_string(r, 0, c.group)
-        ws.write_string(r, 1, c.name, fmt.wrap)
-        ws.write_string(r, 2, c.threshold, fmt.wrap)
-        formula = _count_formula(c, a, lay)
-        if formula:
-            ws.write_formula(r, 3, formula, fmt.int, c.count)
-        else:
-            ws.write_number(r, 3, c.count, fmt.int)
-        if c.out_of is not None and (c.limit.share_of is not None or c.percent is not None):
-            ws.write_number(r, 4, c.out_of, fmt.int)
-        if c.percent is not None:
-            ws.write_formula(r, 5, f"={ref(r, 3)}/{ref(r, 4)}", fmt.prob, c.percent / 100.0)
-        verdict = "pass" if c.passed else "FAIL"
-        style = fmt.good if c.passed else fmt.flag
-        if c.limit.share_of is not None:
-            ws.write_formula(r, 6, f.share_passes(ref(r, 3), ref(r, 4), c.limit.most), style,
-                             verdict)
-        else:
-            ws.write_formula(r, 6, f.count_passes(ref(r, 3), c.limit.most), style, verdict)
-        shown = ", ".join(c.activities[:200])
-        if len(c.activities) > 200:
-            shown += f", ... ({len(c.activities)} in all)"
-        if c.detail:
-            shown = (shown + " " if shown else "") + f"({c.detail})"
-        ws.write_string(r, 7, shown, fmt.wrap)
-        ws.write_string(r, 8, c.matters, fmt.wrap)
-        ws.write_string(r, 9, c.source, fmt.wrap)
-    ws.freeze_panes(4, 2)
 
 
 def _weekdays(days) -> str:
@@ -101,13 +28,12 @@ def write_settings(wb, fmt, a, lay: Layout) -> None:
         ws.write_string(3, col, h, fmt.header)
     ws.set_column(0, 0, 22)
     ws.set_column(1, 1, 26)
-    ws.set_column(2, 2, 40)
-    due = st.due
-    rows = [
+    ws.set_column(2, 2, 58)
+    items = [
         ("start_date", "Start date", st.start_date),
         ("time_unit", "Time unit", st.time_unit),
         ("working_days", "Working days", _weekdays(st.working_days)),
-        ("due", "Due", due),
+        ("due", "Due", st.due),
         ("iterations", "Iterations", st.iterations),
         ("seed", "Seed", st.seed),
         ("distribution", "Distribution", st.distribution),
@@ -117,35 +43,39 @@ def write_settings(wb, fmt, a, lay: Layout) -> None:
         ("paths", "Paths listed", st.paths),
     ]
     r = 4
-    for key, label, value in rows:
+    for key, label, value in items:
         ws.write_string(r, 0, label, fmt.label)
+        # values left-aligned, like their header and the text values beside them
         if value is None:
-            ws.write_string(r, 1, "(none)")
+            ws.write_string(r, 1, "(none)", fmt.left)
         elif isinstance(value, dt.date):
-            ws.write_number(r, 1, serial(value), fmt.date)
+            ws.write_number(r, 1, serial(value), fmt.date_left)
         elif isinstance(value, (int, float)):
-            ws.write_number(r, 1, value)
+            ws.write_number(r, 1, value, fmt.num_left)
         else:
-            ws.write_string(r, 1, str(value))
-        ws.write_string(r, 2, st.source_of(key))
+            ws.write_string(r, 1, str(value), fmt.left)
+        ws.write_string(r, 2, st.source_of(key), fmt.left)
         r += 1
     if a.calendar is not None:
         ws.write_string(r, 0, "Weekend code", fmt.label)
-        ws.write_string(r, 1, a.calendar.weekend_code)
-        ws.write_string(r, 2, "WORKDAY.INTL weekend string: Monday first, 1 = not worked")
+        ws.write_string(r, 1, a.calendar.weekend_code, fmt.left)
+        ws.write_string(r, 2, "WORKDAY.INTL weekend string: Monday first, 1 = not worked",
+                        fmt.left)
         r += 1
     r += 1
+    holidays_head = r
     ws.write_string(r, 0, "Holidays", fmt.header)
     ws.write_string(r, 1, "", fmt.header)
     r += 1
     hol_first = r
     for d in st.holidays:
-        ws.write_number(r, 0, serial(d), fmt.date)
+        ws.write_number(r, 0, serial(d), fmt.date_left)
         r += 1
     if st.holidays:
         wb.define_name("Holidays", f"='{SETTINGS}'!$A${hol_first + 1}:$A${r}")
     else:
         ws.write_string(r, 0, "(none)")
+    pages.set_up(ws, header_rows=(3, 3), keep=[(holidays_head, holidays_head + 1)])
 
 
 METHOD_TEXT = [
@@ -155,6 +85,9 @@ METHOD_TEXT = [
      "Operations Research 7(5), 1959."),
     ("Variance", "((P - O) / 6)^2 per activity (same source): the spread is taken as one sixth of "
      "the range."),
+    ("Link types", ", ".join(LINK_TYPES) + " (finish-to-start, start-to-start, finish-to-finish, "
+     "start-to-finish). In the predecessors cell: A3 (FS), A3[+2] (lag 2), A3[-1] (lead 1), "
+     "A3[SS], A3[SS+3], A3[FF-1]."),
     ("Forward pass", "Early start (ES) = the largest start allowed by the incoming links, and "
      "never before 0 (the project start). FS: after the predecessor's finish + lag; SS: after its "
      "start + lag; FF: so that the finish comes after the predecessor's finish + lag; SF: so that "
@@ -201,71 +134,125 @@ METHOD_TEXT = [
 ]
 
 
+#: Widths of the Method sheet's two columns (characters): one landscape page at full size.
+METHOD_WIDTHS = (22, 84)
+
+
 def write_method(wb, fmt, a, lay: Layout) -> None:
     ws = wb.add_worksheet(METHOD)
-    ws.set_column(0, 0, 26)
-    ws.set_column(1, 1, 110)
-    r = 0
-    for label, text in METHOD_TEXT:
+    label_width, text_width = METHOD_WIDTHS
+    ws.set_column(0, 0, label_width)
+    ws.set_column(1, 1, text_width)
+    for r, (label, text) in enumerate(METHOD_TEXT):
         if text is None:
             ws.write_string(r, 0, label, fmt.title)
-        else:
-            ws.write_string(r, 0, label, fmt.label)
-            ws.write_string(r, 1, text, fmt.caution if label == "Caution" else fmt.wrap)
-            ws.set_row(r, 15 * max(1, len(text) // 100 + 1))
-        r += 1
-    r += 1
-    ws.write_string(r, 0, "Link types", fmt.label)
-    ws.write_string(r, 1, ", ".join(LINK_TYPES) + " (finish-to-start, start-to-start, "
-                    "finish-to-finish, start-to-finish). In the predecessors cell: A3 (FS), "
-                    "A3[+2] (lag 2), A3[-1] (lead 1), A3[SS], A3[SS+3], A3[FF-1].", fmt.wrap)
+            continue
+        ws.write_string(r, 0, label, fmt.label_top)
+        ws.write_string(r, 1, text, fmt.caution if label == "Caution" else fmt.wrap)
+        ws.set_row(r, rows.row_height([(text, text_width), (label, label_width, 11.0, True)]))
+    pages.set_up(ws)
+
+
+#: Widest column of the Input as read sheet, in characters; longer text wraps.
+INPUT_MAX_WIDTH = 50.0
+
+#: Rows sampled to size the Input as read columns.
+INPUT_SAMPLE = 2000
+
+
+def _shown(v) -> str:
+    """Roughly how a value of the input shows in a cell (for sizing its column)."""
+    if isinstance(v, (dt.date, dt.datetime)):
+        return "0000-00-00"
+    if isinstance(v, float):
+        return f"{v:g}"
+    return str(v)
+
+
+def _input_widths(headers: list[str], values: list[list[object]]) -> list[float]:
+    """Each column as wide as its header and values need: 6 to INPUT_MAX_WIDTH characters."""
+    widths = []
+    for col, head in enumerate(headers):
+        need = rows.text_width(head, bold=True)
+        for row in values[:INPUT_SAMPLE]:
+            if col < len(row) and row[col] is not None:
+                need = max(need, rows.text_width(_shown(row[col])))
+        widths.append(min(INPUT_MAX_WIDTH, max(6.0, need + 1.0)))
+    return widths
 
 
 def write_input(wb, fmt, a, lay: Layout) -> None:
     ws = wb.add_worksheet(INPUT)
     raw = a.schedule.raw
-    ws.write_string(0, 0, f"Input as read from {raw.sheet} (values only; header on sheet row "
-                    f"{raw.header_row})", fmt.title)
-    for col, h in enumerate(raw.headers):
+    widths = _input_widths(raw.headers, raw.rows)
+    ws.write_string(0, 0, "Input as read", fmt.title)
+    note = (f"Values only, from {raw.sheet} as the converter read it; the header is on sheet "
+            f"row {raw.header_row}.")
+    if len(widths) > 1:
+        ws.merge_range(1, 0, 1, len(widths) - 1, note, fmt.subtitle_wrap)
+    else:
+        ws.write_string(1, 0, note, fmt.subtitle_wrap)
+    ws.set_row(1, rows.row_height([(note, rows.merged_width(widths))], minimum=15.0))
+    for col, (h, w) in enumerate(zip(raw.headers, widths, strict=True)):
         ws.write_string(2, col, h, fmt.header)
-    ws.set_column(0, max(len(raw.headers) - 1, 0), 14)
+        ws.set_column(col, col, w)
+    ws.set_row(2, rows.row_height([(h, w, 11.0, True) for h, w in zip(raw.headers, widths)]))
+    # every value is left-aligned under its left-aligned header; text wraps in its column
     for k, row in enumerate(raw.rows):
         r = 3 + k
+        wrapped = []
         for col, v in enumerate(row):
             if v is None:
                 continue
             if isinstance(v, bool):
-                ws.write_boolean(r, col, v)
+                ws.write_boolean(r, col, v, fmt.left)
             elif isinstance(v, (int, float)):
-                ws.write_number(r, col, v)
+                ws.write_number(r, col, v, fmt.num_left)
             elif isinstance(v, dt.datetime):
                 ws.write_number(r, col, serial(v.date()) + (v - dt.datetime.combine(
-                    v.date(), dt.time())).total_seconds() / 86400, fmt.date)
+                    v.date(), dt.time())).total_seconds() / 86400, fmt.date_left)
             elif isinstance(v, dt.date):
-                ws.write_number(r, col, serial(v), fmt.date)
+                ws.write_number(r, col, serial(v), fmt.date_left)
             else:
-                ws.write_string(r, col, str(v))
+                text = str(v)
+                ws.write_string(r, col, text, fmt.wrap)
+                if col < len(widths) and 2.0 * len(text) > widths[col]:  # may not fit
+                    wrapped.append((text, widths[col]))
+        if wrapped:
+            height = rows.row_height(wrapped, minimum=15.0)
+            if height > 15.0:
+                ws.set_row(r, height)
+    ws.freeze_panes(3, 1)
+    pages.set_up(ws, header_rows=(2, 2), title_cols=(0, min(1, len(widths) - 1)))
+
+
+#: Widths of the Warnings sheet's columns (characters).
+WARNING_WIDTHS = (16, 12, 56, 44)
 
 
 def write_warnings(wb, fmt, a, lay: Layout) -> None:
     ws = wb.add_worksheet(WARNINGS)
     s = a.schedule
     ws.write_string(0, 0, "Warnings and notes on the input", fmt.title)
-    for col, h in enumerate(["Where", "Activity", "Warning", "What to do"]):
+    for col, (h, w) in enumerate(zip(["Where", "Activity", "Warning", "What to do"],
+                                     WARNING_WIDTHS, strict=True)):
         ws.write_string(2, col, h, fmt.header)
-    ws.set_column(0, 1, 16)
-    ws.set_column(2, 3, 70)
+        ws.set_column(col, col, w)
     r = 3
     for p in s.warnings:
-        ws.write_string(r, 0, p.where)
-        ws.write_string(r, 1, p.activity or "")
-        ws.write_string(r, 2, p.message, fmt.wrap)
-        ws.write_string(r, 3, p.fix or "", fmt.wrap)
+        cells = [(p.where, WARNING_WIDTHS[0]), (p.activity or "", WARNING_WIDTHS[1]),
+                 (p.message, WARNING_WIDTHS[2]), (p.fix or "", WARNING_WIDTHS[3])]
+        for col, (text, _) in enumerate(cells):
+            ws.write_string(r, col, text, fmt.wrap)
+        ws.set_row(r, rows.row_height(cells, minimum=15.0))
         r += 1
     if not s.warnings:
         ws.write_string(r, 0, "No warnings.")
         r += 1
     r += 1
+    width = rows.merged_width(WARNING_WIDTHS)
     for note in s.notes:
-        ws.write_string(r, 0, note)
+        ws.merge_range(r, 0, r, len(WARNING_WIDTHS) - 1, note, fmt.wrap)
+        ws.set_row(r, rows.row_height([(note, width)], minimum=15.0))
         r += 1
+    pages.set_up(ws, header_rows=(2, 2))

@@ -61,8 +61,8 @@ class Formats:
         self.th_right = add({**head, "align": "right"})
         self.th_center = add({**head, "align": "center"})
         self.th_indent = add({**head, "indent": 1})
-        self.section = add({"bold": True, "font_size": 12, "font_color": PALETTE["ink"],
-                            "bottom": 1, "bottom_color": PALETTE["slate"]})
+        self.section_title = add({"bold": True, "font_size": 12, "font_color": PALETTE["ink"],
+                                  "bottom": 1, "bottom_color": PALETTE["slate"]})
         self.section_head = add({"bold": True, "font_color": PALETTE["ink"], "bottom": 1,
                                  "bottom_color": PALETTE["slate"], "align": "right",
                                  "text_wrap": True})
@@ -70,8 +70,6 @@ class Formats:
         self.note = add({"text_wrap": True, "valign": "top", "indent": 1})
         self.note_italic = add({"text_wrap": True, "valign": "top", "indent": 1,
                                 "italic": True, "font_color": "#555555"})
-        self.subtitle_wrap = add({"italic": True, "font_color": "#555555", "text_wrap": True,
-                                  "valign": "top"})
         self.wrap_flag = add({"text_wrap": True, "valign": "top", "bold": True,
                               "font_color": PALETTE["clay"], "indent": 1})
         self.wrap_indent = add({"text_wrap": True, "valign": "top", "indent": 1})
@@ -81,3 +79,18 @@ class Formats:
                               "bg_color": PALETTE["mist"]})
         self.big_value_date = add({"bold": True, "num_format": DATE_FORMAT,
                                    "bg_color": PALETTE["mist"]})
+        # top-aligned and left-aligned variants for tables with wrapped text
+        self.label_top = add({"bold": True, "valign": "top", "text_wrap": True})
+        self.section = add({"bold": True, "font_color": PALETTE["ink"], "bottom": 1,
+                            "bottom_color": PALETTE["slate"]})
+        self.int_top = add({"num_format": "0", "align": "center", "valign": "top"})
+        self.prob_top = add({"num_format": PROB_FORMAT, "valign": "top"})
+        self.good_top = add({"font_color": PALETTE["moss"], "bold": True, "valign": "top",
+                             "align": "center"})
+        self.flag_top = add({"bold": True, "font_color": PALETTE["clay"], "valign": "top",
+                             "align": "center"})
+        self.subtitle_wrap = add({"italic": True, "font_color": "#555555", "text_wrap": True,
+                                  "valign": "top"})
+        self.left = add({"align": "left", "valign": "top"})
+        self.num_left = add({"align": "left", "valign": "top", "num_format": "General"})
+        self.date_left = add({"num_format": DATE_FORMAT, "align": "left", "valign": "top"})

@@ -72,7 +72,7 @@ class _Rows:
         """A gap, then a section title with column heads over a rule."""
         self.ws.set_row(self.r, 9.0)
         self.r += 1
-        self.ws.write_string(self.r, LABEL, title, self.fmt.section)  # spills over blanks
+        self.ws.write_string(self.r, LABEL, title, self.fmt.section_title)  # spills over blanks
         for col in range(SIM, NOTE + 1):
             if col in (heads or {}):
                 self.ws.write_string(self.r, col, heads[col], self.fmt.section_head)
