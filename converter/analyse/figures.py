@@ -132,7 +132,9 @@ class Histogram:
 
     ``upper[k]`` is the upper edge of bin ``k``; ``share`` and ``cumulative`` are the
     count and the running count over the iterations. ``due_bin`` is the bin that holds
-    the due date (None without one, or when it lies outside every bin).
+    the due date (None without one, or when it lies outside every bin). ``due_at`` is
+    where the due date falls on a chart whose bins stand at 1, 2, ... (bin ``k`` spans
+    ``k + 0.5`` to ``k + 1.5``), and ``peak`` the largest count.
     """
 
     upper: list[float]
@@ -141,6 +143,8 @@ class Histogram:
     share: list[float]
     cumulative: list[float]
     due_bin: int | None
+    due_at: float | None = None
+    peak: int = 0
 
 
 def histogram(durations: np.ndarray, due: float | None, bins: int = 30) -> Histogram:
@@ -149,8 +153,8 @@ def histogram(durations: np.ndarray, due: float | None, bins: int = 30) -> Histo
     Examples
     --------
     >>> h = histogram(np.array([1.0, 2.0, 2.5, 4.0]), due=2.2, bins=3)
-    >>> h.upper, h.counts, h.due_bin
-    ([2.0, 3.0, 4.0], [1, 2, 1], 1)
+    >>> h.upper, h.counts, h.due_bin, round(h.due_at, 6), h.peak
+    ([2.0, 3.0, 4.0], [1, 2, 1], 1, 1.7, 2)
     """
     lo, hi = float(durations.min()), float(durations.max())
     if hi <= lo:
@@ -165,10 +169,13 @@ def histogram(durations: np.ndarray, due: float | None, bins: int = 30) -> Histo
         edges = edges[1:]
     total = float(counts.sum())
     width = float(edges[1] - edges[0]) if edges.size > 1 else 0.0
-    due_bin = None
+    due_bin = due_at = None
     if due is not None and edges.size:
         k = int(np.searchsorted(edges, due, side="left"))
         due_bin = k if k < edges.size and (edges[k] - width) <= due else None
+        if due_bin is not None:  # bin k's lower edge is at k + 0.5 on the chart
+            into = (due - (edges[k] - width)) / width if width > 0 else 0.5
+            due_at = k + 0.5 + float(into)
     return Histogram(
         upper=edges.tolist(),
         counts=counts.tolist(),
@@ -176,6 +183,8 @@ def histogram(durations: np.ndarray, due: float | None, bins: int = 30) -> Histo
         share=(counts / total).tolist(),
         cumulative=(np.cumsum(counts) / total).tolist(),
         due_bin=due_bin,
+        due_at=due_at,
+        peak=int(counts.max()) if counts.size else 0,
     )
 
 

@@ -142,7 +142,12 @@ def _align(cell) -> str:
 
 
 def _indented(cell) -> bool:
-    return bool(cell.alignment is not None and cell.alignment.indent)
+    """Indented as shown: an indent applies to left-, right- or distributed-aligned cells,
+    not under the general alignment (ECMA-376 Part 1, the alignment element's indent
+    attribute, from memory; LibreOffice's PDF of the samples shows the same)."""
+    al = cell.alignment
+    return bool(al is not None and al.indent and al.horizontal in ("left", "right",
+                                                                  "distributed"))
 
 
 def _is_header(cell) -> bool:

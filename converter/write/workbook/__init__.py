@@ -23,7 +23,12 @@ from converter.write.workbook.reference import (
     write_settings,
     write_warnings,
 )
-from converter.write.workbook.rows import DEFAULT_FONT_SIZE, DEFAULT_ROW_PIXELS, FONT_NAME
+from converter.write.workbook.rows import (
+    DEFAULT_FONT_SIZE,
+    DEFAULT_ROW_PIXELS,
+    FONT_NAME,
+    height_for_lines,
+)
 from converter.write.workbook.simulation import write_simulation
 from converter.write.workbook.styles import Formats
 from converter.write.workbook.summary import write_summary
@@ -47,6 +52,15 @@ class _PreparedFormulaSheet(xlsxwriter.worksheet.Worksheet):
         if formula.endswith("}"):
             formula = formula[:-1]
         return formula
+
+
+    def _write_string(self, row, col, string, cell_format=None):
+        """Also give a row holding larger text (a title) room for one line of it, unless
+        the sheet sets that row's height itself (later, or already)."""
+        size = getattr(cell_format, "font_size", DEFAULT_FONT_SIZE) if cell_format else None
+        if size and size > DEFAULT_FONT_SIZE and row not in self.row_sizes:
+            self.set_row(row, height_for_lines(1, size))
+        return super()._write_string(row, col, string, cell_format)
 
 
 class _Workbook(xlsxwriter.Workbook):

@@ -76,8 +76,8 @@ def _table_head(ws, fmt, lay: Layout) -> None:
     ws.set_row(2, max(DEFAULT_ROW_HEIGHT, need - DEFAULT_ROW_HEIGHT))
     heads = []
     for key, col in c.items():
-        style = fmt.th if key in ("id", "name", "pred") else (
-            fmt.th_center if key == "crit" else fmt.th_right)
+        # heads centred over numbers, so neighbouring heads do not run together
+        style = fmt.th if key in ("id", "name", "pred") else fmt.th_center
         ws.write_string(FIRST - 1, col, HEADERS[key], style)
         ws.set_column(col, col, _width(key))
         heads.append((HEADERS[key], _width(key), TABLE_HEAD_SIZE, True))
@@ -196,7 +196,7 @@ def write_links(wb, fmt, a, lay: Layout) -> None:
     ws.merge_range(1, 0, 1, len(LINK_HEADERS) - 1, LINK_INTRO, fmt.subtitle_wrap)
     ws.set_row(1, row_height([(LINK_INTRO, merged_width(LINK_WIDTHS))]))
     for col, (h, width) in enumerate(zip(LINK_HEADERS, LINK_WIDTHS)):
-        style = fmt.th if col < 3 else (fmt.th_center if col == 7 else fmt.th_right)
+        style = fmt.th if col < 3 else fmt.th_center
         ws.write_string(FIRST - 1, col, h, style)
         ws.set_column(col, col, width)
     ws.set_row(FIRST - 1, row_height([(h, w, TABLE_HEAD_SIZE, True)

@@ -15,6 +15,7 @@ draws narrower columns only leaves more margin.
 
 from __future__ import annotations
 
+import itertools
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass, field
@@ -116,6 +117,19 @@ def _bands(widths: list[float], first: int, room: float, prefer: Sequence[int] =
     return breaks
 
 
+def _even_preferred(widths: list[float], lead: int, space: float, prefer: Sequence[int],
+                    bands: int) -> list[int] | None:
+    """Of the ways to begin ``bands - 1`` bands at ``prefer`` columns that fit ``space``,
+    the one with the narrowest widest band (None when there is none)."""
+    best, best_width = None, math.inf
+    for cut in itertools.combinations(sorted(p for p in prefer if p > lead), bands - 1):
+        edges = [lead, *cut, len(widths)]
+        widest = max(sum(widths[a:b]) for a, b in zip(edges, edges[1:]))
+        if widest <= space and widest < best_width:
+            best, best_width = list(cut), widest
+    return best
+
+
 def plan_columns(widths: Sequence[float], title_cols: tuple[int, int] | None,
                  room: float, min_scale: float, prefer: Sequence[int] = ()
                  ) -> tuple[float, list[int]]:
@@ -145,7 +159,10 @@ def plan_columns(widths: Sequence[float], title_cols: tuple[int, int] | None,
     if space <= 0 or any(w > space for w in widths[lead:]):  # titles too wide to repeat
         return min_scale, _bands(widths, 0, room / min_scale, prefer)
     breaks = _bands(widths, lead, space, prefer)
-    if not set(breaks) <= set(prefer):
+    even = _even_preferred(widths, lead, space, prefer, len(breaks) + 1)
+    if even is not None:
+        breaks = even
+    elif not set(breaks) <= set(prefer):
         # share the columns evenly: the narrowest room that still gives as many bands
         bands = len(breaks) + 1
         low, high = max(widths[lead:]), space

@@ -16,7 +16,7 @@ STEP_HEADERS = ["Path", "Step", "Activity", "Entered by link", "Coefficient of i
                 "Expected time TE", "Variance", "Lag on the link in"]
 WIDTHS = [7.0, 10.0, 10.0, 10.0, 9.0, 11.0, 17.0, 10.0, 48.0]
 #: How each head sits: over a centred count, a number, or text.
-SUMMARY_ALIGN = "crrrrricl"
+SUMMARY_ALIGN = "crrrrcccl"
 STEP_ALIGN = "ccllrrrr"
 INTRO = ("Ranked by expected length, ties by larger variance. Length = SUMPRODUCT(coefficients, "
          "TE) + lags over the path's steps below; a duration counts +1 normally, 0 or -1 where "
@@ -24,7 +24,7 @@ INTRO = ("Ranked by expected length, ties by larger variance. Length = SUMPRODUC
 
 
 def _heads(ws, fmt, row: int, heads: list[str], align: str) -> None:
-    styles = {"c": fmt.th_center, "r": fmt.th_right, "l": fmt.th, "i": fmt.th_indent}
+    styles = {"c": fmt.th_center, "r": fmt.th_center, "l": fmt.th, "i": fmt.th_indent}
     for col, (h, how) in enumerate(zip(heads, align)):
         ws.write_string(row, col, h, styles[how])
     ws.set_row(row, row_height([(h, w, TABLE_HEAD_SIZE, True) for h, w in zip(heads, WIDTHS)]))
@@ -81,10 +81,11 @@ def write_paths(wb, fmt, a, lay: Layout) -> None:
             ws.write_formula(row, 5, f.p_meet("DueDuration", f.ref(row, 1), f.ref(row, 3)),
                              fmt.prob, pr.p_meet_due)
             if n == 0:
-                ws.write_string(row, 6, "critical path", fmt.wrap_indent)
+                ws.write_string(row, 6, "critical path", fmt.wrap_center)
             else:
                 flag = ("YES: lower chance than the critical path" if n in riskier else "no")
-                ws.write_string(row, 6, flag, fmt.wrap_flag if n in riskier else fmt.wrap_indent)
+                ws.write_string(row, 6, flag,
+                                fmt.wrap_flag_center if n in riskier else fmt.wrap_center)
         else:  # over the z, chance and riskier columns
             ws.merge_range(row, 4, row, 6, "no due date", fmt.center)
         ws.write_number(row, 7, len(path.activities), fmt.int_center)

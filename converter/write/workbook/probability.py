@@ -7,6 +7,9 @@ spans the analytic and the simulated P1 to P99) and the due date as a vertical l
 
 from __future__ import annotations
 
+import math
+
+from converter.analyse.figures import nice_step
 from converter.write.workbook import formulas as f
 from converter.write.workbook import pages
 from converter.write.workbook.activities import serial
@@ -29,9 +32,10 @@ CONF_HEADS = ["Confidence", "Duration (analytic)", "Date (analytic)", "Duration 
 
 
 def _heads(ws, fmt, row: int, first: int, heads: list[str]) -> list[tuple]:
+    """Heads centred over their numbers, so neighbouring heads do not run together."""
     cells = []
     for k, h in enumerate(heads):
-        ws.write_string(row, first + k, h, fmt.th_right)
+        ws.write_string(row, first + k, h, fmt.th_center)
         cells.append((h, WIDTHS[first + k], TABLE_HEAD_SIZE, True))
     return cells
 
@@ -103,7 +107,7 @@ def _write_due_line(ws, fmt, a, top: int) -> tuple[int, int] | None:
     if a.due is None:
         return None
     ws.merge_range(top, CONF, top, CONF + 1, "Due date line (chart)", fmt.th)
-    ws.write_string(top, CONF + 2, "Chance", fmt.th_right)
+    ws.write_string(top, CONF + 2, "Chance", fmt.th_center)
     for k in (0, 1):
         ws.write_formula(top + 1 + k, CONF + 1, "=DueDuration", fmt.num, a.due)
         ws.write_number(top + 1 + k, CONF + 2, float(k), fmt.prob)
@@ -137,9 +141,11 @@ def _chart(wb, a, first: int, last: int, due_rows):
     grid = {"visible": True, "line": {"color": "#E3E3E3"}}
     chart.set_title({"name": "Chance of finishing by each duration",
                      "name_font": {"size": 12, "bold": True}})
+    low, high = a.finish_table[0].duration, a.finish_table[-1].duration
+    step = nice_step(high - low, rows=8)  # round ticks over the table's range
     chart.set_x_axis({"name": f"Duration ({a.schedule.settings.time_unit})",
-                      "min": a.finish_table[0].duration, "max": a.finish_table[-1].duration,
-                      "major_gridlines": grid})
+                      "min": math.floor(low / step) * step, "max": math.ceil(high / step) * step,
+                      "major_unit": step, "major_gridlines": grid})
     chart.set_y_axis({"name": "Chance of finishing by then", "min": 0, "max": 1,
                       "num_format": "0%", "major_gridlines": grid})
     chart.set_legend({"position": "bottom"})
@@ -157,7 +163,7 @@ def _write_targets(ws, fmt, a, lay: Layout, r: int) -> int:
              "Chance of meeting (simulated)"]
     cols = [0, 1, 2, 3, 5, 6, 7]  # past the gap column
     for col, h in zip(cols, heads):
-        ws.write_string(r, col, h, fmt.th if col == 0 else fmt.th_right)
+        ws.write_string(r, col, h, fmt.th if col == 0 else fmt.th_center)
     ws.set_row(r, row_height([(h, WIDTHS[c], TABLE_HEAD_SIZE, True)
                               for c, h in zip(cols, heads)]))
     r += 1

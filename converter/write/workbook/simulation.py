@@ -4,8 +4,8 @@ driver charts.
 Page 1 states the run and its results; the histogram, the most often critical activities
 and the risk drivers each begin a page, a full-width chart above its table (the drivers'
 table, listing every activity, last: its head repeats on the pages it runs over). The due
-date is a vertical line with its date, not a bar; activities are labelled on the charts by
-ID and description, shortened to one line.
+date is a dashed vertical line where it falls, named with its date in the key, not a bar;
+activities are labelled on the charts by ID and description, shortened to one line.
 """
 
 from __future__ import annotations
@@ -31,8 +31,7 @@ LAST = len(WIDTHS) - 1
 CHART_WIDTH = 850  # pixels: columns A-G are 861
 HISTOGRAM_HEIGHT = 340
 LABEL_CHARS = 34  # an activity's label on a chart
-AXIS_LINE = "#404040"  # the due-date line (see _histogram_chart)
-CUMULATIVE_MIN = 0.001  # the cumulative axis starts just above 0, where the empty bars lie
+DUE_LINE_OVER = 1.1  # the due-date line rises this far above the tallest bar
 
 
 def reproduce_command(a) -> str:
@@ -56,7 +55,7 @@ def reproduce_command(a) -> str:
 
 def _heads(ws, fmt, row: int, heads: list[tuple[int, str, str]]) -> None:
     """Header cells ``(column, text, align)``; the row grows for wrapped heads."""
-    styles = {"l": fmt.th, "r": fmt.th_right, "c": fmt.th_center, "i": fmt.th_indent}
+    styles = {"l": fmt.th, "r": fmt.th_center, "c": fmt.th_center, "i": fmt.th_indent}
     for col, text, how in heads:
         ws.write_string(row, col, text, styles[how])
     ws.set_row(row, row_height([(t, WIDTHS[c], TABLE_HEAD_SIZE, True) for c, t, _ in heads]))
@@ -164,10 +163,9 @@ def _write_histogram(wb, ws, fmt, a, top: int) -> int:
     chart_row = top + 1
     head = chart_row + rows_spanned(HISTOGRAM_HEIGHT) + 1
     _heads(ws, fmt, head, [(0, "Bin (up to)", "r"), (1, "Iterations", "r"),
-                           (2, "Share", "r"), (3, "Cumulative share", "r"),
-                           (4, "Due date line (chart)", "r")])
+                           (2, "Share", "r"), (3, "Cumulative share", "r")])
     first = head + 1
-    total, due_bin = hist.iterations, hist.due_bin
+    total = hist.iterations
     for k, (edge, n) in enumerate(zip(hist.upper, hist.counts, strict=True)):
         r = first + k
         ws.write_number(r, 0, edge, fmt.num)
@@ -175,42 +173,48 @@ def _write_histogram(wb, ws, fmt, a, top: int) -> int:
         ws.write_formula(r, 2, f"=B{r + 1}/{total}", fmt.prob2, hist.share[k])
         ws.write_formula(r, 3, f"=SUM($B${first + 1}:B{r + 1})/{total}", fmt.prob2,
                          hist.cumulative[k])
-        ws.write_number(r, 4, 1.0 if k == due_bin else 0.0, fmt.int)
     last = first + len(hist.upper) - 1
-    ws.insert_chart(chart_row, 0, _histogram_chart(wb, a, first, last))
+    due = _write_due_line(ws, fmt, a, head, first, last)
+    ws.insert_chart(chart_row, 0, _histogram_chart(wb, a, first, last, due))
     return last
 
 
-def _histogram_chart(wb, a, first: int, last: int):
-    sim, hist = a.simulation, a.histogram
-    cats = [SIMULATION, first, 0, last, 0]
+def _write_due_line(ws, fmt, a, head: int, first: int, last: int) -> tuple[int, int] | None:
+    """Two points that draw the due date on the histogram: where it falls among the bins
+    (the first bin at 1), from the foot to a little above the tallest bar."""
+    hist = a.histogram
+    if hist.due_at is None:
+        return None
+    _heads(ws, fmt, head, [(5, "Due date on the chart: bin position", "r"),
+                           (6, "Height", "r")])
+    for k, height in enumerate((0.0, DUE_LINE_OVER * hist.peak)):
+        ws.write_number(first + k, 5, hist.due_at, fmt.num)
+        formula = "=0" if k == 0 else f"={DUE_LINE_OVER!r}*MAX(B{first + 1}:B{last + 1})"
+        ws.write_formula(first + k, 6, formula, fmt.int, height)
+    return first, first + 1
+
+
+def _histogram_chart(wb, a, first: int, last: int, due: tuple[int, int] | None):
+    sim = a.simulation
     chart = wb.add_chart({"type": "column"})
-    chart.add_series({"name": "Iterations", "categories": cats,
+    chart.add_series({"name": "Iterations", "categories": [SIMULATION, first, 0, last, 0],
                       "values": [SIMULATION, first, 1, last, 1],
                       "fill": {"color": PALETTE["moss"]}, "border": {"color": "#FFFFFF"},
                       "gap": 15})
-    line = wb.add_chart({"type": "line"})
-    line.add_series({"name": "Cumulative share", "categories": cats,
-                     "values": [SIMULATION, first, 3, last, 3], "y2_axis": True,
-                     "line": {"color": PALETTE["ink"], "width": 2.5}})
-    if hist.due_bin is not None:
-        # The due date: a line down from the top of the chart at its bin (an error bar of
-        # 100% below a point at 100%). The other points sit at 0, just below the axis's
-        # lowest value, so the caps of their empty bars are not drawn.
+    if due is not None:
+        # a scatter series over the columns: its x runs along the bins (the first at 1), so
+        # the line stands where the due date falls inside its bin
         when = (a.due_date.isoformat() if a.due_date is not None else
                 f"{a.due:g} {a.schedule.settings.time_unit}")
-        labels = [{"delete": True}] * len(hist.upper)
-        labels[hist.due_bin] = {"value": "Due date"}
+        line = wb.add_chart({"type": "scatter", "subtype": "straight"})
         line.add_series({
-            "name": f"Due date {when} (the vertical line)", "categories": cats,
-            "y2_axis": True, "values": [SIMULATION, first, 4, last, 4],
-            "line": {"none": True}, "marker": {"type": "none"},
-            "y_error_bars": {"type": "percentage", "value": 100, "direction": "minus",
-                             "end_style": 0, "line": {"color": AXIS_LINE, "width": 1.5}},
-            "data_labels": {"value": False, "position": "left", "custom": labels,
-                            "font": {"color": PALETTE["clay"], "bold": True, "size": 9}},
+            "name": f"Due date ({when})",
+            "categories": [SIMULATION, due[0], 5, due[1], 5],
+            "values": [SIMULATION, due[0], 6, due[1], 6],
+            "line": {"color": PALETTE["clay"], "width": 2.0, "dash_type": "dash"},
+            "marker": {"type": "none"},
         })
-    chart.combine(line)
+        chart.combine(line)
     unit = a.schedule.settings.time_unit
     chart.set_title({"name": f"Simulated finish ({sim.iterations:,} iterations)",
                      "name_font": {"size": 12, "bold": True}})
@@ -218,8 +222,6 @@ def _histogram_chart(wb, a, first: int, last: int):
                       "num_font": {"rotation": -45}})
     chart.set_y_axis({"name": "Iterations",
                       "major_gridlines": {"visible": True, "line": {"color": "#E3E3E3"}}})
-    line.set_y2_axis({"name": "Cumulative share", "min": CUMULATIVE_MIN, "max": 1,
-                      "num_format": "0%"})
     chart.set_legend({"position": "bottom"})
     chart.set_size({"width": CHART_WIDTH, "height": HISTOGRAM_HEIGHT})
     chart.set_chartarea({"border": {"none": True}})
@@ -227,7 +229,7 @@ def _histogram_chart(wb, a, first: int, last: int):
 
 
 def _bar_height(count: int) -> int:
-    return 90 + 14 * count
+    return 90 + 16 * count
 
 
 def _bar_chart(wb, title: str, series_name: str, cats, values, color: str, axis: dict,
@@ -237,7 +239,8 @@ def _bar_chart(wb, title: str, series_name: str, cats, values, color: str, axis:
                     "fill": {"color": color}, "gap": 40})
     bar.set_title({"name": title, "name_font": {"size": 12, "bold": True}})
     bar.set_y_axis({"reverse": True, "crossing": "max", "name": "Activity",
-                    "num_font": {"size": 9}})  # the first at the top, the scale below
+                    "num_font": {"size": 8}, "interval_unit": 1})  # every bar labelled,
+    # the first at the top, the scale below
     bar.set_x_axis({**axis, "name": axis_name,
                     "major_gridlines": {"visible": True, "line": {"color": "#E3E3E3"}}})
     bar.set_legend({"none": True})

@@ -52,29 +52,32 @@ class Formats:
         self.critical = add({"bold": True, "font_color": PALETTE["ink"], "align": "center"})
         self.center = add({"align": "center"})
         self.int_center = add({"num_format": "0", "align": "center"})
-        # added for print and screen layout (headers over numbers, notes apart from
+        # added for print and screen layout (indent needs "left": Excel and LibreOffice
+        # ignore it under the general alignment; headers over numbers, notes apart from
         # figures, labels at the top of tall rows)
-        # table heads at 9 pt, aligned like the column below them
+        # table heads at 9 pt: left over text, centred over numbers
         head = {"bold": True, "font_size": TABLE_HEAD_SIZE, "bg_color": PALETTE["mist"],
                 "bottom": 1, "text_wrap": True}
         self.th = add(head)
-        self.th_right = add({**head, "align": "right"})
         self.th_center = add({**head, "align": "center"})
-        self.th_indent = add({**head, "indent": 1})
+        self.th_indent = add({**head, "indent": 1, "align": "left"})
         self.section_title = add({"bold": True, "font_size": 12, "font_color": PALETTE["ink"],
                                   "bottom": 1, "bottom_color": PALETTE["slate"]})
         self.section_head = add({"bold": True, "font_color": PALETTE["ink"], "bottom": 1,
                                  "bottom_color": PALETTE["slate"], "align": "right",
                                  "text_wrap": True})
         self.label_wrap = add({"bold": True, "text_wrap": True})
-        self.note = add({"text_wrap": True, "valign": "top", "indent": 1})
-        self.note_italic = add({"text_wrap": True, "valign": "top", "indent": 1,
+        self.note = add({"text_wrap": True, "valign": "top", "indent": 1, "align": "left"})
+        self.note_italic = add({"text_wrap": True, "valign": "top", "indent": 1, "align": "left",
                                 "italic": True, "font_color": "#555555"})
         self.wrap_flag = add({"text_wrap": True, "valign": "top", "bold": True,
-                              "font_color": PALETTE["clay"], "indent": 1})
-        self.wrap_indent = add({"text_wrap": True, "valign": "top", "indent": 1})
+                              "font_color": PALETTE["clay"], "indent": 1, "align": "left"})
+        self.wrap_indent = add({"text_wrap": True, "valign": "top", "indent": 1, "align": "left"})
+        self.wrap_center = add({"text_wrap": True, "align": "center"})
+        self.wrap_flag_center = add({"text_wrap": True, "bold": True, "align": "center",
+                                     "font_color": PALETTE["clay"]})
         self.text_right = add({"align": "right"})
-        self.text_indent = add({"indent": 1})
+        self.text_indent = add({"indent": 1, "align": "left"})
         self.big_value = add({"bold": True, "num_format": NUMBER_FORMAT,
                               "bg_color": PALETTE["mist"]})
         self.big_value_date = add({"bold": True, "num_format": DATE_FORMAT,

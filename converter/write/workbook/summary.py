@@ -36,6 +36,8 @@ CAUTION = (
 
 #: Columns: label, simulated figure, its date, critical-path figure, its date, a gap, note.
 WIDTHS = (37.0, 11.0, 13.5, 12.5, 11.5, 1.5, 43.0)
+#: Without a calendar the date columns close up and the note takes their room.
+WIDTHS_NO_DATES = (37.0, 11.0, 2.0, 12.5, 2.0, 1.5, 64.0)
 LABEL, SIM, SIM_DATE, CP, CP_DATE, GAP, NOTE = range(7)
 DRIVERS_SHOWN = 5
 
@@ -56,6 +58,7 @@ class _Rows:
         self.r = 0
         cal = a.calendar
         self.cal = cal
+        self.widths = WIDTHS if cal is not None else WIDTHS_NO_DATES
         self.holidays = "Holidays" if (cal is not None and cal.holidays) else None
 
     def name(self, name: str, row: int, col: int) -> None:
@@ -78,21 +81,21 @@ class _Rows:
                 self.ws.write_string(self.r, col, heads[col], self.fmt.section_head)
             else:
                 self.ws.write_blank(self.r, col, None, self.fmt.section_head)
-        self.fit(self.r, [("0", WIDTHS[LABEL], 12.0, True)]
-                 + [(t, WIDTHS[c], DEFAULT_FONT_SIZE, True) for c, t in (heads or {}).items()])
+        self.fit(self.r, [("0", self.widths[LABEL], 12.0, True)]
+                 + [(t, self.widths[c], DEFAULT_FONT_SIZE, True) for c, t in (heads or {}).items()])
         self.r += 1
 
     def line(self, label: str, note: str | None = None, start: int = NOTE) -> int:
         """A labelled row; its note spans the columns from ``start`` to the last."""
         row = self.r
         self.ws.write_string(row, LABEL, label, self.fmt.label_wrap)
-        cells = [(label, WIDTHS[LABEL], DEFAULT_FONT_SIZE, True)]
+        cells = [(label, self.widths[LABEL], DEFAULT_FONT_SIZE, True)]
         if note:
             if start < NOTE:
                 self.ws.merge_range(row, start, row, NOTE, note[:32000], self.fmt.note)
             else:
                 self.ws.write_string(row, NOTE, note[:32000], self.fmt.note)
-            cells.append((note, merged_width(WIDTHS[start:]) - 1.0))  # less the indent
+            cells.append((note, merged_width(self.widths[start:]) - 1.0))  # less the indent
         self.fit(row, cells)
         self.r += 1
         return row
@@ -103,23 +106,23 @@ class _Rows:
 
 def write_summary(wb, fmt, a, lay: Layout) -> None:
     ws = wb.add_worksheet(SUMMARY)
-    for col, width in enumerate(WIDTHS):
-        ws.set_column(col, col, width)
     out = _Rows(wb, ws, fmt, a)
+    for col, width in enumerate(out.widths):
+        ws.set_column(col, col, width)
     ws.write_string(0, 0, "Schedule risk summary", fmt.title)
     ws.set_row(0, TITLE_ROW)
     intro = ("Live formulas and inputs (click one to follow it), except the simulated "
              "figures: values from the run on the Simulation sheet. Named cells (ProjectMean, "
              "DueDuration, ...) are in the Name Box. Details on page 2.")
     ws.merge_range(1, 0, 1, NOTE, intro, fmt.subtitle_wrap)
-    out.fit(1, [(intro, merged_width(WIDTHS))])
+    out.fit(1, [(intro, merged_width(out.widths))])
     out.r = 2
     _when(out, lay)
     _how_sure(out)
     _what_drives(out)
     out.r += 1
     ws.merge_range(out.r, 0, out.r, NOTE, CAUTION, fmt.caution)
-    out.fit(out.r, [(CAUTION, merged_width(WIDTHS))])
+    out.fit(out.r, [(CAUTION, merged_width(out.widths))])
     details = out.r + 2
     out.r = details - 1
     _critical_path_view(out, lay)
@@ -169,7 +172,7 @@ def _when(out: _Rows, lay: Layout) -> None:
 
 def _fit_merged(out: _Rows, first: int, last: int, text: str) -> None:
     """Grow the last row of a block so a note merged over the block's rows fits."""
-    need = row_height([(text, WIDTHS[NOTE] - 1.0)])
+    need = row_height([(text, out.widths[NOTE] - 1.0)])
     have = DEFAULT_ROW_HEIGHT * (last - first + 1)
     if need > have:
         out.ws.set_row(last, DEFAULT_ROW_HEIGHT + need - have)
@@ -244,7 +247,7 @@ def _what_drives(out: _Rows) -> None:
     ws.write_string(row, LABEL, "Schedule health checks failed", fmt.label_wrap)
     ws.write_number(row, SIM, len(failed), fmt.flag if failed else fmt.good)
     ws.merge_range(row, SIM_DATE, row, NOTE, text, fmt.note)
-    out.fit(row, [(text, merged_width(WIDTHS[SIM_DATE:]) - 1.0)])
+    out.fit(row, [(text, merged_width(out.widths[SIM_DATE:]) - 1.0)])
     out.r += 1
 
 
@@ -266,8 +269,8 @@ def _riskier(out: _Rows) -> None:
                     fmt.label_wrap)
     ws.write_string(row, SIM, numbers, fmt.flag)
     ws.merge_range(row, CP, row, NOTE, note, fmt.note)
-    out.fit(row, [(note, merged_width(WIDTHS[CP:]) - 1.0),
-                  ("Paths riskier than the critical path (path no.)", WIDTHS[LABEL], 10, True)])
+    out.fit(row, [(note, merged_width(out.widths[CP:]) - 1.0),
+                  ("Paths riskier than the critical path (path no.)", out.widths[LABEL], 10, True)])
     out.r += 1
 
 

@@ -26,7 +26,9 @@ TOP = 3  # the header row (the table's first row is the sheet's row 5)
 
 def _note(a, rows: list[int], cut: bool) -> str:
     note = ("Dark bars: critical activities; green: the others; amber: total float (how far "
-            "the activity can slip without moving the finish); a short red mark: a milestone.")
+            "the activity can slip without moving the finish).")
+    if any(float(a.te[i]) == 0.0 for i in rows):
+        note += " A short red mark: a milestone."
     if cut:
         note += (f" The schedule has {len(a.ids):,} activities: only the {len(rows)} on the "
                  "listed near-critical paths or with the least float are charted.")
@@ -42,7 +44,7 @@ def write_timeline(wb, fmt, a, lay: Layout) -> None:
     ws.merge_range(1, 0, 1, len(WIDTHS) - 1, note, fmt.subtitle_wrap)
     ws.set_row(1, row_height([(note, merged_width(WIDTHS))]))
     for col, (h, width) in enumerate(zip(HEADS, WIDTHS)):
-        style = fmt.th if col == 0 else (fmt.th_indent if col == 6 else fmt.th_right)
+        style = fmt.th if col == 0 else (fmt.th_indent if col == 6 else fmt.th_center)
         ws.write_string(TOP, col, h, style)
         ws.set_column(col, col, width)
     ws.set_row(TOP, row_height([(h, w, TABLE_HEAD_SIZE, True) for h, w in zip(HEADS, WIDTHS)]))
@@ -52,7 +54,7 @@ def write_timeline(wb, fmt, a, lay: Layout) -> None:
     first, last = TOP + 1, TOP + len(rows)
     height = _chart_height(len(rows))
     ws.insert_chart(TOP, CHART_COL, _chart(wb, a, first, last, height))
-    _key(wb, ws)
+    _key(wb, ws, any(float(a.te[i]) == 0.0 for i in rows))
     chart_rows = (TOP, TOP + rows_spanned(height))
     pages.set_up(ws, header_rows=(TOP, TOP), keep=[chart_rows], bands=[CHART_COL])
 
@@ -125,11 +127,12 @@ def _chart(wb, a, first: int, last: int, height: int):
     return chart
 
 
-def _key(wb, ws) -> None:
+def _key(wb, ws, milestones: bool) -> None:
     """The colour key, in cells above the chart."""
     key = [("Critical", PALETTE["ink"], "#FFFFFF"), ("Not critical", PALETTE["moss"], "#FFFFFF"),
-           ("Total float", PALETTE["amber"], "#000000"), ("Milestone", PALETTE["clay"],
-                                                          "#FFFFFF")]
+           ("Total float", PALETTE["amber"], "#000000")]
+    if milestones:
+        key.append(("Milestone", PALETTE["clay"], "#FFFFFF"))
     for k, (label, fill, ink) in enumerate(key):
         col = CHART_COL + 2 * k
         ws.merge_range(2, col, 2, col + 1, label,
