@@ -1,6 +1,7 @@
 """The one public entry point: ``convert(path, options) -> ConvertResult``.
 
-The CLI and the drop folder both call this; neither holds logic of its own.
+The CLI and the drop folder both call this; neither holds logic of its own. The options
+(:class:`ConvertOptions`) and their rules live in :mod:`converter.options`.
 """
 
 from __future__ import annotations
@@ -11,31 +12,15 @@ import tempfile
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from converter.model import ERROR, Problem
+from converter.model import ERROR, Problem, Schedule
+from converter.options import ConvertOptions
+
+__all__ = ["ConvertOptions", "ConvertResult", "Loaded", "PertbookError", "check", "convert",
+           "load", "load_input", "output_paths"]
 
 
 class PertbookError(Exception):
     """Base class of the tool's own faults (exit code 1)."""
-
-
-@dataclass
-class ConvertOptions:
-    """Options given by the caller (command line or watcher). ``None`` = not given.
-
-    Values given here override the input's settings sheet, which overrides defaults.
-    """
-
-    due: str | float | None = None  # a number (duration) or an ISO date text
-    json: bool = False
-    iterations: int | None = None
-    seed: int | None = None
-    distribution: str | None = None
-    correlation: float | None = None
-    paths: int | None = None
-    confidence: tuple[float, ...] | None = None
-    start_date: str | None = None
-    simulate: bool = True
-    progress: object | None = None  # callable(done, total) for the simulation
 
 
 @dataclass
@@ -49,10 +34,6 @@ class ConvertResult:
     json_path: Path | None = None
     headline: dict = field(default_factory=dict)
     sheet: str | None = None
-
-    @property
-    def errors(self) -> list[Problem]:
-        return [p for p in self.problems if p.severity == ERROR]
 
     @property
     def exit_code(self) -> int:
@@ -78,28 +59,44 @@ def _atomic_write(target: Path, write) -> None:
         raise
 
 
+@dataclass
+class Loaded:
+    """An input read and validated: the schedule (None if invalid), every problem, and the
+    input's SHA-256 (computed once by the reader; None when the file could not be opened)."""
+
+    path: Path
+    schedule: Schedule | None
+    problems: list[Problem]
+    sha256: str | None
+
+    @property
+    def ok(self) -> bool:
+        return self.schedule is not None and not any(p.severity == ERROR for p in self.problems)
+
+
+def load_input(path: str | os.PathLike, options: ConvertOptions | None = None) -> Loaded:
+    """Read and validate one file."""
+    from converter.read.sheets import read_input
+    from converter.validate import validate
+
+    read = read_input(Path(path))
+    if read.raw is None:
+        return Loaded(read.path, None, read.problems, read.sha256)
+    schedule, more = validate(read.raw, options or ConvertOptions())
+    return Loaded(read.path, schedule, read.problems + more, read.sha256)
+
+
 def load(path: str | os.PathLike, options: ConvertOptions | None = None):
     """Read and validate: returns ``(schedule or None, problems)``."""
-    from converter.read.sheets import read_input
-    from converter.validate.schedule import validate
-
-    options = options or ConvertOptions()
-    path = Path(path)
-    raw, problems = read_input(path)
-    if raw is None:
-        return None, problems
-    schedule, more = validate(raw, options)
-    return schedule, problems + more
+    loaded = load_input(path, options)
+    return loaded.schedule, loaded.problems
 
 
 def check(path: str | os.PathLike, options: ConvertOptions | None = None) -> ConvertResult:
     """Validate only."""
-    path = Path(path)
-    schedule, problems = load(path, options)
-    ok = schedule is not None and not any(p.severity == ERROR for p in problems)
-    return ConvertResult(
-        input=path, ok=ok, problems=problems, sheet=schedule.sheet if schedule else None
-    )
+    loaded = load_input(path, options)
+    return ConvertResult(input=Path(path), ok=loaded.ok, problems=loaded.problems,
+                         sheet=loaded.schedule.sheet if loaded.schedule else None)
 
 
 def convert(
@@ -127,13 +124,12 @@ def convert(
     xlsx_target = Path(workbook_path) if workbook_path else default_xlsx
     json_target = Path(json_path) if json_path else default_json
 
-    schedule, problems = load(path, options)
-    ok = schedule is not None and not any(p.severity == ERROR for p in problems)
-    result = ConvertResult(
-        input=path, ok=ok, problems=problems, sheet=schedule.sheet if schedule else None
-    )
+    loaded = load_input(path, options)
+    schedule, problems = loaded.schedule, loaded.problems
+    result = ConvertResult(input=path, ok=loaded.ok, problems=problems,
+                           sheet=schedule.sheet if schedule else None)
     analysis = None
-    if ok:
+    if loaded.ok:
         analysis = analyse(schedule, options)
         if xlsx_target.resolve() == path.resolve():
             raise PertbookError(f"refusing to overwrite the input file {path}")
@@ -141,7 +137,7 @@ def convert(
         result.workbook = xlsx_target
         result.headline = analysis.headline()
     if options.json:
-        data = build_json(path, problems, analysis)
+        data = build_json(path, problems, analysis, loaded.sha256)
         text = json.dumps(data, indent=2, allow_nan=False)
         _atomic_write(json_target, lambda tmp: tmp.write_text(text, encoding="utf-8"))
         result.json_path = json_target

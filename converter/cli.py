@@ -1,27 +1,37 @@
 """Command line: ``pertbook convert | check | template | watch``.
 
-A thin layer over :mod:`converter.api`: it parses arguments, prints problems and
-turns results into exit codes (0 ok, 2 invalid input, 1 the tool's own fault).
+A thin layer over :mod:`converter.api`: it parses arguments, prints problems and a short
+headline, and turns results into exit codes (0 ok, 2 invalid input, 1 the tool's own
+fault). ``convert`` and ``watch`` take the same conversion options
+(:func:`converter.options.add_conversion_options`). The terminal output is drawn with
+rich, which measures the terminal and writes plain text (no control codes) when the
+output is redirected.
 """
 
 from __future__ import annotations
 
 import argparse
+import math
 import sys
 import time
 import traceback
 from pathlib import Path
 
+from rich.console import Console
+from rich.table import Table
+
 from converter import __version__
-from converter.api import ConvertOptions, PertbookError, check, convert, output_paths
-from converter.model import DISTRIBUTIONS, ERROR
+from converter.api import ConvertResult, PertbookError, check, convert, output_paths
+from converter.model import ERROR
+from converter.options import add_conversion_options, options_from_args
+from converter.read import suffix_list
 
 EXIT_OK, EXIT_FAULT, EXIT_INVALID = 0, 1, 2
 #: A fault outranks invalid input, which outranks success, when several files are given.
 _RANK = {EXIT_OK: 0, EXIT_INVALID: 1, EXIT_FAULT: 2}
 
 EPILOG_CONVERT = """example:
-  pertbook convert samples/warehouse-fitout.xlsx --due 60 --json --outdir out
+  pertbook convert samples/warehouse-fitout.xlsx --due 60 --confidence 50,80,90 --json --outdir out
   (writes out/warehouse-fitout.analysis.xlsx and out/warehouse-fitout.analysis.json)
 """
 EPILOG_CHECK = """example:
@@ -35,128 +45,212 @@ EPILOG_WATCH = """example:
   pertbook watch /srv/share/schedules --once      (for cron or a scheduled task)
 """
 
-
-def _number_or_date(text: str) -> str | float:
-    try:
-        return float(text)
-    except ValueError:
-        return text
+#: Width for output that is not a terminal (a file, a pipe): wide enough never to wrap.
+REDIRECTED_WIDTH = 200
 
 
-def _confidence_list(text: str) -> tuple[float, ...]:
-    out = []
-    for part in text.replace(";", ",").split(","):
-        part = part.strip()
-        if not part:
-            continue
-        value = float(part[:-1]) / 100 if part.endswith("%") else float(part)
-        if not 0 < value < 1:
-            raise argparse.ArgumentTypeError(f"confidence {part} is outside (0, 1)")
-        out.append(value)
-    if not out:
-        raise argparse.ArgumentTypeError("no confidence levels")
-    return tuple(out)
+# --------------------------------------------------------------------------- the parser
+def _global_flags(parser: argparse.ArgumentParser, *, default) -> None:
+    """Flags accepted before and after the command (``--debug``)."""
+    parser.add_argument("--debug", action="store_true", default=default,
+                        help="show the traceback of an internal fault")
 
 
-def add_analysis_options(p: argparse.ArgumentParser) -> None:
-    p.add_argument("--due", type=_number_or_date, metavar="DUE",
-                   help="due date: a duration in the schedule's time unit (e.g. 60) or a date "
-                        "YYYY-MM-DD (needs a start date)")
-    p.add_argument("--json", action="store_true",
-                   help="also write <stem>.analysis.json (also for invalid input)")
-    p.add_argument("--iterations", type=int, metavar="N",
-                   help="Monte Carlo iterations (default 10000)")
-    p.add_argument("--seed", type=int, metavar="S",
-                   help="random seed (default fixed, written into the output)")
-    p.add_argument("--distribution", choices=DISTRIBUTIONS,
-                   help="duration distribution for the simulation (default pert)")
-    p.add_argument("--correlation", type=float, metavar="RHO",
-                   help="rank correlation among activities of the same group (default 0)")
-    p.add_argument("--paths", type=int, metavar="K",
-                   help="how many of the longest paths to list (default 10)")
-    p.add_argument("--confidence", type=_confidence_list, metavar="LEVELS",
-                   help='confidence levels, e.g. "50%%,80%%,90%%" (default 50,80,90,95%%)')
-    p.add_argument("--start-date", metavar="YYYY-MM-DD",
-                   help="project start date (overrides the settings sheet)")
-    p.add_argument("--no-simulation", action="store_true",
-                   help="skip the Monte Carlo simulation")
-
-
-def build_parser() -> argparse.ArgumentParser:
+def _build() -> tuple[argparse.ArgumentParser, dict[str, argparse.ArgumentParser]]:
     parser = argparse.ArgumentParser(
         prog="pertbook",
         description="Activity sheet in, auditable schedule-risk workbook out.",
     )
     parser.add_argument("--version", action="version", version=f"pertbook {__version__}")
-    parser.add_argument("--debug", action="store_true",
-                        help="show the traceback of an internal fault")
+    _global_flags(parser, default=False)
+    # after the command too; SUPPRESS keeps a --debug given before the command
+    common = argparse.ArgumentParser(add_help=False)
+    _global_flags(common, default=argparse.SUPPRESS)
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
 
-    p = sub.add_parser("convert", help="analyse schedules and write analysis workbooks",
-                       epilog=EPILOG_CONVERT, formatter_class=argparse.RawDescriptionHelpFormatter)
-    p.add_argument("inputs", nargs="+", metavar="INPUT", help=".xlsx .xlsm .xls .ods or .csv")
+    def command(name: str, help_text: str, epilog: str) -> argparse.ArgumentParser:
+        return sub.add_parser(name, help=help_text, description=help_text, epilog=epilog,
+                              parents=[common],
+                              formatter_class=argparse.RawDescriptionHelpFormatter)
+
+    inputs = f"schedule file(s) to read: {suffix_list()}"
+    commands = {}
+    p = commands["convert"] = command(
+        "convert", "analyse schedules and write analysis workbooks", EPILOG_CONVERT)
+    p.add_argument("inputs", nargs="+", metavar="INPUT", help=inputs)
     p.add_argument("--outdir", metavar="DIR", help="output folder (default: beside each input)")
     p.add_argument("--quiet", action="store_true", help="print problems only")
-    add_analysis_options(p)
+    add_conversion_options(p)
 
-    p = sub.add_parser("check", help="validate schedules only (exit 0 valid, 2 invalid)",
-                       epilog=EPILOG_CHECK, formatter_class=argparse.RawDescriptionHelpFormatter)
-    p.add_argument("inputs", nargs="+", metavar="INPUT")
+    p = commands["check"] = command(
+        "check", "validate schedules only (exit 0 valid, 2 invalid); writes nothing",
+        EPILOG_CHECK)
+    p.add_argument("inputs", nargs="+", metavar="INPUT", help=inputs)
 
-    p = sub.add_parser("template", help="write a blank input workbook to fill in",
-                       epilog=EPILOG_TEMPLATE,
-                       formatter_class=argparse.RawDescriptionHelpFormatter)
-    p.add_argument("output", metavar="OUT.xlsx")
+    p = commands["template"] = command(
+        "template", "write a blank input workbook to fill in", EPILOG_TEMPLATE)
+    p.add_argument("output", metavar="OUT.xlsx", help="the workbook to write")
     p.add_argument("--force", action="store_true", help="replace OUT.xlsx if it exists")
 
-    from converter.drop.watcher import add_watch_arguments
+    from converter.drop import add_watch_arguments
 
-    p = sub.add_parser("watch", help="convert every sheet dropped into FOLDER/inbox",
-                       epilog=EPILOG_WATCH, formatter_class=argparse.RawDescriptionHelpFormatter)
-    add_analysis_options(p)
+    p = commands["watch"] = command(
+        "watch", "convert every sheet dropped into FOLDER/inbox", EPILOG_WATCH)
+    add_conversion_options(p)
     add_watch_arguments(p)
-    return parser
+    return parser, commands
 
 
-def options_from(args) -> ConvertOptions:
-    return ConvertOptions(
-        due=args.due,
-        json=args.json,
-        iterations=args.iterations,
-        seed=args.seed,
-        distribution=args.distribution,
-        correlation=args.correlation,
-        paths=args.paths,
-        confidence=args.confidence,
-        start_date=args.start_date,
-        simulate=not args.no_simulation,
-    )
+def build_parser() -> argparse.ArgumentParser:
+    """The ``pertbook`` argument parser."""
+    return _build()[0]
 
 
-class ProgressBar:
-    """A one-line bar on a terminal, drawn only once a run has taken over a second."""
+def command_parsers() -> dict[str, argparse.ArgumentParser]:
+    """Each command's own parser, by name (for its help and the documentation checks)."""
+    return _build()[1]
 
-    def __init__(self, stream=sys.stderr, label: str = "simulating"):
-        self.stream = stream
-        self.label = label
+
+# --------------------------------------------------------------------------- terminal
+def make_console(stream) -> Console:
+    """A rich console on ``stream``: measured on a terminal, plain and unwrapped otherwise."""
+    console = Console(file=stream, highlight=False)
+    if not console.is_terminal:
+        console.width = REDIRECTED_WIDTH
+    return console
+
+
+class SimulationProgress:
+    """A rich progress bar on a terminal, shown only once a simulation has run a second.
+
+    Call it as ``progress(done, total)`` (the simulation's progress callback); use it as a
+    context manager so the bar is taken down however the conversion ends.
+    """
+
+    def __init__(self, console: Console, delay: float = 1.0):
+        self.console = console
+        self.delay = delay
         self.start = time.monotonic()
-        self.drawn = False
+        self.bar = None  # a rich.progress.Progress once shown
+        self.task = None
 
     def __call__(self, done: int, total: int) -> None:
-        if time.monotonic() - self.start < 1.0 and done < total:
-            return
-        if not self.drawn and done >= total:
-            return
-        width = 30
-        filled = int(width * done / max(total, 1))
-        self.stream.write(f"\r{self.label} [{'#' * filled}{'.' * (width - filled)}] "
-                          f"{done:,}/{total:,}")
-        self.drawn = True
+        if self.bar is None:
+            if done >= total or time.monotonic() - self.start < self.delay:
+                return
+            from rich.progress import (  # only when shown: keeps start-up quick
+                BarColumn,
+                MofNCompleteColumn,
+                Progress,
+                TextColumn,
+                TimeRemainingColumn,
+            )
+
+            self.bar = Progress(TextColumn("simulating"), BarColumn(), MofNCompleteColumn(),
+                                TimeRemainingColumn(), console=self.console, transient=True)
+            self.bar.start()
+            self.task = self.bar.add_task("simulating", total=total)
+        self.bar.update(self.task, completed=done, total=total)
         if done >= total:
-            self.stream.write("\n")
-        self.stream.flush()
+            self.close()
+
+    def close(self) -> None:
+        if self.bar is not None:
+            self.bar.stop()
+            self.bar = None
+
+    def __enter__(self) -> SimulationProgress:
+        return self
+
+    def __exit__(self, *exc) -> None:
+        self.close()
 
 
+def format_chance(p: float | None) -> str:
+    """A probability in whole percent, as a scheduler says it: never 0% or 100%.
+
+    Examples
+    --------
+    >>> format_chance(0.5), format_chance(0.004), format_chance(0.9999999975)
+    ('50%', '<1%', '>99%')
+    >>> format_chance(0.994), format_chance(0.006), format_chance(None)
+    ('99%', '1%', '-')
+    """
+    if p is None or math.isnan(p):
+        return "-"
+    whole = math.floor(p * 100 + 0.5)  # half up
+    if whole < 1:
+        return "<1%"
+    if whole > 99:
+        return ">99%"
+    return f"{whole}%"
+
+
+def format_duration(x: float | None, unit: str) -> str:
+    """One decimal with the unit: ``format_duration(44.2987, "working days")`` ->
+    ``'44.3 working days'``."""
+    return "-" if x is None else f"{x:.1f} {unit}"
+
+
+#: Headline rows: label, critical-path key, simulation key.
+_FIGURES = (
+    ("Expected finish", "expected_duration", "simulated_mean"),
+    ("P50", "p50", "simulated_p50"),
+    ("P80", "p80", "simulated_p80"),
+    ("P90", "p90", "simulated_p90"),
+)
+
+
+def _date_key(key: str) -> str:
+    return {"expected_duration": "finish_date",
+            "simulated_mean": "simulated_finish_date"}.get(key, f"{key}_date")
+
+
+def headline_table(name: str, h: dict) -> Table:
+    """The aligned headline of one conversion from :meth:`Analysis.headline` figures."""
+    unit = h.get("time_unit", "time units")
+    simulated = "simulated_mean" in h
+    dated = h.get("start_date") is not None
+    table = Table(box=None, show_edge=False, pad_edge=False, padding=(0, 2, 0, 0))
+    table.add_column(Path(name).name, style="bold", no_wrap=True)
+    sources = [("simulation", 1), ("critical path", 0)] if simulated else [("critical path", 0)]
+    for title, _ in sources:
+        table.add_column(title.capitalize(), justify="right", no_wrap=True)
+        if dated:
+            table.add_column("", no_wrap=True)
+
+    def cells(values: list) -> list[str]:
+        out = []
+        for duration, date in values:
+            out.append(duration)
+            if dated:
+                out.append(date or "")
+        return out
+
+    for label, *keys in _FIGURES:
+        pairs = [(format_duration(h.get(keys[k]), unit), h.get(_date_key(keys[k])))
+                 for _, k in sources]
+        table.add_row(label, *cells(pairs))
+    if h.get("due") is not None:
+        due = h.get("due_date") or format_duration(h["due"], unit)
+        keys = {0: "p_meet_due", 1: "simulated_p_meet_due"}
+        table.add_row(f"Chance to finish by {due}",
+                      *cells([(format_chance(h.get(keys[k])), None) for _, k in sources]))
+    if "failed_checks" in h:
+        table.add_row("Health checks failed", f"{h['failed_checks']} of {h['checks']}")
+    table.add_row("Warnings", str(h.get("warnings", 0)))
+    return table
+
+
+def print_headline(console: Console, name: str, result: ConvertResult) -> None:
+    """The headline table, then one ``NAME: wrote PATH`` line per output."""
+    console.print(headline_table(name, result.headline))
+    for path in (result.workbook, result.json_path):
+        if path is not None:
+            console.print(f"{name}: wrote {path}", soft_wrap=True, markup=False)
+
+
+# --------------------------------------------------------------------------- commands
 #: Warnings printed per file; errors are always printed in full.
 WARNINGS_SHOWN = 20
 
@@ -174,14 +268,11 @@ def _print_problems(path: str, problems, stream) -> None:
                      "on the workbook's Warnings sheet\n")
 
 
-def cmd_convert(args) -> int:
-    worst = EXIT_OK
-    options = options_from(args)
-    written: set[Path] = set()
+def _targets(args) -> list[tuple[str, Path, Path]]:
+    """(input, workbook path, JSON path) per input; a second input of the same stem gets
+    ``<stem>-<ext>`` so both results are kept."""
+    out, written = [], set()
     for name in args.inputs:
-        if sys.stderr.isatty() and not args.quiet:
-            options.progress = ProgressBar()
-        code = EXIT_OK
         xlsx, js = output_paths(Path(name), Path(args.outdir) if args.outdir else None)
         if xlsx.resolve() in written:  # plan.xlsx and plan.csv in one run: keep both
             tag = Path(name).suffix.lstrip(".").lower()
@@ -189,35 +280,50 @@ def cmd_convert(args) -> int:
             js = js.with_name(f"{Path(name).stem}-{tag}.analysis.json")
             sys.stderr.write(f"{name}: another input has the same name; writing {xlsx.name}\n")
         written.add(xlsx.resolve())
-        try:
+        out.append((name, xlsx, js))
+    return out
+
+
+def _convert_one(args, options, name: str, xlsx: Path, js: Path
+                 ) -> tuple[int, ConvertResult | None]:
+    """Convert one input, printing its problems; returns the exit code and the result."""
+    err = make_console(sys.stderr)
+    show_progress = err.is_terminal and not args.quiet
+    try:
+        with SimulationProgress(err) as progress:
+            options.progress = progress if show_progress else None
             result = convert(name, options, workbook_path=xlsx, json_path=js)
-            _print_problems(name, result.problems, sys.stderr)
-            if result.ok:
-                if not args.quiet:
-                    h = result.headline
-                    line = (f"{name}: wrote {result.workbook} (expected finish "
-                            f"{h.get('expected_duration'):g}, sd {h.get('sd'):g}")
-                    if "p_meet_due" in h:
-                        line += f", chance of meeting the due date {h['p_meet_due']:.1%}"
-                    print(line + ")")
-                    if result.json_path:
-                        print(f"{name}: wrote {result.json_path}")
-            else:
-                code = EXIT_INVALID
-                n = sum(1 for p in result.problems if p.severity == ERROR)
-                sys.stderr.write(f"{name}: invalid input ({n} problem(s)); no workbook written\n")
-        except OSError as exc:  # the output folder or disk, not the schedule
-            code = EXIT_FAULT
-            sys.stderr.write(f"{name}: cannot write the results: {exc}\n")
-            if args.debug:
-                traceback.print_exc()
-        except (PertbookError, Exception) as exc:  # noqa: BLE001 - the tool's own fault
-            code = EXIT_FAULT
-            sys.stderr.write(f"{name}: internal error: {type(exc).__name__}: {exc}\n")
-            if args.debug:
-                traceback.print_exc()
-            else:
-                sys.stderr.write("(run with --debug for the traceback; please report it)\n")
+    except OSError as exc:  # the output folder or disk, not the schedule
+        sys.stderr.write(f"{name}: cannot write the results: {exc}\n")
+        if args.debug:
+            traceback.print_exc()
+        return EXIT_FAULT, None
+    except (PertbookError, Exception) as exc:  # noqa: BLE001 - the tool's own fault
+        sys.stderr.write(f"{name}: internal error: {type(exc).__name__}: {exc}\n")
+        if args.debug:
+            traceback.print_exc()
+        else:
+            sys.stderr.write("(run with --debug for the traceback; please report it)\n")
+        return EXIT_FAULT, None
+    _print_problems(name, result.problems, sys.stderr)
+    if not result.ok:
+        n = sum(1 for p in result.problems if p.severity == ERROR)
+        sys.stderr.write(f"{name}: invalid input ({n} problem(s)); no workbook written\n")
+        return EXIT_INVALID, result
+    return EXIT_OK, result
+
+
+def cmd_convert(args) -> int:
+    options = options_from_args(args)
+    out = make_console(sys.stdout)
+    worst, shown = EXIT_OK, 0
+    for name, xlsx, js in _targets(args):
+        code, result = _convert_one(args, options, name, xlsx, js)
+        if code == EXIT_OK and not args.quiet:
+            if shown:
+                out.print()  # a blank line between the inputs' headlines
+            print_headline(out, name, result)
+            shown += 1
         if _RANK[code] > _RANK[worst]:
             worst = code
     return worst
@@ -257,21 +363,27 @@ def cmd_template(args) -> int:
     return EXIT_OK
 
 
+def cmd_watch(args) -> int:
+    from converter.drop import run_watch
+
+    return run_watch(args, options_from_args(args))
+
+
+COMMANDS = {"convert": cmd_convert, "check": cmd_check, "template": cmd_template,
+            "watch": cmd_watch}
+
+
 def main(argv: list[str] | None = None) -> int:
+    """Run ``pertbook``; returns the exit code (a bad argument: 2, with argparse's message)."""
     parser = build_parser()
-    args = parser.parse_args(argv)
+    try:
+        args = parser.parse_args(argv)
+    except SystemExit as exc:  # --help, --version, or a usage error already printed
+        return exc.code if isinstance(exc.code, int) else EXIT_INVALID
     if args.command is None:
         parser.print_help()
         return EXIT_INVALID
-    if args.command == "convert":
-        return cmd_convert(args)
-    if args.command == "check":
-        return cmd_check(args)
-    if args.command == "template":
-        return cmd_template(args)
-    from converter.drop.watcher import run_watch
-
-    return run_watch(args)
+    return COMMANDS[args.command](args)
 
 
 if __name__ == "__main__":

@@ -77,16 +77,6 @@ class Activity:
     group: str | None = None
     target: float | dt.date | None = None
 
-    @property
-    def te(self) -> float:
-        """PERT expected time (O + 4M + P) / 6 (Malcolm et al. 1959)."""
-        return (self.optimistic + 4.0 * self.most_likely + self.pessimistic) / 6.0
-
-    @property
-    def variance(self) -> float:
-        """PERT variance ((P - O) / 6)^2 (Malcolm et al. 1959)."""
-        return ((self.pessimistic - self.optimistic) / 6.0) ** 2
-
 
 @dataclass(frozen=True)
 class Link:

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import os
 import sys
+from collections.abc import Iterator
 from pathlib import Path
 
 import pytest
@@ -13,7 +14,8 @@ if str(TESTS) not in sys.path:  # helper modules (recalc, psplib) import as top-
     sys.path.insert(0, str(TESTS))
 
 from hypothesis import settings  # noqa: E402
-from recalc import soffice_path  # noqa: E402
+from libreoffice import LibreOffice  # noqa: E402
+from recalc import soffice_path, use_shared  # noqa: E402
 
 # CI runs the property tests on a fixed sequence of examples (reproducible, no flakes from
 # a new random draw); locally they explore afresh each run. No deadlines: the machine is
@@ -24,8 +26,14 @@ settings.load_profile("ci" if os.environ.get("CI") else "dev")
 
 
 @pytest.fixture(scope="session")
-def soffice() -> str:
-    """Path of LibreOffice's soffice; skips the test where LibreOffice is not installed."""
+def libreoffice() -> Iterator[LibreOffice]:
+    """One headless LibreOffice for the whole session, recalculating every workbook on load.
+
+    Started on first use, stopped (with its process group) when the session ends; its
+    private profile sets ``OOXMLRecalcMode`` = 0 (tests/support/libreoffice.py). While it
+    runs, ``recalc.recalculate`` hands workbooks to it too. Skips the test where
+    LibreOffice is not installed.
+    """
     path = soffice_path()
     if path is None:
         pytest.skip(
@@ -33,7 +41,19 @@ def soffice() -> str:
             "libreoffice-calc (e.g. apt-get install libreoffice-calc-nogui) or set "
             "PERTBOOK_SOFFICE to run the recalculation checks"
         )
-    return path
+    office = LibreOffice(path)
+    use_shared(office)
+    try:
+        yield office
+    finally:
+        use_shared(None)
+        office.close()
+
+
+@pytest.fixture(scope="session")
+def soffice(libreoffice: LibreOffice) -> str:
+    """Path of LibreOffice's soffice (``recalculate(..., soffice=)`` uses the session's one)."""
+    return libreoffice.soffice
 
 
 @pytest.fixture

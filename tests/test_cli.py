@@ -14,11 +14,13 @@ The simulation is switched off (``--no-simulation``) except in the one test that
 
 from __future__ import annotations
 
+import datetime as dt
 import json
 import math
 import re
 import zipfile
 
+import numpy as np
 import openpyxl
 import pytest
 from helpers import (
@@ -37,6 +39,7 @@ from scipy.stats import norm
 import converter
 from converter import cli
 from converter.api import ConvertOptions, PertbookError, convert
+from converter.options import options_from_args
 
 
 def main(capsys, *args):
@@ -480,3 +483,211 @@ def test_unwritable_output_folder_is_a_clear_message_not_a_traceback(tmp_path, c
     assert code == 1
     assert "cannot write the results" in err and "Traceback" not in err
     assert blocker.read_text() == "a file where the output folder should be"
+
+
+# --------------------------------------------------------------------------- options
+# The project's issue: "--confidence 50,80,90,95" failed although the help shows the
+# default as 50,80,90,95%; numbers above 1 are percentages, up to 1 fractions.
+@pytest.mark.parametrize("given, keys", [
+    ("50,80,90,95", {"0.5", "0.8", "0.9", "0.95"}),
+    ("50%,80%", {"0.5", "0.8"}),
+    ("0.8", {"0.8"}),
+    ("80", {"0.8"}),
+])
+def test_confidence_option_percent_or_fraction(tmp_path, capsys, given, keys):
+    _, data = _good_json(tmp_path, capsys, "--confidence", given)
+    assert set(data["project"]["duration_at_confidence"]) == keys
+    sd = math.sqrt(132 / 36)  # critical path A, B, D as worked above
+    for key in keys:  # mean + Phi^-1(c) sd, scipy.stats.norm
+        assert data["project"]["duration_at_confidence"][key] == pytest.approx(
+            13 + norm.ppf(float(key)) * sd)
+
+
+@pytest.mark.parametrize("given, named", [
+    ("0", "0"), ("100", "100"), ("-5", "-5"), ("high", "high"), ("100%", "100%"),
+    ("0.5,80", "80"),
+])
+def test_bad_confidence_option_is_a_clear_usage_error(tmp_path, capsys, given, named):
+    path = good_xlsx(tmp_path / "plan.xlsx")
+    code, out, err = main(capsys, "convert", path, "--no-simulation", f"--confidence={given}")
+    assert code == 2
+    (line,) = [ln for ln in err.splitlines() if "error: argument --confidence: " in ln]
+    assert named in line and "Traceback" not in err
+    assert outputs(tmp_path) == [] and out == ""
+
+
+def _conversion_options(parser_help: str) -> list[str]:
+    section = parser_help.split("conversion options", 1)[1]
+    return re.findall(r"^  (--[a-z-]+)", section, flags=re.MULTILINE)
+
+
+def test_convert_and_watch_take_the_same_conversion_options():
+    subs = cli.command_parsers()
+    convert_opts = _conversion_options(subs["convert"].format_help())
+    assert convert_opts == _conversion_options(subs["watch"].format_help())
+    # the list the issue names, no more and no fewer
+    assert set(convert_opts) == {"--due", "--json", "--iterations", "--seed", "--distribution",
+                                 "--correlation", "--paths", "--confidence", "--start-date",
+                                 "--no-simulation"}
+    given = ["--due", "2027-06-30", "--json", "--iterations", "500", "--seed", "7",
+             "--distribution", "tri", "--correlation", "25%", "--paths", "4",
+             "--confidence", "50,80", "--start-date", "2027-01-04", "--no-simulation"]
+    parser = cli.build_parser()
+    from_convert = options_from_args(parser.parse_args(["convert", "x.xlsx", *given]))
+    from_watch = options_from_args(parser.parse_args(["watch", "F", *given]))
+    assert from_convert == from_watch == ConvertOptions(
+        due=dt.date(2027, 6, 30), json=True, iterations=500, seed=7, distribution="triangular",
+        correlation=0.25, paths=4, confidence=(0.5, 0.8), start_date=dt.date(2027, 1, 4),
+        simulate=False)
+    defaults = options_from_args(parser.parse_args(["watch", "F"]))
+    assert defaults == options_from_args(parser.parse_args(["convert", "x"])) == ConvertOptions()
+
+
+@pytest.mark.parametrize("where", ["before", "after"])
+def test_debug_flag_before_or_after_the_command(tmp_path, capsys, monkeypatch, where):
+    import converter.analyse.analysis
+
+    monkeypatch.setattr(converter.analyse.analysis, "analyse", _boom)
+    path = good_xlsx(tmp_path / "plan.xlsx")
+    args = ["convert", path, "--no-simulation"]
+    code, _, err = main(capsys, *(["--debug", *args] if where == "before" else [*args, "--debug"]))
+    assert code == 1
+    assert "Traceback" in err and "RuntimeError: boom in the analysis" in err
+    assert not cli.build_parser().parse_args(["check", "x.xlsx"]).debug
+
+
+def test_check_help_describes_input():
+    r = run_cli("check", "--help")
+    assert r.returncode == 0
+    m = re.search(r"^  INPUT\s+(.+)$", r.stdout, flags=re.MULTILINE)
+    assert m and ".xlsx" in m.group(1) and ".csv" in m.group(1), r.stdout
+
+
+def test_package_exports_what_it_names():
+    for name in converter.__all__:
+        assert getattr(converter, name) is not None, name
+    assert converter.ConvertOptions is ConvertOptions
+    with pytest.raises(AttributeError):
+        converter.no_such_name  # noqa: B018
+
+
+# --------------------------------------------------------------------------- headline
+@pytest.mark.parametrize("p, text", [
+    (0.9999999975, ">99%"), (0.004, "<1%"), (0.5, "50%"), (1.0, ">99%"), (0.0, "<1%"),
+    (0.995, ">99%"), (0.994, "99%"), (0.005, "1%"), (0.125, "13%"), (None, "-"),
+])
+def test_chance_rounded_to_whole_percent_never_0_or_100(p, text):
+    # whole percent, half up; a chance that rounds to 0 or 100 is said "<1%" / ">99%"
+    # (the project's issue "reviewer-grade output")
+    assert cli.format_chance(p) == text
+
+
+def test_duration_one_decimal_with_unit():
+    assert cli.format_duration(44.2987, "working days") == "44.3 working days"
+    assert cli.format_duration(6.25, "weeks") == "6.2 weeks"  # half to even, as str.format
+    assert cli.format_duration(None, "weeks") == "-"
+
+
+def _rows(out: str) -> dict[str, list[str]]:
+    """Headline rows by label: the words after the label, split on runs of spaces."""
+    rows = {}
+    for line in out.splitlines():
+        cells = re.split(r"\s{2,}", line.strip())
+        rows[cells[0]] = cells[1:]
+    return rows
+
+
+def test_headline_critical_path_figures_and_dates(tmp_path, capsys):
+    path = write_xlsx(tmp_path / "dated.xlsx", {
+        "Activities": GOOD_ROWS, "Settings": [["Start date", "2025-03-03"]]})
+    code, out, err = main(capsys, "convert", path, "--no-simulation", "--due", "15")
+    assert code == 0, err
+    rows = _rows(out)
+    sd = math.sqrt(132 / 36)  # the critical path A, B, D worked by hand above
+
+    def day(t):  # end of working day ceil(t), Mon-Fri (numpy's business-day calendar)
+        return str(np.busday_offset("2025-03-03", math.ceil(t) - 1, roll="forward"))
+
+    assert rows["Expected finish"] == ["13.0 working days", day(13)]
+    assert day(13) == "2025-03-19"  # by hand: 3-7, 10-14, 17-19 March
+    for level in (50, 80, 90):
+        value = 13 + norm.ppf(level / 100) * sd  # scipy.stats.norm
+        assert rows[f"P{level}"] == [f"{value:.1f} working days", day(value)]
+    chance = norm.cdf((15 - 13) / sd)  # 0.852 (scipy.stats.norm)
+    assert rows[f"Chance to finish by {day(15)}"] == [f"{round(chance * 100)}%"]
+    assert rows["Health checks failed"][0].endswith("of 13")
+    assert rows["Warnings"] == ["0"]
+    assert rows[f"{path}: wrote {tmp_path / 'dated.analysis.xlsx'}"] == []
+    assert "Simulation" not in out
+
+
+def test_headline_shows_simulation_beside_critical_path(tmp_path, capsys):
+    path = good_xlsx(tmp_path / "sim.xlsx")
+    code, out, err = main(capsys, "convert", path, "--json", "--iterations", "400",
+                          "--seed", "5", "--due", "15")
+    assert code == 0, err
+    data = json.loads((tmp_path / "sim.analysis.json").read_text(encoding="utf-8"))
+    sim, project = data["simulation"], data["project"]
+    rows = _rows(out)
+    assert rows["sim.xlsx"] == ["Simulation", "Critical path"]
+    assert rows["Expected finish"] == [f"{sim['mean']:.1f} working days",
+                                       f"{project['expected_duration']:.1f} working days"]
+    assert rows["P80"] == [f"{sim['percentiles']['0.8']:.1f} working days",
+                           f"{project['duration_at_confidence']['0.8']:.1f} working days"]
+    assert rows["Chance to finish by 15.0 working days"] == [
+        cli.format_chance(sim["p_meet_due"]), cli.format_chance(project["p_meet_due"])]
+    failed = sum(1 for c in data["checks"] if not c["passed"])
+    assert rows["Health checks failed"] == [f"{failed} of {len(data['checks'])}"]
+    assert f"{path}: wrote {tmp_path / 'sim.analysis.json'}" in out
+
+
+def test_quiet_prints_problems_only(tmp_path, capsys):
+    rows = [HEADER, ["A", None, None, 1, 2, 3], ["B", None, None, 1, 2, 3]]  # unlinked
+    path = write_xlsx(tmp_path / "q.xlsx", {"Activities": rows})
+    code, out, err = main(capsys, "convert", path, "--no-simulation", "--quiet")
+    assert code == 0
+    assert out == ""
+    assert err.count(": warning: ") == 2 and "no-links" not in out
+
+
+def test_redirected_output_has_no_control_codes(tmp_path, monkeypatch):
+    for name in ("FORCE_COLOR", "TTY_COMPATIBLE", "TTY_INTERACTIVE"):
+        monkeypatch.delenv(name, raising=False)
+    monkeypatch.setenv("COLUMNS", "40")  # a narrow terminal setting must not wrap a file
+    path = good_xlsx(tmp_path / "a-rather-long-schedule-name-for-wrapping.xlsx")
+    r = run_cli("convert", path, "--iterations", "300", "--due", "14", "--json")
+    assert r.returncode == 0, r.stderr
+    for stream in (r.stdout, r.stderr):
+        assert "\x1b" not in stream and "\r" not in stream
+    assert "Expected finish" in r.stdout and "Chance to finish by 14.0 working days" in r.stdout
+    assert f"wrote {tmp_path / 'a-rather-long-schedule-name-for-wrapping.analysis.xlsx'}" in (
+        r.stdout)
+
+
+def test_progress_bar_only_on_a_terminal_and_taken_down(tmp_path):
+    from io import StringIO
+
+    from rich.console import Console
+
+    screen = StringIO()
+    bar = cli.SimulationProgress(Console(file=screen, force_terminal=True, width=60), delay=0)
+    with bar:
+        bar(0, 10)
+        bar(5, 10)
+        assert bar.bar is not None
+    assert bar.bar is None and "simulating" in screen.getvalue()
+    quiet = cli.SimulationProgress(Console(file=StringIO(), force_terminal=True), delay=3600)
+    quiet(5, 10)  # under the delay: nothing drawn
+    assert quiet.bar is None
+
+
+def test_confidence_default_shown_in_help_reads_back_as_the_default():
+    # the issue: the help shows "default 50,80,90,95%"; typed back it must give that default
+    from converter.model import DEFAULT_CONFIDENCE
+    from converter.options import parse_confidence
+
+    text = cli.command_parsers()["convert"].format_help()
+    entry = re.split(r"^  --confidence LEVELS ", text, flags=re.MULTILINE)[1]
+    shown = re.search(r"\(default ([\d,.%]+)\)", entry).group(1)
+    assert shown == "50,80,90,95%"
+    assert parse_confidence(shown) == DEFAULT_CONFIDENCE == (0.5, 0.8, 0.9, 0.95)

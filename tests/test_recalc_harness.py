@@ -2,7 +2,9 @@
 
 Reference values come from scipy.stats.norm (normal distribution) and
 numpy.busday_offset (working-day arithmetic), never from the harness itself;
-LibreOffice recomputes them from the formulas.
+LibreOffice recomputes them from the formulas. Most tests use the session's one running
+LibreOffice (the ``libreoffice`` fixture, tests/support/libreoffice.py); the tests of the
+recalculation setting and of the ``--convert-to`` fallback start their own.
 """
 
 from __future__ import annotations
@@ -15,6 +17,7 @@ import numpy as np
 import openpyxl
 import pytest
 import xlsxwriter
+from libreoffice import RECALC_NEVER, LibreOffice
 from recalc import RecalcError, compare_recalculated, recalculate
 from scipy.stats import norm
 
@@ -122,11 +125,11 @@ def write_demo(path: Path) -> set[str]:
 
 
 @pytest.fixture(scope="module")
-def demo(tmp_path_factory, soffice):
+def demo(tmp_path_factory, libreoffice):
     folder = tmp_path_factory.mktemp("recalc")
     src = folder / "demo.xlsx"
     wrong = write_demo(src)
-    out = recalculate(src, folder / "out", soffice=soffice)
+    out = libreoffice.recalculate(src, folder / "out")
     return src, out, wrong
 
 
@@ -168,25 +171,54 @@ def test_missing_cached_value_is_reported(tmp_path, soffice):
     assert len(report) == 1 and "no cached value" in report[0] and "recalculated 6" in report[0]
 
 
-def test_recalc_setting_is_what_forces_recalculation(tmp_path, soffice, monkeypatch):
-    """With OOXMLRecalcMode = 1 (RECALC_NEVER) LibreOffice keeps the wrong cache.
-
-    Confirms the value meaning (LibreOffice sc/inc/calcconfig.hxx: 0 always,
-    1 never, 2 ask) and that xlsxwriter's fullCalcOnLoad="1" alone is not obeyed.
-    """
-    import recalc
-
-    src = tmp_path / "stale.xlsx"
-    wb = xlsxwriter.Workbook(src)
+def write_stale(path: Path) -> Path:
+    """One formula, =A1*3 with A1 = 2, whose cached value (99) is wrong."""
+    wb = xlsxwriter.Workbook(path)
     ws = wb.add_worksheet("S")
     ws.write("A1", 2)
     ws.write_formula("A2", "=A1*3", None, 99)
     wb.close()
-    forced = compare_recalculated(src, recalculate(src, tmp_path / "on", soffice=soffice))
+    return path
+
+
+def test_recalc_setting_is_what_forces_recalculation(tmp_path, libreoffice):
+    """With OOXMLRecalcMode = 1 (RECALC_NEVER) LibreOffice keeps the wrong cache.
+
+    Confirms the value meaning (LibreOffice sc/inc/calcconfig.hxx: 0 always,
+    1 never, 2 ask) and that xlsxwriter's fullCalcOnLoad="1" alone is not obeyed:
+    the same way of converting (same backend) with only the setting changed.
+    """
+    src = write_stale(tmp_path / "stale.xlsx")
+    forced = compare_recalculated(src, libreoffice.recalculate(src, tmp_path / "on"))
     assert [m.split(":")[0] for m in forced] == ["S!A2"]
-    monkeypatch.setattr(recalc, "PROFILE_XCU", recalc.PROFILE_XCU.replace(">0<", ">1<"))
-    never = compare_recalculated(src, recalculate(src, tmp_path / "off", soffice=soffice))
+    assert "recalculated 6" in forced[0]
+    with LibreOffice(libreoffice.soffice, recalc_mode=RECALC_NEVER,
+                     backend=libreoffice.backend) as never_office:
+        never = compare_recalculated(src, never_office.recalculate(src, tmp_path / "off"))
     assert list(never) == [] and never.compared == 1
+
+
+def test_convert_to_fallback_recalculates_a_batch_in_one_start(tmp_path, demo, soffice):
+    """Without a Python that has ``uno``, one ``soffice --convert-to`` run takes many books."""
+    src, _, wrong = demo
+    stale = write_stale(tmp_path / "stale.xlsx")
+    with LibreOffice(soffice, backend="convert-to") as office:
+        copies = office.recalculate_many([src, stale], tmp_path / "out")
+        assert office.starts == 1
+    assert {m.split(":")[0] for m in compare_recalculated(src, copies[0])} == wrong
+    assert [m.split(":")[0] for m in compare_recalculated(stale, copies[1])] == ["S!A2"]
+
+
+def test_session_libreoffice_is_started_once_for_many_books(tmp_path, libreoffice):
+    books = [write_stale(tmp_path / f"book{i}.xlsx") for i in range(3)]
+    libreoffice.recalculate(books[0], tmp_path / "warm")  # make sure it is running
+    before = libreoffice.starts
+    for book in books:
+        assert len(compare_recalculated(book, libreoffice.recalculate(book, tmp_path))) == 1
+    copies = libreoffice.recalculate_many(books, tmp_path / "batch")
+    assert [len(compare_recalculated(b, c)) for b, c in zip(books, copies, strict=True)] == [1] * 3
+    # the listening LibreOffice serves every call; the fallback starts one per call
+    assert libreoffice.starts - before == (0 if libreoffice.backend == "uno" else 4)
 
 
 def test_function_prefixes_libreoffice_understands(tmp_path, soffice):

@@ -126,6 +126,12 @@ class Analysis:
         ]
 
     def headline(self) -> dict:
+        """The figures a reader wants first: the command line's summary, the log line.
+
+        Durations are in the schedule's time unit; dates are ISO text (None without a
+        start date). ``pNN`` are the critical-path (analytic) durations at NN% confidence,
+        ``simulated_pNN`` the simulation's percentiles (when it ran).
+        """
         h = {
             "activities": len(self.ids),
             "expected_duration": round(self.project_mean, 6),
@@ -135,11 +141,36 @@ class Analysis:
         if self.due is not None:
             h["due"] = self.due
             h["p_meet_due"] = round(self.p_meet_due, 4)
-        if self.simulation is not None:
-            h["simulated_mean"] = round(self.simulation.mean, 6)
-            if self.simulation.p_meet_due is not None:
-                h["simulated_p_meet_due"] = round(self.simulation.p_meet_due, 4)
+        sim = self.simulation
+        if sim is not None:
+            h["simulated_mean"] = round(sim.mean, 6)
+            if sim.p_meet_due is not None:
+                h["simulated_p_meet_due"] = round(sim.p_meet_due, 4)
         h["warnings"] = len(self.schedule.warnings)
+
+        def date(t: float) -> str | None:
+            return self.calendar.finish_date(t).isoformat() if self.calendar else None
+
+        levels = (0.5, 0.8, 0.9)  # P50, P80, P90
+        settings = self.schedule.settings
+        h["time_unit"] = settings.time_unit
+        h["start_date"] = settings.start_date.isoformat() if settings.start_date else None
+        h["finish_date"] = date(self.project_mean)
+        if self.due is not None:
+            h["due_date"] = self.due_date.isoformat() if self.due_date else None
+        for level in levels:
+            key = f"p{round(level * 100)}"
+            value = pert.duration_at(level, self.project_mean, self.project_sd)
+            h[key], h[f"{key}_date"] = round(value, 6), date(value)
+        if sim is not None:
+            h["simulated_finish_date"] = date(sim.mean)
+            for level in levels:
+                key = f"simulated_p{round(level * 100)}"
+                value = (sim.percentiles[level] if level in sim.percentiles
+                         else sim.percentile(level))
+                h[key], h[f"{key}_date"] = round(value, 6), date(value)
+        h["checks"] = len(self.checks)
+        h["failed_checks"] = sum(1 for c in self.checks if not c.passed)
         return h
 
 
@@ -260,6 +291,7 @@ def _simulate(schedule: Schedule, net: Network, o, m, p, due, targets: list[Targ
         targets={t.activity: t.target for t in targets} or None,
         pert_mean=project_mean,
         progress=getattr(options, "progress", None) if options is not None else None,
+        workers=getattr(options, "simulation_workers", None),
     )
     for t in targets:
         t.p_simulated = simulation.target_p.get(t.activity)

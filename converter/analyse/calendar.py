@@ -70,7 +70,44 @@ def _round_half_away(x: np.ndarray, decimals: int) -> np.ndarray:
 
 @dataclass(frozen=True)
 class Calendar:
-    """Project start date, time unit, working weekdays (Monday = 0) and holidays."""
+    """A working-day calendar: offsets of the schedule to dates, and dates to offsets.
+
+    Conventions in the module docstring: work at offset ``x`` is done on working day
+    ``floor(x) + 1``; a finish at ``x > 0`` is at the end of working day ``ceil(x)``.
+    The same rules are written as sheet formulas by the ``*_formula`` methods.
+
+    Parameters
+    ----------
+    start : datetime.date
+        The project start date (offset 0); work begins on the first working day from it.
+    unit : str
+        ``"working days"``, ``"weeks"`` or ``"calendar days"``: one unit of the schedule.
+    working_days : tuple of int
+        Working weekdays, Monday = 0 (default Monday to Friday).
+    holidays : tuple of datetime.date
+        Dates on which no work is done.
+
+    References
+    ----------
+    numpy's business-day functions (``numpy.busday_offset``, ``numpy.busday_count``), which
+    the dates come from; the spreadsheet functions WORKDAY.INTL and NETWORKDAYS.INTL of
+    ECMA-376 (Office Open XML) as Microsoft's function reference documents them, which
+    the formulas use.
+
+    Examples
+    --------
+    Start on Friday 7 March 2025, Tuesday 11 March a holiday:
+
+    >>> cal = Calendar(dt.date(2025, 3, 7), holidays=(dt.date(2025, 3, 11),))
+    >>> cal.start_date(0), cal.start_date(1)  # working days 1 and 2 (Friday, Monday)
+    (datetime.date(2025, 3, 7), datetime.date(2025, 3, 10))
+    >>> cal.finish_date(3)  # the end of working day 3, after the holiday
+    datetime.date(2025, 3, 12)
+    >>> cal.offset_of(dt.date(2025, 3, 12))
+    3.0
+    >>> cal.start_date_formula("T", "S", "H")
+    'WORKDAY.INTL(WORKDAY.INTL(S-1,1,"0000011",H),INT(ROUND(T,9)),"0000011",H)'
+    """
 
     start: dt.date
     unit: str = "working days"
@@ -136,12 +173,6 @@ class Calendar:
     @property
     def _start64(self) -> np.datetime64:
         return np.datetime64(self.start, "D")
-
-    def is_working_day(self, d: dt.date) -> bool:
-        """True if ``d`` counts in this calendar's unit (every date for calendar days)."""
-        if self.unit == "calendar days":
-            return True
-        return bool(np.is_busday(np.datetime64(d, "D"), busdaycal=self._busdaycal))
 
     @property
     def first_day(self) -> dt.date:

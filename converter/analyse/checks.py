@@ -228,7 +228,14 @@ def _days_text(days_per_unit: float) -> str:
 def _logic_checks(
     ids: list[str], te: np.ndarray, net: Network, cpm: CpmResult, days_per_unit: float
 ) -> list[Check]:
-    n, m = net.n, net.link_count
+    return [
+        _missing_logic(ids, net, cpm),
+        *_link_checks(ids, net),
+        *_long_checks(ids, te, cpm, days_per_unit),
+    ]
+
+
+def _missing_logic(ids: list[str], net: Network, cpm: CpmResult) -> Check:
     start, end = project_ends(net, cpm)
     open_start = ~net.has_pred()
     open_end = ~net.has_succ()
@@ -236,27 +243,30 @@ def _logic_checks(
         open_start[start] = False
     if end is not None:
         open_end[end] = False
-    above = Above(LONG_DAYS, LONG_TOLERANCE, days_per_unit)
-    type_counts = ", ".join(
-        f"{name} {int(np.sum(net.kind == code))}" for code, name in enumerate(LINK_TYPES)
-    )
     ends_text = (
         f"project start {ids[start] if start is not None else '-'}, "
         f"project end {ids[end] if end is not None else '-'}"
     )
+    return Check(
+        key="missing_logic",
+        name="missing predecessors or successors",
+        group=LOGIC,
+        limit=_share(5, "activities"),
+        activities=[ids[i] for i in np.flatnonzero(open_start | open_end)],
+        out_of=net.n,
+        matters="An activity with an open start or finish can slip without moving "
+        "anything after it, so the dates and floats around it understate the risk.",
+        cited=_dcma(1, "logic", 2, SEQUENCING),
+        detail=ends_text + " are not counted",
+    )
+
+
+def _link_checks(ids: list[str], net: Network) -> list[Check]:
+    m = net.link_count
+    type_counts = ", ".join(
+        f"{name} {int(np.sum(net.kind == code))}" for code, name in enumerate(LINK_TYPES)
+    )
     return [
-        Check(
-            key="missing_logic",
-            name="missing predecessors or successors",
-            group=LOGIC,
-            limit=_share(5, "activities"),
-            activities=[ids[i] for i in np.flatnonzero(open_start | open_end)],
-            out_of=n,
-            matters="An activity with an open start or finish can slip without moving "
-            "anything after it, so the dates and floats around it understate the risk.",
-            cited=_dcma(1, "logic", 2, SEQUENCING),
-            detail=ends_text + " are not counted",
-        ),
         Check(
             key="leads",
             name="leads (negative lags)",
@@ -291,6 +301,15 @@ def _logic_checks(
             cited=_dcma(4, "relationship types", 2, SEQUENCING),
             detail=type_counts,
         ),
+    ]
+
+
+def _long_checks(
+    ids: list[str], te: np.ndarray, cpm: CpmResult, days_per_unit: float
+) -> list[Check]:
+    n = len(ids)
+    above = Above(LONG_DAYS, LONG_TOLERANCE, days_per_unit)
+    return [
         Check(
             key="high_float",
             name="high total float",

@@ -3,10 +3,11 @@
 The network is held as link arrays (predecessor, successor, type, lag). Activities
 are grouped into *levels* (a level's activities depend only on earlier levels), so
 the forward and backward passes do one vectorised step per level, not one Python
-step per activity; within a level the links are laid out in slots (``PassPlan``) so
-a step is a few gathers and in-place maxima. Durations may be a vector ``(n,)`` or a
-matrix ``(n, m)`` of ``m`` scenarios: the Monte Carlo simulation pushes a chunk of
-iterations through the very same passes. Cost is linear in activities + links.
+step per activity; within a level the links are laid out in slots (``PassPlan``, in
+:mod:`converter.analyse.passes`) so a step is a few gathers and in-place maxima.
+Durations may be a vector ``(n,)`` or a matrix ``(n, m)`` of ``m`` scenarios: the Monte
+Carlo simulation pushes a chunk of iterations through the very same passes. Cost is
+linear in activities + links.
 
 Link rules (precedence diagramming method, e.g. Moder, Phillips & Davis,
 *Project Management with CPM, PERT and Precedence Diagramming*, 3rd ed., 1983),
@@ -23,12 +24,12 @@ finish (the largest early finish): no activity may finish later than it.
 
 from __future__ import annotations
 
-from collections.abc import Sequence
 from dataclasses import dataclass
 from functools import cached_property
 
 import numpy as np
 
+from converter.analyse.passes import PassPlan, backward_into, forward_into, pass_plan
 from converter.model import FF, FS, SF, SS
 
 
@@ -40,7 +41,6 @@ class CycleError(ValueError):
 class _Step:
     nodes: np.ndarray  # activities fixed in this step (those with links)
     links: np.ndarray  # link indices, grouped by ``nodes`` in order
-    starts: np.ndarray  # reduceat segment starts into ``links``
 
 
 @dataclass(frozen=True)
@@ -53,7 +53,6 @@ class Network:
     kind: np.ndarray
     lag: np.ndarray
     order: np.ndarray  # a topological order of the activities
-    level: np.ndarray  # forward level: 0 for activities without predecessors
     forward_steps: tuple[_Step, ...]
     backward_steps: tuple[_Step, ...]
 
@@ -65,9 +64,6 @@ class Network:
     @property
     def link_count(self) -> int:
         return int(self.pred.size)
-
-    def predecessors(self, j: int) -> np.ndarray:
-        return self.pred[self.succ == j]
 
     def has_pred(self) -> np.ndarray:
         out = np.zeros(self.n, dtype=bool)
@@ -122,7 +118,7 @@ def _steps(level: np.ndarray, group_node: np.ndarray) -> tuple[_Step, ...]:
         links = order[chunk]
         nodes = nodes_sorted[chunk]
         starts = np.concatenate(([0], np.flatnonzero(np.diff(nodes)) + 1))
-        steps.append(_Step(nodes=nodes[starts], links=links, starts=starts))
+        steps.append(_Step(nodes=nodes[starts], links=links))
     return tuple(steps)
 
 
@@ -158,7 +154,6 @@ def build_network(
         kind=kind,
         lag=lag,
         order=order,
-        level=level,
         forward_steps=_steps(level, succ),
         backward_steps=_steps(height, pred),
     )
@@ -192,7 +187,41 @@ def _columns(d: np.ndarray) -> np.ndarray:
 
 
 def forward_pass(net: Network, d: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Early start and early finish for durations ``d`` of shape (n,) or (n, m)."""
+    """Early starts and early finishes: the forward pass of the critical path method.
+
+    Each activity starts as early as its incoming links allow (link rules in the module
+    docstring) and never before 0; it finishes its duration later. The pass visits the
+    topological levels in order, one vectorised step per level.
+
+    Parameters
+    ----------
+    net : Network
+        The network, from :func:`build_network`.
+    d : numpy.ndarray
+        Durations, shape ``(n,)``, or ``(n, m)`` for ``m`` scenarios at once.
+
+    Returns
+    -------
+    es, ef : numpy.ndarray
+        Early start and early finish, the shape of ``d``.
+
+    References
+    ----------
+    Kelley & Walker (1959), "Critical-path planning and scheduling", *Proceedings of the
+    Eastern Joint IRE-AIEE-ACM Computer Conference*, 160-173; Kelley (1961),
+    "Critical-path planning and scheduling: mathematical basis", *Operations Research*
+    9(3), 296-320. Typed links and lags: Moder, Phillips & Davis (1983), see the module
+    docstring.
+
+    Examples
+    --------
+    Activity 0 precedes 1 and 2, which both precede 3 (finish-to-start):
+
+    >>> net = build_network(4, [0, 0, 1, 2], [1, 2, 3, 3])
+    >>> es, ef = forward_pass(net, np.array([2.0, 3.0, 5.0, 1.0]))
+    >>> es.tolist(), ef.tolist()
+    ([0.0, 2.0, 2.0, 7.0], [2.0, 5.0, 7.0, 8.0])
+    """
     d = np.asarray(d, dtype=float)
     dd = _columns(d)
     x = np.empty((2 * net.n, dd.shape[1]))
@@ -205,7 +234,41 @@ def forward_pass(net: Network, d: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 def backward_pass(
     net: Network, d: np.ndarray, finish: np.ndarray | float
 ) -> tuple[np.ndarray, np.ndarray]:
-    """Late start and late finish anchored at ``finish`` (per scenario for 2-D ``d``)."""
+    """Late starts and late finishes: the backward pass of the critical path method.
+
+    Each activity finishes as late as its outgoing links allow and never after
+    ``finish``; it starts its duration earlier. The pass visits the topological heights
+    in order (the activities without successors first).
+
+    Parameters
+    ----------
+    net : Network
+        The network, from :func:`build_network`.
+    d : numpy.ndarray
+        Durations, shape ``(n,)`` or ``(n, m)``.
+    finish : float or numpy.ndarray
+        The project finish the pass is anchored at; one per scenario for 2-D ``d``.
+
+    Returns
+    -------
+    ls, lf : numpy.ndarray
+        Late start and late finish, the shape of ``d``.
+
+    References
+    ----------
+    Kelley & Walker (1959); Kelley (1961), *Operations Research* 9(3) (see
+    :func:`forward_pass`).
+
+    Examples
+    --------
+    The network of :func:`forward_pass`, anchored at its finish 8: activity 1 may
+    start 2 units late.
+
+    >>> net = build_network(4, [0, 0, 1, 2], [1, 2, 3, 3])
+    >>> ls, lf = backward_pass(net, np.array([2.0, 3.0, 5.0, 1.0]), 8.0)
+    >>> ls.tolist(), lf.tolist()
+    ([0.0, 4.0, 2.0, 7.0], [2.0, 7.0, 7.0, 8.0])
+    """
     d = np.asarray(d, dtype=float)
     dd = _columns(d)
     cols = dd.shape[1]
@@ -232,16 +295,71 @@ class CpmResult:
     link_slack: np.ndarray  # per link: successor ES minus the start the link allows
 
 
+#: Relative float tolerance: a float within this share of the project length (at least
+#: 1 time unit) counts as zero. The one home of the rule; see :func:`critical_tolerance`.
+RELATIVE_TOLERANCE = 1e-9
+
+
 def critical_tolerance(finish: float) -> float:
-    """Float at or below this counts as zero: 1e-9 relative to the project length."""
-    return 1e-9 * max(1.0, abs(float(finish)))
+    """Float at or below this counts as zero: 1e-9 relative to the project length.
+
+    ``RELATIVE_TOLERANCE * max(1, |finish|)``; :func:`critical_tolerances` is the same
+    rule for one finish per column. Summing durations along a path rounds at about
+    1e-16 relative, far below this, while schedule figures are given to far coarser
+    steps, so true floats are never mistaken for zero.
+
+    Examples
+    --------
+    >>> critical_tolerance(16.0)
+    1.6e-08
+    >>> critical_tolerance(0.5)
+    1e-09
+    """
+    return RELATIVE_TOLERANCE * max(1.0, abs(float(finish)))
+
+
+def critical_tolerances(finish: np.ndarray) -> np.ndarray:
+    """:func:`critical_tolerance` of each value of ``finish`` (e.g. one per simulated iteration).
+
+    Examples
+    --------
+    >>> critical_tolerances(np.array([0.5, 16.0])).tolist()
+    [1e-09, 1.6e-08]
+    """
+    return RELATIVE_TOLERANCE * np.maximum(1.0, np.abs(finish))
 
 
 def schedule(net: Network, d: np.ndarray) -> CpmResult:
     """Forward pass, backward pass, total and free float, critical flags (1-D ``d``).
 
-    Free float is the least slack over the activity's outgoing links and to the
-    project finish; total float is LS - ES.
+    The project finish is the largest early finish; the backward pass is anchored at it.
+    Total float is LS - ES; free float is the least slack over the activity's outgoing
+    links and to the project finish. Floats within :func:`critical_tolerance` of zero
+    are set to zero, and an activity is critical when its total float is zero.
+
+    Parameters
+    ----------
+    net : Network
+        The network, from :func:`build_network`.
+    d : numpy.ndarray
+        Durations, shape ``(n,)``.
+
+    Returns
+    -------
+    CpmResult
+        Early and late dates, floats, critical flags, the finish and each link's slack.
+
+    References
+    ----------
+    Kelley & Walker (1959); Kelley (1961), *Operations Research* 9(3) (see
+    :func:`forward_pass`); free float as in Moder, Phillips & Davis (1983).
+
+    Examples
+    --------
+    >>> net = build_network(4, [0, 0, 1, 2], [1, 2, 3, 3])
+    >>> r = schedule(net, np.array([2.0, 3.0, 5.0, 1.0]))
+    >>> r.finish, r.total_float.tolist(), r.critical.tolist()
+    (8.0, [0.0, 2.0, 0.0, 0.0], [True, False, True, True])
     """
     d = np.asarray(d, dtype=float)
     es, ef = forward_pass(net, d)
@@ -284,164 +402,3 @@ def link_pull(net: Network, ls: np.ndarray, lf: np.ndarray, d: np.ndarray) -> np
     to_finish = (k == FF) | (k == SF)
     from_start = (k == SS) | (k == SF)
     return np.where(to_finish, lf[s], ls[s]) - net.lag + np.where(from_start, d[p], 0.0)
-
-
-# --------------------------------------------------------------------------- pass plan
-
-
-@dataclass(frozen=True)
-class _Slot:
-    """One link per node for the first ``count`` nodes of a step."""
-
-    count: int
-    src: np.ndarray  # rows of the state matrix (starts 0..n-1, finishes n..2n-1)
-    lag: np.ndarray | None  # (count, 1) signed lag, None when all zero
-
-
-@dataclass(frozen=True)
-class _PlanStep:
-    nodes: np.ndarray  # nodes fixed by the step, those with most links first
-    plain: tuple[_Slot, ...]  # bounds without a duration term
-    shifted: tuple[_Slot, ...]  # bounds that need the node's duration (see _plan)
-    shifted_pos: np.ndarray  # positions in ``nodes`` the shifted slots refer to
-    clip: bool  # the bound may cross 0 (forward) or the finish (backward)
-
-
-@dataclass(frozen=True)
-class PassPlan:
-    """The passes laid out for many columns at once.
-
-    Each level's links are laid out in *slots* (slot j holds the j-th link of every
-    node with more than j links, nodes ordered by link count), so a level is a few
-    gathers and in-place maxima over all columns (scenarios) together.
-    """
-
-    n: int
-    forward: tuple[_PlanStep, ...]
-    backward: tuple[_PlanStep, ...]
-
-
-def _slots(pos: np.ndarray, src: np.ndarray, lag: np.ndarray) -> tuple[list[_Slot], np.ndarray]:
-    """Slots for links into step positions ``pos``; returns them and the node order."""
-    if pos.size == 0:
-        return [], np.zeros(0, dtype=np.int64)
-    uniq, inv, deg = np.unique(pos, return_inverse=True, return_counts=True)
-    by_degree = np.argsort(-deg, kind="stable")
-    rank = np.empty_like(by_degree)
-    rank[by_degree] = np.arange(uniq.size)
-    link_rank = rank[inv]
-    order = np.argsort(link_rank, kind="stable")
-    sorted_rank = link_rank[order]
-    first = np.r_[0, np.flatnonzero(np.diff(sorted_rank)) + 1]
-    slot_of = np.empty(pos.size, dtype=np.int64)
-    slot_of[order] = np.arange(pos.size) - np.repeat(first, np.diff(np.r_[first, pos.size]))
-    slots = []
-    for j in range(int(slot_of.max()) + 1):
-        sel = np.flatnonzero(slot_of == j)
-        sel = sel[np.argsort(link_rank[sel], kind="stable")]
-        lg = lag[sel]
-        slots.append(_Slot(int(sel.size), src[sel], lg[:, None].copy() if lg.any() else None))
-    return slots, uniq[by_degree]
-
-
-def _plan_step(nodes, pos, src, shifted, lag, clip_plain) -> _PlanStep:
-    plain = ~shifted
-    p_slots, p_nodes = _slots(pos[plain], src[plain], lag[plain])
-    rest = np.setdiff1d(np.arange(nodes.size), p_nodes)
-    order = np.r_[p_nodes, rest].astype(np.int64)
-    new_pos = np.empty_like(order)
-    new_pos[order] = np.arange(order.size)
-    s_slots, s_nodes = _slots(new_pos[pos[shifted]], src[shifted], lag[shifted])
-    clip = bool(shifted.any() or rest.size or clip_plain)
-    return _PlanStep(nodes[order], tuple(p_slots), tuple(s_slots), s_nodes, clip)
-
-
-def pass_plan(net: Network) -> PassPlan:
-    """Forward: ES_s >= X[src] + lag (- d_s for FF/SF). Backward: LF_p <= Y[src] - lag (+ d_p
-    for SS/SF), with X, Y holding starts in rows 0..n-1 and finishes in rows n..2n-1."""
-    n = net.n
-    fwd = []
-    for st in net.forward_steps:
-        links = st.links
-        k = net.kind[links]
-        src = net.pred[links] + n * ((k == FS) | (k == FF))
-        shifted = (k == FF) | (k == SF)
-        lag = net.lag[links]
-        pos = np.searchsorted(st.nodes, net.succ[links])
-        fwd.append(_plan_step(st.nodes, pos, src, shifted, lag, (lag[~shifted] < 0).any()))
-    bwd = []
-    for st in net.backward_steps:
-        links = st.links
-        k = net.kind[links]
-        src = net.succ[links] + n * ((k == FF) | (k == SF))
-        shifted = (k == SS) | (k == SF)
-        lag = net.lag[links]
-        pos = np.searchsorted(st.nodes, net.pred[links])
-        bwd.append(_plan_step(st.nodes, pos, src, shifted, -lag, (lag[~shifted] < 0).any()))
-    return PassPlan(n, tuple(fwd), tuple(bwd))
-
-
-def _bound(state: np.ndarray, slots: Sequence[_Slot], rows: int, cols: int, op, init):
-    """Combine the slots' bounds with ``op`` (np.maximum / np.minimum)."""
-    if init is None:
-        acc = state[slots[0].src]
-        if slots[0].lag is not None:
-            acc += slots[0].lag
-        rest = slots[1:]
-        if acc.shape[0] < rows:
-            pad = -np.inf if op is np.maximum else np.inf
-            acc = np.concatenate([acc, np.full((rows - acc.shape[0], cols), pad)])
-    else:
-        acc = np.full((rows, cols), init)
-        rest = slots
-    for sl in rest:
-        t = state[sl.src]
-        if sl.lag is not None:
-            t += sl.lag
-        view = acc[: sl.count]
-        op(view, t, out=view)
-    return acc
-
-
-def forward_into(plan: PassPlan, d: np.ndarray, x: np.ndarray, nonneg: bool) -> None:
-    """Early starts into ``x[:n]`` and early finishes into ``x[n:]`` for (n, c) ``d``."""
-    n, cols = plan.n, d.shape[1]
-    x[:n] = 0.0
-    x[n:] = d
-    for st in plan.forward:
-        k = st.nodes.size
-        clip = st.clip or not nonneg
-        if st.plain:
-            acc = _bound(x, st.plain, k, cols, np.maximum, 0.0 if clip else None)
-        else:
-            acc = np.zeros((k, cols))
-        if st.shifted:
-            f = _bound(x, st.shifted, st.shifted_pos.size, cols, np.maximum, None)
-            f -= d[st.nodes[st.shifted_pos]]
-            acc[st.shifted_pos] = np.maximum(acc[st.shifted_pos], f)
-        x[st.nodes] = acc
-        acc += d[st.nodes]
-        x[n + st.nodes] = acc
-
-
-def backward_into(plan: PassPlan, d: np.ndarray, finish: np.ndarray, y: np.ndarray,
-              nonneg: bool) -> None:
-    """Late starts into ``y[:n]`` and late finishes into ``y[n:]``, anchored per column."""
-    n, cols = plan.n, d.shape[1]
-    y[n:] = finish
-    np.subtract(y[n:], d, out=y[:n])
-    for st in plan.backward:
-        k = st.nodes.size
-        if st.plain:
-            acc = _bound(y, st.plain, k, cols, np.minimum, None)
-        else:
-            acc = np.full((k, cols), np.inf)
-        if st.shifted:
-            f = _bound(y, st.shifted, st.shifted_pos.size, cols, np.minimum, None)
-            f += d[st.nodes[st.shifted_pos]]
-            acc[st.shifted_pos] = np.minimum(acc[st.shifted_pos], f)
-        if st.clip or not nonneg:
-            np.minimum(acc, finish, out=acc)
-        y[n + st.nodes] = acc
-        acc -= d[st.nodes]
-        y[st.nodes] = acc

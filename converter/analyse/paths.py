@@ -111,15 +111,212 @@ def _group_positions(group: np.ndarray) -> np.ndarray:
     return np.arange(size) - run_start
 
 
+@dataclass
+class _Labels:
+    """The k best suffixes from each (activity, state): label arrays ``(n, 2, k)``.
+
+    State 1: the activity is left by an SS/SF link. A label describes the suffix after
+    the activity (its own duration not yet counted): its mean and variance, a pointer
+    to the next label (link, state, slot; link -1: the path ends here) and two ranks
+    among the activity's labels for the tie-break (by activity sequence, and by
+    activities then links).
+    """
+
+    mean: np.ndarray
+    vari: np.ndarray
+    nxt_link: np.ndarray
+    nxt_state: np.ndarray
+    nxt_slot: np.ndarray
+    act_rank: np.ndarray
+    full_rank: np.ndarray
+    count: np.ndarray  # (n, 2): labels held per activity and state
+
+    @classmethod
+    def empty(cls, n: int, k: int, can_end: np.ndarray) -> _Labels:
+        count = np.zeros((n, 2), dtype=np.int64)
+        count[can_end, 0] = 1  # the empty suffix; nodes with links are redone step by step
+        return cls(
+            mean=np.zeros((n, 2, k)),
+            vari=np.zeros((n, 2, k)),
+            nxt_link=np.full((n, 2, k), -1, dtype=np.int64),
+            nxt_state=np.zeros((n, 2, k), dtype=np.int64),
+            nxt_slot=np.zeros((n, 2, k), dtype=np.int64),
+            act_rank=np.zeros((n, 2, k), dtype=np.int64),
+            full_rank=np.zeros((n, 2, k), dtype=np.int64),
+            count=count,
+        )
+
+
+@dataclass
+class _Search:
+    """What every step of the search needs: the network, the figures, the tie grid."""
+
+    net: Network
+    te: np.ndarray
+    var: np.ndarray
+    k: int
+    can_end: np.ndarray
+    enters_i: np.ndarray  # per link: 1 if it enters its successor with its duration
+    out_state: np.ndarray  # per link: the state of the predecessor it leaves
+    q_mean: float  # tie grid of the means (network.critical_tolerance of the finish)
+    q_var: float  # tie grid of the variances
+
+
+@dataclass
+class _Candidates:
+    """Candidate labels for the activities of one step (one per label of a successor)."""
+
+    mean: np.ndarray
+    var: np.ndarray
+    node: np.ndarray
+    state: np.ndarray
+    next_node: np.ndarray  # -1 for the empty suffix
+    next_act_rank: np.ndarray
+    link: np.ndarray
+    next_full_rank: np.ndarray
+    next_state: np.ndarray
+    next_slot: np.ndarray
+
+
+def _candidates(search: _Search, labels: _Labels, step) -> _Candidates:
+    """Every link of the step extends every label of its successor; ends add the empty one."""
+    net, slots = search.net, np.arange(search.k)
+    links = step.links
+    s = net.succ[links]
+    valid = slots[None, None, :] < labels.count[s][:, :, None]
+    li, xs, ms = np.nonzero(valid)
+    lk = links[li]
+    sj = s[li]
+    coef = search.enters_i[lk] - xs
+    cand = _Candidates(
+        mean=labels.mean[sj, xs, ms] + net.lag[lk] + coef * search.te[sj],
+        var=labels.vari[sj, xs, ms] + (coef * coef) * search.var[sj],
+        node=net.pred[lk], state=search.out_state[lk], next_node=sj,
+        next_act_rank=labels.act_rank[sj, xs, ms], link=lk,
+        next_full_rank=labels.full_rank[sj, xs, ms], next_state=xs, next_slot=ms,
+    )
+    ends = step.nodes[search.can_end[step.nodes]]
+    if ends.size:
+        zero_i = np.zeros(ends.size, dtype=np.int64)
+        minus = zero_i - 1
+        zero_f = np.zeros(ends.size)
+        extra = dict(mean=zero_f, var=zero_f, node=ends, state=zero_i, next_node=minus,
+                     next_act_rank=minus, link=minus, next_full_rank=minus,
+                     next_state=zero_i, next_slot=zero_i)
+        cand = _Candidates(**{name: np.concatenate((getattr(cand, name), extra[name]))
+                              for name in extra})
+    return cand
+
+
+def _keep_best(search: _Search, labels: _Labels, step, cand: _Candidates) -> None:
+    """Rank the candidates of each (activity, state) and keep the best k as its labels."""
+    order = np.lexsort(
+        (
+            cand.next_full_rank,
+            cand.link,
+            cand.next_act_rank,
+            cand.next_node,
+            -np.round(cand.var / search.q_var),
+            -np.round(cand.mean / search.q_mean),
+            cand.state,
+            cand.node,
+        )
+    )
+    group = (cand.node * 2 + cand.state)[order]
+    pos = _group_positions(group)
+    keep = pos < search.k
+    order, pos = order[keep], pos[keep]
+    nd, st = cand.node[order], cand.state[order]
+    labels.count[step.nodes] = 0
+    np.add.at(labels.count, (nd, st), 1)
+    labels.mean[nd, st, pos] = cand.mean[order]
+    labels.vari[nd, st, pos] = cand.var[order]
+    labels.nxt_link[nd, st, pos] = cand.link[order]
+    labels.nxt_state[nd, st, pos] = cand.next_state[order]
+    labels.nxt_slot[nd, st, pos] = cand.next_slot[order]
+    _rank_kept(labels, cand, order, nd, st, pos)
+
+
+def _rank_kept(labels: _Labels, cand: _Candidates, order, nd, st, pos) -> None:
+    """Ranks among each node's kept labels (both states): activities first, then links."""
+    kn, ka = cand.next_node[order], cand.next_act_rank[order]
+    kl, kf = cand.link[order], cand.next_full_rank[order]
+    rank_order = np.lexsort((kf, kl, ka, kn, nd))
+    nd_r = nd[rank_order]
+    labels.full_rank[nd_r, st[rank_order], pos[rank_order]] = _group_positions(nd_r)
+    new_act = np.ones(nd_r.size, dtype=bool)
+    new_act[1:] = (
+        (nd_r[1:] != nd_r[:-1])
+        | (kn[rank_order][1:] != kn[rank_order][:-1])
+        | (ka[rank_order][1:] != ka[rank_order][:-1])
+    )
+    dense = np.cumsum(new_act)
+    first_of_node = np.ones(nd_r.size, dtype=bool)
+    first_of_node[1:] = nd_r[1:] != nd_r[:-1]
+    base = np.repeat(dense[first_of_node], _run_lengths(first_of_node))
+    labels.act_rank[nd_r, st[rank_order], pos[rank_order]] = dense - base
+
+
+def _best_starts(search: _Search, labels: _Labels, can_start: np.ndarray):
+    """The k best whole paths as (start activity, state, slot) of their first label.
+
+    A whole path adds its starting activity's own term (it is entered with its duration).
+    """
+    starts = np.flatnonzero(can_start)
+    valid = np.arange(search.k)[None, None, :] < labels.count[starts][:, :, None]
+    si, xs, ms = np.nonzero(valid)
+    node = starts[si]
+    coef = 1 - xs
+    p_mean = labels.mean[node, xs, ms] + coef * search.te[node]
+    p_var = labels.vari[node, xs, ms] + (coef * coef) * search.var[node]
+    order = np.lexsort((labels.full_rank[node, xs, ms], node,
+                        -np.round(p_var / search.q_var), -np.round(p_mean / search.q_mean)))
+    return [(int(node[i]), int(xs[i]), int(ms[i])) for i in order[: search.k]]
+
+
 def k_longest_paths(
     net: Network, te: np.ndarray, var: np.ndarray, k: int, ends: np.ndarray | None = None
 ) -> list[Path]:
     """The ``k`` longest start -> end paths, ranked as the module docstring says.
 
-    ``te`` and ``var`` are per-activity expected durations (non-negative) and variances.
-    ``ends`` (a boolean mask) restricts which activities a path may end at, e.g. one
-    activity with an interim target: the longest path to it then has its early finish
-    as mean. Fewer than ``k`` paths come back when the network has fewer.
+    A backward dynamic programme over the network's heights keeps the k best suffixes
+    (labels) from every activity; whole paths are then the best labels of the
+    activities that may start a path. The paths are never enumerated.
+
+    Parameters
+    ----------
+    net : Network
+        The network, from :func:`converter.analyse.network.build_network`.
+    te, var : numpy.ndarray
+        Expected duration (non-negative) and variance per activity.
+    k : int
+        How many paths; fewer come back when the network has fewer.
+    ends : numpy.ndarray, optional
+        Boolean mask of the activities a path may end at (default: those of
+        :func:`path_ends`), e.g. one activity with an interim target: the longest path
+        to it then has its early finish as mean.
+
+    Returns
+    -------
+    list of Path
+        Longest first; ties in mean are ranked by variance, then by activities and links.
+
+    References
+    ----------
+    Bellman & Kalaba (1960), "On kth best policies", *Journal of the Society for
+    Industrial and Applied Mathematics* 8(4), 582-588; the path variance as the sum of
+    the activity variances: Malcolm, Roseboom, Clark & Fazar (1959), *Operations
+    Research* 7(5).
+
+    Examples
+    --------
+    Activity 0 precedes 1 and 2, which both precede 3:
+
+    >>> from converter.analyse.network import build_network
+    >>> net = build_network(4, [0, 0, 1, 2], [1, 2, 3, 3])
+    >>> te, var = np.array([2.0, 3.0, 5.0, 1.0]), np.array([0.1, 0.4, 0.2, 0.1])
+    >>> [(p.activities, p.mean, round(p.variance, 6)) for p in k_longest_paths(net, te, var, 3)]
+    [([0, 2, 3], 8.0, 0.4), ([0, 1, 3], 6.0, 0.6)]
     """
     n = net.n
     te = np.asarray(te, dtype=float).reshape(-1)
@@ -130,126 +327,20 @@ def k_longest_paths(
         return []
 
     finish = float(forward_pass(net, te)[1].max())
-    q_mean = critical_tolerance(finish)
-    q_var = critical_tolerance(float(var.sum()))
     can_start, can_end = path_ends(net)
     if ends is not None:
         can_end = np.asarray(ends, dtype=bool).reshape(-1)
     enters, leaves_start = _entry_exit(net)
-    enters_i = enters.astype(np.int64)
-    out_state = leaves_start.astype(np.int64)  # state of the predecessor a link leaves
-
-    # Labels per (activity, state, slot). State 1: the activity is left by an SS/SF link.
-    # A label describes the suffix after the activity (its own duration not yet counted).
-    mean = np.zeros((n, 2, k))
-    vari = np.zeros((n, 2, k))
-    nxt_link = np.full((n, 2, k), -1, dtype=np.int64)  # -1: the path ends here
-    nxt_state = np.zeros((n, 2, k), dtype=np.int64)
-    nxt_slot = np.zeros((n, 2, k), dtype=np.int64)
-    act_rank = np.zeros((n, 2, k), dtype=np.int64)  # rank of the activity sequence, per node
-    full_rank = np.zeros((n, 2, k), dtype=np.int64)  # rank of (activities, links), per node
-    count = np.zeros((n, 2), dtype=np.int64)
-    count[can_end, 0] = 1  # the empty suffix; nodes with links are redone below
-
-    slots = np.arange(k)
+    search = _Search(
+        net=net, te=te, var=var, k=k, can_end=can_end, enters_i=enters.astype(np.int64),
+        out_state=leaves_start.astype(np.int64), q_mean=critical_tolerance(finish),
+        q_var=critical_tolerance(float(var.sum())),
+    )
+    labels = _Labels.empty(n, k, can_end)
     for step in net.backward_steps:  # links grouped by the height of their predecessor
-        links = step.links
-        s = net.succ[links]
-        valid = slots[None, None, :] < count[s][:, :, None]
-        li, xs, ms = np.nonzero(valid)
-        lk = links[li]
-        sj = s[li]
-        coef = enters_i[lk] - xs
-        c_mean = mean[sj, xs, ms] + net.lag[lk] + coef * te[sj]
-        c_var = vari[sj, xs, ms] + (coef * coef) * var[sj]
-        node = net.pred[lk]
-        state = out_state[lk]
-        k_next, k_ar, k_link, k_fr = sj, act_rank[sj, xs, ms], lk, full_rank[sj, xs, ms]
-
-        ends = step.nodes[can_end[step.nodes]]
-        if ends.size:
-            zero_i = np.zeros(ends.size, dtype=np.int64)
-            minus = zero_i - 1
-            c_mean = np.concatenate((c_mean, np.zeros(ends.size)))
-            c_var = np.concatenate((c_var, np.zeros(ends.size)))
-            node = np.concatenate((node, ends))
-            state = np.concatenate((state, zero_i))
-            k_next = np.concatenate((k_next, minus))
-            k_ar = np.concatenate((k_ar, minus))
-            k_link = np.concatenate((k_link, minus))
-            k_fr = np.concatenate((k_fr, minus))
-            xs = np.concatenate((xs, zero_i))
-            ms = np.concatenate((ms, zero_i))
-
-        order = np.lexsort(
-            (
-                k_fr,
-                k_link,
-                k_ar,
-                k_next,
-                -np.round(c_var / q_var),
-                -np.round(c_mean / q_mean),
-                state,
-                node,
-            )
-        )
-        group = (node * 2 + state)[order]
-        pos = _group_positions(group)
-        keep = pos < k
-        order, pos = order[keep], pos[keep]
-        nd, st = node[order], state[order]
-        count[step.nodes] = 0
-        np.add.at(count, (nd, st), 1)
-        mean[nd, st, pos] = c_mean[order]
-        vari[nd, st, pos] = c_var[order]
-        nxt_link[nd, st, pos] = k_link[order]
-        nxt_state[nd, st, pos] = xs[order]
-        nxt_slot[nd, st, pos] = ms[order]
-
-        # Ranks among each node's kept labels (both states): activities first, then links.
-        kn, ka, kl, kf = k_next[order], k_ar[order], k_link[order], k_fr[order]
-        rank_order = np.lexsort((kf, kl, ka, kn, nd))
-        nd_r = nd[rank_order]
-        full_rank[nd_r, st[rank_order], pos[rank_order]] = _group_positions(nd_r)
-        new_act = np.ones(nd_r.size, dtype=bool)
-        new_act[1:] = (
-            (nd_r[1:] != nd_r[:-1])
-            | (kn[rank_order][1:] != kn[rank_order][:-1])
-            | (ka[rank_order][1:] != ka[rank_order][:-1])
-        )
-        dense = np.cumsum(new_act)
-        first_of_node = np.ones(nd_r.size, dtype=bool)
-        first_of_node[1:] = nd_r[1:] != nd_r[:-1]
-        base = np.repeat(dense[first_of_node], _run_lengths(first_of_node))
-        act_rank[nd_r, st[rank_order], pos[rank_order]] = dense - base
-
-    # Whole paths: add the starting activity's own term (it is entered with its duration).
-    starts = np.flatnonzero(can_start)
-    valid = slots[None, None, :] < count[starts][:, :, None]
-    si, xs, ms = np.nonzero(valid)
-    node = starts[si]
-    coef = 1 - xs
-    p_mean = mean[node, xs, ms] + coef * te[node]
-    p_var = vari[node, xs, ms] + (coef * coef) * var[node]
-    order = np.lexsort(
-        (full_rank[node, xs, ms], node, -np.round(p_var / q_var), -np.round(p_mean / q_mean))
-    )[:k]
-    return [
-        _trace(
-            net,
-            te,
-            var,
-            int(node[i]),
-            int(xs[i]),
-            int(ms[i]),
-            nxt_link,
-            nxt_state,
-            nxt_slot,
-            enters,
-            leaves_start,
-        )
-        for i in order
-    ]
+        _keep_best(search, labels, step, _candidates(search, labels, step))
+    return [_trace(net, te, var, start, labels, enters, leaves_start)
+            for start in _best_starts(search, labels, can_start)]
 
 
 def _run_lengths(first: np.ndarray) -> np.ndarray:
@@ -261,23 +352,21 @@ def _trace(
     net: Network,
     te: np.ndarray,
     var: np.ndarray,
-    node: int,
-    state: int,
-    slot: int,
-    nxt_link: np.ndarray,
-    nxt_state: np.ndarray,
-    nxt_slot: np.ndarray,
+    start: tuple[int, int, int],
+    labels: _Labels,
     enters: np.ndarray,
     leaves_start: np.ndarray,
 ) -> Path:
     """Follow the labels' pointers from a start to the end; sum the figures exactly rounded."""
+    node, state, slot = start
     activities = [node]
     links: list[int] = []
     while True:
-        link = int(nxt_link[node, state, slot])
+        link = int(labels.nxt_link[node, state, slot])
         if link < 0:
             break
-        state, slot = int(nxt_state[node, state, slot]), int(nxt_slot[node, state, slot])
+        state, slot = (int(labels.nxt_state[node, state, slot]),
+                       int(labels.nxt_slot[node, state, slot]))
         node = int(net.succ[link])
         links.append(link)
         activities.append(node)

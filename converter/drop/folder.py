@@ -25,10 +25,13 @@ import socket
 import stat
 import sys
 import time
-from dataclasses import dataclass
+from collections.abc import Callable
+from dataclasses import dataclass, field
 from pathlib import Path
 
-ACCEPTED_SUFFIXES = (".xlsx", ".xlsm", ".xls", ".ods", ".csv")
+from converter.read import SUFFIXES
+
+ACCEPTED_SUFFIXES = SUFFIXES  # the reader's one list of readable types
 LOCK_PREFIXES = ("~$", ".~lock")
 TEMP_SUFFIXES = (".tmp", ".crdownload", ".part")
 
@@ -187,22 +190,43 @@ def move_noreplace(src: Path, dst: Path) -> bool:
     return True
 
 
-def unique_stem(folder: Path, stem: str, suffixes: list[str] | tuple[str, ...]) -> str:
-    """``stem``, else ``stem-YYYYmmdd-HHMMSS``, else that plus ``-2``, ``-3``...: the first
-    for which no ``folder/<stem><suffix>`` exists for any of ``suffixes``."""
+def free_stem(
+    stem: str, suffixes: list[str] | tuple[str, ...], taken: Callable[[str], bool], stamp: str
+) -> str:
+    """``stem``, else ``stem-<stamp>``, else that plus ``-2``, ``-3``...: the first for which
+    ``taken(<stem><suffix>)`` is false for every suffix. Pure: ``taken`` answers for the folder.
+
+    Examples
+    --------
+    >>> there = {"plan.xlsx", "plan-20250314-101502.xlsx"}
+    >>> free_stem("plan", [".xlsx"], there.__contains__, "20250314-101502")
+    'plan-20250314-101502-2'
+    >>> free_stem("plan", [".json"], there.__contains__, "20250314-101502")
+    'plan'
+    """
 
     def free(candidate: str) -> bool:
-        return not any(os.path.lexists(folder / f"{candidate}{s}") for s in suffixes)
+        return not any(taken(f"{candidate}{s}") for s in suffixes)
 
     if free(stem):
         return stem
-    stamped = f"{stem}-{time.strftime('%Y%m%d-%H%M%S')}"
+    stamped = f"{stem}-{stamp}"
     if free(stamped):
         return stamped
     n = 2
     while not free(f"{stamped}-{n}"):
         n += 1
     return f"{stamped}-{n}"
+
+
+def time_stamp() -> str:
+    """The local time as ``YYYYmmdd-HHMMSS``, for names that would clash."""
+    return time.strftime("%Y%m%d-%H%M%S")
+
+
+def unique_stem(folder: Path, stem: str, suffixes: list[str] | tuple[str, ...]) -> str:
+    """:func:`free_stem` against what is in ``folder`` now, stamped with the current time."""
+    return free_stem(stem, suffixes, lambda name: os.path.lexists(folder / name), time_stamp())
 
 
 def _twin_in(folder: Path, st: os.stat_result) -> Path | None:
@@ -259,6 +283,20 @@ def remove_tree(path: Path) -> None:
 
 
 # --------------------------------------------------------------------------- jobs
+
+
+@dataclass
+class Job:
+    """One claimed input: its job folder and the input's name in it."""
+
+    dir: Path
+    name: str
+    started: float = field(default_factory=time.monotonic)
+    adopted: bool = False  # taken over from a watcher that stopped without finishing it
+
+    @property
+    def input(self) -> Path:
+        return self.dir / self.name
 
 
 def new_token() -> str:

@@ -11,7 +11,6 @@ from __future__ import annotations
 
 import datetime as dt
 import hashlib
-import math
 import re
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -19,9 +18,8 @@ from pathlib import Path
 from xlsxwriter.utility import xl_rowcol_to_cell
 
 from converter.model import ERROR, Problem
-
-WORKBOOK_SUFFIXES = (".xlsx", ".xlsm", ".xls", ".ods")
-SUFFIXES = WORKBOOK_SUFFIXES + (".csv",)
+from converter.read import SUFFIXES, suffix_list
+from converter.values import is_blank, normalise
 
 #: Accepted header spellings for each activity column (compared after `normalise`).
 ACTIVITY_COLUMNS: dict[str, tuple[str, ...]] = {
@@ -53,27 +51,9 @@ LINK_SHEET_NAMES = ("links", "relationships", "dependencies", "logic", "link lis
 HEADER_SEARCH_ROWS = 30
 
 
-def normalise(text: object) -> str:
-    """Header text compared case-, space- and punctuation-insensitively.
-
-    A trailing unit in brackets is dropped: ``"Optimistic (days)"`` -> ``"optimistic"``.
-    """
-    s = str(text).strip().lower()
-    s = re.sub(r"\s*\([^)]*\)\s*$", "", s)
-    return re.sub(r"[\s_.\-]+", "", s)
-
-
 _ALIASES_ACT = {normalise(a): k for k, v in ACTIVITY_COLUMNS.items() for a in v}
 _ALIASES_LINK = {normalise(a): k for k, v in LINK_COLUMNS.items() for a in v}
 _ALIASES_LINK["lead/lag"] = "lag"
-
-
-def is_blank(value: object) -> bool:
-    if value is None:
-        return True
-    if isinstance(value, float) and math.isnan(value):
-        return True
-    return isinstance(value, str) and not value.strip()
 
 
 def cell_name(row: int, col: int) -> str:
@@ -124,12 +104,34 @@ class RawInput:
     notes: list[str] = field(default_factory=list)
 
 
+@dataclass
+class ReadResult:
+    """What reading one file gave: its sheets (None when unreadable), problems, its hash.
+
+    ``sha256`` is computed here, once, for every file that can be opened (also one of the
+    wrong type or a damaged one), so that later stages never read the input again.
+    """
+
+    path: Path
+    sha256: str | None
+    raw: RawInput | None
+    problems: list[Problem]
+
+
 def sha256_of(path: Path) -> str:
+    """The SHA-256 of a file's bytes, as hex, read in 1 MB blocks (FIPS 180-4 via hashlib)."""
     h = hashlib.sha256()
     with open(path, "rb") as f:
         for block in iter(lambda: f.read(1 << 20), b""):
             h.update(block)
     return h.hexdigest()
+
+
+def _digest_or_none(path: Path) -> str | None:
+    try:
+        return sha256_of(path)
+    except OSError:  # missing, a folder, no permission: the problem is reported elsewhere
+        return None
 
 
 def _clean(value: object) -> object:
@@ -213,9 +215,15 @@ def _named(sheet: SheetData, names: tuple[str, ...]) -> bool:
     return any(n == normalise(x) for x in names)
 
 
-def read_input(path: str | Path) -> tuple[RawInput | None, list[Problem]]:
+def read_input(path: str | Path) -> ReadResult:
     """Read one input file; a file that cannot be read is a problem, not an exception."""
     path = Path(path)
+    digest = _digest_or_none(path) if path.is_file() else None
+    raw, problems = _read(path, digest)
+    return ReadResult(path=path, sha256=digest, raw=raw, problems=problems)
+
+
+def _read(path: Path, digest: str | None) -> tuple[RawInput | None, list[Problem]]:
     where = path.name
     if not path.exists():
         return None, [Problem(ERROR, "file-missing", f"file not found: {path}", sheet=where,
@@ -228,9 +236,8 @@ def read_input(path: str | Path) -> tuple[RawInput | None, list[Problem]]:
             ERROR, "unreadable",
             f"{path.name} is not a readable workbook: the file type {path.suffix or '(none)'} "
             f"is not one of {', '.join(SUFFIXES)}",
-            sheet=where, fix="Save the activity list as .xlsx, .xlsm, .xls, .ods or .csv.")]
+            sheet=where, fix=f"Save the activity list as {suffix_list()}.")]
     try:
-        digest = sha256_of(path)
         sheets = read_sheets(path)
     except PermissionError as exc:
         return None, [Problem(ERROR, "unreadable", f"{path.name} cannot be opened: {exc}",
@@ -240,16 +247,15 @@ def read_input(path: str | Path) -> tuple[RawInput | None, list[Problem]]:
         return None, [Problem(
             ERROR, "unreadable", f"{path.name} is not a readable workbook ({detail})",
             sheet=where, fix="Open the file in a spreadsheet program and save it again.")]
-    raw = RawInput(path=path, sha256=digest, sheets=sheets)
-    problems: list[Problem] = []
     if not sheets or all(s.empty for s in sheets):
         name = sheets[0].name if sheets else where
         return None, [Problem(ERROR, "empty", f"the sheet {name} is empty: no activities",
                               sheet=name, cell="A1",
                               fix="Put a header row (ID, Predecessors, Optimistic, Most likely, "
                                   "Pessimistic) and one row per activity.")]
+    raw = RawInput(path=path, sha256=digest, sheets=sheets)
     _choose_sheets(raw)
-    return raw, problems
+    return raw, []
 
 
 def _choose_sheets(raw: RawInput) -> None:

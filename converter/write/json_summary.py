@@ -6,7 +6,6 @@ import math
 from pathlib import Path
 
 from converter.model import ERROR, LINK_TYPES
-from converter.read.sheets import sha256_of
 
 
 def _num(x) -> float | None:
@@ -20,79 +19,30 @@ def _iso(d) -> str | None:
     return d.isoformat() if d is not None else None
 
 
-def build_json(path: Path, problems, analysis) -> dict:
-    """The JSON document for one input; ``analysis`` is None for invalid input."""
+def build_json(path: Path, problems, analysis, sha256: str | None) -> dict:
+    """The JSON document for one input; ``analysis`` is None for invalid input.
+
+    ``sha256`` is the input's hash as the reader computed it (None when the file could not
+    be opened): nothing here reads the input again.
+    """
     ok = analysis is not None and not any(p.severity == ERROR for p in problems)
-    try:
-        digest = analysis.schedule.sha256 if analysis else sha256_of(path)
-    except OSError:
-        digest = None
     data: dict = {
         "ok": ok,
-        "input": {"file": str(path), "sha256": digest},
+        "input": {"file": str(path), "sha256": sha256},
         "problems": [p.as_dict() for p in problems],
     }
     if analysis is None:
         data.update({"time_unit": None, "activity_count": 0, "project": None, "activities": []})
         return data
     a = analysis
-    s = a.schedule.settings
-    cal = a.calendar
     data["input"]["sheet"] = a.schedule.sheet
     data["notes"] = list(a.schedule.notes)
-    data["time_unit"] = s.time_unit
+    data["time_unit"] = a.schedule.settings.time_unit
     data["activity_count"] = len(a.ids)
-    data["start_date"] = _iso(s.start_date)
-    data["calendar"] = None if cal is None else {
-        "start": cal.start.isoformat(),
-        "unit": cal.unit,
-        "working_days": list(cal.working_days),
-        "weekend_code": cal.weekend_code,
-        "holidays": [h.isoformat() for h in cal.holidays],
-    }
-    project = {
-        "expected_duration": _num(a.project_mean),
-        "variance": _num(a.project_variance),
-        "sd": _num(a.project_sd),
-        "critical_path": a.critical_ids,
-        "due": _num(a.due),
-        "due_date": _iso(a.due_date),
-        "z": _num(a.z),
-        "p_meet_due": _num(a.p_meet_due),
-        "duration_at_confidence": {repr(float(c)): _num(v) for c, v in a.confidence.items()},
-        "p_meet_due_all_paths": None if a.p_all_paths is None else {
-            "lower": _num(a.p_all_paths[0]), "upper": _num(a.p_all_paths[1])},
-        "finish_date": _iso(a.finish_date),
-        "path_count": str(a.path_count) if a.path_count > 2**53 else a.path_count,
-        "tied_longest_paths": a.tied_longest,
-    }
-    data["project"] = project
-    sim = a.simulation
-    acts = []
-    cpm = a.cpm
-    dates = a.activity_dates
-    for i, ident in enumerate(a.ids):
-        row = {
-            "id": ident,
-            "name": a.schedule.activities[i].name,
-            "te": _num(a.te[i]),
-            "variance": _num(a.var[i]),
-            "es": _num(cpm.es[i]),
-            "ef": _num(cpm.ef[i]),
-            "ls": _num(cpm.ls[i]),
-            "lf": _num(cpm.lf[i]),
-            "total_float": _num(cpm.total_float[i]),
-            "free_float": _num(cpm.free_float[i]),
-            "critical": bool(cpm.critical[i]),
-            "criticality": _num(sim.criticality[i]) if sim is not None else None,
-            "sensitivity": _num(sim.sensitivity[i]) if sim is not None else None,
-            "early_start_date": _iso(dates.early_start[i]) if dates else None,
-            "early_finish_date": _iso(dates.early_finish[i]) if dates else None,
-            "late_start_date": _iso(dates.late_start[i]) if dates else None,
-            "late_finish_date": _iso(dates.late_finish[i]) if dates else None,
-        }
-        acts.append(row)
-    data["activities"] = acts
+    data["start_date"] = _iso(a.schedule.settings.start_date)
+    data["calendar"] = _calendar(a.calendar)
+    data["project"] = _project(a)
+    data["activities"] = _activities(a)
     data["links"] = [
         {"from": a.ids[int(p)], "to": a.ids[int(q)], "type": LINK_TYPES[int(k)], "lag": float(g)}
         for p, q, k, g in zip(a.net.pred, a.net.succ, a.net.kind, a.net.lag)
@@ -108,22 +58,7 @@ def build_json(path: Path, problems, analysis) -> dict:
         }
         for pr in a.paths
     ]
-    data["simulation"] = None if sim is None else {
-        "iterations": sim.iterations,
-        "seed": sim.seed,
-        "distribution": sim.distribution,
-        "correlation": sim.correlation,
-        "mean": _num(sim.mean),
-        "sd": _num(sim.sd),
-        "std_error_mean": _num(sim.std_error_mean),
-        "p_meet_due": _num(sim.p_meet_due),
-        "p_meet_due_std_error": _num(sim.p_meet_due_std_error),
-        "percentiles": {repr(float(q)): _num(v) for q, v in sorted(sim.percentiles.items())},
-        "merge_bias": _num(sim.merge_bias),
-        "independent": None if sim.independent is None else {
-            "mean": _num(sim.independent.mean), "sd": _num(sim.independent.sd),
-            "p_meet_due": _num(sim.independent.p_meet_due)},
-    }
+    data["simulation"] = _simulation(a.simulation)
     data["targets"] = [
         {
             "activity": a.ids[t.activity],
@@ -147,3 +82,86 @@ def build_json(path: Path, problems, analysis) -> dict:
         for c in a.checks
     ]
     return data
+
+
+def _calendar(cal) -> dict | None:
+    if cal is None:
+        return None
+    return {
+        "start": cal.start.isoformat(),
+        "unit": cal.unit,
+        "working_days": list(cal.working_days),
+        "weekend_code": cal.weekend_code,
+        "holidays": [h.isoformat() for h in cal.holidays],
+    }
+
+
+def _project(a) -> dict:
+    return {
+        "expected_duration": _num(a.project_mean),
+        "variance": _num(a.project_variance),
+        "sd": _num(a.project_sd),
+        "critical_path": a.critical_ids,
+        "due": _num(a.due),
+        "due_date": _iso(a.due_date),
+        "z": _num(a.z),
+        "p_meet_due": _num(a.p_meet_due),
+        "duration_at_confidence": {repr(float(c)): _num(v) for c, v in a.confidence.items()},
+        "p_meet_due_all_paths": None
+        if a.p_all_paths is None
+        else {"lower": _num(a.p_all_paths[0]), "upper": _num(a.p_all_paths[1])},
+        "finish_date": _iso(a.finish_date),
+        "path_count": str(a.path_count) if a.path_count > 2**53 else a.path_count,
+        "tied_longest_paths": a.tied_longest,
+    }
+
+
+def _activities(a) -> list[dict]:
+    sim, cpm, dates = a.simulation, a.cpm, a.activity_dates
+    rows = []
+    for i, ident in enumerate(a.ids):
+        rows.append({
+            "id": ident,
+            "name": a.schedule.activities[i].name,
+            "te": _num(a.te[i]),
+            "variance": _num(a.var[i]),
+            "es": _num(cpm.es[i]),
+            "ef": _num(cpm.ef[i]),
+            "ls": _num(cpm.ls[i]),
+            "lf": _num(cpm.lf[i]),
+            "total_float": _num(cpm.total_float[i]),
+            "free_float": _num(cpm.free_float[i]),
+            "critical": bool(cpm.critical[i]),
+            "criticality": _num(sim.criticality[i]) if sim is not None else None,
+            "sensitivity": _num(sim.sensitivity[i]) if sim is not None else None,
+            "early_start_date": _iso(dates.early_start[i]) if dates else None,
+            "early_finish_date": _iso(dates.early_finish[i]) if dates else None,
+            "late_start_date": _iso(dates.late_start[i]) if dates else None,
+            "late_finish_date": _iso(dates.late_finish[i]) if dates else None,
+        })
+    return rows
+
+
+def _simulation(sim) -> dict | None:
+    if sim is None:
+        return None
+    return {
+        "iterations": sim.iterations,
+        "seed": sim.seed,
+        "distribution": sim.distribution,
+        "correlation": sim.correlation,
+        "mean": _num(sim.mean),
+        "sd": _num(sim.sd),
+        "std_error_mean": _num(sim.std_error_mean),
+        "p_meet_due": _num(sim.p_meet_due),
+        "p_meet_due_std_error": _num(sim.p_meet_due_std_error),
+        "percentiles": {repr(float(q)): _num(v) for q, v in sorted(sim.percentiles.items())},
+        "merge_bias": _num(sim.merge_bias),
+        "independent": None
+        if sim.independent is None
+        else {
+            "mean": _num(sim.independent.mean),
+            "sd": _num(sim.independent.sd),
+            "p_meet_due": _num(sim.independent.p_meet_due),
+        },
+    }

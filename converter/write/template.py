@@ -297,6 +297,11 @@ def _settings(wb, ws, bold, fmt, wrap) -> None:
     holidays = row_of["Holidays"]
     for r in range(holidays + 1, holidays + 1 + HOLIDAY_ROWS):
         ws.write_blank(r, 1, None, fmt["date"])
+    _settings_rules(ws, row_of, holidays)
+
+
+def _settings_rules(ws, row_of: dict[str, int], holidays: int) -> None:
+    """Data-validation rules of the settings' value cells (what the reader accepts)."""
     date_rule = {
         "validate": "date",
         "criteria": "between",
@@ -306,78 +311,44 @@ def _settings(wb, ws, bold, fmt, wrap) -> None:
     }
     ws.data_validation(row_of["Start date"], 1, row_of["Start date"], 1, date_rule)
     ws.data_validation(holidays, 1, holidays + HOLIDAY_ROWS, 1, date_rule)
-    r = row_of["Due date"]
-    ws.data_validation(
-        r,
-        1,
-        r,
-        1,
-        {
+    rules = {
+        "Due date": {
             "validate": "decimal",
             "criteria": ">=",
             "value": 0,
             "error_message": "Enter a date or a number of time units, 0 or more.",
         },
-    )
-    r = row_of["Time unit"]
-    ws.data_validation(r, 1, r, 1, {"validate": "list", "source": list(TIME_UNITS)})
-    r = row_of["Distribution"]
-    ws.data_validation(r, 1, r, 1, {"validate": "list", "source": list(DISTRIBUTIONS)})
-    r = row_of["Iterations"]
-    ws.data_validation(
-        r,
-        1,
-        r,
-        1,
-        {
-            "validate": "integer",
-            "criteria": "between",
-            "minimum": 1,
-            "maximum": 10_000_000,
-            "error_message": "Enter a whole number from 1 to 10,000,000.",
-        },
-    )
-    r = row_of["Seed"]
-    ws.data_validation(
-        r,
-        1,
-        r,
-        1,
-        {
+        "Time unit": {"validate": "list", "source": list(TIME_UNITS)},
+        "Distribution": {"validate": "list", "source": list(DISTRIBUTIONS)},
+        "Iterations": _whole_number(1, 10_000_000, "from 1 to 10,000,000"),
+        "Seed": {
             "validate": "integer",
             "criteria": ">=",
             "value": 0,
             "error_message": "Enter a whole number, 0 or more.",
         },
-    )
-    r = row_of["Correlation"]
-    ws.data_validation(
-        r,
-        1,
-        r,
-        1,
-        {
+        "Correlation": {
             "validate": "decimal",
             "criteria": "between",
             "minimum": 0,
             "maximum": 0.99,
             "error_message": "Enter a number from 0 to 0.99.",
         },
-    )
-    r = row_of["Paths"]
-    ws.data_validation(
-        r,
-        1,
-        r,
-        1,
-        {
-            "validate": "integer",
-            "criteria": "between",
-            "minimum": 1,
-            "maximum": 1000,
-            "error_message": "Enter a whole number from 1 to 1000.",
-        },
-    )
+        "Paths": _whole_number(1, 1000, "from 1 to 1000"),
+    }
+    for label, rule in rules.items():
+        r = row_of[label]
+        ws.data_validation(r, 1, r, 1, rule)
+
+
+def _whole_number(low: int, high: int, words: str) -> dict:
+    return {
+        "validate": "integer",
+        "criteria": "between",
+        "minimum": low,
+        "maximum": high,
+        "error_message": f"Enter a whole number {words}.",
+    }
 
 
 def _instructions(wb, ws) -> None:

@@ -9,6 +9,7 @@ import pytest
 from scipy import stats
 
 from converter.analyse import pert
+from converter.analyse.simulate import sampling
 
 
 class TestExpectedTime:
@@ -20,13 +21,26 @@ class TestExpectedTime:
         assert pert.expected_time(1, 1, 1) == 1.0
         assert pert.variance(1, 1) == 0.0
 
-    @pytest.mark.parametrize("a,m,b", [(1, 2, 6), (0, 3, 4), (2.5, 7, 30), (5, 5, 9), (3, 8, 8)])
-    def test_pert_beta_mean_is_te(self, a, m, b):
-        # scipy.stats.beta with the PERT shapes alpha = 1 + 4(m-a)/(b-a), beta = 1 + 4(b-m)/(b-a)
-        # on [a, b] has mean (a + 4m + b)/6 (Malcolm et al. 1959; Vose 2008).
+    @pytest.mark.parametrize("a,m,b", [(1, 2, 6), (0, 3, 4), (2.5, 7, 30), (5, 5, 9), (3, 8, 8),
+                                       (2.0, 3.0, 9.0), (4.0, 4.2, 30.0)])
+    def test_pert_beta_moments(self, a, m, b):
+        # scipy.stats.beta with the shapes the simulation samples with has mean
+        # (a + 4m + b)/6 (Malcolm et al. 1959) and variance (mu - a)(b - mu)/7 (Vose 2008,
+        # the PERT distribution; from memory), computed by scipy from alpha and beta alone.
         alpha, beta = pert.pert_beta_parameters(a, m, b)
         dist = stats.beta(alpha, beta, loc=a, scale=b - a)
-        assert dist.mean() == pytest.approx(float(pert.expected_time(a, m, b)), rel=1e-12)
+        mu = float(pert.expected_time(a, m, b))
+        assert dist.mean() == pytest.approx(mu, rel=1e-12)
+        assert dist.var() == pytest.approx((mu - a) * (b - mu) / 7.0, rel=1e-12)
+
+    def test_the_sampler_uses_these_shapes(self):
+        # one home for the PERT-beta shapes: the simulation's sampler imports this function
+        assert sampling.pert_beta_parameters is pert.pert_beta_parameters
+
+    def test_fixed_duration_shapes(self):
+        # O = M = P: both shapes 1 (no division by zero; the sampler returns the constant)
+        alpha, beta = pert.pert_beta_parameters([4.0], [4.0], [4.0])
+        assert alpha.tolist() == [1.0] and beta.tolist() == [1.0]
 
     def test_vectorised(self):
         o, m, p = np.array([1, 2.0]), np.array([2, 4.0]), np.array([9, 6.0])

@@ -12,13 +12,16 @@ diagramming link rules (Moder, Phillips & Davis 1983, from memory of that text).
 from __future__ import annotations
 
 import math
+import multiprocessing
+import os
 
 import numpy as np
 import pytest
 from scipy import integrate, stats
 
+from converter.analyse import simulate as sim
 from converter.analyse.network import build_network, schedule
-from converter.analyse.simulate import runs as sim
+from converter.analyse.simulate import inputs, sampling, workers
 from converter.model import FF, FS, SF, SS
 
 # --------------------------------------------------------------------------- helpers
@@ -84,7 +87,7 @@ def test_beta_cheng_rows_short_of_accepted_draws_are_completed():
     params = tuple(np.full((4, 1), v, dtype=np.float32) for v in (a, b, big, scale,
                                                                   a + 1 / scale))
     with np.errstate(divide="ignore"):
-        x = sim._cheng_accepted(np.random.default_rng(7), params, 4, 50_000, extra=0)
+        x = sampling._cheng_accepted(np.random.default_rng(7), params, 4, 50_000, extra=0)
     assert x.shape == (4, 50_000)
     assert stats.kstest(x.reshape(-1), stats.beta(a, b).cdf).pvalue > 0.001
 
@@ -114,17 +117,6 @@ def test_mixed_kinds_and_constants():
     assert stats.kstest(x[1], stats.uniform(2.0, 4.0).cdf).pvalue > 0.001  # scipy.stats
     assert stats.kstest(x[3], stats.triang(1 / 6, loc=3.0, scale=6.0).cdf).pvalue > 0.001
     assert stats.kstest(x[0], stats.beta(3.0, 3.0, loc=1.0, scale=3.0).cdf).pvalue > 0.001
-
-
-def test_pert_variance_formula_matches_scipy():
-    # (mu - a)(b - mu)/7 is the variance of the PERT-beta: scipy.stats.beta.var
-    for o, m, p in ESTIMATES:
-        a, b = 1 + 4 * (m - o) / (p - o), 1 + 4 * (p - m) / (p - o)
-        mu = te(o, m, p)
-        assert stats.beta(a, b, loc=o, scale=p - o).mean() == pytest.approx(mu, rel=1e-12)
-        assert stats.beta(a, b, loc=o, scale=p - o).var() == pytest.approx(
-            (mu - o) * (p - mu) / 7.0, rel=1e-12
-        )
 
 
 # --------------------------------------------------------------------------- serial chain
@@ -343,7 +335,7 @@ def test_same_seed_same_numbers_other_seed_other_numbers():
 
 
 def test_worker_processes_give_the_same_numbers(monkeypatch):
-    monkeypatch.setattr(sim, "_CHUNK_ELEMENTS", 20 * 300)  # several chunks
+    monkeypatch.setattr(inputs, "_CHUNK_ELEMENTS", 20 * 300)  # several chunks
     rng = np.random.default_rng(15)
     net = random_typed_network(rng, 20)
     o = rng.uniform(1, 4, 20)
@@ -357,6 +349,23 @@ def test_worker_processes_give_the_same_numbers(monkeypatch):
         np.testing.assert_array_equal(run_a.criticality, run_b.criticality)
         np.testing.assert_array_equal(run_a.sensitivity, run_b.sensitivity)
         assert run_a.target_p == run_b.target_p
+    assert workers._worker_job is None  # the job went to the workers, not into the parent
+
+
+def test_worker_count_follows_the_argument_not_the_environment(monkeypatch):
+    # The drop folder's workers set OMP_NUM_THREADS=1; the count must not read it back.
+    # Usable cores from os.sched_getaffinity (Python's os module); fork where multiprocessing
+    # lists it.
+    monkeypatch.setenv("OMP_NUM_THREADS", "1")
+    fork = "fork" in multiprocessing.get_all_start_methods()
+    cores = len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else os.cpu_count()
+    big = workers.PARALLEL_ELEMENTS
+    auto = min(workers.MAX_AUTO_WORKERS, cores) if fork else 1
+    assert workers.worker_count(None, big, 100) == auto
+    assert workers.worker_count(None, big - 1, 100) == 1  # small runs stay in this process
+    assert workers.worker_count(3, 10, 100) == (3 if fork else 1)
+    assert workers.worker_count(3, 10, 2) == (2 if fork else 1)  # no more than the chunks
+    assert workers.worker_count(1, big, 100) == 1
 
 
 def test_simulate_equals_draw_samples_then_simulate_durations():
@@ -441,3 +450,28 @@ def test_bad_arguments_raise():
         sim.simulate(net, [1.0], [2.0], [4.0])
     with pytest.raises(ValueError):
         sim.simulate(net, [1.0, 1.0], [2.0, 2.0], [4.0, 3.0], iterations=1)
+
+
+def test_convert_options_choose_the_simulation_workers(monkeypatch):
+    # ConvertOptions.simulation_workers reaches simulate(workers=...); None leaves the choice
+    # to the simulation (common practice: an explicit argument, no environment variable).
+    from pathlib import Path
+
+    from converter.analyse.analysis import analyse
+    from converter.analyse.simulate import runs
+    from converter.api import ConvertOptions, load
+
+    seen = []
+    real = runs.simulate
+
+    def spy(*args, **kwargs):
+        seen.append(kwargs.get("workers", "absent"))
+        return real(*args, **kwargs)
+
+    monkeypatch.setattr(runs, "simulate", spy)
+    sample = Path(__file__).resolve().parents[2] / "samples" / "boiler-shutdown.csv"
+    for workers_option in (1, None):
+        options = ConvertOptions(iterations=200, simulation_workers=workers_option)
+        schedule, _ = load(sample, options)
+        assert analyse(schedule, options).simulation is not None
+    assert seen == [1, None]

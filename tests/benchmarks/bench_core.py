@@ -56,12 +56,12 @@ def time_validate_schedule(path: Path) -> dict:
     from converter.analyse.analysis import analyse  # noqa: F401  (import cost outside the timing)
     from converter.analyse.network import build_network, schedule
     from converter.analyse.pert import expected_time
-    from converter.api import ConvertOptions
+    from converter.options import ConvertOptions
     from converter.read.sheets import read_input
-    from converter.validate.schedule import validate
+    from converter.validate import validate
 
     t0 = time.perf_counter()
-    raw, _ = read_input(path)
+    raw = read_input(path).raw
     t1 = time.perf_counter()
     sched, problems = validate(raw, ConvertOptions())
     assert sched is not None, problems[:5]

@@ -1,4 +1,4 @@
-"""Benchmark: Monte Carlo simulation (converter.analyse.simulate.runs).
+"""Benchmark: Monte Carlo simulation (converter.analyse.simulate).
 
 Run with ``python tests/benchmarks/bench_simulate.py`` (``--quick`` for smaller sizes).
 
@@ -118,7 +118,7 @@ class PeakMemory:
 
 
 def case_large(n: int, links: int, iterations: int, workers: int | None) -> dict:
-    from converter.analyse.simulate.runs import simulate
+    from converter.analyse.simulate import simulate
 
     net = layered_network(n, links, layers=100, seed=1)
     o, m, p = estimates(n, seed=2)
@@ -177,7 +177,7 @@ def loop_simulation(net, o, m, p, iterations: int, seed: int) -> np.ndarray:
 
 
 def case_loop(n: int, links: int, loop_iterations: int, iterations: int) -> dict:
-    from converter.analyse.simulate.runs import simulate
+    from converter.analyse.simulate import simulate
 
     net = layered_network(n, links, layers=25, seed=4)
     o, m, p = estimates(n, seed=5)

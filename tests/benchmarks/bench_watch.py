@@ -23,6 +23,10 @@ import time
 from pathlib import Path
 
 REPO = Path(__file__).resolve().parents[2]
+sys.path.insert(0, str(REPO))
+
+from converter.read import SUFFIXES  # noqa: E402
+
 TARGET_SECONDS = 120.0
 WATCH_CMD = [sys.executable, "-m", "converter", "watch"]
 
@@ -33,7 +37,7 @@ def sha(path: Path) -> str:
 
 def fill_inbox(inbox: Path, count: int) -> dict[str, str]:
     samples = sorted(p for p in (REPO / "samples").iterdir()
-                     if p.suffix.lower() in (".xlsx", ".xlsm", ".xls", ".ods", ".csv"))
+                     if p.suffix.lower() in SUFFIXES)
     if not samples:
         raise SystemExit("no sample workbooks in samples/")
     dropped = {}

@@ -1,4 +1,4 @@
-"""The drop folder (``pertbook watch``) on real temporary folders.
+"""The drop folder (``pertbook watch``) on real temporary folders, end to end.
 
 What is checked against what:
 - "byte-identical": SHA-256 of what was dropped against what ends up archived/failed
@@ -8,97 +8,45 @@ What is checked against what:
 - the problems report lists every problem that ``converter.api.check`` finds on the
   same bytes, each with its sheet!cell and its fix (or message);
 - lock/temporary file names: common practice (Microsoft Office ``~$`` owner files,
-  LibreOffice ``.~lock``, browser ``.crdownload``/``.part`` downloads).
+  LibreOffice ``.~lock``, browser ``.crdownload``/``.part`` downloads);
+- signals: POSIX semantics (SIGTERM and a first SIGINT ask, a second SIGINT insists,
+  SIGKILL cannot be caught); a process is stopped per ``/proc/<pid>/stat`` (proc(5)).
 
 Tests run the real converter with few simulation iterations; faults are injected by
-wrapping it (module-level functions, so pool workers can load them).
+wrapping it (``drop_support``: module-level functions, so pool workers can load them).
 """
 
 from __future__ import annotations
 
-import errno
-import hashlib
 import json
 import os
 import signal
 import subprocess
-import sys
 import threading
 import time
-import zipfile
 from pathlib import Path
 
+import drop_support as ds
 import openpyxl
-import pytest
+from drop_support import (
+    CLI_WATCH,
+    DEADLINE,
+    HEADER,
+    ITER,
+    REPO,
+    is_complete_xlsx,
+    log_text,
+    names,
+    schedule_csv,
+    schedule_xlsx,
+    sha,
+    wait_for,
+    work_jobs,
+)
 
-from converter import api
+from converter import api, cli
 from converter.api import ConvertOptions
-from converter.drop import folder as df
-from converter.drop.watcher import Watcher, add_watch_arguments, main, options_from_args
-from converter.model import Problem
-from converter.write.problems import problems_text, write_problems_xlsx
-
-REPO = Path(__file__).resolve().parents[2]
-ITER = 200  # few Monte Carlo iterations: the lifecycle, not the statistics, is under test
-HEADER = "ID,Description,Predecessors,Optimistic,Most likely,Pessimistic"
-WATCH_CMD = [sys.executable, "-c",
-             "import sys; from converter.drop.watcher import main; sys.exit(main(sys.argv[1:]))"]
-DEADLINE = 180.0  # a hang guard only; no test passes or fails on speed
-
-
-# --------------------------------------------------------------------------- inputs
-
-
-def schedule_csv(n: int = 12, tag: str = "", bad: bool = False) -> bytes:
-    """An invented schedule: a chain with extra links back three places."""
-    rows = [HEADER]
-    for i in range(1, n + 1):
-        preds = [f"A{j}" for j in (i - 1, i - 3) if j >= 1]
-        if bad and i == 3:
-            preds.append("Q7")  # not an activity: the validator must report it
-        o = 1 + (i * 7) % 5
-        m = o + 1 + (i * 3) % 4
-        p = m + 2 + (i * 5) % 6
-        rows.append(f"A{i},Task {i} {tag},{';'.join(preds)},{o},{m},{p}")
-    return ("\n".join(rows) + "\n").encode()
-
-
-def schedule_xlsx(path: Path, n: int = 8) -> None:
-    book = openpyxl.Workbook()
-    sheet = book.active
-    sheet.title = "Activities"
-    sheet.append(HEADER.split(","))
-    for i in range(1, n + 1):
-        sheet.append([f"X{i}", f"Step {i}", f"X{i - 1}" if i > 1 else None, 2, 3, 5 + i])
-    book.save(path)
-
-
-def sha(data: bytes | Path) -> str:
-    if isinstance(data, Path):
-        data = data.read_bytes()
-    return hashlib.sha256(data).hexdigest()
-
-
-def is_complete_xlsx(path: Path) -> bool:
-    try:
-        with zipfile.ZipFile(path) as z:
-            if z.testzip() is not None:
-                return False
-        openpyxl.load_workbook(path, read_only=True).close()
-    except Exception:  # noqa: BLE001 - any failure to open means not a whole workbook
-        return False
-    return True
-
-
-def names(folder: Path) -> set[str]:
-    return {p.name for p in folder.iterdir()} if folder.exists() else set()
-
-
-def work_jobs(root: Path) -> list[Path]:
-    work = root / ".pertbook-work"
-    if not work.exists():
-        return []
-    return [j for d in work.iterdir() if d.is_dir() for j in d.iterdir() if j.is_dir()]
+from converter.drop.loop import Watcher
 
 
 def watcher(root: Path, **kw) -> Watcher:
@@ -107,57 +55,6 @@ def watcher(root: Path, **kw) -> Watcher:
     kw.setdefault("echo", False)
     kw.setdefault("once_wait", 30.0)
     return Watcher(root, ConvertOptions(iterations=ITER), **kw)
-
-
-def wait_for(cond, what: str, deadline: float = DEADLINE) -> None:
-    end = time.monotonic() + deadline
-    while not cond():
-        if time.monotonic() > end:
-            raise AssertionError(f"gave up waiting for {what}")
-        time.sleep(0.02)
-
-
-def log_text(root: Path) -> str:
-    path = root / "pertbook.log"
-    return path.read_text(encoding="utf-8") if path.exists() else ""
-
-
-# --------------------------------------------------------------------------- injected converters
-
-
-
-def convert_with_faults(path, options=None, **kw):
-    """A converter with a bug for files named boom*, and a hard crash for crash*."""
-    name = Path(path).name
-    if name.startswith("boom"):
-        raise RuntimeError("injected fault: the analysis fell over")
-    if name.startswith("crash"):
-        os._exit(3)  # the worker process dies without a word
-    return api.convert(path, options, **kw)
-
-
-_DISK_FULL_LEFT = {"n": 0}
-
-
-def convert_disk_full_twice(path, options=None, **kw):
-    """The first two writes fail as on a full disk."""
-    if _DISK_FULL_LEFT["n"] > 0:
-        _DISK_FULL_LEFT["n"] -= 1
-        raise OSError(errno.ENOSPC, os.strerror(errno.ENOSPC), str(kw.get("workbook_path")))
-    return api.convert(path, options, **kw)
-
-
-_BREAK_OUTBOX: dict[str, Path | None] = {"outbox": None}
-
-
-def convert_then_break_outbox(path, options=None, **kw):
-    """Convert, then replace the outbox by a plain file (as if the share went read-only)."""
-    result = api.convert(path, options, **kw)
-    outbox = _BREAK_OUTBOX["outbox"]
-    if outbox is not None and outbox.is_dir():
-        outbox.rmdir()
-        outbox.write_text("not a folder")
-    return result
 
 
 # --------------------------------------------------------------------------- lifecycle
@@ -255,19 +152,19 @@ def test_once_exit_code_zero_when_all_converted(tmp_path):
     assert names(root / "failed") == set()
 
 
-def test_main_once_exit_codes_and_options(tmp_path):
+def test_cli_watch_once_exit_codes_and_options(tmp_path):
     root = tmp_path / "drop"
     (root / "inbox").mkdir(parents=True)
     (root / "inbox" / "a.csv").write_bytes(schedule_csv(5))
-    args = [str(root), "--once", "--interval", "0.05", "--workers", "0", "--quiet",
+    args = ["watch", str(root), "--once", "--interval", "0.05", "--workers", "0", "--quiet",
             "--iterations", str(ITER), "--json"]
-    assert main(args) == 0
+    assert cli.main(args) == 0
     assert names(root / "outbox") == {"a.analysis.xlsx", "a.analysis.json"}
     # the JSON names where the input now is, not the watcher's working folder
     data = json.loads((root / "outbox" / "a.analysis.json").read_text(encoding="utf-8"))
     assert data["input"]["file"] == "archive/a.csv"
     (root / "inbox" / "b.csv").write_bytes(schedule_csv(5, bad=True))
-    assert main(args) == 2
+    assert cli.main(args) == 2
     assert names(root / "failed") == {"b.csv", "b.problems.txt", "b.problems.xlsx",
                                       "b.problems.json"}
 
@@ -311,7 +208,7 @@ def test_injected_fault_and_crash_go_to_failed_and_the_next_file_converts(tmp_pa
              schedule_csv(7), "fine2.csv": schedule_csv(8)}
     for name, data in files.items():
         (root / "inbox" / name).write_bytes(data)
-    code = watcher(root, once=True, workers=2, convert_fn=convert_with_faults).run()
+    code = watcher(root, once=True, workers=2, convert_fn=ds.convert_with_faults).run()
     assert code == 1  # faults are the tool's own failures
     failed = root / "failed"
     assert names(failed) == {f"{s}{x}" for s in ("boom", "crash")
@@ -332,10 +229,10 @@ def test_disk_full_while_converting_waits_and_retries(tmp_path):
     (root / "inbox").mkdir(parents=True)
     data = schedule_csv(6)
     (root / "inbox" / "full.csv").write_bytes(data)
-    _DISK_FULL_LEFT["n"] = 2
-    w = watcher(root, once=True, convert_fn=convert_disk_full_twice, max_backoff=0.2)
+    ds.DISK_FULL_LEFT["n"] = 2
+    w = watcher(root, once=True, convert_fn=ds.convert_disk_full_twice, max_backoff=0.2)
     assert w.run() == 0
-    assert _DISK_FULL_LEFT["n"] == 0
+    assert ds.DISK_FULL_LEFT["n"] == 0
     log = log_text(root)
     assert log.count("the disk is full") == 2
     assert log.count("full.csv\treturned to the inbox") == 2
@@ -381,19 +278,19 @@ def test_outbox_lost_after_converting_result_is_placed_when_back(tmp_path):
     outbox = root / "outbox"
     data = schedule_csv(6)
     (root / "inbox" / "late.csv").write_bytes(data)
-    _BREAK_OUTBOX["outbox"] = outbox
-    w = watcher(root, convert_fn=convert_then_break_outbox, max_backoff=0.2)
+    ds.BREAK_OUTBOX["outbox"] = outbox
+    w = watcher(root, convert_fn=ds.convert_then_break_outbox, max_backoff=0.2)
     thread, out = _run_in_thread(w)
     try:
         wait_for(lambda: "cannot be placed yet" in log_text(root)
                  and log_text(root).count("the outbox is not a folder") >= 2, "2 retries")
         assert not (root / "archive" / "late.csv").exists()
-        _BREAK_OUTBOX["outbox"] = None
+        ds.BREAK_OUTBOX["outbox"] = None
         outbox.unlink()
         outbox.mkdir()
         wait_for(lambda: (root / "archive" / "late.csv").exists(), "the result to be placed")
     finally:
-        _BREAK_OUTBOX["outbox"] = None
+        ds.BREAK_OUTBOX["outbox"] = None
         w.stop()
         thread.join()
     assert out["code"] == 0
@@ -435,14 +332,15 @@ def _spawn(root: Path, *extra: str, log: str | None = None) -> subprocess.Popen:
     args = [str(root), "--interval", "0.05", "--iterations", str(ITER), "--quiet", *extra]
     if log:
         args += ["--log", log]
-    return subprocess.Popen(WATCH_CMD + args, cwd=REPO, stdout=subprocess.DEVNULL,
+    return subprocess.Popen(CLI_WATCH + args, cwd=REPO, stdout=subprocess.DEVNULL,
                             stderr=subprocess.PIPE)
 
 
-def test_two_watchers_100_files_each_converted_once(tmp_path):
+def test_two_watchers_share_a_folder_each_file_converted_once(tmp_path):
     root = tmp_path / "drop"
     (root / "inbox").mkdir(parents=True)
-    dropped = {f"f{i:03d}.csv": schedule_csv(4 + i % 5, f"n{i}") for i in range(100)}
+    # 12 files: each is a race between the two watchers' claims
+    dropped = {f"f{i:03d}.csv": schedule_csv(4 + i % 5, f"n{i}") for i in range(12)}
     for name, data in dropped.items():
         (root / "inbox" / name).write_bytes(data)
     logs = [str(tmp_path / "w1.log"), str(tmp_path / "w2.log")]
@@ -457,197 +355,125 @@ def test_two_watchers_100_files_each_converted_once(tmp_path):
     for name, data in dropped.items():
         assert sha(root / "archive" / name) == sha(data)
     per_watcher = [Path(log).read_text().count("\tconverted\t") for log in logs]
-    assert sum(per_watcher) == 100  # no file converted by both
+    assert sum(per_watcher) == len(dropped)  # no file converted by both
     assert not work_jobs(root)
 
 
-def test_sigkill_mid_batch_then_restart_loses_nothing(tmp_path):
-    root = tmp_path / "drop"
+# --------------------------------------------------------------------------- signals
+
+
+def _watch_held_file(tmp_path, before: int = 0, after: int = 0, workers: int = 1):
+    """A watcher process whose converter holds ``held.csv`` until told; ``before`` and
+    ``after`` more files whose names sort before and after it (files are claimed in name
+    order). Returns ``(root, {name: bytes dropped}, signal folder, process)``."""
+    root, signals = tmp_path / "drop", tmp_path / "signals"
     (root / "inbox").mkdir(parents=True)
-    dropped = {f"k{i:02d}.csv": schedule_csv(6 + i % 7, f"k{i}") for i in range(40)}
+    signals.mkdir()
+    names_ = [f"a{i:02d}.csv" for i in range(before)] + ["held.csv"]
+    names_ += [f"z{i:02d}.csv" for i in range(after)]
+    dropped = {name: schedule_csv(6 + i % 7, name) for i, name in enumerate(names_)}
     for name, data in dropped.items():
         (root / "inbox" / name).write_bytes(data)
-    archive, outbox = root / "archive", root / "outbox"
-    claimed_at_kill = []
-    for kill_at in (4, 12, 20):  # three kills at different points of the batch
-        proc = _spawn(root, "--workers", "2")
-        try:
-            wait_for(lambda n=kill_at, p=proc: len(names(archive)) >= n or p.poll() is not None,
-                     f"{kill_at} files archived")
-        finally:
-            proc.send_signal(signal.SIGKILL)
-            proc.wait()
-        claimed_at_kill.append(len(work_jobs(root)))
-        # whatever is in the outbox is whole: results arrive by rename only
-        for name in names(outbox):
-            assert name.endswith(".analysis.xlsx"), name
-            assert is_complete_xlsx(outbox / name), name
-    assert any(claimed_at_kill), claimed_at_kill  # some kill caught files in hand
-    proc = _spawn(root, "--once", "--workers", "2")
-    _, err = proc.communicate(timeout=DEADLINE * 2)
+    proc = _watch_process(root, signals, "--workers", str(workers))
+    return root, dropped, signals, proc
+
+
+def _watch_process(root: Path, signals: Path, *extra: str) -> subprocess.Popen:
+    env = dict(os.environ, **{ds.SIGNAL_DIR: str(signals)})
+    return subprocess.Popen(ds.watch_command(root, "convert_when_told", *extra), cwd=REPO,
+                            env=env, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
+
+
+def _pids_in_hand(signals: Path, proc: subprocess.Popen) -> tuple[int, int]:
+    """``(worker, its child)`` once the converter has the file in hand."""
+    wait_for(lambda: (signals / "pids").exists() or proc.poll() is not None, "the file in hand")
+    assert proc.poll() is None, proc.stderr.read().decode()
+    worker, child = (int(x) for x in (signals / "pids").read_text().split())
+    return worker, child
+
+
+def _end(proc: subprocess.Popen, *pids: int) -> None:
+    """Whatever happened, leave no process of the test behind."""
+    for pid in pids:
+        if ds.running(pid):
+            os.kill(pid, signal.SIGKILL)
+    if proc.poll() is None:
+        proc.kill()
+        proc.wait()
+
+
+def test_sigterm_finishes_the_file_in_hand(tmp_path):
+    root, dropped, signals, proc = _watch_held_file(tmp_path)
+    data = dropped["held.csv"]
+    pids: tuple[int, ...] = ()
+    try:
+        pids = _pids_in_hand(signals, proc)
+        proc.send_signal(signal.SIGTERM)
+        wait_for(lambda: "stopping after the 1 file(s) in hand" in log_text(root), "the stop")
+        (signals / "go").touch()
+        _, err = proc.communicate(timeout=DEADLINE)
+    finally:
+        _end(proc, *pids)
     assert proc.returncode == 0, err.decode()
-    assert "left by a stopped watcher" in log_text(root)
+    assert sha(root / "archive" / "held.csv") == sha(data)
+    assert is_complete_xlsx(root / "outbox" / "held.analysis.xlsx")
+    assert not work_jobs(root)
+
+
+def test_second_ctrl_c_stops_the_worker_and_what_it_started(tmp_path):
+    root, dropped, signals, proc = _watch_held_file(tmp_path)
+    data = dropped["held.csv"]
+    pids: tuple[int, ...] = ()
+    try:
+        pids = worker, child = _pids_in_hand(signals, proc)
+        proc.send_signal(signal.SIGINT)
+        wait_for(lambda: "stopping after the 1 file(s) in hand" in log_text(root), "the stop")
+        proc.send_signal(signal.SIGINT)
+        _, err = proc.communicate(timeout=DEADLINE)
+        # the converter never got its go-ahead: only the watcher can have stopped them
+        wait_for(lambda: not ds.running(worker) and not ds.running(child), "both to stop")
+    finally:
+        _end(proc, *pids)
+    assert proc.returncode == 0, err.decode()
+    assert "stopping now" in log_text(root)
+    assert sha(root / "inbox" / "held.csv") == sha(data)  # back where it was dropped
+    assert names(root / "outbox") == set() and names(root / "archive") == set()
+    assert not work_jobs(root)
+
+
+def test_sigkill_mid_batch_orphans_stop_then_a_restart_loses_nothing(tmp_path):
+    # held.csv is claimed fifth of nine (two workers): killed with it in hand, after some
+    # files were converted, typically before others were claimed
+    root, dropped, signals, proc = _watch_held_file(tmp_path, before=4, after=4, workers=2)
+    archive, outbox = root / "archive", root / "outbox"
+    pids: tuple[int, ...] = ()
+    try:
+        pids = worker, child = _pids_in_hand(signals, proc)
+        proc.send_signal(signal.SIGKILL)
+        proc.wait()
+        # orphaned, the worker stops itself and what it started
+        wait_for(lambda: not ds.running(worker) and not ds.running(child), "both to stop")
+    finally:
+        _end(proc, *pids)
+    held = [job / "held.csv" for job in work_jobs(root) if (job / "held.csv").exists()]
+    assert len(held) == 1  # the input waits in its job folder for the next watcher
+    for name in names(outbox):  # whatever is in the outbox is whole: results arrive by rename
+        assert name.endswith(".analysis.xlsx"), name
+        assert is_complete_xlsx(outbox / name), name
+
+    (signals / "go").touch()  # the next watcher's converter need not wait
+    proc = _watch_process(root, signals, "--once", "--workers", "2")
+    _, err = proc.communicate(timeout=DEADLINE)
+    assert proc.returncode == 0, err.decode()
+    log = log_text(root)
+    assert "held.csv\treturned to the inbox (left by a stopped watcher)" in log
     assert names(root / "inbox") == set()
     assert names(root / "failed") == set()
     assert names(archive) == set(dropped)  # a second conversion would add a stamped name
     assert names(outbox) == {f"{Path(n).stem}.analysis.xlsx" for n in dropped}
     for name, data in dropped.items():
         assert sha(archive / name) == sha(data)
+        assert log.count(f"{name}\tconverted") == 1
     for name in names(outbox):
         assert is_complete_xlsx(outbox / name)
     assert not work_jobs(root)
-
-
-def test_sigterm_finishes_the_file_in_hand(tmp_path):
-    root = tmp_path / "drop"
-    (root / "inbox").mkdir(parents=True)
-    data = schedule_csv(40)
-    (root / "inbox" / "slow.csv").write_bytes(data)
-    proc = subprocess.Popen(
-        WATCH_CMD + [str(root), "--interval", "0.05", "--workers", "1", "--quiet",
-                     "--iterations", "200000"],
-        cwd=REPO, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
-    try:
-        wait_for(lambda: not (root / "inbox" / "slow.csv").exists(), "the file to be claimed")
-        proc.send_signal(signal.SIGTERM)
-        _, err = proc.communicate(timeout=DEADLINE)
-    finally:
-        if proc.poll() is None:
-            proc.kill()
-    assert proc.returncode == 0, err.decode()
-    assert sha(root / "archive" / "slow.csv") == sha(data)
-    assert is_complete_xlsx(root / "outbox" / "slow.analysis.xlsx")
-    assert not work_jobs(root)
-
-
-# --------------------------------------------------------------------------- pieces
-
-
-def test_classify_names():
-    # common practice: office owner/lock files, partial downloads, hidden files
-    for name in ("~$plan.xlsx", ".~lock.plan.ods#", "plan.xlsx.tmp", "a.CRDOWNLOAD",
-                 "a.csv.part", ".plan.csv"):
-        assert df.classify(name) == df.SKIP, name
-    for name in ("plan.xlsx", "PLAN.XLSM", "old.xls", "lo.ods", "list.csv"):
-        assert df.classify(name) == df.TAKE, name
-    for name in ("notes.txt", "plan.docx", "plan"):
-        assert df.classify(name) == df.OTHER, name
-    assert df.classify("plan.xlsx", hidden=True) == df.SKIP
-
-
-@pytest.mark.parametrize("native", [True, False])
-def test_move_noreplace_never_overwrites(tmp_path, monkeypatch, native):
-    if not native:  # the hard-link path used on shares without renameat2
-        monkeypatch.setattr(df, "_rename_noreplace_linux", lambda s, d: None)
-    a, b, c = tmp_path / "a", tmp_path / "b", tmp_path / "c"
-    a.write_bytes(b"A")
-    b.write_bytes(b"B")
-    assert df.move_noreplace(a, b) is False
-    assert a.read_bytes() == b"A" and b.read_bytes() == b"B"
-    assert df.move_noreplace(a, c) is True
-    assert not a.exists() and c.read_bytes() == b"A"
-    assert os.stat(c).st_nlink == 1
-
-
-def test_unique_stem_counts_up(tmp_path):
-    assert df.unique_stem(tmp_path, "plan", [".xlsx"]) == "plan"
-    (tmp_path / "plan.xlsx").write_bytes(b"")
-    first = df.unique_stem(tmp_path, "plan", [".xlsx"])
-    assert first.startswith("plan-") and first != "plan"
-    (tmp_path / f"{first}.xlsx").write_bytes(b"")
-    second = df.unique_stem(tmp_path, "plan", [".xlsx"])
-    assert second not in ("plan", first) and not (tmp_path / f"{second}.xlsx").exists()
-    # a free .xlsx name is not enough when the .json partner name is taken
-    (tmp_path / "other.json").write_bytes(b"")
-    assert df.unique_stem(tmp_path, "other", [".xlsx", ".json"]) != "other"
-
-
-def test_settle_rolls_back_without_plan_and_forward_with_one(tmp_path):
-    layout = df.Layout.under(tmp_path)
-    for _, path in layout.shared():
-        path.mkdir()
-    job = tmp_path / "job1"
-    job.mkdir()
-    (job / "a.csv").write_bytes(b"input")
-    (job / df.RESULT_XLSX).write_bytes(b"half")  # no plan yet: the result is discarded
-    assert df.settle(job, layout).outcome == "returned"
-    assert (layout.inbox / "a.csv").read_bytes() == b"input"
-    assert names(layout.outbox) == set() and not job.exists()
-
-    # a crash after the result was delivered but before the input was archived
-    job.mkdir()
-    (job / "b.csv").write_bytes(b"input b")
-    (job / df.RESULT_XLSX).write_bytes(b"result b")
-    df.write_plan(job, "converted", [[df.RESULT_XLSX, "outbox", "b", ".analysis.xlsx"],
-                                     ["b.csv", "archive", "b", ".csv"]])
-    os.rename(job / df.RESULT_XLSX, layout.outbox / "b.analysis.xlsx")
-    # ...and one between the hard link and the unlink of the input's move
-    os.link(job / "b.csv", layout.archive / "b.csv")
-    settled = df.settle(job, layout)
-    assert settled.outcome == "converted"
-    assert names(layout.outbox) == {"b.analysis.xlsx"}
-    assert names(layout.archive) == {"b.csv"}
-    assert os.stat(layout.archive / "b.csv").st_nlink == 1
-    assert not job.exists()
-
-
-def test_dead_watcher_is_adopted_live_one_is_not(tmp_path):
-    layout = df.Layout.under(tmp_path)
-    for _, path in layout.shared():
-        path.mkdir()
-    layout.work.mkdir()
-    # a pid that is certainly not running: a child that has exited and been reaped
-    gone = subprocess.Popen([sys.executable, "-c", "pass"])
-    gone.wait()
-    dead = layout.work / f"{df.host_name()}-{gone.pid}-abcdef"
-    (dead / "tok1").mkdir(parents=True)
-    (dead / "tok1" / "x.csv").write_bytes(b"x")
-    alive = layout.work / f"{df.host_name()}-{os.getppid()}-abcdef"
-    (alive / "tok2").mkdir(parents=True)
-    (alive / "tok2" / "y.csv").write_bytes(b"y")
-    (alive / df.HEARTBEAT).write_bytes(b"")
-    mine = df.WorkArea(layout)
-    adopted = mine.adopt_abandoned(stale_after=900)
-    assert [p.name for p in adopted] == ["tok1"]
-    assert not dead.exists() and (alive / "tok2" / "y.csv").exists()
-    assert df.settle(adopted[0], layout).outcome == "returned"
-    assert (layout.inbox / "x.csv").read_bytes() == b"x"
-
-
-def test_problems_report_text_and_workbook(tmp_path):
-    problems = [
-        Problem("error", "unknown-predecessor", "C4 names predecessor Q7, which is not in "
-                "the ID column", "Activities", "C4", "A3",
-                fix="Add Q7 to the ID column, or remove it from A3's predecessors."),
-        Problem("warning", "odd", "=SUM(A1) looks like a formula", "Activities", "B9"),
-    ]
-    text = problems_text("plan.xlsx", problems)
-    assert "Activities!C4" in text and "activity A3" in text
-    assert "What to do: Add Q7 to the ID column" in text
-    assert "Activities!B9" in text and "1 error, 1 warning" in text
-    path = tmp_path / "p.xlsx"
-    write_problems_xlsx(path, "plan.xlsx", problems)
-    sheet = openpyxl.load_workbook(path).active
-    rows = [r for r in sheet.iter_rows(min_row=5, values_only=True)]
-    assert rows[0][1:5] == ("error", "Activities", "C4", "A3")
-    assert rows[0][6].startswith("Add Q7")
-    assert rows[1][6] == "=SUM(A1) looks like a formula"  # no fix: the message instead
-    assert sheet.cell(row=6, column=7).data_type == "s"  # kept as text, not a formula
-
-
-def test_watch_arguments_build_convert_options():
-    import argparse
-
-    parser = argparse.ArgumentParser()
-    parser.add_argument("--json", action="store_true")  # a shared option the CLI may add
-    add_watch_arguments(parser)
-    args = parser.parse_args(["F", "--due", "2025-03-31", "--json", "--iterations", "500",
-                              "--seed", "7", "--distribution", "triangular",
-                              "--correlation", "0.25", "--paths", "4", "--workers", "3"])
-    opts = options_from_args(args)
-    assert (opts.due, opts.json, opts.iterations, opts.seed) == ("2025-03-31", True, 500, 7)
-    assert (opts.distribution, opts.correlation, opts.paths) == ("triangular", 0.25, 4)
-    assert args.workers == 3 and args.interval == 5.0 and args.once is False
-    assert options_from_args(parser.parse_args(["F", "--due", "30"])).due == 30.0
-    defaults = options_from_args(parser.parse_args(["F"]))
-    assert defaults == ConvertOptions()

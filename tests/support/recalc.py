@@ -7,11 +7,16 @@ copy; :func:`compare_recalculated` then holds each cached value against LibreOff
 
 LibreOffice does not recalculate OOXML files on load by default (the shipped registry,
 ``share/registry/main.xcd``, sets ``/org.openoffice.Office.Calc/Formula/Load``
-``OOXMLRecalcMode`` to 1). Each run therefore uses a private user profile whose
-``registrymodifications.xcu`` sets ``OOXMLRecalcMode`` and ``ODFRecalcMode`` to 0.
-The meaning of the values is LibreOffice's ``enum ScRecalcOptions`` in
-``sc/inc/calcconfig.hxx`` ("have to match the registry values"): 0 = RECALC_ALWAYS,
-1 = RECALC_NEVER, 2 = RECALC_ASK.
+``OOXMLRecalcMode`` to 1). LibreOffice is therefore always run with a private user
+profile whose ``registrymodifications.xcu`` sets ``OOXMLRecalcMode`` and
+``ODFRecalcMode`` to 0. The meaning of the values is LibreOffice's
+``enum ScRecalcOptions`` in ``sc/inc/calcconfig.hxx`` ("have to match the registry
+values"): 0 = RECALC_ALWAYS, 1 = RECALC_NEVER, 2 = RECALC_ASK.
+
+Starting LibreOffice is the slow part, so a test session starts it once
+(tests/support/libreoffice.py, the session fixture ``libreoffice`` in tests/conftest.py)
+and :func:`recalculate` hands every workbook to that running instance; outside a test
+session it runs a one-off ``soffice --convert-to``.
 
 Not a test module: test files import it (``from recalc import recalculate``).
 """
@@ -22,32 +27,24 @@ import datetime as dt
 import math
 import os
 import shutil
-import signal
-import subprocess
-import tempfile
-import threading
 from pathlib import Path
 
 import openpyxl
+from libreoffice import (
+    DEFAULT_TIMEOUT,
+    PROFILE_TEMPLATE,
+    RECALC_ALWAYS,
+    LibreOffice,
+    RecalcError,
+)
 from openpyxl.utils.datetime import to_excel
 from openpyxl.worksheet.formula import ArrayFormula
 
-#: Registry values that force a full recalculation when a document loads
-#: (0 = RECALC_ALWAYS, LibreOffice sc/inc/calcconfig.hxx).
-RECALC_ALWAYS = 0
+__all__ = ["PROFILE_XCU", "RECALC_ALWAYS", "LibreOffice", "RecalcError", "RecalcReport",
+           "compare_recalculated", "recalculate", "soffice_path", "use_shared"]
 
-PROFILE_XCU = f"""<?xml version="1.0" encoding="UTF-8"?>
-<oor:items xmlns:oor="http://openoffice.org/2001/registry"
- xmlns:xs="http://www.w3.org/2001/XMLSchema"
- xmlns:xsi="http://www.w3.org/2001/XMLSchema-instance">
-<item oor:path="/org.openoffice.Office.Calc/Formula/Load"><prop oor:name="OOXMLRecalcMode" \
-oor:op="fuse"><value>{RECALC_ALWAYS}</value></prop></item>
-<item oor:path="/org.openoffice.Office.Calc/Formula/Load"><prop oor:name="ODFRecalcMode" \
-oor:op="fuse"><value>{RECALC_ALWAYS}</value></prop></item>
-</oor:items>
-"""
-
-DEFAULT_TIMEOUT = 240.0  # seconds; a first start with a fresh profile takes a few seconds
+#: The private profile's registry: recalculate every formula whenever a document loads.
+PROFILE_XCU = PROFILE_TEMPLATE.format(mode=RECALC_ALWAYS)
 
 _SEARCH = (
     "/usr/bin/soffice",
@@ -56,11 +53,7 @@ _SEARCH = (
     "/Applications/LibreOffice.app/Contents/MacOS/soffice",
 )
 
-_lock = threading.Lock()  # one LibreOffice process per profile at a time
-
-
-class RecalcError(RuntimeError):
-    """LibreOffice could not open, recalculate or save the workbook."""
+_shared: LibreOffice | None = None  # the test session's running LibreOffice, if any
 
 
 class RecalcReport(list):
@@ -89,21 +82,10 @@ def soffice_path() -> str | None:
     return None
 
 
-def _new_profile(root: Path) -> Path:
-    """A fresh LibreOffice user profile under ``root`` that recalculates on load."""
-    profile = Path(tempfile.mkdtemp(prefix="lo-profile-", dir=root))
-    (profile / "user").mkdir()
-    (profile / "user" / "registrymodifications.xcu").write_text(PROFILE_XCU, encoding="utf-8")
-    return profile
-
-
-def _kill_group(proc: subprocess.Popen) -> None:
-    """Kill the process group of a LibreOffice we started (it forks oosplash + soffice.bin)."""
-    try:
-        os.killpg(proc.pid, signal.SIGKILL)
-    except (ProcessLookupError, PermissionError):
-        pass
-    proc.wait()
+def use_shared(office: LibreOffice | None) -> None:
+    """Make :func:`recalculate` use ``office`` (the session's LibreOffice); None undoes it."""
+    global _shared
+    _shared = office
 
 
 def recalculate(
@@ -111,67 +93,19 @@ def recalculate(
 ) -> Path:
     """Open ``xlsx`` in headless LibreOffice, recalculate every formula, save as xlsx.
 
-    Returns ``outdir/<stem>.recalc.xlsx``. Every call runs in its own temporary user
-    profile (so parallel test workers never share one, and a killed run leaves nothing
-    behind). Raises :class:`RecalcError` with LibreOffice's output if the conversion
-    fails, times out, or writes no file; a workbook LibreOffice cannot load fails here.
+    Returns ``outdir/<stem>.recalc.xlsx``; the input is never touched. Uses the test
+    session's running LibreOffice (:func:`use_shared`) when there is one for the same
+    ``soffice``; otherwise a one-off ``soffice --convert-to`` in a fresh private profile.
+    Raises :class:`RecalcError` naming the workbook if LibreOffice cannot load or save
+    it, or does not finish within ``timeout`` seconds.
     """
     exe = soffice or soffice_path()
     if exe is None:
         raise RecalcError("LibreOffice (soffice) not found; set PERTBOOK_SOFFICE or install it")
-    xlsx = Path(xlsx).resolve()
-    if not xlsx.is_file():
-        raise RecalcError(f"no such workbook: {xlsx}")
-    outdir = Path(outdir).resolve()
-    outdir.mkdir(parents=True, exist_ok=True)
-    target = outdir / f"{xlsx.stem}.recalc.xlsx"
-    with tempfile.TemporaryDirectory(prefix="pertbook-recalc-") as tmp:
-        work = Path(tmp)
-        profile = _new_profile(work)
-        convert_dir = work / "out"
-        convert_dir.mkdir()
-        cmd = [
-            exe,
-            f"-env:UserInstallation={profile.as_uri()}",
-            "--headless",
-            "--invisible",
-            "--nologo",
-            "--nodefault",
-            "--nolockcheck",
-            "--norestore",
-            "--convert-to",
-            "xlsx:Calc MS Excel 2007 XML",
-            "--outdir",
-            str(convert_dir),
-            str(xlsx),
-        ]
-        env = dict(os.environ, HOME=str(work))
-        with _lock:
-            proc = subprocess.Popen(
-                cmd,
-                stdout=subprocess.PIPE,
-                stderr=subprocess.PIPE,
-                env=env,
-                start_new_session=True,
-            )
-            try:
-                out, err = proc.communicate(timeout=timeout)
-            except subprocess.TimeoutExpired as exc:
-                _kill_group(proc)
-                raise RecalcError(
-                    f"LibreOffice did not finish converting {xlsx.name} within {timeout:.0f} s"
-                ) from exc
-        produced = convert_dir / f"{xlsx.stem}.xlsx"
-        text = (out + err).decode("utf-8", "replace").strip()
-        if proc.returncode != 0 or not produced.is_file() or produced.stat().st_size == 0:
-            raise RecalcError(
-                f"LibreOffice failed to convert {xlsx.name} (exit code {proc.returncode}): "
-                f"{text or 'no output'}"
-            )
-        if any(line.lstrip().startswith("Error") for line in text.splitlines()):
-            raise RecalcError(f"LibreOffice reported a problem converting {xlsx.name}: {text}")
-        shutil.move(str(produced), target)
-    return target
+    if _shared is not None and _shared.soffice == exe:
+        return _shared.recalculate(xlsx, outdir)
+    with LibreOffice(exe, timeout=timeout, backend="convert-to") as office:
+        return office.recalculate(xlsx, outdir)
 
 
 def _formula_text(value: object) -> str | None:

@@ -38,7 +38,8 @@ import openpyxl
 import pytest
 from helpers import write_xlsx
 from openpyxl.utils import range_boundaries
-from recalc import compare_recalculated, recalculate
+from recalc import compare_recalculated
+from reference_cpm import LINK_CODES, reference_cpm
 from scipy.stats import norm
 
 REPO = Path(__file__).resolve().parents[2]
@@ -241,15 +242,18 @@ def made(tmp_path_factory):
 
 
 @pytest.fixture(scope="module")
-def recalculated(made, tmp_path_factory):
-    """``recalculated(key)``: (LibreOffice's copy, comparison report), once per case."""
+def recalculated(made, tmp_path_factory, libreoffice):
+    """``recalculated(key)``: (LibreOffice's copy, comparison report), once per case.
+
+    Every case goes to the session's one running LibreOffice (tests/conftest.py).
+    """
     root = tmp_path_factory.mktemp("recalc")
     cache: dict[str, tuple[Path, object]] = {}
 
-    def get(key: str, soffice: str):
+    def get(key: str):
         if key not in cache:
             c = made(key)
-            copy = recalculate(c.xlsx, root / key, soffice=soffice)
+            copy = libreoffice.recalculate(c.xlsx, root / key)
             cache[key] = (copy, compare_recalculated(c.xlsx, copy))
         return cache[key]
 
@@ -310,19 +314,19 @@ def name_value(wb, name: str):
 # --------------------------------------------------------------------------- LibreOffice
 @pytest.mark.libreoffice
 @pytest.mark.parametrize("key", RECALC_CASES)
-def test_libreoffice_recalculation_matches_cached_values(recalculated, soffice, key):
+def test_libreoffice_recalculation_matches_cached_values(recalculated, key):
     # Outside check: LibreOffice recomputes every formula; each must give the cached value.
-    _, report = recalculated(key, soffice)
+    _, report = recalculated(key)
     assert report.compared > 100, report
     assert list(report) == [], "\n".join(report[:20])
 
 
 @pytest.mark.libreoffice
-def test_recalculated_dates_match_json_and_a_hand_worked_start(made, recalculated, soffice):
+def test_recalculated_dates_match_json_and_a_hand_worked_start(made, recalculated):
     # The Saturday start 2026-08-01 is followed by the holiday Monday 2026-08-03, so the
     # first day of work is Tuesday 2026-08-04 (read off a calendar by hand).
     c = made("typed")
-    copy, _ = recalculated("typed", soffice)
+    copy, _ = recalculated("typed")
     wb = openpyxl.load_workbook(copy, data_only=True)
     ws = wb["Activities"]
     top, cols = activity_columns(ws)
@@ -345,7 +349,7 @@ def test_recalculated_dates_match_json_and_a_hand_worked_start(made, recalculate
 
 
 @pytest.mark.libreoffice
-def test_weeks_and_calendar_days_dates_recalculate(made, recalculated, soffice):
+def test_weeks_and_calendar_days_dates_recalculate(made, recalculated):
     # Mon-Sat working weeks: no date on a Sunday or a holiday; calendar days: the finish date
     # is start + ceil(offset) - 1 days (a finish at offset t is the end of day ceil(t)).
     weeks = made("weeks")
@@ -362,16 +366,16 @@ def test_weeks_and_calendar_days_dates_recalculate(made, recalculated, soffice):
         want_start = start + dt.timedelta(days=math.floor(round(a["es"], 9)))
         assert a["early_start_date"] == want_start.isoformat(), a["id"]
     for key in ("weeks", "calendar-days"):
-        copy, report = recalculated(key, soffice)
+        copy, report = recalculated(key)
         assert list(report) == [] and report.compared > 100, report
 
 
 # --------------------------------------------------------------------------- package
 @pytest.mark.libreoffice
 @pytest.mark.parametrize("key", ["clinic", "typed", "boiler"])
-def test_opens_without_repair(made, recalculated, soffice, key):
+def test_opens_without_repair(made, recalculated, key):
     c = made(key)
-    copy, _ = recalculated(key, soffice)  # LibreOffice loaded and re-saved it
+    copy, _ = recalculated(key)  # LibreOffice loaded and re-saved it
     assert copy.is_file() and copy.stat().st_size > 0
     check_package(c.xlsx)
 
@@ -524,25 +528,40 @@ def test_forward_and_backward_pass_formulas_name_the_linked_rows(made):
 
 
 @pytest.mark.parametrize("key", ["warehouse", "clinic", "typed", "weeks"])
-def test_cached_activity_values_equal_the_json(made, key):
+def test_cached_activity_values_match_an_independent_cpm(made, key):
+    """The Activities sheet's cached figures against outside references.
+
+    TE and variance: the published PERT formulas on the estimates shown (Malcolm et al.
+    1959). Early/late starts and finishes and total float: an independent CPM solved with
+    networkx over the links as read (tests/support/reference_cpm.py).
+    """
     c = made(key)
     ws = c.wb(data_only=True)["Activities"]
     top, cols = activity_columns(ws)
     rows = activity_rows(ws)
-    heads = {"te": "Expected time TE", "variance": "Variance", "es": "Early start",
-             "ef": "Early finish", "ls": "Late start", "lf": "Late finish",
-             "total_float": "Total float", "free_float": "Free float"}
-    for a in c.data["activities"]:
-        r = rows[a["id"]]
-        for key_, head in heads.items():
-            got = ws.cell(r, cols[head]).value
-            assert math.isclose(got, a[key_], rel_tol=1e-12, abs_tol=1e-12), (a["id"], head)
-        assert ws.cell(r, cols["Critical"]).value == ("Yes" if a["critical"] else "No")
-        # TE and variance against the published formulas on the estimates shown
-        o, m, p = (ws.cell(r, cols[h]).value for h in ("Optimistic", "Most likely",
-                                                         "Pessimistic"))
-        assert math.isclose(a["te"], (o + 4 * m + p) / 6, rel_tol=1e-12, abs_tol=1e-12)
-        assert math.isclose(a["variance"], ((p - o) / 6) ** 2, rel_tol=1e-12, abs_tol=1e-12)
+    ids = list(rows)
+    index = {ident: i for i, ident in enumerate(ids)}
+    value = lambda ident, head: ws.cell(rows[ident], cols[head]).value  # noqa: E731
+    te = np.array([value(i, "Expected time TE") for i in ids], dtype=float)
+    for ident in ids:
+        o, m, p = (value(ident, h) for h in ("Optimistic", "Most likely", "Pessimistic"))
+        assert math.isclose(value(ident, "Expected time TE"), (o + 4 * m + p) / 6,
+                            rel_tol=1e-12, abs_tol=1e-12), ident
+        assert math.isclose(value(ident, "Variance"), ((p - o) / 6) ** 2,
+                            rel_tol=1e-12, abs_tol=1e-12), ident
+    links = c.data["links"]  # the links as read from the input (IDs, type, lag)
+    es, ls, finish = reference_cpm(
+        len(ids), [index[lk["from"]] for lk in links], [index[lk["to"]] for lk in links],
+        [LINK_CODES[lk["type"]] for lk in links], [lk["lag"] for lk in links], te)
+    close = lambda a, b: math.isclose(a, b, rel_tol=1e-9, abs_tol=1e-9)  # noqa: E731
+    for i, ident in enumerate(ids):
+        assert close(value(ident, "Early start"), es[i]), (ident, "ES")
+        assert close(value(ident, "Early finish"), es[i] + te[i]), (ident, "EF")
+        assert close(value(ident, "Late start"), ls[i]), (ident, "LS")
+        assert close(value(ident, "Late finish"), ls[i] + te[i]), (ident, "LF")
+        assert close(value(ident, "Total float"), ls[i] - es[i]), (ident, "TF")
+        tol = 1e-9 * max(1.0, abs(finish))  # critical = float within 1e-9 relative
+        assert value(ident, "Critical") == ("Yes" if ls[i] - es[i] <= tol else "No"), ident
 
 
 # --------------------------------------------------------------------------- charts
@@ -796,9 +815,9 @@ def test_reproduce_command_keeps_command_line_settings(tmp_path, capsys, sample,
 # --------------------------------------------------------------------------- paths
 @pytest.mark.libreoffice
 @pytest.mark.parametrize("key", ["clinic", "typed", "riskier"])
-def test_path_lengths_recalculate_to_the_json_path_means(made, recalculated, soffice, key):
+def test_path_lengths_recalculate_to_the_json_path_means(made, recalculated, key):
     c = made(key)
-    copy, report = recalculated(key, soffice)
+    copy, report = recalculated(key)
     assert list(report) == []
     ws = c.wb()["Paths"]
     lo = openpyxl.load_workbook(copy, data_only=True)["Paths"]
@@ -903,7 +922,8 @@ def test_edge_calendar_and_zero_spread_by_hand(made):
     assert label_cell(summary, "z =").value == "n/a"
 
 
-def test_very_wide_merge_uses_a_conditional_formula_that_recalculates(tmp_path, soffice):
+@pytest.mark.libreoffice
+def test_very_wide_merge_uses_a_conditional_formula_that_recalculates(tmp_path, libreoffice):
     # An activity with 900 typed predecessors: MAX over 900 link cells would pass Excel's
     # 8,192-character formula limit (Excel specifications and limits, from memory), so the
     # early start falls back to MAXIFS over the Links table; LibreOffice must agree.
@@ -925,7 +945,7 @@ def test_very_wide_merge_uses_a_conditional_formula_that_recalculates(tmp_path, 
     assert es.startswith("=MAX(0,_xlfn.MAXIFS(Links!"), es
     assert all(len(c.value) <= 8192 for row in ws.iter_rows() for c in row
                if isinstance(c.value, str) and c.value.startswith("="))
-    report = compare_recalculated(result.workbook, recalculate(result.workbook, tmp_path / "re",
-                                                               soffice=soffice))
+    copy = libreoffice.recalculate(result.workbook, tmp_path / "re")
+    report = compare_recalculated(result.workbook, copy)
     assert report.compared > 5000
     assert not report, report[:5]

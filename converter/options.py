@@ -1,0 +1,442 @@
+"""Every conversion option in one place: how it is read, its default, which value wins.
+
+A value may come from three places; the first that gives it wins:
+
+1. the command line (``pertbook convert`` and ``pertbook watch`` take the same options),
+   or a :class:`ConvertOptions` built by a caller of :func:`converter.api.convert`;
+2. the input's settings sheet;
+3. the default (:class:`converter.model.Settings`).
+
+Each option has ONE parser, used for the command line, the settings sheet and the API
+alike; a parser takes a cell value or a text and returns the value or raises
+``ValueError`` with a message that says what was expected. :func:`resolve` applies the
+order above and turns every bad value into a :class:`~converter.model.Problem` naming
+its cell (or its command-line flag), so nothing stops at the first bad value.
+"""
+
+from __future__ import annotations
+
+import argparse
+import datetime as dt
+import re
+from collections.abc import Callable, Iterable, Mapping
+from dataclasses import dataclass
+
+from converter.model import DISTRIBUTIONS, ERROR, Problem, Settings
+from converter.values import as_date, as_number, is_blank, normalise
+
+DISTRIBUTION_ALIASES = {
+    "pert": "pert", "beta": "pert", "pertbeta": "pert", "betapert": "pert",
+    "triangular": "triangular", "triangle": "triangular", "tri": "triangular",
+    "uniform": "uniform", "flat": "uniform", "rectangular": "uniform",
+}
+
+TIME_UNITS = {
+    "workingdays": "working days", "workdays": "working days", "days": "working days",
+    "day": "working days", "workingday": "working days", "businessdays": "working days",
+    "weeks": "weeks", "week": "weeks", "workingweeks": "weeks",
+    "calendardays": "calendar days", "calendarday": "calendar days",
+    "elapseddays": "calendar days",
+}
+
+WEEKDAYS = {
+    "mon": 0, "monday": 0, "tue": 1, "tues": 1, "tuesday": 1, "wed": 2, "wednesday": 2,
+    "thu": 3, "thur": 3, "thurs": 3, "thursday": 3, "fri": 4, "friday": 4,
+    "sat": 5, "saturday": 5, "sun": 6, "sunday": 6,
+}
+
+CONFIDENCE_EXAMPLE = "50, 80, 90 or 50%, 80%, 90% or 0.5, 0.8, 0.9"
+
+
+# --------------------------------------------------------------------------- parsers
+def parse_confidence(value: object) -> tuple[float, ...]:
+    """Confidence levels as fractions, sorted, from text, a number or a sequence of these.
+
+    A level written with ``%`` is a percentage. A bare number above 1 (in size) is a
+    percentage too (``80`` is 80%), one up to 1 a fraction (``0.8``); bare numbers of both
+    kinds in one list are refused as ambiguous. Every level must lie strictly between 0% and
+    100%.
+
+    Parameters
+    ----------
+    value : str, number or sequence
+        e.g. ``"50,80,90,95"``, ``"50%, 80%"``, ``0.8``, ``80``, ``(0.5, 0.9)``.
+
+    Returns
+    -------
+    tuple of float
+        The distinct levels in increasing order.
+
+    Raises
+    ------
+    ValueError
+        With a message naming the bad level.
+
+    Examples
+    --------
+    >>> parse_confidence("50,80,90,95")
+    (0.5, 0.8, 0.9, 0.95)
+    >>> parse_confidence("80%; 50%"), parse_confidence(0.8), parse_confidence(80)
+    ((0.5, 0.8), (0.8,), (0.8,))
+    >>> parse_confidence("100")
+    Traceback (most recent call last):
+    ...
+    ValueError: confidence level 100 (= 100%) must be above 0% and below 100%
+    """
+    tokens = _confidence_tokens(value)
+    if not tokens:
+        raise ValueError(f"no confidence levels given (write e.g. {CONFIDENCE_EXAMPLE})")
+    levels: list[tuple[str, float]] = []  # (as written, fraction)
+    bare: list[tuple[str, float]] = []
+    for text, number, percent in tokens:
+        if percent:
+            levels.append((text, number / 100.0))
+        else:
+            bare.append((text, number))
+    small = [t for t, x in bare if 0 < abs(x) <= 1]
+    large = [t for t, x in bare if abs(x) > 1]
+    if small and large:
+        raise ValueError(f"confidence levels {small[0]} and {large[0]} mix fractions and "
+                         "percentages: write them all as percentages (50, 80, 90) or all as "
+                         "fractions (0.5, 0.8, 0.9)")
+    levels += [(t, x / 100.0 if large else x) for t, x in bare]
+    for text, level in levels:
+        if not 0.0 < level < 1.0:
+            shown = "" if text.endswith("%") else f" (= {level * 100:g}%)"
+            raise ValueError(f"confidence level {text}{shown} must be above 0% and below 100%")
+    return tuple(sorted({level for _, level in levels}))
+
+
+def _confidence_tokens(value: object) -> list[tuple[str, float, bool]]:
+    """``(as written, number, written with %)`` for each level in ``value``."""
+    if isinstance(value, str):
+        parts: Iterable[object] = re.split(r"[,;\s]+", value.strip())
+    elif isinstance(value, Iterable):
+        parts = value
+    else:
+        parts = [value]
+    out = []
+    for part in parts:
+        if is_blank(part):
+            continue
+        number = as_number(part)
+        text = f"{number:g}" if number is not None else str(part).strip()
+        percent = number is None and text.endswith("%")
+        if percent:
+            number = as_number(text[:-1])
+        if number is None:
+            raise ValueError(f'confidence level "{text}" is not a number (write e.g. '
+                             f"{CONFIDENCE_EXAMPLE})")
+        out.append((text, number, percent))
+    return out
+
+
+def parse_due(value: object) -> float | dt.date | None:
+    """A due value: a date (cell or YYYY-MM-DD text) or a non-negative duration; blank: None.
+
+    The same rule reads a due date on the command line, on the settings sheet and an
+    activity's interim target.
+
+    Examples
+    --------
+    >>> parse_due("60"), parse_due("2027-06-30"), parse_due(" ")
+    (60.0, datetime.date(2027, 6, 30), None)
+    """
+    if is_blank(value):
+        return None
+    d = as_date(value)
+    if d is not None:
+        return d
+    x = as_number(value)
+    if x is not None and x >= 0:
+        return x
+    raise ValueError(f"{value!r} is neither a date (YYYY-MM-DD) nor a duration")
+
+
+def parse_start_date(value: object) -> dt.date:
+    """The project start: a date cell or ``YYYY-MM-DD`` text."""
+    d = as_date(value)
+    if d is None:
+        raise ValueError(f"{value!r} is not a date (use a date cell or YYYY-MM-DD)")
+    return d
+
+
+def _whole(value: object, low: int, high: int) -> int:
+    x = as_number(value)
+    if x is None or not x.is_integer() or not low <= x <= high:
+        raise ValueError(f"{value!r} is not a whole number from {low} to {high}")
+    return int(x)
+
+
+def parse_iterations(value: object) -> int:
+    """Monte Carlo iterations: a whole number from 1 to 10,000,000."""
+    return _whole(value, 1, 10_000_000)
+
+
+def parse_seed(value: object) -> int:
+    """The random seed: a whole number from 0 to 2^63 - 1."""
+    return _whole(value, 0, 2**63 - 1)
+
+
+def parse_paths(value: object) -> int:
+    """How many of the longest paths to list: 1 to 1000."""
+    return _whole(value, 1, 1000)
+
+
+def parse_correlation(value: object) -> float:
+    """Rank correlation within a group: 0 up to (not including) 1; ``25%`` is 0.25."""
+    x = as_number(value)
+    if x is None and isinstance(value, str) and value.strip().endswith("%"):
+        x = as_number(value.strip()[:-1])
+        x = None if x is None else x / 100
+    if x is None or not 0.0 <= x < 1.0:
+        raise ValueError(f"{value!r} is not a correlation from 0 up to (not including) 1")
+    return x
+
+
+def parse_distribution(value: object) -> str:
+    """``pert`` (also ``beta``), ``triangular`` (``tri``) or ``uniform`` (``flat``)."""
+    d = DISTRIBUTION_ALIASES.get(normalise(value))
+    if d is None:
+        raise ValueError(f"{value!r} is not one of {', '.join(DISTRIBUTIONS)}")
+    return d
+
+
+def parse_time_unit(value: object) -> str:
+    """``working days``, ``weeks`` (working weeks) or ``calendar days``."""
+    u = TIME_UNITS.get(normalise(value))
+    if u is None:
+        raise ValueError(f"{value!r} is not working days, weeks or calendar days")
+    return u
+
+
+def parse_working_days(value: object) -> tuple[int, ...]:
+    """Weekdays (Monday = 0) from e.g. ``Mon-Fri``, ``Sun-Thu``, ``Mon, Tue, Thu``.
+
+    Examples
+    --------
+    >>> parse_working_days("Mon-Fri"), parse_working_days("Fri-Mon")
+    ((0, 1, 2, 3, 4), (0, 4, 5, 6))
+    """
+    s = str(value).strip().lower().replace("\u2013", "-")
+    days: set[int] = set()
+    for part in re.split(r"[,;/ ]+", s):
+        if not part:
+            continue
+        if "-" in part:
+            a, b = part.split("-", 1)
+            if a not in WEEKDAYS or b not in WEEKDAYS:
+                raise ValueError(part)
+            first, last = WEEKDAYS[a], WEEKDAYS[b]
+            days.update((first + k) % 7 for k in range((last - first) % 7 + 1))
+        elif part in WEEKDAYS:
+            days.add(WEEKDAYS[part])
+        else:
+            raise ValueError(part)
+    if not days:
+        raise ValueError(s)
+    return tuple(sorted(days))
+
+
+# --------------------------------------------------------------------------- the options
+@dataclass(frozen=True)
+class Option:
+    """One conversion option: its Settings field, parser and help.
+
+    ``attr`` is the :class:`ConvertOptions` field and command-line option (``--due``);
+    ``None`` for options given only on the settings sheet. The default is the
+    :class:`~converter.model.Settings` field's own.
+    """
+
+    setting: str
+    attr: str | None
+    parse: Callable[[object], object]
+    help: str = ""
+    metavar: str | None = None
+
+    @property
+    def flag(self) -> str | None:
+        return None if self.attr is None else "--" + self.attr.replace("_", "-")
+
+    @property
+    def default_text(self) -> str:
+        """The default in words, e.g. ``"10000"``, ``"50,80,90,95%"``, ``"none"``."""
+        value = getattr(Settings(), self.setting)
+        if value is None:
+            return "none"
+        if self.setting == "confidence_levels":
+            return ",".join(f"{c * 100:g}" for c in value) + "%"
+        return f"{value:g}" if isinstance(value, float) else str(value)
+
+
+OPTIONS: tuple[Option, ...] = (
+    Option("start_date", "start_date", parse_start_date,
+           "project start date; dates are counted from it", "YYYY-MM-DD"),
+    Option("time_unit", None, parse_time_unit),
+    Option("working_days", None, parse_working_days),
+    Option("due", "due", parse_due,
+           "due date: a duration in the schedule's time unit (e.g. 60) or a date YYYY-MM-DD "
+           "(needs a start date)", "DUE"),
+    Option("iterations", "iterations", parse_iterations, "Monte Carlo iterations", "N"),
+    Option("seed", "seed", parse_seed, "random seed (written into the output)", "S"),
+    Option("distribution", "distribution", parse_distribution,
+           "duration distribution for the simulation", "|".join(DISTRIBUTIONS)),
+    Option("correlation", "correlation", parse_correlation,
+           "rank correlation among activities of the same group, 0 to below 1", "RHO"),
+    Option("confidence_levels", "confidence", parse_confidence,
+           'confidence levels in percent, e.g. "50,80,90" (or "50%,80%" or "0.5,0.8")',
+           "LEVELS"),
+    Option("paths", "paths", parse_paths, "how many of the longest paths to list", "K"),
+)
+BY_SETTING: dict[str, Option] = {o.setting: o for o in OPTIONS}
+
+
+@dataclass
+class ConvertOptions:
+    """Options given by the caller (command line, watcher or API). ``None`` = not given.
+
+    Values given here override the input's settings sheet, which overrides the defaults
+    (:func:`resolve`). Each is read by the option's parser, so ``due="60"``,
+    ``due=60.0`` and ``confidence=(50, 80)`` are all accepted.
+    """
+
+    due: str | float | dt.date | None = None
+    json: bool = False
+    iterations: int | None = None
+    seed: int | None = None
+    distribution: str | None = None
+    correlation: float | None = None
+    paths: int | None = None
+    confidence: tuple[float, ...] | None = None
+    start_date: str | dt.date | None = None
+    simulate: bool = True
+    progress: object | None = None  # callable(done, total) for the simulation
+    simulation_workers: int | None = None  # processes for the simulation; None: from the cores
+
+
+# --------------------------------------------------------------------------- command line
+def _argument_type(option: Option) -> Callable[[str], object]:
+    def parse(text: str) -> object:
+        try:
+            return option.parse(text)
+        except (ValueError, TypeError) as exc:
+            raise argparse.ArgumentTypeError(str(exc)) from None
+
+    parse.__name__ = option.setting
+    return parse
+
+
+def add_conversion_options(parser: argparse.ArgumentParser) -> None:
+    """Add the conversion options (the same for ``convert`` and ``watch``) to ``parser``."""
+    group = parser.add_argument_group("conversion options (override the settings sheet)")
+    for option in OPTIONS:
+        if option.flag is None:
+            continue
+        default = "" if option.default_text == "none" else f" (default {option.default_text})"
+        group.add_argument(option.flag, dest=option.attr, type=_argument_type(option),
+                           metavar=option.metavar,
+                           help=(option.help + default).replace("%", "%%"))
+    group.add_argument("--json", action="store_true",
+                       help="also write <stem>.analysis.json (also for invalid input)")
+    group.add_argument("--no-simulation", action="store_true",
+                       help="skip the Monte Carlo simulation")
+
+
+def options_from_args(args: argparse.Namespace) -> ConvertOptions:
+    """The :class:`ConvertOptions` of arguments parsed with :func:`add_conversion_options`."""
+    given = {o.attr: getattr(args, o.attr) for o in OPTIONS if o.attr is not None}
+    return ConvertOptions(json=args.json, simulate=not args.no_simulation, **given)
+
+
+# --------------------------------------------------------------------------- precedence
+@dataclass(frozen=True)
+class SheetValue:
+    """A value read from the settings sheet, with its place."""
+
+    value: object
+    sheet: str
+    cell: str
+
+    @property
+    def where(self) -> str:
+        return f"{self.sheet}!{self.cell}"
+
+
+def resolve(
+    sheet_values: Mapping[str, SheetValue],
+    holidays: Iterable[SheetValue],
+    options: ConvertOptions | None,
+) -> tuple[Settings, list[Problem]]:
+    """Settings from the defaults, overridden by the sheet, overridden by ``options``.
+
+    Parameters
+    ----------
+    sheet_values
+        Settings field -> the value found on the settings sheet.
+    holidays
+        The holiday dates found on the settings sheet.
+    options
+        What the caller gave (command line); ``None`` fields are not given.
+
+    Returns
+    -------
+    (Settings, problems)
+        Each field's origin is in ``Settings.sources`` ("settings sheet (Settings!B4)",
+        "command line"; absent: the default). A bad value is a problem and leaves the
+        field at the value from the place below it.
+    """
+    settings = Settings()
+    problems: list[Problem] = []
+    for key, given in sheet_values.items():
+        try:
+            setattr(settings, key, BY_SETTING[key].parse(given.value))
+        except (ValueError, TypeError) as exc:
+            problems.append(Problem(ERROR, "bad-setting",
+                                    f"setting {key.replace('_', ' ')}: {exc}",
+                                    given.sheet, given.cell))
+            continue
+        settings.sources[key] = f"settings sheet ({given.where})"
+    _resolve_holidays(settings, list(holidays), problems)
+    for option in OPTIONS:
+        value = None if options is None or option.attr is None else getattr(options,
+                                                                              option.attr)
+        if value is None:
+            continue
+        try:
+            setattr(settings, option.setting, option.parse(value))
+        except (ValueError, TypeError) as exc:
+            problems.append(Problem(ERROR, "bad-option", f"command line {option.flag}: {exc}"))
+            continue
+        settings.sources[option.setting] = "command line"
+    problems += _due_needs_start(settings, sheet_values.get("due"))
+    return settings, problems
+
+
+def _resolve_holidays(settings: Settings, given: list[SheetValue], problems: list) -> None:
+    days = []
+    for g in given:
+        d = as_date(g.value)
+        if d is None:
+            problems.append(Problem(ERROR, "bad-setting",
+                                    f"holiday {g.value!r} is not a date (use a date cell or "
+                                    "YYYY-MM-DD)", g.sheet, g.cell))
+        else:
+            days.append(d)
+    if days:
+        settings.holidays = tuple(sorted(set(days)))
+        settings.sources["holidays"] = f"settings sheet ({given[0].sheet})"
+
+
+def _due_needs_start(settings: Settings, on_sheet: SheetValue | None) -> list[Problem]:
+    """A due date (not a duration) needs a start date to count from."""
+    if settings.start_date is not None or not isinstance(settings.due, dt.date):
+        return []
+    from_sheet = settings.source_of("due").startswith("settings sheet")
+    return [Problem(
+        ERROR, "due-date-without-start",
+        f"the due date {settings.due.isoformat()} is a calendar date but there is no "
+        "start date to count from" + ("" if from_sheet else " (--due on the command line)"),
+        on_sheet.sheet if from_sheet and on_sheet else None,
+        on_sheet.cell if from_sheet and on_sheet else None,
+        fix="Add a 'Start date' row to the settings sheet (or --start-date), or give "
+            "the due date as a number of time units.")]

@@ -1,0 +1,258 @@
+"""The activity sheet: its columns, then one Activity per row with its estimates.
+
+Each row is read whole even when it has a problem, so that every problem of the sheet is
+reported at once; a row with problems still gives an Activity (zero durations) so that
+its links can be checked too, but the schedule is then refused.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+from dataclasses import dataclass, field
+
+from converter.model import Activity, Settings
+from converter.options import parse_distribution, parse_due
+from converter.read.sheets import (
+    ACTIVITY_COLUMNS,
+    REQUIRED_ACTIVITY,
+    RawInput,
+    SheetData,
+    TableMatch,
+    cell_name,
+)
+from converter.validate.problems import Collector
+from converter.values import as_number, id_text, is_blank
+
+FIELD_TITLES = {
+    "id": "ID",
+    "name": "Description",
+    "predecessors": "Predecessors",
+    "optimistic": "Optimistic",
+    "most_likely": "Most likely",
+    "pessimistic": "Pessimistic",
+}
+ESTIMATES = ("optimistic", "most_likely", "pessimistic")
+
+
+# --------------------------------------------------------------------------- columns
+def fixed_durations_only(match: TableMatch | None) -> bool:
+    """A sheet with neither an Optimistic nor a Pessimistic column: fixed durations."""
+    return match is not None and not {"optimistic", "pessimistic"} & set(match.columns)
+
+
+def check_columns(raw: RawInput, out: Collector) -> bool:
+    """Whether the activity sheet has every column needed; a problem when it has not."""
+    match = raw.activity
+    fixed_only = fixed_durations_only(match)
+    needed = [k for k in REQUIRED_ACTIVITY
+              if not (fixed_only and k in ("optimistic", "pessimistic"))]
+    if match is None or any(k not in match.columns for k in needed):
+        sheet = match.sheet if match else next((s for s in raw.sheets if not s.empty),
+                                               raw.sheets[0])
+        found = match.headers if match else _first_nonblank_row(sheet)
+        present = set(match.columns) if match else set()
+        missing = [FIELD_TITLES[k] for k in REQUIRED_ACTIVITY if k not in present]
+        if "predecessors" not in present and raw.links is None:
+            missing.append(FIELD_TITLES["predecessors"])
+        out.error("missing-column",
+                  f"required column(s) missing: {', '.join(missing)}; headers found: "
+                  f"{_header_list(found) or '(none)'}",
+                  sheet.name, cell_name(match.header_row, 0) if match else "A1",
+                  fix="Name the columns e.g. " + ", ".join(
+                      ACTIVITY_COLUMNS[k][0].title() for k in
+                      ("id", "predecessors", "optimistic", "most_likely", "pessimistic")))
+        return False
+    if "predecessors" not in match.columns and raw.links is None:
+        out.error("missing-column",
+                  "required column missing: Predecessors (and no links sheet); headers found: "
+                  + _header_list(match.headers),
+                  match.sheet.name, cell_name(match.header_row, 0))
+        return False
+    if fixed_only:
+        out.warn("fixed-durations", "no Optimistic or Pessimistic column: every duration is "
+                 "fixed at its Most likely value, so the chances shown carry no spread",
+                 match.sheet.name, cell_name(match.header_row, match.columns["most_likely"]),
+                 fix="Add Optimistic and Pessimistic columns for a risk analysis.")
+    return True
+
+
+def _header_list(headers: list[str]) -> str:
+    return ", ".join(f'"{" ".join(h.split())}"' for h in headers if h)
+
+
+def _first_nonblank_row(sheet: SheetData) -> list[str]:
+    for row in sheet.rows:
+        if any(not is_blank(v) for v in row):
+            return ["" if is_blank(v) else str(v) for v in row]
+    return []
+
+
+# --------------------------------------------------------------------------- rows
+@dataclass
+class ActivityRows:
+    """The activities read from the sheet and each one's (row, predecessor cell value)."""
+
+    activities: list[Activity] = field(default_factory=list)
+    predecessor_cells: list[tuple[int, object]] = field(default_factory=list)
+
+
+def read_activities(match: TableMatch, settings: Settings, out: Collector) -> ActivityRows:
+    """One Activity per non-blank row below the header; every row's problems recorded."""
+    cols = match.columns
+    sheet = match.sheet.name
+    found = ActivityRows()
+    first_row_of: dict[str, int] = {}
+    for offset, row in enumerate(match.sheet.rows[match.header_row + 1:]):
+        r = match.header_row + 1 + offset
+        if all(is_blank(row[c]) for c in cols.values() if c < len(row)):
+            continue
+        raw_id = _cell(row, cols, "id")
+        if is_blank(raw_id):
+            out.error("blank-id", "this row has data but no activity ID", sheet,
+                      cell_name(r, cols["id"]), fix="Give the activity an ID or delete the row.")
+            read_estimates(row, cols, r, sheet, None, out)  # report its other problems too
+            continue
+        ident = id_text(raw_id)
+        if ident in first_row_of:
+            out.error("duplicate-id",
+                      f'ID "{ident}" is used again (first on row {first_row_of[ident] + 1})',
+                      sheet, cell_name(r, cols["id"]), ident,
+                      fix="Every activity needs its own ID.")
+            read_estimates(row, cols, r, sheet, ident, out)
+            continue
+        first_row_of[ident] = r
+        found.activities.append(_activity(row, cols, r, sheet, ident, settings, out))
+        found.predecessor_cells.append((r, _cell(row, cols, "predecessors")))
+    return found
+
+
+def _cell(row: list, cols: dict[str, int], key: str) -> object:
+    c = cols.get(key)
+    if c is None or c >= len(row):
+        return None
+    return row[c]
+
+
+def _activity(row, cols, r, sheet, ident, settings: Settings, out: Collector) -> Activity:
+    """The Activity of one row (zero durations when its estimates have problems)."""
+    est = read_estimates(row, cols, r, sheet, ident, out)
+    o, m, p = (0.0, 0.0, 0.0) if est is None else est[:3]
+    name_raw = _cell(row, cols, "name")
+    name = ident if is_blank(name_raw) else str(name_raw).strip()
+    dist = None
+    d_raw = _cell(row, cols, "distribution")
+    if not is_blank(d_raw):
+        try:
+            dist = parse_distribution(d_raw)
+        except ValueError as exc:
+            out.error("bad-distribution", str(exc), sheet, cell_name(r, cols["distribution"]),
+                      ident)
+    group_raw = _cell(row, cols, "group")
+    group = None if is_blank(group_raw) else id_text(group_raw)
+    target = _target(_cell(row, cols, "target"), cols, r, sheet, ident, settings, out)
+    return Activity(ident, name, o, m, p, row=r + 1, distribution=dist, group=group,
+                    target=target)
+
+
+def _target(value, cols, r, sheet, ident, settings: Settings,
+            out: Collector) -> float | dt.date | None:
+    """An interim target: a duration, or a date when there is a start date."""
+    if is_blank(value):
+        return None
+    where = cell_name(r, cols["target"])
+    try:
+        target = parse_due(value)
+    except ValueError as exc:
+        out.error("bad-target", f"target: {exc}", sheet, where, ident)
+        return None
+    if isinstance(target, dt.date) and settings.start_date is None:
+        out.error("target-date-without-start",
+                  f"target {target.isoformat()} is a date but there is no start date",
+                  sheet, where, ident,
+                  fix="Add a 'Start date' setting or give the target as a duration.")
+        return None
+    return target
+
+
+# --------------------------------------------------------------------------- estimates
+def _estimate_values(row, cols, r, sheet, ident, out: Collector) -> dict | None:
+    """O, M, P cells as numbers (None where blank); None when one is not a valid number."""
+    values: dict[str, float | None] = {}
+    bad = False
+    for key in ESTIMATES:
+        c = cols.get(key)
+        raw = row[c] if c is not None and c < len(row) else None
+        if is_blank(raw):
+            values[key] = None
+            continue
+        x = as_number(raw)
+        where = cell_name(r, c)
+        if x is None:
+            out.error("not-a-number",
+                      f"{FIELD_TITLES[key]} estimate {raw!r} is not a number", sheet, where,
+                      ident, fix="Type a plain number of time units (no text or units).")
+            bad = True
+        elif x < 0:
+            out.error("negative-estimate",
+                      f"{FIELD_TITLES[key]} estimate {x:g} is negative", sheet, where, ident,
+                      fix="Durations cannot be negative.")
+            bad = True
+        else:
+            values[key] = x
+    return None if bad else values
+
+
+def read_estimates(row, cols, r, sheet, ident, out: Collector):
+    """(O, M, P, fixed) of one row, or None with its problems recorded."""
+    values = _estimate_values(row, cols, r, sheet, ident, out)
+    if values is None:
+        return None
+    o, m, p = values["optimistic"], values["most_likely"], values["pessimistic"]
+    m_cell = cell_name(r, cols["most_likely"])
+    if o is None and m is None and p is None:
+        out.error("no-estimates", "the activity has no duration estimates", sheet, m_cell, ident,
+                  fix="Fill in Optimistic, Most likely and Pessimistic (or Most likely alone "
+                      "for a fixed duration).")
+        return None
+    if m is None:
+        out.error("missing-most-likely", "the most likely estimate is blank", sheet, m_cell,
+                  ident, fix="Fill in the Most likely estimate.")
+        return None
+    if o is None and p is None:
+        if m == 0 or "optimistic" not in cols:  # a milestone / a sheet of fixed durations
+            return m, m, m, True
+        out.warn("deterministic", f"only a most likely value ({m:g}) is given: treated as a "
+                 "fixed duration (O = M = P)", sheet, m_cell, ident)
+        return m, m, m, True
+    if o is None or p is None:
+        key = "optimistic" if o is None else "pessimistic"
+        out.error("missing-estimate", f"the {FIELD_TITLES[key].lower()} estimate is blank",
+                  sheet, cell_name(r, cols[key]), ident,
+                  fix="Give all three estimates, or only Most likely for a fixed duration.")
+        return None
+    if not _in_order(o, m, p, cell_name(r, cols["pessimistic"]), m_cell, sheet, ident, out):
+        return None
+    if o == m == p and m > 0:
+        out.warn("deterministic", f"O = M = P = {m:g}: a fixed duration with no spread",
+                 sheet, m_cell, ident)
+    return o, m, p, o == m == p
+
+
+def _in_order(o, m, p, p_cell, m_cell, sheet, ident, out: Collector) -> bool:
+    """O <= M <= P, each violation a problem at the cell that breaks it."""
+    ok = True
+    if m < o:
+        out.error("order", f"most likely {m:g} is less than optimistic {o:g} "
+                  "(need O <= M <= P)", sheet, m_cell, ident,
+                  fix="Check the order of the three estimates.")
+        ok = False
+    if p < m:
+        out.error("order", f"pessimistic {p:g} is less than most likely {m:g} "
+                  "(need O <= M <= P)", sheet, p_cell, ident,
+                  fix="Check the order of the three estimates.")
+        ok = False
+    if p < o and ok:
+        out.error("order", f"pessimistic {p:g} is less than optimistic {o:g}", sheet, p_cell,
+                  ident)
+        ok = False
+    return ok

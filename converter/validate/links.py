@@ -1,0 +1,221 @@
+"""Links: predecessor tokens (``A3[SS+2]``), the predecessor column, a links sheet, cycles.
+
+Every link found is checked (it names an activity, not itself, not twice) and the
+network as a whole must have no cycle; each problem names the cell the link came from.
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Iterable
+
+import networkx as nx
+
+from converter.model import LINK_TYPES, Activity, Link
+from converter.read.sheets import TableMatch, cell_name
+from converter.validate.problems import Collector
+from converter.values import as_number, id_text, is_blank, normalise
+
+LINK_TYPE_WORDS = {
+    "fs": "FS", "finishtostart": "FS", "finishstart": "FS",
+    "ss": "SS", "starttostart": "SS", "startstart": "SS",
+    "ff": "FF", "finishtofinish": "FF", "finishfinish": "FF",
+    "sf": "SF", "starttofinish": "SF", "startfinish": "SF",
+}
+
+_BRACKET = re.compile(r"^(?P<id>.*?)\s*\[(?P<spec>[^\[\]]*)\]$")
+_SPEC = re.compile(r"^(?P<type>FS|SS|FF|SF)?\s*(?P<lag>[+-]\s*\d+(?:\.\d+)?)?$", re.IGNORECASE)
+
+
+# --------------------------------------------------------------------------- notation
+def parse_link_token(token: str) -> tuple[str, str, float] | str:
+    """``ID``, ``ID[+2]``, ``ID[SS]``, ``ID[SS+3]``, ``ID[FF-1]`` -> (id, type, lag).
+
+    Returns an error message (str) when the bracket part cannot be read. Type and
+    lag sit only inside the brackets, so IDs may contain ``+`` and ``-``.
+
+    Examples
+    --------
+    >>> parse_link_token("A3[SS+2]"), parse_link_token("B-1")
+    (('A3', 'SS', 2.0), ('B-1', 'FS', 0.0))
+    """
+    m = _BRACKET.match(token)
+    if not m:
+        return token, "FS", 0.0
+    ident, spec = m.group("id").strip(), m.group("spec").strip()
+    if not ident:
+        return f'"{token}" has a bracket part but no activity ID before it'
+    s = _SPEC.match(spec.replace(" ", ""))
+    if not s or (s.group("type") is None and s.group("lag") is None and spec):
+        return (f'"{token}": cannot read [{spec}]; write the link type FS, SS, FF or SF '
+                "and/or a lag such as +2 or -1, e.g. A3[SS+2]")
+    kind = (s.group("type") or "FS").upper()
+    lag = float(s.group("lag").replace(" ", "")) if s.group("lag") else 0.0
+    return ident, kind, lag
+
+
+def split_predecessors(value: object) -> list[str]:
+    """The tokens of a predecessor cell, separated by commas, semicolons or line breaks.
+
+    Examples
+    --------
+    >>> split_predecessors("A1, B2[SS]; C3"), split_predecessors(7.0)
+    (['A1', 'B2[SS]', 'C3'], ['7'])
+    """
+    if is_blank(value):
+        return []
+    if isinstance(value, (int, float)) and not isinstance(value, bool):
+        return [id_text(value)]
+    return [t.strip() for t in re.split(r"[,;\n]", str(value)) if t.strip()]
+
+
+# --------------------------------------------------------------------------- collecting
+class LinkBook:
+    """The links found so far; a link given twice is a problem naming both places."""
+
+    def __init__(self, ids: set[str], out: Collector):
+        self.ids = ids
+        self.out = out
+        self.links: list[Link] = []
+        self._seen: dict[tuple[str, str], str] = {}
+
+    def add(self, pred: str, succ: str, kind: str, lag: float, sheet: str, cell: str) -> None:
+        key = (pred, succ)
+        if key in self._seen:
+            self.out.error("duplicate-link",
+                           f"the link {pred} -> {succ} is given twice (also at {self._seen[key]})",
+                           sheet, cell, succ, fix="Keep one of the two.")
+            return
+        self._seen[key] = f"{sheet}!{cell}"
+        self.links.append(Link(pred, succ, kind, lag, sheet, cell))
+
+
+def read_predecessor_column(book: LinkBook, activities: list[Activity],
+                            cells: list[tuple[int, object]], match: TableMatch) -> None:
+    """Links from the predecessor cell of each activity (``cells``: (row, value) each)."""
+    sheet, cols = match.sheet.name, match.columns
+    pc = cols["predecessors"]
+    id_column = cell_name(0, cols["id"])[:-1]
+    for act, (r, value) in zip(activities, cells):
+        cell = cell_name(r, pc)
+        for token in split_predecessors(value):
+            parsed = parse_link_token(token)
+            if isinstance(parsed, str):
+                book.out.error("bad-link", parsed, sheet, cell, act.id)
+                continue
+            pred, kind, lag = parsed
+            if pred == act.id:
+                book.out.error("self-link", f"{act.id} names itself as a predecessor", sheet,
+                               cell, act.id,
+                               fix="Remove the activity's own ID from its predecessors.")
+            elif pred not in book.ids:
+                book.out.error("missing-link",
+                               f'predecessor "{pred}" is not an activity ID in column '
+                               f"{id_column}", sheet, cell, act.id,
+                               fix=f"{sheet}!{cell} names predecessor {pred}, which is not in "
+                                   f"the ID column.{_hint(pred, book.ids)}")
+            else:
+                book.add(pred, act.id, kind, lag, sheet, cell)
+
+
+def _hint(pred: str, ids: Iterable[str]) -> str:
+    ids = set(ids)
+    parts = pred.split()
+    if len(parts) > 1 and all(p in ids for p in parts):
+        return " Separate predecessors with commas or semicolons."
+    folded = {i.lower().replace(" ", ""): i for i in ids}
+    guess = folded.get(pred.lower().replace(" ", ""))
+    if guess:
+        return f' Did you mean "{guess}"?'
+    return " Add it to the ID column or correct the spelling."
+
+
+def read_links_sheet(book: LinkBook, match: TableMatch) -> None:
+    """Links from a sheet of Predecessor / Successor / Type / Lag rows."""
+    for r in range(match.header_row + 1, len(match.sheet.rows)):
+        row = match.sheet.rows[r]
+        vals = {k: (row[c] if c < len(row) else None) for k, c in match.columns.items()}
+        if all(is_blank(v) for v in vals.values()):
+            continue
+        link = _link_row(book, match, r, vals)
+        if link is not None:
+            book.add(*link, match.sheet.name, cell_name(r, match.columns["pred"]))
+
+
+def _link_row(book: LinkBook, match: TableMatch, r: int, vals: dict):
+    """(pred, succ, type, lag) of one links-sheet row, or None with its problems recorded."""
+    sheet, cols, out = match.sheet.name, match.columns, book.out
+    pred = None if is_blank(vals.get("pred")) else id_text(vals["pred"])
+    succ = None if is_blank(vals.get("succ")) else id_text(vals["succ"])
+    ok = True
+    for ident, key in ((pred, "pred"), (succ, "succ")):
+        where = cell_name(r, cols[key])
+        if ident is None:
+            out.error("bad-link", "the link row has no "
+                      + ("predecessor" if key == "pred" else "successor"), sheet, where)
+            ok = False
+        elif ident not in book.ids:
+            out.error("missing-link", f'"{ident}" is not an activity ID', sheet, where, ident,
+                      fix=f"{sheet}!{where} names {ident}, which is not in the activity "
+                          "sheet's ID column.")
+            ok = False
+    kind = "FS"
+    if "type" in cols and not is_blank(vals.get("type")):
+        kind = LINK_TYPE_WORDS.get(normalise(vals["type"]))
+        if kind is None:
+            out.error("bad-link", f"link type {vals['type']!r} is not one of "
+                      f"{', '.join(LINK_TYPES)}", sheet, cell_name(r, cols["type"]), succ)
+            ok = False
+    lag = 0.0
+    if "lag" in cols and not is_blank(vals.get("lag")):
+        x = as_number(vals["lag"])
+        if x is None:
+            out.error("bad-link", f"lag {vals['lag']!r} is not a number", sheet,
+                      cell_name(r, cols["lag"]), succ)
+            ok = False
+        else:
+            lag = x
+    if ok and pred == succ:
+        out.error("self-link", f"{pred} is linked to itself", sheet,
+                  cell_name(r, cols["pred"]), pred)
+        ok = False
+    return (pred, succ, kind, lag) if ok else None
+
+
+# --------------------------------------------------------------------------- the network
+def check_cycles(activities: list[Activity], links: list[Link], out: Collector) -> None:
+    """One problem per dependency cycle, printed from the activity listed first."""
+    g = nx.DiGraph()
+    g.add_nodes_from(a.id for a in activities)
+    cell_of = {}
+    for lk in links:
+        g.add_edge(lk.pred, lk.succ)
+        cell_of[(lk.pred, lk.succ)] = (lk.sheet, lk.cell)
+    if nx.is_directed_acyclic_graph(g):
+        return
+    pos = {a.id: i for i, a in enumerate(activities)}
+    for comp in nx.strongly_connected_components(g):
+        if len(comp) < 2:
+            continue
+        order = [u for u, _ in nx.find_cycle(g.subgraph(comp))]
+        k = min(range(len(order)), key=lambda i: pos[order[i]])
+        order = order[k:] + order[:k]
+        text = " -> ".join(order + [order[0]])
+        sheet, cell = cell_of[(order[-1], order[0])]
+        out.error("cycle", f"dependency cycle: {text}", sheet, cell, order[0],
+                  fix="Remove or reverse one of these links: an activity cannot wait for "
+                      "itself.")
+
+
+def warn_unlinked(activities: list[Activity], links: list[Link], match: TableMatch,
+                  out: Collector) -> None:
+    """A warning for each activity with no predecessors and no successors (of several)."""
+    if len(activities) < 2:
+        return
+    column = match.columns.get("predecessors", match.columns["id"])
+    linked = {lk.pred for lk in links} | {lk.succ for lk in links}
+    for a in activities:
+        if a.id not in linked:
+            out.warn("no-links", "the activity has no predecessors and no successors",
+                     match.sheet.name, cell_name(a.row - 1, column), a.id,
+                     fix="Link it into the network, or check it belongs in this schedule.")

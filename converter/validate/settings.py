@@ -1,0 +1,76 @@
+"""The settings sheet: label/value rows -> values with their cells -> Settings.
+
+Which labels name which setting lives here; how each value is read and which source
+wins (command line > settings sheet > default) lives in :mod:`converter.options`.
+"""
+
+from __future__ import annotations
+
+from converter.model import WARNING, Problem, Settings
+from converter.options import ConvertOptions, SheetValue, resolve
+from converter.read.sheets import SheetData, cell_name
+from converter.values import is_blank, normalise
+
+SETTING_LABELS: dict[str, tuple[str, ...]] = {
+    "start_date": ("start date", "project start", "project start date", "start"),
+    "time_unit": ("time unit", "unit", "units", "duration unit", "time units"),
+    "working_days": ("working days", "workdays", "work days", "working week", "work week"),
+    "holidays": ("holidays", "holiday", "non working days", "public holidays", "closures"),
+    "due": ("due", "due date", "deadline", "project due", "due duration"),
+    "iterations": ("iterations", "simulation iterations", "runs", "trials"),
+    "seed": ("seed", "random seed"),
+    "distribution": ("distribution", "default distribution"),
+    "correlation": ("correlation", "rank correlation", "group correlation"),
+    "confidence_levels": ("confidence levels", "confidence level", "confidence"),
+    "paths": ("paths", "near critical paths", "paths to list", "path count"),
+}
+_SETTING_ALIASES = {normalise(a): k for k, v in SETTING_LABELS.items() for a in v}
+#: Labels of a header row above the settings (not settings themselves).
+_SETTING_HEADERS = {"setting", "settings", "option", "parameter", "name", "key", "label"}
+
+
+class SettingsSheet:
+    """The label/value rows of a settings sheet: values with their cells, holiday dates
+    (one on the label's row and more on the rows below with a blank label) and a warning
+    for each label pertbook does not know."""
+
+    def __init__(self, sheet: SheetData | None):
+        self.values: dict[str, SheetValue] = {}
+        self.holidays: list[SheetValue] = []
+        self.problems: list[Problem] = []
+        if sheet is not None:
+            self._read(sheet)
+
+    def _read(self, sheet: SheetData) -> None:
+        current = None
+        for r, row in enumerate(sheet.rows):
+            label = row[0] if row else None
+            value = row[1] if len(row) > 1 else None
+            here = SheetValue(value, sheet.name, cell_name(r, 1))
+            if is_blank(label):
+                if current == "holidays" and not is_blank(value):
+                    self.holidays.append(here)
+                continue
+            key = current = _SETTING_ALIASES.get(normalise(label))
+            if key is None:
+                if normalise(label) not in _SETTING_HEADERS and not is_blank(value):
+                    self.problems.append(Problem(
+                        WARNING, "unknown-setting",
+                        f'setting "{label}" is not one pertbook knows; it was ignored',
+                        sheet.name, cell_name(r, 0),
+                        fix="See the README for the setting labels."))
+            elif is_blank(value):
+                continue
+            elif key == "holidays":
+                self.holidays.append(here)
+            else:
+                self.values[key] = here
+
+
+def resolve_settings(
+    sheet: SheetData | None, options: ConvertOptions | None
+) -> tuple[Settings, list[Problem]]:
+    """Defaults, overridden by the settings sheet, overridden by the command line."""
+    found = SettingsSheet(sheet)
+    settings, problems = resolve(found.values, found.holidays, options)
+    return settings, found.problems + problems
