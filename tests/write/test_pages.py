@@ -149,7 +149,7 @@ def sheets(produced):
 @pytest.fixture(scope="session")
 def printed(produced, soffice, tmp_path_factory):
     """sample -> {sheet name: [words of each page]} as LibreOffice prints it."""
-    from render import page_texts, page_words, poppler_missing, to_pdf
+    from render import page_texts, page_words, poppler_missing, to_pdf_many
 
     reason = poppler_missing()
     if reason:
@@ -158,12 +158,13 @@ def printed(produced, soffice, tmp_path_factory):
     cache: dict[str, dict[str, list]] = {}
 
     def get(sample: str) -> dict[str, list]:
-        if sample not in cache:
-            pdf = to_pdf(produced[sample], out, soffice=soffice)
-            by_sheet: dict[str, list] = {}
-            for text, words in zip(page_texts(pdf), page_words(pdf), strict=True):
-                by_sheet.setdefault(_footer_sheet(text), []).append(words)
-            cache[sample] = by_sheet
+        if not cache:  # every sample in one LibreOffice run
+            pdfs = to_pdf_many([produced[s] for s in SAMPLES], out, soffice=soffice)
+            for name, pdf in zip(SAMPLES, pdfs, strict=True):
+                by_sheet: dict[str, list] = {}
+                for text, words in zip(page_texts(pdf), page_words(pdf), strict=True):
+                    by_sheet.setdefault(_footer_sheet(text), []).append(words)
+                cache[name] = by_sheet
         return cache[sample]
 
     return get
