@@ -58,8 +58,11 @@ def to_pdf(
 
 
 def to_pdf_many(
-    documents: list[Path], outdir: Path, *, timeout: float = DEFAULT_TIMEOUT,
-    soffice: str | None = None
+    documents: list[Path],
+    outdir: Path,
+    *,
+    timeout: float = DEFAULT_TIMEOUT,
+    soffice: str | None = None,
 ) -> list[Path]:
     """Print each document to ``outdir/<stem>.pdf`` in one LibreOffice run (a private
     profile that leaves the cached values as they are); returns the PDFs in order."""
@@ -75,28 +78,48 @@ def to_pdf_many(
         profile = work / "profile"
         (profile / "user").mkdir(parents=True)
         (profile / "user" / "registrymodifications.xcu").write_text(
-            PROFILE_TEMPLATE.format(mode=RECALC_NEVER), encoding="utf-8")
+            PROFILE_TEMPLATE.format(mode=RECALC_NEVER), encoding="utf-8"
+        )
         out = work / "out"
         out.mkdir()
-        cmd = [exe, f"-env:UserInstallation={profile.as_uri()}", "--headless", "--invisible",
-               "--nologo", "--nodefault", "--nolockcheck", "--norestore",
-               "--convert-to", "pdf", "--outdir", str(out), *map(str, sources)]
+        cmd = [
+            exe,
+            f"-env:UserInstallation={profile.as_uri()}",
+            "--headless",
+            "--invisible",
+            "--nologo",
+            "--nodefault",
+            "--nolockcheck",
+            "--norestore",
+            "--convert-to",
+            "pdf",
+            "--outdir",
+            str(out),
+            *map(str, sources),
+        ]
         with _lock:
-            proc = subprocess.Popen(cmd, stdout=subprocess.PIPE, stderr=subprocess.PIPE,
-                                    env=dict(os.environ, HOME=str(work)),
-                                    start_new_session=True)
+            proc = subprocess.Popen(
+                cmd,
+                stdout=subprocess.PIPE,
+                stderr=subprocess.PIPE,
+                env=dict(os.environ, HOME=str(work)),
+                start_new_session=True,
+            )
             try:
                 stdout, stderr = proc.communicate(timeout=timeout)
             except subprocess.TimeoutExpired as exc:
                 kill_group(proc)
-                raise RenderError(f"LibreOffice did not print {len(sources)} document(s) "
-                                  f"within {timeout:.0f} s") from exc
+                raise RenderError(
+                    f"LibreOffice did not print {len(sources)} document(s) within {timeout:.0f} s"
+                ) from exc
         text = (stdout + stderr).decode("utf-8", "replace").strip()
         for src, target in zip(sources, targets, strict=True):
             produced = out / f"{src.stem}.pdf"
             if proc.returncode != 0 or not produced.is_file() or produced.stat().st_size == 0:
-                raise RenderError(f"LibreOffice failed to print {src.name} "
-                                  f"(exit code {proc.returncode}): {text or 'no output'}")
+                raise RenderError(
+                    f"LibreOffice failed to print {src.name} "
+                    f"(exit code {proc.returncode}): {text or 'no output'}"
+                )
             shutil.move(str(produced), target)
     return targets
 
@@ -133,8 +156,15 @@ def page_words(pdf: Path) -> list[list[Word]]:
         words = []
         for w in page:
             if w.tag.endswith("word"):
-                words.append(Word(w.text or "", float(w.get("xMin")), float(w.get("yMin")),
-                                  float(w.get("xMax")), float(w.get("yMax"))))
+                words.append(
+                    Word(
+                        w.text or "",
+                        float(w.get("xMin")),
+                        float(w.get("yMin")),
+                        float(w.get("xMax")),
+                        float(w.get("yMax")),
+                    )
+                )
         pages.append(words)
     return pages
 

@@ -37,17 +37,38 @@ from converter.write.workbook.pages import (
 
 REPO = Path(__file__).resolve().parents[2]
 SAMPLES = ["warehouse-fitout.xlsx", "clinic-it-rollout.xlsx", "boiler-shutdown.csv"]
-SHEETS = ["Summary", "Activities", "Links", "Paths", "Probability", "Simulation", "Timeline",
-          "Health check", "Settings used", "Method", "Input as read", "Warnings"]
+SHEETS = [
+    "Summary",
+    "Activities",
+    "Links",
+    "Paths",
+    "Probability",
+    "Simulation",
+    "Timeline",
+    "Health check",
+    "Settings used",
+    "Method",
+    "Input as read",
+    "Warnings",
+]
 
 #: Pages each sheet may take when printed, for the three samples (16 to 30 activities): the
 #: count each took when the sheets were laid out for print, a reviewer's check of every
 #: page, and no more. Activities: two bands (the passes; float, dates and simulated
 #: figures) of one or two pages; Paths: the path table, then the steps of ten paths.
 PAGE_BUDGET = {
-    "Summary": 2, "Activities": 4, "Links": 2, "Paths": 6, "Probability": 2,
-    "Simulation": 5, "Timeline": 2, "Health check": 3, "Settings used": 1, "Method": 2,
-    "Input as read": 1, "Warnings": 1,
+    "Summary": 2,
+    "Activities": 4,
+    "Links": 2,
+    "Paths": 6,
+    "Probability": 2,
+    "Simulation": 5,
+    "Timeline": 2,
+    "Health check": 3,
+    "Settings used": 1,
+    "Method": 2,
+    "Input as read": 1,
+    "Warnings": 1,
 }
 
 #: Sheets not laid out for the screen and for print yet (none now). Strict: a sheet that
@@ -57,10 +78,18 @@ NOT_YET_IN_PRINT: dict[str, str] = {}
 
 
 def _cases(not_yet: dict[str, str]) -> list:
-    return [pytest.param(sample, sheet, id=f"{sample}-{sheet}",
-                         marks=[pytest.mark.xfail(strict=True, reason=not_yet[sheet])]
-                         if sheet in not_yet else [])
-            for sample in SAMPLES for sheet in SHEETS]
+    return [
+        pytest.param(
+            sample,
+            sheet,
+            id=f"{sample}-{sheet}",
+            marks=[pytest.mark.xfail(strict=True, reason=not_yet[sheet])]
+            if sheet in not_yet
+            else [],
+        )
+        for sample in SAMPLES
+        for sheet in SHEETS
+    ]
 
 
 # --------------------------------------------------------------------------- the planner
@@ -78,11 +107,14 @@ def test_a_wide_sheet_is_shrunk_only_while_readable() -> None:
     assert p.scale / 100 * 10.0 >= MIN_FONT
 
 
-@given(st.lists(st.floats(4.0, 40.0), min_size=3, max_size=60),
-       st.sampled_from([8.0, 10.0, 11.0, 12.0]))
+@given(
+    st.lists(st.floats(4.0, 40.0), min_size=3, max_size=60),
+    st.sampled_from([8.0, 10.0, 11.0, 12.0]),
+)
 def test_bands_fit_the_page_and_keep_the_text_readable(widths, size) -> None:
-    p = plan([10.0, 30.0] + widths, [15.0] * 5, title_cols=(0, 1), font_size=size,
-             font_name="Arial")
+    p = plan(
+        [10.0, 30.0] + widths, [15.0] * 5, title_cols=(0, 1), font_size=size, font_name="Arial"
+    )
     assert p.scale / 100 * size >= MIN_FONT - 1e-9
     points = [column_points(w, "Arial", size) for w in [10.0, 30.0] + widths]
     room = printable(p.landscape)[0] / (p.scale / 100)
@@ -207,10 +239,13 @@ def _title_words(sheet) -> set[str]:
 def test_sheet_reads_cleanly_on_screen(sample, sheet, sheets, produced) -> None:
     found = sheets(sample).get(sheet)
     assert found is not None, f"{sample} has no sheet {sheet}"
-    problems = (sheet_checks.wrapped_text_fits(found) + sheet_checks.text_not_cut(found)
-                + sheet_checks.aligned_apart(found)
-                + sheet_checks.labels_beside_tall_text(found)
-                + sheet_checks.chart_titles(produced[sample]).get(sheet, []))
+    problems = (
+        sheet_checks.wrapped_text_fits(found)
+        + sheet_checks.text_not_cut(found)
+        + sheet_checks.aligned_apart(found)
+        + sheet_checks.labels_beside_tall_text(found)
+        + sheet_checks.chart_titles(produced[sample]).get(sheet, [])
+    )
     assert not problems, "\n".join(problems)
 
 

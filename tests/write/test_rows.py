@@ -31,8 +31,13 @@ from converter.write.workbook.rows import (
     wrap_lines,
 )
 
-FONT_DIRS = [Path("/usr/share/fonts"), Path("/usr/local/share/fonts"),
-             Path.home() / ".fonts", Path("/Library/Fonts"), Path("C:/Windows/Fonts")]
+FONT_DIRS = [
+    Path("/usr/share/fonts"),
+    Path("/usr/local/share/fonts"),
+    Path.home() / ".fonts",
+    Path("/Library/Fonts"),
+    Path("C:/Windows/Fonts"),
+]
 FONTS = {  # file name -> (family, bold)
     "DejaVuSans.ttf": ("DejaVu Sans", False),
     "DejaVuSans-Bold.ttf": ("DejaVu Sans", True),
@@ -78,8 +83,10 @@ def metrics() -> dict[str, tuple[dict[str, float], float, bool]]:
     files = _font_files()
     if len(files) < len(FONTS):
         missing = sorted(set(FONTS) - set(files))
-        pytest.skip(f"font files not installed here: {', '.join(missing)} (fonts-dejavu-core, "
-                    "fonts-liberation2)")
+        pytest.skip(
+            f"font files not installed here: {', '.join(missing)} (fonts-dejavu-core, "
+            "fonts-liberation2)"
+        )
     em: dict[str, dict[str, float]] = {}
     for name, path in files.items():
         font = TTFont(str(path))
@@ -169,8 +176,10 @@ def _cases() -> list[tuple[str, float, float, bool]]:
 def _calibration_workbook(path: Path, cases, heights, font: str) -> None:
     """One sheet per case: the wrapped cell in B1 (its row ``heights[k]`` tall), an empty
     row, markers in column A; ``font`` is the workbook's default font, at the default size."""
-    wb = xlsxwriter.Workbook(str(path), {"default_format_properties": {
-        "font_name": font, "font_size": rows.DEFAULT_FONT_SIZE}})
+    wb = xlsxwriter.Workbook(
+        str(path),
+        {"default_format_properties": {"font_name": font, "font_size": rows.DEFAULT_FONT_SIZE}},
+    )
     marker = wb.add_format({"font_size": 8, "valign": "top"})
     for k, ((text, width, size, bold), height) in enumerate(zip(cases, heights)):
         ws = wb.add_worksheet(f"c{k}")
@@ -178,8 +187,7 @@ def _calibration_workbook(path: Path, cases, heights, font: str) -> None:
         ws.set_paper(9)
         ws.set_column(0, 0, 6)
         ws.set_column(1, 1, width)
-        fmt = wb.add_format({"text_wrap": True, "valign": "top", "font_size": size,
-                             "bold": bold})
+        fmt = wb.add_format({"text_wrap": True, "valign": "top", "font_size": size, "bold": bold})
         ws.write_string(0, 0, f"r{k}", marker)
         ws.write_string(0, 1, text, fmt)
         ws.set_row(0, height)
@@ -203,8 +211,9 @@ def _clipped(pdf: Path, cases) -> tuple[set[int], dict[int, int]]:
     cut: set[int] = set()
     drawn: dict[int, int] = {}
     for words in page_words(pdf):
-        marks = {w.text[0]: (w, int(w.text[1:])) for w in words
-                 if re.fullmatch(r"[rse]\d+", w.text)}
+        marks = {
+            w.text[0]: (w, int(w.text[1:])) for w in words if re.fullmatch(r"[rse]\d+", w.text)
+        }
         if "r" not in marks:
             continue
         k = marks["r"][1]

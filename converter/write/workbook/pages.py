@@ -50,11 +50,12 @@ COLUMN_PAD = 5.0
 
 #: A last page holding fewer rows than this, or less than this share of a page, is stray.
 STRAY_ROWS = 3
-STRAY_SHARE = 0.12
+STRAY_SHARE = 0.25
 
 
-def column_points(width_chars: float, font_name: str = FONT_NAME,
-                  font_size: float = DEFAULT_FONT_SIZE) -> float:
+def column_points(
+    width_chars: float, font_name: str = FONT_NAME, font_size: float = DEFAULT_FONT_SIZE
+) -> float:
     """Printed width in points of a column ``width_chars`` characters wide (on the wide side).
 
     Examples
@@ -108,7 +109,7 @@ def _bands(widths: list[float], first: int, room: float, prefer: Sequence[int] =
     breaks: list[int] = []
     start, col = first, first
     while col < len(widths):
-        if col > start and sum(widths[start:col + 1]) > room:
+        if col > start and sum(widths[start : col + 1]) > room:
             better = [p for p in prefer if start < p <= col]
             start = better[-1] if better else col
             breaks.append(start)
@@ -117,8 +118,9 @@ def _bands(widths: list[float], first: int, room: float, prefer: Sequence[int] =
     return breaks
 
 
-def _even_preferred(widths: list[float], lead: int, space: float, prefer: Sequence[int],
-                    bands: int) -> list[int] | None:
+def _even_preferred(
+    widths: list[float], lead: int, space: float, prefer: Sequence[int], bands: int
+) -> list[int] | None:
     """Of the ways to begin ``bands - 1`` bands at ``prefer`` columns that fit ``space``,
     the one with the narrowest widest band (None when there is none)."""
     best, best_width = None, math.inf
@@ -130,9 +132,13 @@ def _even_preferred(widths: list[float], lead: int, space: float, prefer: Sequen
     return best
 
 
-def plan_columns(widths: Sequence[float], title_cols: tuple[int, int] | None,
-                 room: float, min_scale: float, prefer: Sequence[int] = ()
-                 ) -> tuple[float, list[int]]:
+def plan_columns(
+    widths: Sequence[float],
+    title_cols: tuple[int, int] | None,
+    room: float,
+    min_scale: float,
+    prefer: Sequence[int] = (),
+) -> tuple[float, list[int]]:
     """Scale and column breaks for columns ``widths`` (points) on pages ``room`` wide.
 
     One band when the whole width fits at ``min_scale`` or more; otherwise the fewest bands
@@ -175,13 +181,17 @@ def plan_columns(widths: Sequence[float], title_cols: tuple[int, int] | None,
         breaks = _bands(widths, lead, high, prefer)
     if lead:
         breaks = [b for b in breaks if b > lead]
-    widest = max(title + sum(widths[a:b]) for a, b in
-                 zip([lead] + breaks, breaks + [len(widths)]))
+    widest = max(title + sum(widths[a:b]) for a, b in zip([lead] + breaks, breaks + [len(widths)]))
     return min(1.0, room / widest), breaks
 
 
-def plan_rows(heights: Sequence[float], header_rows: tuple[int, int] | None, room: float,
-              keep: Sequence[tuple[int, int]] = (), starts: Sequence[int] = ()) -> list[int]:
+def plan_rows(
+    heights: Sequence[float],
+    header_rows: tuple[int, int] | None,
+    room: float,
+    keep: Sequence[tuple[int, int]] = (),
+    starts: Sequence[int] = (),
+) -> list[int]:
     """Row breaks for rows ``heights`` (points, at print scale) on pages ``room`` tall.
 
     Pages are filled in turn, the header rows repeated at the top of each later page;
@@ -207,7 +217,7 @@ def plan_rows(heights: Sequence[float], header_rows: tuple[int, int] | None, roo
         if part and _stray(heights, part, end, room):
             pages = len(part) + 1
             # no lower than the tallest kept block that fits a page, so none is split
-            blocks = [sum(heights[a:b + 1]) for a, b in keep if first <= a and b < end]
+            blocks = [sum(heights[a : b + 1]) for a, b in keep if first <= a and b < end]
             low = max([room / pages] + [h for h in blocks if h <= room])
             high = room
             for _ in range(40):  # the smallest page height that still gives this many pages
@@ -227,11 +237,17 @@ def _chunks(n: int, starts: Sequence[int]) -> list[tuple[int, int]]:
     return list(zip(bounds, bounds[1:]))
 
 
-def _fill(heights: Sequence[float], header_rows: tuple[int, int] | None, room: float,
-          keep: Sequence[tuple[int, int]], first: int = 0, end: int | None = None) -> list[int]:
+def _fill(
+    heights: Sequence[float],
+    header_rows: tuple[int, int] | None,
+    room: float,
+    keep: Sequence[tuple[int, int]],
+    first: int = 0,
+    end: int | None = None,
+) -> list[int]:
     """Greedy page breaks for rows ``first`` to ``end - 1``, a page starting at ``first``."""
     end = len(heights) if end is None else end
-    header = 0.0 if header_rows is None else sum(heights[header_rows[0]:header_rows[1] + 1])
+    header = 0.0 if header_rows is None else sum(heights[header_rows[0] : header_rows[1] + 1])
     block = {}
     for top, bottom in keep:
         for row in range(top, bottom + 1):
@@ -243,7 +259,7 @@ def _fill(heights: Sequence[float], header_rows: tuple[int, int] | None, room: f
         start = breaks[-1] if breaks else first
         if used + heights[row] > room and row > start:
             top, bottom = block.get(row, (row, row))
-            fits = sum(heights[top:bottom + 1]) + header <= room
+            fits = sum(heights[top : bottom + 1]) + header <= room
             cut = top if top > start and fits else row
             breaks.append(cut)
             row = cut
@@ -256,25 +272,34 @@ def _fill(heights: Sequence[float], header_rows: tuple[int, int] | None, room: f
 
 def _stray(heights: Sequence[float], breaks: list[int], end: int, room: float) -> bool:
     """Whether the last page, rows ``breaks[-1]`` to ``end - 1``, holds only a row or two."""
-    last = heights[breaks[-1]:end]
+    last = heights[breaks[-1] : end]
     return len(last) < STRAY_ROWS or sum(last) < STRAY_SHARE * room
 
 
-def _greedy(heights, header_rows, room, keep, starts) -> tuple[int, bool]:
-    """Pages of greedy filling, and whether a page before a start or at the end is stray."""
-    pages, stray = 0, False
+def _greedy(heights, header_rows, room, keep, starts) -> tuple[int, int]:
+    """Pages of greedy filling, and how many of them (before a start, or the last) are
+    stray."""
+    pages = strays = 0
     for first, end in _chunks(len(heights), starts):
         part = _fill(heights, header_rows, room, keep, first, end)
         pages += len(part) + 1
-        stray = stray or bool(part and _stray(heights, part, end, room))
-    return pages, stray
+        strays += bool(part and _stray(heights, part, end, room))
+    return pages, strays
 
 
-def plan(widths_chars: Sequence[float], heights: Sequence[float], *,
-         header_rows: tuple[int, int] | None = None, title_cols: tuple[int, int] | None = None,
-         keep: Sequence[tuple[int, int]] = (), starts: Sequence[int] = (),
-         bands: Sequence[int] = (), font_name: str = FONT_NAME,
-         font_size: float = DEFAULT_FONT_SIZE, paper: tuple[float, float] = A4) -> PagePlan:
+def plan(
+    widths_chars: Sequence[float],
+    heights: Sequence[float],
+    *,
+    header_rows: tuple[int, int] | None = None,
+    title_cols: tuple[int, int] | None = None,
+    keep: Sequence[tuple[int, int]] = (),
+    starts: Sequence[int] = (),
+    bands: Sequence[int] = (),
+    font_name: str = FONT_NAME,
+    font_size: float = DEFAULT_FONT_SIZE,
+    paper: tuple[float, float] = A4,
+) -> PagePlan:
     """The page set-up of a sheet with columns ``widths_chars`` and rows ``heights`` (pt).
 
     Parameters
@@ -313,18 +338,24 @@ def plan(widths_chars: Sequence[float], heights: Sequence[float], *,
     min_percent = math.ceil(100.0 * min(1.0, MIN_FONT / font_size) - 1e-9)
     scale, col_breaks = plan_columns(points, title_cols, width, min_percent / 100.0, bands)
     percent = max(min_percent, min(100, math.floor(scale * 100.0 + 1e-9)))
-    pages, stray = _greedy(heights, header_rows, height * 100.0 / percent, keep, starts)
-    if stray:  # a tiny overflow: print a little smaller, while the text stays readable
-        for smaller in range(percent - 1, min_percent - 1, -1):
-            fewer, still = _greedy(heights, header_rows, height * 100.0 / smaller, keep, starts)
-            if fewer < pages and not still:
-                percent = smaller
-                break
+    best = _greedy(heights, header_rows, height * 100.0 / percent, keep, starts)
+    if best[1]:  # a tiny overflow: print a little smaller, while the text stays readable
+        start = percent
+        for smaller in range(start - 1, min_percent - 1, -1):
+            pages, strays = _greedy(heights, header_rows, height * 100.0 / smaller, keep, starts)
+            if (strays, pages) < (best[1], best[0]):
+                best, percent = (pages, strays), smaller
     row_breaks = plan_rows(heights, header_rows, height * 100.0 / percent, keep, starts)
-    return PagePlan(landscape=landscape, scale=percent, col_breaks=col_breaks,
-                    row_breaks=row_breaks, header_rows=header_rows,
-                    title_cols=title_cols if col_breaks else None,
-                    last_row=len(heights) - 1, last_col=len(widths_chars) - 1)
+    return PagePlan(
+        landscape=landscape,
+        scale=percent,
+        col_breaks=col_breaks,
+        row_breaks=row_breaks,
+        header_rows=header_rows,
+        title_cols=title_cols if col_breaks else None,
+        last_row=len(heights) - 1,
+        last_col=len(widths_chars) - 1,
+    )
 
 
 def apply(ws, p: PagePlan) -> None:
@@ -376,10 +407,17 @@ def sheet_geometry(ws) -> tuple[list[float], list[float], list[tuple[int, int]]]
     return widths, heights, spans
 
 
-def set_up(ws, *, header_rows: tuple[int, int] | None = None,
-           title_cols: tuple[int, int] | None = None, keep: Sequence[tuple[int, int]] = (),
-           starts: Sequence[int] = (), bands: Sequence[int] = (), font_name: str = FONT_NAME,
-           font_size: float = DEFAULT_FONT_SIZE) -> PagePlan:
+def set_up(
+    ws,
+    *,
+    header_rows: tuple[int, int] | None = None,
+    title_cols: tuple[int, int] | None = None,
+    keep: Sequence[tuple[int, int]] = (),
+    starts: Sequence[int] = (),
+    bands: Sequence[int] = (),
+    font_name: str = FONT_NAME,
+    font_size: float = DEFAULT_FONT_SIZE,
+) -> PagePlan:
     """Plan and set the page set-up of a finished sheet (call it last); returns the plan.
 
     ``header_rows`` and ``title_cols`` (first, last) repeat on every page; the rows of each
@@ -388,9 +426,17 @@ def set_up(ws, *, header_rows: tuple[int, int] | None = None,
     they can.
     """
     widths, heights, charts = sheet_geometry(ws)
-    p = plan(widths, heights, header_rows=header_rows, title_cols=title_cols,
-             keep=list(keep) + charts, starts=starts, bands=bands, font_name=font_name,
-             font_size=font_size)
+    p = plan(
+        widths,
+        heights,
+        header_rows=header_rows,
+        title_cols=title_cols,
+        keep=list(keep) + charts,
+        starts=starts,
+        bands=bands,
+        font_name=font_name,
+        font_size=font_size,
+    )
     apply(ws, p)
     ws.page_plan = p
     return p

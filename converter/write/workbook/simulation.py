@@ -32,6 +32,7 @@ CHART_WIDTH = 850  # pixels: columns A-G are 861
 HISTOGRAM_HEIGHT = 340
 LABEL_CHARS = 34  # an activity's label on a chart
 DUE_LINE_OVER = 1.1  # the due-date line rises this far above the tallest bar
+TABLE_START_ROWS = 3  # rows kept on one page with a table's head
 
 
 def reproduce_command(a) -> str:
@@ -81,7 +82,12 @@ def write_simulation(wb, fmt, a, lay: Layout) -> None:
     r = _write_most_critical(wb, ws, fmt, a, r + 2)
     starts.append(r + 2)
     head = _write_drivers(wb, ws, fmt, a, r + 2)
-    pages.set_up(ws, starts=starts, header_rows=(head, head))
+    # each table's head stays with its first rows (a page break never leaves it alone
+    # under the chart)
+    heads = [starts[0] + 2 + rows_spanned(HISTOGRAM_HEIGHT),
+             starts[1] + 2 + rows_spanned(_bar_height(min(TOP_DRIVERS, len(a.ids)))), head]
+    pages.set_up(ws, starts=starts, header_rows=(head, head),
+                 keep=[(h, h + TABLE_START_ROWS) for h in heads])
 
 
 def _write_run(ws, fmt, a, r: int) -> int:
@@ -229,7 +235,7 @@ def _histogram_chart(wb, a, first: int, last: int, due: tuple[int, int] | None):
 
 
 def _bar_height(count: int) -> int:
-    return 90 + 16 * count
+    return 90 + 20 * count
 
 
 def _bar_chart(wb, title: str, series_name: str, cats, values, color: str, axis: dict,
