@@ -338,13 +338,14 @@ def plan(
     min_percent = math.ceil(100.0 * min(1.0, MIN_FONT / font_size) - 1e-9)
     scale, col_breaks = plan_columns(points, title_cols, width, min_percent / 100.0, bands)
     percent = max(min_percent, min(100, math.floor(scale * 100.0 + 1e-9)))
-    best = _greedy(heights, header_rows, height * 100.0 / percent, keep, starts)
-    if best[1]:  # a tiny overflow: print a little smaller, while the text stays readable
-        start = percent
-        for smaller in range(start - 1, min_percent - 1, -1):
-            pages, strays = _greedy(heights, header_rows, height * 100.0 / smaller, keep, starts)
-            if (strays, pages) < (best[1], best[0]):
-                best, percent = (pages, strays), smaller
+    strays = _greedy(heights, header_rows, height * 100.0 / percent, keep, starts)[1]
+    if strays:  # a tiny overflow: print a little smaller, while the text stays readable
+        for smaller in range(percent - 1, min_percent - 1, -1):
+            fewer = _greedy(heights, header_rows, height * 100.0 / smaller, keep, starts)[1]
+            if fewer < strays:  # the largest scale that leaves fewer stray pages
+                strays, percent = fewer, smaller
+            if not strays:
+                break
     row_breaks = plan_rows(heights, header_rows, height * 100.0 / percent, keep, starts)
     return PagePlan(
         landscape=landscape,

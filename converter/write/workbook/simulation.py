@@ -235,7 +235,7 @@ def _histogram_chart(wb, a, first: int, last: int, due: tuple[int, int] | None):
 
 
 def _bar_height(count: int) -> int:
-    return 90 + 20 * count
+    return 90 + 18 * count
 
 
 def _bar_chart(wb, title: str, series_name: str, cats, values, color: str, axis: dict,

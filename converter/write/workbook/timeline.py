@@ -88,8 +88,9 @@ def _write_row(ws, fmt, a, lay: Layout, r: int, k: int, i: int) -> None:
 
 
 def _chart_height(n: int) -> int:
-    """Pixels: one page tall for a few dozen bars, then at least 14 px a bar."""
-    per_bar = max(14.0, min(22.0, 520.0 / max(n, 1)))
+    """Pixels: one page tall (below the title rows) for a few dozen bars, then at least
+    14 px a bar."""
+    per_bar = max(14.0, min(22.0, 400.0 / max(n, 1)))
     return int(130 + per_bar * n)
 
 
