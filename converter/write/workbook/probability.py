@@ -132,8 +132,10 @@ def _chart(wb, a, first: int, last: int, due_rows):
         })
     if due_rows is not None:
         top, bottom = due_rows
+        when = (a.due_date.isoformat() if a.due_date is not None else
+                f"{a.due:g} {a.schedule.settings.time_unit}")
         chart.add_series({
-            "name": "Due date",
+            "name": f"Due date ({when})",
             "categories": [PROBABILITY, top, CONF + 1, bottom, CONF + 1],
             "values": [PROBABILITY, top, CONF + 2, bottom, CONF + 2],
             "line": {"color": PALETTE["clay"], "width": 1.75, "dash_type": "long_dash"},
