@@ -8,9 +8,10 @@ Rather than run the analysis, a cheap upper bound of every offset it can date is
   positive lags (each link moves its successor's start by at most the predecessor's
   duration plus the lag, whatever its type, and no start is before 0), and no simulated
   duration exceeds its pessimistic estimate;
-* the analytic finish quantiles lie within :data:`SPREAD_ALLOWANCE` standard deviations
-  of the mean, and no path's standard deviation exceeds the square root of the sum of
-  all activities' PERT variances ``((P - O) / 6)^2``;
+* the analytic finish quantiles lie within :func:`spread_allowance` standard deviations
+  of the mean (the fixed tables' reach, or the most extreme confidence level asked for),
+  and no path's standard deviation exceeds the square root of the sum of all
+  activities' PERT variances ``((P - O) / 6)^2``;
 * a due or target duration is dated as it is.
 
 The bound in working days is turned into calendar days, again from above: ``q`` whole
@@ -20,6 +21,7 @@ weeks hold ``q`` times the working weekdays, less at most every holiday.
 from __future__ import annotations
 
 import math
+from statistics import NormalDist
 
 from converter.model import Activity, Link, Settings
 from converter.options import SheetValue
@@ -28,10 +30,26 @@ from converter.validate.problems import Collector
 from converter.validate.settings import place_of
 from converter.values import FIRST_DATE, LAST_DATE
 
-#: Standard deviations around the mean within which every analytic quantile lies: the
-#: standard normal quantile of the largest confidence level below 1 that a float can
-#: hold, 1 - 2^-53, is 8.21 (scipy.stats.norm.ppf; checked in the tests).
-SPREAD_ALLOWANCE = 8.3
+#: Standard deviations around the mean that the workbook's fixed tables reach: the finish
+#: probability table spans the analytic P1 to P99 (z = 2.33), rounded out by at most one
+#: step of about a twelfth of that span; the confidence table 5% to 95%.
+TABLE_SPREAD = 3.0
+
+
+def spread_allowance(levels: tuple[float, ...]) -> float:
+    """Standard deviations from the mean within which every analytic quantile lies.
+
+    The fixed tables' :data:`TABLE_SPREAD`, or the standard normal quantile of the most
+    extreme confidence level asked for (``statistics.NormalDist``).
+
+    Examples
+    --------
+    >>> spread_allowance((0.5, 0.8)), round(spread_allowance((1e-6,)), 2)
+    (3.0, 4.75)
+    """
+    normal = NormalDist()
+    return max([TABLE_SPREAD, *(abs(normal.inv_cdf(c)) for c in levels)])
+
 
 #: Calendar days from the first to the last date pertbook works with.
 CALENDAR_DAYS = (LAST_DATE - FIRST_DATE).days
@@ -104,7 +122,7 @@ def check_dates_fit(activities: list[Activity], links: list[Link], settings: Set
     if start is None or not activities:
         return
     longest = sum(a.pessimistic for a in activities) + sum(max(lk.lag, 0.0) for lk in links)
-    spread = SPREAD_ALLOWANCE * math.sqrt(
+    spread = spread_allowance(settings.confidence_levels) * math.sqrt(
         sum(((a.pessimistic - a.optimistic) / 6.0) ** 2 for a in activities))
     targets = [a.target for a in activities if isinstance(a.target, float)]
     due = settings.due if isinstance(settings.due, float) else 0.0
