@@ -29,10 +29,10 @@ LAST_DATE = dt.date(9999, 12, 31)
 #: optional exponent. No digit group separators, underscores, words (inf, nan) or
 #: digits of other scripts: what Python's float() accepts beyond this is refused.
 _PLAIN_NUMBER = re.compile(r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?")
-_INTEGRAL_TEXT = re.compile(r"^[1-9]\d*\.0+$|^0\.0+$")
+_INTEGRAL_TEXT = re.compile(r"^[1-9][0-9]*\.0+$|^0\.0+$")
 _ISO_DATE_TIME = re.compile(
-    r"(\d{4}-\d{2}-\d{2})(?:[ T](\d{1,2}:\d{2}(?::\d{2}(?:\.\d{1,6})?)?))?")
-_TIME = re.compile(r"(\d{1,2}):(\d{2})(?::(\d{2}))?")
+    r"([0-9]{4}-[0-9]{2}-[0-9]{2})(?:[ T]([0-9]{1,2}:[0-9]{2}(?::[0-9]{2}(?:\.[0-9]{1,6})?)?))?")
+_TIME = re.compile(r"([0-9]{1,2}):([0-9]{2})(?::([0-9]{2}))?")
 _LONGEST_SHOWN = 60
 
 
@@ -47,7 +47,10 @@ def normalise(text: object) -> str:
     ('mostlikely', 'lead/lag')
     """
     s = str(text).strip().lower()
-    s = re.sub(r"\s*\([^)]*\)\s*$", "", s)
+    if s.endswith(")"):  # the bracket part: from the first "(" after any earlier ")"
+        opening = s.find("(", s.rfind(")", 0, len(s) - 1) + 1, len(s) - 1)
+        if opening >= 0:
+            s = s[:opening]
     return re.sub(r"[\s_.\-]+", "", s)
 
 

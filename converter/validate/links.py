@@ -24,7 +24,6 @@ LINK_TYPE_WORDS = {
     "sf": "SF", "starttofinish": "SF", "startfinish": "SF",
 }
 
-_BRACKET = re.compile(r"^(?P<id>.*?)\s*\[(?P<spec>[^\[\]]*)\]$")
 _SPEC = re.compile(r"^(?P<type>FS|SS|FF|SF)?(?P<lag>[+-](?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)"
                    r"(?:[eE][+-]?[0-9]+)?)?$", re.IGNORECASE)
 
@@ -43,10 +42,10 @@ def parse_link_token(token: str) -> tuple[str, str, float] | str:
     >>> parse_link_token("A3[SS+2]"), parse_link_token("B-1"), parse_link_token("1.0[-1]")
     (('A3', 'SS', 2.0), ('B-1', 'FS', 0.0), ('1', 'FS', -1.0))
     """
-    m = _BRACKET.match(token)
-    if not m:
+    bracket = _bracket(token)
+    if bracket is None:
         return id_text(token), "FS", 0.0
-    ident, spec = m.group("id").strip(), m.group("spec").strip()
+    ident, spec = bracket
     if not ident:
         return f'"{token}" has a bracket part but no activity ID before it'
     s = _SPEC.match(re.sub(r"\s+", "", spec).replace("\u2212", "-"))
@@ -60,6 +59,20 @@ def parse_link_token(token: str) -> tuple[str, str, float] | str:
         return (f'"{_short(token)}": the lag ({size}) is beyond {LARGEST_LAG:,.0f} time units '
                 "either way, the longest lag or lead pertbook computes with")
     return id_text(ident), kind, lag
+
+
+def _bracket(token: str) -> tuple[str, str] | None:
+    """(ID, bracket part) of ``ID[...]`` (the last bracket pair, with no bracket inside).
+
+    String methods rather than a regular expression: a long cell of spaces must not
+    take quadratic time.
+    """
+    if not token.endswith("]"):
+        return None
+    opening = token.rfind("[")
+    if opening < 0 or "]" in token[opening + 1:-1]:
+        return None
+    return token[:opening].strip(), token[opening + 1:-1].strip()
 
 
 def _short(text: str, most: int = 40) -> str:

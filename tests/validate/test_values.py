@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import datetime as dt
 import math
+import re
 
 import numpy as np
 import pytest
@@ -22,13 +23,8 @@ from converter.analyse.network import build_network, forward_pass
 from converter.model import FF, FS, SF, SS, Settings
 from converter.options import parse_due, parse_start_date
 from converter.validate.bounds import TABLE_SPREAD, calendar_days_for, spread_allowance
-from converter.values import (
-    as_date,
-    as_number,
-    id_text,
-    parse_number,
-    shown,
-)
+from converter.validate.links import _bracket, parse_link_token
+from converter.values import as_date, as_number, id_text, normalise, parse_number, shown
 
 D = dt.date
 
@@ -196,3 +192,31 @@ def test_no_finish_exceeds_the_sum_of_durations_and_positive_lags(case):
     _, ef = forward_pass(build_network(n, pred, succ, kinds, lags), d)
     bound = float(d.sum()) + sum(max(lag, 0.0) for lag in lags)
     assert float(ef.max()) <= bound * (1 + 1e-12) + 1e-9
+
+
+# --------------------------------------------------------------------------- long cells
+_OLD_BRACKET = re.compile(r"^(?P<id>.*?)\s*\[(?P<spec>[^\[\]]*)\]$")
+_OLD_UNIT = re.compile(r"\s*\([^)]*\)\s*$")
+
+
+@settings(max_examples=500, deadline=None)
+@given(st.text(alphabet="A1 []S+-(),", max_size=14))
+def test_string_scans_read_as_the_regular_expressions_did(text):
+    # Reference: the regular expressions these scans replace (they took quadratic time on
+    # a long cell of spaces or brackets). Same result on any short text.
+    token = text.strip()
+    m = _OLD_BRACKET.match(token)
+    want = None if m is None else (m.group("id").strip(), m.group("spec").strip())
+    assert _bracket(token) == want
+    lowered = text.strip().lower()
+    assert normalise(text) == re.sub(r"[\s_.\-]+", "", _OLD_UNIT.sub("", lowered))
+
+
+def test_a_million_character_cell_is_read_in_one_pass():
+    # No time is measured: a quadratic scan of these would not finish (10^12 steps).
+    big = 1_000_000
+    assert parse_link_token("A" + " " * big + "x]") == ("A" + " " * big + "x]", "FS", 0.0)
+    assert normalise("(" * big + ")") == ""
+    assert id_text(" " * big + "B") == "B"
+    with pytest.raises(ValueError):
+        parse_number("1" * big + "x")
