@@ -158,6 +158,8 @@ def parse_number(value: object, *, percent: bool = False) -> float:
     ...
     ValueError: "1_0" is not a plain number (such as 2.5, -1 or 1e3)
     """
+    if type(value) is float and math.isfinite(value):  # the common case first
+        return value
     if isinstance(value, bool):
         raise ValueError(f"{shown(value)} is a true/false value, not a number")
     if isinstance(value, (dt.date, dt.datetime)):
@@ -243,6 +245,8 @@ def date_out_of_range(d: dt.date) -> str | None:
 
 # --------------------------------------------------------------------------- IDs
 def _id_of_text(text: str) -> str:
+    if not text[:1].isdigit():  # every rule below is for text that starts with a digit
+        return text
     if _INTEGRAL_TEXT.match(text):
         return text.split(".")[0]
     m = _ISO_DATE_TIME.fullmatch(text)
@@ -276,6 +280,8 @@ def id_text(value: object) -> str:
     >>> id_text(dt.datetime(2024, 1, 2, 10, 30)), id_text("2024-01-02T10:30:00")
     ('2024-01-02 10:30', '2024-01-02 10:30')
     """
+    if isinstance(value, str):
+        return _id_of_text(value.strip())
     if isinstance(value, bool):
         return str(value).upper()
     if isinstance(value, float):
