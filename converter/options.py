@@ -18,12 +18,22 @@ from __future__ import annotations
 
 import argparse
 import datetime as dt
+import math
 import re
 from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass
 
 from converter.model import DISTRIBUTIONS, ERROR, Problem, Settings
-from converter.values import as_date, as_number, is_blank, normalise
+from converter.values import (
+    LARGEST_DURATION,
+    as_date,
+    as_number,
+    date_out_of_range,
+    is_blank,
+    normalise,
+    parse_number,
+    shown,
+)
 
 DISTRIBUTION_ALIASES = {
     "pert": "pert", "beta": "pert", "pertbeta": "pert", "betapert": "pert",
@@ -131,40 +141,77 @@ def _confidence_tokens(value: object) -> list[tuple[str, float, bool]]:
     return out
 
 
+def parse_date(value: object) -> dt.date:
+    """A date (a date cell or ``YYYY-MM-DD`` text) from 1900-03-01 on.
+
+    The one rule for every date given: the start date, a due date, a holiday, a target.
+
+    Examples
+    --------
+    >>> parse_date("2027-06-30")
+    datetime.date(2027, 6, 30)
+    >>> parse_date("1899-12-31")
+    Traceback (most recent call last):
+    ...
+    ValueError: 1899-12-31 is before 1900-03-01, the first date pertbook works with
+    """
+    d = as_date(value)
+    if d is None:
+        raise ValueError(f"{shown(value)} is not a date (use a date cell or YYYY-MM-DD)")
+    reason = date_out_of_range(d)
+    if reason is not None:
+        raise ValueError(reason)
+    return d
+
+
+def parse_duration(value: object) -> float:
+    """A duration in time units: a plain number from 0 to 10,000,000.
+
+    Examples
+    --------
+    >>> parse_duration("60"), parse_duration(2.5)
+    (60.0, 2.5)
+    """
+    x = parse_number(value)
+    if not 0 <= x <= LARGEST_DURATION:
+        raise ValueError(f"{shown(value)} is not a duration from 0 to "
+                         f"{LARGEST_DURATION:,.0f} time units")
+    return x
+
+
 def parse_due(value: object) -> float | dt.date | None:
-    """A due value: a date (cell or YYYY-MM-DD text) or a non-negative duration; blank: None.
+    """A due value: a date (cell or YYYY-MM-DD text) or a duration; blank: None.
 
     The same rule reads a due date on the command line, on the settings sheet and an
-    activity's interim target.
+    activity's interim target. A duration is a plain number from 0 to 10,000,000; a date
+    is from 1900-03-01 on (:func:`parse_date`).
 
     Examples
     --------
     >>> parse_due("60"), parse_due("2027-06-30"), parse_due(" ")
     (60.0, datetime.date(2027, 6, 30), None)
     """
+    if isinstance(value, float) and math.isnan(value):
+        raise ValueError("nan is not a date or a duration")
     if is_blank(value):
         return None
-    d = as_date(value)
-    if d is not None:
-        return d
+    if as_date(value) is not None:
+        return parse_date(value)
     x = as_number(value)
-    if x is not None and x >= 0:
-        return x
-    raise ValueError(f"{value!r} is neither a date (YYYY-MM-DD) nor a duration")
+    if x is None:
+        raise ValueError(f"{shown(value)} is neither a date (YYYY-MM-DD) nor a duration")
+    return parse_duration(x)
 
 
 def parse_start_date(value: object) -> dt.date:
-    """The project start: a date cell or ``YYYY-MM-DD`` text."""
-    d = as_date(value)
-    if d is None:
-        raise ValueError(f"{value!r} is not a date (use a date cell or YYYY-MM-DD)")
-    return d
+    """The project start: a date cell or ``YYYY-MM-DD`` text, from 1900-03-01 on."""
+    return parse_date(value)
 
 
 def _whole(value: object, low: int, high: int) -> int:
     x = as_number(value)
     if x is None or not x.is_integer() or not low <= x <= high:
-        raise ValueError(f"{value!r} is not a whole number from {low} to {high}")
+        raise ValueError(f"{shown(value)} is not a whole number from {low:,} to {high:,}")
     return int(x)
 
 
@@ -185,12 +232,12 @@ def parse_paths(value: object) -> int:
 
 def parse_correlation(value: object) -> float:
     """Rank correlation within a group: 0 up to (not including) 1; ``25%`` is 0.25."""
-    x = as_number(value)
-    if x is None and isinstance(value, str) and value.strip().endswith("%"):
-        x = as_number(value.strip()[:-1])
-        x = None if x is None else x / 100
+    try:
+        x = parse_number(value, percent=True)
+    except ValueError:
+        x = None
     if x is None or not 0.0 <= x < 1.0:
-        raise ValueError(f"{value!r} is not a correlation from 0 up to (not including) 1")
+        raise ValueError(f"{shown(value)} is not a correlation from 0 up to (not including) 1")
     return x
 
 
@@ -198,7 +245,7 @@ def parse_distribution(value: object) -> str:
     """``pert`` (also ``beta``), ``triangular`` (``tri``) or ``uniform`` (``flat``)."""
     d = DISTRIBUTION_ALIASES.get(normalise(value))
     if d is None:
-        raise ValueError(f"{value!r} is not one of {', '.join(DISTRIBUTIONS)}")
+        raise ValueError(f"{shown(value)} is not one of {', '.join(DISTRIBUTIONS)}")
     return d
 
 
@@ -206,7 +253,7 @@ def parse_time_unit(value: object) -> str:
     """``working days``, ``weeks`` (working weeks) or ``calendar days``."""
     u = TIME_UNITS.get(normalise(value))
     if u is None:
-        raise ValueError(f"{value!r} is not working days, weeks or calendar days")
+        raise ValueError(f"{shown(value)} is not working days, weeks or calendar days")
     return u
 
 
@@ -415,13 +462,10 @@ def resolve(
 def _resolve_holidays(settings: Settings, given: list[SheetValue], problems: list) -> None:
     days = []
     for g in given:
-        d = as_date(g.value)
-        if d is None:
-            problems.append(Problem(ERROR, "bad-setting",
-                                    f"holiday {g.value!r} is not a date (use a date cell or "
-                                    "YYYY-MM-DD)", g.sheet, g.cell))
-        else:
-            days.append(d)
+        try:
+            days.append(parse_date(g.value))
+        except ValueError as exc:
+            problems.append(Problem(ERROR, "bad-setting", f"holiday {exc}", g.sheet, g.cell))
     if days:
         settings.holidays = tuple(sorted(set(days)))
         settings.sources["holidays"] = f"settings sheet ({given[0].sheet})"

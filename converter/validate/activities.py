@@ -21,7 +21,7 @@ from converter.read.sheets import (
     cell_name,
 )
 from converter.validate.problems import Collector
-from converter.values import as_number, id_text, is_blank
+from converter.values import LARGEST_DURATION, id_text, is_blank, parse_number
 
 FIELD_TITLES = {
     "id": "ID",
@@ -171,6 +171,11 @@ def _target(value, cols, r, sheet, ident, settings: Settings,
                   sheet, where, ident,
                   fix="Add a 'Start date' setting or give the target as a duration.")
         return None
+    if isinstance(target, dt.date) and target < settings.start_date:
+        out.warn("target-before-start",
+                 f"target {target.isoformat()} is before the start date "
+                 f"{settings.start_date.isoformat()}: the chance of meeting it is 0%",
+                 sheet, where, ident, fix="Check the year of the target date.")
     return target
 
 
@@ -185,17 +190,28 @@ def _estimate_values(row, cols, r, sheet, ident, out: Collector) -> dict | None:
         if is_blank(raw):
             values[key] = None
             continue
-        x = as_number(raw)
         where = cell_name(r, c)
-        if x is None:
-            out.error("not-a-number",
-                      f"{FIELD_TITLES[key]} estimate {raw!r} is not a number", sheet, where,
-                      ident, fix="Type a plain number of time units (no text or units).")
+        try:
+            x = parse_number(raw)
+        except ValueError as exc:
+            dated = isinstance(raw, (dt.date, dt.time, dt.timedelta))
+            out.error("not-a-number", f"{FIELD_TITLES[key]} estimate {exc}", sheet, where,
+                      ident, fix="Format the cell as a number, not a date or time, and type "
+                      "the duration in time units." if dated else
+                      "Type a plain number of time units (no text or units).")
             bad = True
-        elif x < 0:
+            continue
+        if x < 0:
             out.error("negative-estimate",
                       f"{FIELD_TITLES[key]} estimate {x:g} is negative", sheet, where, ident,
                       fix="Durations cannot be negative.")
+            bad = True
+        elif x > LARGEST_DURATION:
+            out.error("too-large",
+                      f"{FIELD_TITLES[key]} estimate {x:g} is more than "
+                      f"{LARGEST_DURATION:,.0f} time units, the longest duration pertbook "
+                      "computes with", sheet, where, ident,
+                      fix="Check the number and the time unit of the schedule.")
             bad = True
         else:
             values[key] = x
