@@ -201,9 +201,9 @@ class ActivityDates:
 def activity_dates(calendar: Calendar, cpm: CpmResult) -> ActivityDates:
     """Start dates (work at the offset) and finish dates (end of the day reached)."""
     return ActivityDates(
-        early_start=calendar.start_dates(cpm.es),
+        early_start=calendar.start_dates(cpm.es, finishes=cpm.ef),
         early_finish=calendar.finish_dates(cpm.ef),
-        late_start=calendar.start_dates(cpm.ls),
+        late_start=calendar.start_dates(cpm.ls, finishes=cpm.lf),
         late_finish=calendar.finish_dates(cpm.lf),
     )
 

@@ -148,14 +148,7 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
         ws.write_formula(r, c["crit"], f.is_critical(lay.cell(i, "tf")),
                          fmt.critical if cpm.critical[i] else fmt.center, crit)
         if dates is not None:
-            for key, src, fn, when in (
-                ("es_date", "es", cal.start_date_formula, dates.early_start),
-                ("ef_date", "ef", cal.finish_date_formula, dates.early_finish),
-                ("ls_date", "ls", cal.start_date_formula, dates.late_start),
-                ("lf_date", "lf", cal.finish_date_formula, dates.late_finish),
-            ):
-                ws.write_formula(r, c[key], "=" + fn(lay.cell(i, src), "ProjectStart", holidays),
-                                 fmt.date, serial(when[i]))
+            _write_dates(ws, fmt, lay, c, r, i, cal, dates, holidays)
         if sim is not None:
             ws.write_number(r, c["criticality"], float(sim.criticality[i]), fmt.prob)
             s = float(sim.sensitivity[i])
@@ -227,3 +220,22 @@ def write_links(wb, fmt, a, lay: Layout) -> None:
     else:
         ws.write_string(FIRST, 0, "No links: every activity starts at the project start.")
     pages.set_up(ws, header_rows=(FIRST - 1, FIRST - 1))
+
+
+def _write_dates(ws, fmt, lay: Layout, c, r: int, i: int, cal, dates, holidays) -> None:
+    """The four date columns of one activity; a start never falls after its finish (a
+    milestone takes its finish date)."""
+    for key, when, formula in (
+        ("es_date", dates.early_start,
+         cal.start_date_formula(lay.cell(i, "es"), "ProjectStart", holidays,
+                                finish_ref=lay.cell(i, "ef"))),
+        ("ef_date", dates.early_finish,
+         cal.finish_date_formula(lay.cell(i, "ef"), "ProjectStart", holidays)),
+        ("ls_date", dates.late_start,
+         cal.start_date_formula(lay.cell(i, "ls"), "ProjectStart", holidays,
+                                finish_ref=lay.cell(i, "lf"))),
+        ("lf_date", dates.late_finish,
+         cal.finish_date_formula(lay.cell(i, "lf"), "ProjectStart", holidays)),
+    ):
+        ws.write_formula(r, c[key], "=" + formula, fmt.date, serial(when[i]))
+
