@@ -213,6 +213,7 @@ def analyse(schedule: Schedule, options=None) -> Analysis:
             pert_mean=project_mean,
             progress=getattr(options, "progress", None) if options is not None else None,
             workers=getattr(options, "simulation_workers", None),
+            memory_mb=getattr(options, "simulation_memory_mb", None),
         )
         for t in targets:
             t.p_simulated = simulation.target_p.get(t.activity)

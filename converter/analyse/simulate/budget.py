@@ -7,7 +7,7 @@ What grows with the iteration count ``N`` for ``n`` activities:
   probabilities and histogram are exact;
 * the sampled durations kept for the sensitivity (Spearman's rho of each activity with
   the project duration): ``4 n`` bytes per kept iteration, plus the rank work of
-  :mod:`.ranks` (about ``36 x 16 + 200`` bytes per kept iteration).
+  :mod:`.ranks` (about ``20 x 16 + 168`` bytes per kept iteration per process).
 
 The work of one chunk of iterations (samples, both passes, correlation) does not grow
 with ``N``; each worker process has its own. The criticality counts and target hits are
@@ -34,6 +34,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
+from converter.analyse.simulate.inputs import chunk_size
 from converter.model import ERROR, Problem
 
 #: The default budget of a simulation run, in MB (2**20 bytes).
@@ -52,8 +53,9 @@ _PASS_ELEMENTS = 625_000  # activities x iterations in one block of the passes
 _RANK_ROWS = 16  # activities ranked together (ranks.RANK_ROWS)
 _PER_ITERATION = 8  # one project duration per iteration and run (float64)
 _TRANSIENT = 16  # summary and percentile copies of the project durations
-_RANK_TEMPS = 36  # per ranked row and kept iteration: sort keys, index, ranks
-_RANK_FIXED = 8 + 48 + 16 + 128  # centred ranks, rankdata, rank ramp, tie runs of a row
+_RANK_TEMPS = 20  # per ranked row and kept iteration: sort keys, ranks (measured 14)
+_RANK_FIXED = 8 + 144 + 16  # centred ranks; rankdata (measured 120) or one row's tie runs;
+# the ramp of ranks
 
 
 class SimulationMemoryError(ValueError):
@@ -96,11 +98,12 @@ def chunk_bytes(n: int, cols: int, group: int = 0) -> int:
     """Work memory of one process running chunks of ``cols`` iterations.
 
     The samples (8 bytes per element, 4 more while rounded to single precision), the
-    passes' early and late times, flags and temporaries (73 bytes per element of a pass
-    block), and for correlated groups about 64 bytes per element of the largest group.
+    passes' early and late times, flags and temporaries (41 + 15 bytes per element of a
+    pass block; measured at most 44 in all, on a network whose activities all run in
+    parallel), and for correlated groups about 64 bytes per element of the largest group.
     """
     cols_pass = pass_columns(n, cols)
-    return 12 * n * cols + 73 * n * cols_pass + 64 * group * cols
+    return 12 * n * cols + 56 * n * cols_pass + 64 * group * cols
 
 
 def run_bytes(n: int, iterations: int, sample: int, workers: int, cols: int,
@@ -124,8 +127,10 @@ def run_bytes(n: int, iterations: int, sample: int, workers: int, cols: int,
 
     Examples
     --------
-    >>> round(run_bytes(120, 10_000_000, 10_000_000, 1, 20_833) / 2**30, 1)  # GB
-    13.9
+    120 activities x 10 million iterations, every sample kept, in GB:
+
+    >>> round(run_bytes(120, 10_000_000, 10_000_000, 1, 20_833) / 2**30, 1)
+    9.3
     """
     rows = min(_RANK_ROWS, max(n, 1))
     streamed = (_PER_ITERATION * runs + _TRANSIENT) * iterations
@@ -140,32 +145,31 @@ def _largest_sample(n, iterations, workers, cols, group, runs, budget) -> int:
     return max(0, min(iterations, (budget - base) // per))
 
 
-def largest_iterations(n: int, cols: int, group: int = 0, runs: int = 1,
+def largest_iterations(n: int, group: int = 0, runs: int = 1,
                        memory_mb: int | None = None) -> int:
     """The largest iteration count a run of ``n`` activities can have within the budget.
 
-    One process, the sensitivities from :data:`MIN_SENSITIVITY_ITERATIONS` iterations;
-    ``cols`` is the chunk size of a large run (:func:`.inputs.chunk_size`). 0 when not
-    even that fits.
+    In one process, the sensitivities from :data:`MIN_SENSITIVITY_ITERATIONS` iterations
+    (or all, if fewer). 0 when not even 2 iterations fit.
+
+    Examples
+    --------
+    >>> largest_iterations(120, memory_mb=200)
+    4941004
     """
     budget = budget_bytes(memory_mb)
-    keep = MIN_SENSITIVITY_ITERATIONS
-    base = run_bytes(n, keep, keep, 1, cols, group, runs)
-    if base > budget:
-        low = run_bytes(n, 2, 2, 1, min(2, cols), group, runs)
-        if low > budget:
-            return 0
-        # fewer iterations than the minimum sample: all kept
-        lo, hi = 2, keep
-        while lo < hi:
-            mid = (lo + hi + 1) // 2
-            if run_bytes(n, mid, mid, 1, min(mid, cols), group, runs) <= budget:
-                lo = mid
-            else:
-                hi = mid - 1
-        return lo
-    per = run_bytes(n, keep + 1, keep, 1, cols, group, runs) - base
-    return keep + (budget - base) // per
+
+    def fits(count: int) -> bool:
+        keep = min(count, MIN_SENSITIVITY_ITERATIONS)
+        return run_bytes(n, count, keep, 1, chunk_size(n, count), group, runs) <= budget
+
+    if not fits(2):
+        return 0
+    lo, hi = 2, budget // (_PER_ITERATION * runs + _TRANSIENT) + 2
+    while lo < hi:  # the need grows with the count: the largest that fits
+        mid = (lo + hi + 1) // 2
+        lo, hi = (mid, hi) if fits(mid) else (lo, mid - 1)
+    return lo
 
 
 def budget_bytes(memory_mb: int | None) -> int:
@@ -190,7 +194,7 @@ def plan_memory(n: int, iterations: int, workers: int, cols: int, group: int = 0
     --------
     >>> plan = plan_memory(120, 10_000_000, 2, 20_833)
     >>> plan.sampled, plan.workers, plan.sample
-    (True, 2, 1040025)
+    (True, 2, 526848)
     >>> plan_memory(120, 10_000, 2, 20_833).sampled
     False
     """
@@ -208,7 +212,7 @@ def plan_memory(n: int, iterations: int, workers: int, cols: int, group: int = 0
     if single > 2 * sample:
         count, sample = 1, single
     if sample < min(iterations, MIN_SENSITIVITY_ITERATIONS):
-        largest = largest_iterations(n, cols, group, runs, memory_mb)
+        largest = largest_iterations(n, group, runs, memory_mb)
         need = run_bytes(*args, min(iterations, MIN_SENSITIVITY_ITERATIONS), 1, cols,
                          group, runs)
         raise SimulationMemoryError(
@@ -254,8 +258,6 @@ def memory_problem(schedule, memory_mb: int | None = None) -> Problem | None:
     ``schedule`` is a validated :class:`converter.model.Schedule`; ``None`` when it fits
     (possibly with sensitivities from part of the iterations).
     """
-    from converter.analyse.simulate.inputs import chunk_size
-
     s = schedule.settings
     n, iterations = len(schedule.activities), int(s.iterations)
     members: dict[str, int] = {}
