@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import errno
 import json
+import multiprocessing
 import os
 import subprocess
 import sys
@@ -21,7 +22,7 @@ from scipy import stats
 
 from converter.analyse import simulate as sim
 from converter.analyse.network import build_network
-from converter.analyse.simulate import budget, ranks, runs
+from converter.analyse.simulate import budget, inputs, ranks, runs
 from converter.model import Activity, Schedule, Settings
 
 ROOT = Path(__file__).resolve().parents[2]
@@ -83,6 +84,31 @@ def test_budget_limited_run_matches_the_unlimited_one(correlated, iterations, mb
     for i in (0, 7, 119):
         expected = stats.spearmanr(draws[i], part.durations[:k]).statistic
         assert part.sensitivity[i] == pytest.approx(expected, abs=1e-12)
+
+
+@pytest.mark.skipif("fork" not in multiprocessing.get_all_start_methods(),
+                    reason="worker processes need the fork start method")
+def test_budget_limited_run_in_worker_processes(monkeypatch):
+    # small chunks (as in test_simulate's worker test) let two workers fit a small budget;
+    # their first-K sensitivities are Spearman's rho of the first K iterations
+    # (scipy.stats.spearmanr), the durations those of one process with no limit
+    monkeypatch.setattr(inputs, "_CHUNK_ELEMENTS", 120 * 1000)
+    n, iterations = 120, 60_000
+    net = layered(n, 20, seed=15)
+    o, m, p = estimates(n, seed=16)
+    plan = budget.plan_memory(n, iterations, 2, sim.chunk_size(n, iterations), memory_mb=64)
+    assert plan.workers == 2 and plan.sampled
+    one = sim.simulate(net, o, m, p, iterations=iterations, seed=17, workers=1,
+                       memory_mb=100_000)
+    two = sim.simulate(net, o, m, p, iterations=iterations, seed=17, workers=2, memory_mb=64)
+    k = two.sensitivity_iterations
+    assert k == plan.sample
+    assert np.array_equal(one.durations, two.durations)
+    assert np.array_equal(one.criticality, two.criticality)
+    draws = sim.draw_samples(o, m, p, iterations=iterations, seed=17)[:, :k]
+    for i in (0, 50, 119):
+        expected = stats.spearmanr(draws[i], two.durations[:k]).statistic
+        assert two.sensitivity[i] == pytest.approx(expected, abs=1e-12)
 
 
 def test_passes_by_blocks_of_columns_give_the_same_numbers(monkeypatch):

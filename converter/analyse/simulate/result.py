@@ -45,8 +45,9 @@ class SimulationResult:
 
     @property
     def sensitivity_std_error(self) -> float:
-        """Standard error of a sensitivity near 0 from its iteration count (the largest;
-        ``(1 - rho^2)`` times it for a sensitivity rho; :func:`.budget.sensitivity_std_error`)."""
+        """Standard error of a sensitivity near 0: sqrt(1.06 / (K - 3)) for K
+        :attr:`sensitivity_iterations`, ``(1 - rho^2)`` times that for a sensitivity rho
+        (:func:`.budget.sensitivity_std_error`)."""
         return sensitivity_std_error(self.sensitivity_iterations)
 
     def percentile(self, q: float) -> float:
@@ -70,8 +71,6 @@ class Counts:
         for i, h in hits.items():
             self.hits[i] += h
 
-
-# --------------------------------------------------------------------------- summary
 
 
 def summarise(project: np.ndarray, counts: Counts, sensitivity: np.ndarray, *, iterations,

@@ -204,23 +204,16 @@ def _chunk(job: _Job, j: int, correlate: bool) -> tuple[int, np.ndarray, dict[in
     draws again those not kept (the same numbers from the chunk's own stream).
     """
     a, b = job.inp.chunks()[j]
-    kept = max(0, min(b, job.sample) - a)
+    kept = max(0, min(b, job.sample) - a)  # the chunk's leading iterations in the store
     d = job.passes.samples(b - a)
     if correlate and kept == b - a:
-        d[...] = job.store[:, a:b]
+        d[...] = job.store[:, a:b]  # the first run's samples, as stored
     else:
         _sample_chunk(job.inp, j, b - a, out=d)
-        if kept == b - a and not correlate:
-            job.store[:, a:b] = d
-            d[...] = job.store[:, a:b]  # the passes use the stored (float32) values
-        else:
-            _round_to_single(d)
+        _round_to_single(d)  # the passes use the values a float32 store holds
     if correlate:
         _correlate_chunk(job.inp, j, d, job.correlation)
-        if kept:
-            job.store[:, a : a + kept] = d[:, :kept]
-    elif 0 < kept < b - a:
-        job.store[:, a : a + kept] = d[:, :kept]
+    job.store[:, a : a + kept] = d[:, :kept]
     finish, crit, hits = job.passes.run(d)
     job.project[a:b] = finish
     return b - a, crit, hits
