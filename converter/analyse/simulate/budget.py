@@ -10,7 +10,8 @@ What grows with the iteration count ``N`` for ``n`` activities:
   :mod:`.ranks` (about ``20 x 16 + 168`` bytes per kept iteration per process).
 
 The work of one chunk of iterations (samples, both passes, correlation) does not grow
-with ``N``; each worker process has its own. The criticality counts and target hits are
+with ``N``; each worker process has its own, and its own heap and copies of the parent's
+pages (48 MB allowed). The criticality counts and target hits are
 counts per activity, summed chunk by chunk.
 
 When every iteration's samples fit the budget the run is exactly the unlimited one
@@ -49,6 +50,7 @@ MIN_SENSITIVITY_ITERATIONS = 1000
 
 _MB = 1 << 20
 _FIXED = 24 * _MB  # small arrays, allocator slack
+_WORKER = 48 * _MB  # a worker process's own: its heap, pages of the parent it copies on write
 _PASS_ELEMENTS = 625_000  # activities x iterations in one block of the passes
 _RANK_ROWS = 16  # activities ranked together (ranks.RANK_ROWS)
 _PER_ITERATION = 8  # one project duration per iteration and run (float64)
@@ -135,7 +137,8 @@ def run_bytes(n: int, iterations: int, sample: int, workers: int, cols: int,
     rows = min(_RANK_ROWS, max(n, 1))
     streamed = (_PER_ITERATION * runs + _TRANSIENT) * iterations
     kept = 4 * n * sample + _RANK_FIXED * sample + workers * _RANK_TEMPS * rows * sample
-    return _FIXED + workers * chunk_bytes(n, cols, group) + streamed + kept
+    processes = workers * _WORKER if workers > 1 else 0
+    return _FIXED + processes + workers * chunk_bytes(n, cols, group) + streamed + kept
 
 
 def _largest_sample(n, iterations, workers, cols, group, runs, budget) -> int:
@@ -194,7 +197,7 @@ def plan_memory(n: int, iterations: int, workers: int, cols: int, group: int = 0
     --------
     >>> plan = plan_memory(120, 10_000_000, 2, 20_833)
     >>> plan.sampled, plan.workers, plan.sample
-    (True, 2, 526848)
+    (True, 2, 448694)
     >>> plan_memory(120, 10_000, 2, 20_833).sampled
     False
     """
