@@ -89,10 +89,12 @@ def test_budget_limited_run_matches_the_unlimited_one(correlated, iterations, mb
 @pytest.mark.skipif("fork" not in multiprocessing.get_all_start_methods(),
                     reason="worker processes need the fork start method")
 def test_budget_limited_run_in_worker_processes(monkeypatch):
-    # small chunks (as in test_simulate's worker test) let two workers fit a small budget;
+    # small chunks (as in test_simulate's worker test), and no allowance for a worker's
+    # interpreter, let two workers fit a small budget;
     # their first-K sensitivities are Spearman's rho of the first K iterations
     # (scipy.stats.spearmanr), the durations those of one process with no limit
     monkeypatch.setattr(inputs, "_CHUNK_ELEMENTS", 120 * 1000)
+    monkeypatch.setattr(budget, "_WORKER", 0)  # no allowance for the workers' interpreters
     n, iterations = 120, 60_000
     net = layered(n, 20, seed=15)
     o, m, p = estimates(n, seed=16)
