@@ -359,6 +359,7 @@ class ConvertOptions:
     simulate: bool = True
     progress: object | None = None  # callable(done, total) for the simulation
     simulation_workers: int | None = None  # processes for the simulation; None: from the cores
+    simulation_memory_mb: int | None = None  # simulation memory budget; None: 1024 MB
 
 
 # --------------------------------------------------------------------------- command line

@@ -292,6 +292,7 @@ def _simulate(schedule: Schedule, net: Network, o, m, p, due, targets: list[Targ
         pert_mean=project_mean,
         progress=getattr(options, "progress", None) if options is not None else None,
         workers=getattr(options, "simulation_workers", None),
+        memory_mb=getattr(options, "simulation_memory_mb", None),
     )
     for t in targets:
         t.p_simulated = simulation.target_p.get(t.activity)
