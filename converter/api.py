@@ -289,6 +289,8 @@ def load_input(path: str | os.PathLike, options: ConvertOptions | None = None) -
         return Loaded(read.path, None, read.problems, read.sha256)
     options = options or ConvertOptions()
     schedule, more = validate(read.raw, options)
+    if schedule is not None:  # the reader's warnings go on the Warnings sheet too
+        schedule.warnings[:0] = [p for p in read.problems if p.severity != ERROR]
     loaded = Loaded(read.path, schedule, read.problems + more, read.sha256)
     if loaded.ok and options.simulate:
         loaded.problems += memory_problems(schedule, options.simulation_memory_mb)
