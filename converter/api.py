@@ -289,8 +289,10 @@ def load_input(path: str | os.PathLike, options: ConvertOptions | None = None) -
         return Loaded(read.path, None, read.problems, read.sha256)
     options = options or ConvertOptions()
     schedule, more = validate(read.raw, options)
-    if schedule is not None:  # the reader's warnings go on the Warnings sheet too
-        schedule.warnings[:0] = [p for p in read.problems if p.severity != ERROR]
+    if any(p.severity == ERROR for p in read.problems):
+        schedule = None  # an error cell (the reader's) is skipped by validation: invalid
+    elif schedule is not None:  # the reader's warnings go on the Warnings sheet too
+        schedule.warnings[:0] = read.problems
     loaded = Loaded(read.path, schedule, read.problems + more, read.sha256)
     if loaded.ok and options.simulate:
         loaded.problems += memory_problems(schedule, options.simulation_memory_mb)
