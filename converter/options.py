@@ -32,6 +32,7 @@ from converter.values import (
     is_blank,
     normalise,
     parse_number,
+    parse_working_days,
     shown,
 )
 
@@ -49,11 +50,6 @@ TIME_UNITS = {
     "elapseddays": "calendar days",
 }
 
-WEEKDAYS = {
-    "mon": 0, "monday": 0, "tue": 1, "tues": 1, "tuesday": 1, "wed": 2, "wednesday": 2,
-    "thu": 3, "thur": 3, "thurs": 3, "thursday": 3, "fri": 4, "friday": 4,
-    "sat": 5, "saturday": 5, "sun": 6, "sunday": 6,
-}
 
 CONFIDENCE_EXAMPLE = "50, 80, 90 or 50%, 80%, 90% or 0.5, 0.8, 0.9"
 
@@ -220,6 +216,16 @@ def parse_iterations(value: object) -> int:
     return _whole(value, 1, 10_000_000)
 
 
+#: The simulation's memory budget in MB: the default and the smallest accepted.
+DEFAULT_SIMULATION_MEMORY_MB = 1024
+MIN_SIMULATION_MEMORY_MB = 32
+
+
+def parse_memory_mb(value: object) -> int:
+    """The simulation's memory budget: a whole number of MB, at least 32."""
+    return _whole(value, MIN_SIMULATION_MEMORY_MB, 1 << 20)
+
+
 def parse_seed(value: object) -> int:
     """The random seed: a whole number from 0 to 2^63 - 1."""
     return _whole(value, 0, 2**63 - 1)
@@ -257,34 +263,6 @@ def parse_time_unit(value: object) -> str:
     return u
 
 
-def parse_working_days(value: object) -> tuple[int, ...]:
-    """Weekdays (Monday = 0) from e.g. ``Mon-Fri``, ``Sun-Thu``, ``Mon, Tue, Thu``.
-
-    Examples
-    --------
-    >>> parse_working_days("Mon-Fri"), parse_working_days("Fri-Mon")
-    ((0, 1, 2, 3, 4), (0, 4, 5, 6))
-    """
-    s = str(value).strip().lower().replace("\u2013", "-")
-    days: set[int] = set()
-    for part in re.split(r"[,;/ ]+", s):
-        if not part:
-            continue
-        if "-" in part:
-            a, b = part.split("-", 1)
-            if a not in WEEKDAYS or b not in WEEKDAYS:
-                raise ValueError(part)
-            first, last = WEEKDAYS[a], WEEKDAYS[b]
-            days.update((first + k) % 7 for k in range((last - first) % 7 + 1))
-        elif part in WEEKDAYS:
-            days.add(WEEKDAYS[part])
-        else:
-            raise ValueError(part)
-    if not days:
-        raise ValueError(s)
-    return tuple(sorted(days))
-
-
 # --------------------------------------------------------------------------- the options
 @dataclass(frozen=True)
 class Option:
@@ -292,22 +270,30 @@ class Option:
 
     ``attr`` is the :class:`ConvertOptions` field and command-line option (``--due``);
     ``None`` for options given only on the settings sheet. The default is the
-    :class:`~converter.model.Settings` field's own.
+    :class:`~converter.model.Settings` field's own. ``setting`` ``None`` marks an option of
+    the run alone (never read from the settings sheet, not a Settings field): its flag is
+    ``name`` and its default ``default``.
     """
 
-    setting: str
+    setting: str | None
     attr: str | None
     parse: Callable[[object], object]
     help: str = ""
     metavar: str | None = None
+    name: str | None = None
+    default: object = None
 
     @property
     def flag(self) -> str | None:
-        return None if self.attr is None else "--" + self.attr.replace("_", "-")
+        if self.attr is None:
+            return None
+        return "--" + (self.name or self.attr).replace("_", "-")
 
     @property
     def default_text(self) -> str:
         """The default in words, e.g. ``"10000"``, ``"50,80,90,95%"``, ``"none"``."""
+        if self.setting is None:
+            return "none" if self.default is None else str(self.default)
         value = getattr(Settings(), self.setting)
         if value is None:
             return "none"
@@ -334,8 +320,13 @@ OPTIONS: tuple[Option, ...] = (
            'confidence levels in percent, e.g. "50,80,90" (or "50%,80%" or "0.5,0.8")',
            "LEVELS"),
     Option("paths", "paths", parse_paths, "how many of the longest paths to list", "K"),
+    Option(None, "simulation_memory_mb", parse_memory_mb,
+           "memory budget of the simulation in MB, at least 32; beyond it the sensitivities "
+           "come from the first iterations only, or the run is refused (exit 2). The "
+           "watcher shares it among its workers", "MB", name="simulation_memory",
+           default=DEFAULT_SIMULATION_MEMORY_MB),
 )
-BY_SETTING: dict[str, Option] = {o.setting: o for o in OPTIONS}
+BY_SETTING: dict[str, Option] = {o.setting: o for o in OPTIONS if o.setting is not None}
 
 
 @dataclass
@@ -359,7 +350,7 @@ class ConvertOptions:
     simulate: bool = True
     progress: object | None = None  # callable(done, total) for the simulation
     simulation_workers: int | None = None  # processes for the simulation; None: from the cores
-    simulation_memory_mb: int | None = None  # simulation memory budget; None: 1024 MB
+    simulation_memory_mb: int | None = None  # simulation memory budget (MB); None: 1024
 
 
 # --------------------------------------------------------------------------- command line
@@ -370,7 +361,7 @@ def _argument_type(option: Option) -> Callable[[str], object]:
         except (ValueError, TypeError) as exc:
             raise argparse.ArgumentTypeError(str(exc)) from None
 
-    parse.__name__ = option.setting
+    parse.__name__ = option.setting or option.attr or "value"
     return parse
 
 
@@ -448,7 +439,7 @@ def resolve(
     for option in OPTIONS:
         value = None if options is None or option.attr is None else getattr(options,
                                                                               option.attr)
-        if value is None:
+        if value is None or option.setting is None:
             continue
         try:
             setattr(settings, option.setting, option.parse(value))

@@ -308,3 +308,39 @@ def as_written(value: object) -> str:
     if isinstance(value, (bool, int, float, dt.date, dt.time)):
         return shown(value)
     return str(value).strip()
+
+
+#: Weekday names and abbreviations (Monday = 0), for the working days.
+WEEKDAYS = {
+    "mon": 0, "monday": 0, "tue": 1, "tues": 1, "tuesday": 1, "wed": 2, "wednesday": 2,
+    "thu": 3, "thur": 3, "thurs": 3, "thursday": 3, "fri": 4, "friday": 4,
+    "sat": 5, "saturday": 5, "sun": 6, "sunday": 6,
+}
+
+
+def parse_working_days(value: object) -> tuple[int, ...]:
+    """Weekdays (Monday = 0) from e.g. ``Mon-Fri``, ``Sun-Thu``, ``Mon, Tue, Thu``.
+
+    Examples
+    --------
+    >>> parse_working_days("Mon-Fri"), parse_working_days("Fri-Mon")
+    ((0, 1, 2, 3, 4), (0, 4, 5, 6))
+    """
+    s = str(value).strip().lower().replace("\u2013", "-")
+    days: set[int] = set()
+    for part in re.split(r"[,;/ ]+", s):
+        if not part:
+            continue
+        if "-" in part:
+            a, b = part.split("-", 1)
+            if a not in WEEKDAYS or b not in WEEKDAYS:
+                raise ValueError(part)
+            first, last = WEEKDAYS[a], WEEKDAYS[b]
+            days.update((first + k) % 7 for k in range((last - first) % 7 + 1))
+        elif part in WEEKDAYS:
+            days.add(WEEKDAYS[part])
+        else:
+            raise ValueError(part)
+    if not days:
+        raise ValueError(s)
+    return tuple(sorted(days))

@@ -15,6 +15,7 @@ from converter.options import parse_distribution, parse_due
 from converter.read.sheets import (
     ACTIVITY_COLUMNS,
     REQUIRED_ACTIVITY,
+    CellError,
     RawInput,
     SheetData,
     TableMatch,
@@ -56,7 +57,7 @@ def check_columns(raw: RawInput, out: Collector) -> bool:
             missing.append(FIELD_TITLES["predecessors"])
         out.error("missing-column",
                   f"required column(s) missing: {', '.join(missing)}; headers found: "
-                  f"{_header_list(found) or '(none)'}",
+                  f"{_header_list(found) or '(none)'}" + _searched(raw),
                   sheet.name, cell_name(match.header_row, 0) if match else "A1",
                   fix="Name the columns e.g. " + ", ".join(
                       ACTIVITY_COLUMNS[k][0].title() for k in
@@ -65,7 +66,7 @@ def check_columns(raw: RawInput, out: Collector) -> bool:
     if "predecessors" not in match.columns and raw.links is None:
         out.error("missing-column",
                   "required column missing: Predecessors (and no links sheet); headers found: "
-                  + _header_list(match.headers),
+                  + _header_list(match.headers) + _searched(raw),
                   match.sheet.name, cell_name(match.header_row, 0))
         return False
     if fixed_only:
@@ -74,6 +75,12 @@ def check_columns(raw: RawInput, out: Collector) -> bool:
                  match.sheet.name, cell_name(match.header_row, match.columns["most_likely"]),
                  fix="Add Optimistic and Pessimistic columns for a risk analysis.")
     return True
+
+
+def _searched(raw: RawInput) -> str:
+    """What the reader searched and why it passed sheets over, as a sentence to append."""
+    summary = raw.search_summary()
+    return f". {summary}" if summary else ""
 
 
 def _header_list(headers: list[str]) -> str:
@@ -141,14 +148,15 @@ def _activity(row, cols, r, sheet, ident, settings: Settings, out: Collector) ->
     name = ident if is_blank(name_raw) else str(name_raw).strip()
     dist = None
     d_raw = _cell(row, cols, "distribution")
-    if not is_blank(d_raw):
+    if not is_blank(d_raw) and not isinstance(d_raw, CellError):
         try:
             dist = parse_distribution(d_raw)
         except ValueError as exc:
             out.error("bad-distribution", str(exc), sheet, cell_name(r, cols["distribution"]),
                       ident)
     group_raw = _cell(row, cols, "group")
-    group = None if is_blank(group_raw) else id_text(group_raw)
+    group = None if is_blank(group_raw) or isinstance(group_raw, CellError) else id_text(
+        group_raw)
     target = _target(_cell(row, cols, "target"), cols, r, sheet, ident, settings, out)
     return Activity(ident, name, o, m, p, row=r + 1, distribution=dist, group=group,
                     target=target)
@@ -157,7 +165,7 @@ def _activity(row, cols, r, sheet, ident, settings: Settings, out: Collector) ->
 def _target(value, cols, r, sheet, ident, settings: Settings,
             out: Collector) -> float | dt.date | None:
     """An interim target: a duration, or a date when there is a start date."""
-    if is_blank(value):
+    if is_blank(value) or isinstance(value, CellError):  # an error cell: the reader's error
         return None
     where = cell_name(r, cols["target"])
     try:
@@ -189,6 +197,9 @@ def _estimate_values(row, cols, r, sheet, ident, out: Collector) -> dict | None:
         raw = row[c] if c is not None and c < len(row) else None
         if is_blank(raw):
             values[key] = None
+            continue
+        if isinstance(raw, CellError):  # the reader's error-value names the cell
+            bad = True
             continue
         where = cell_name(r, c)
         try:

@@ -13,7 +13,7 @@ from collections.abc import Iterable
 import networkx as nx
 
 from converter.model import LINK_TYPES, Activity, Link
-from converter.read.sheets import TableMatch, cell_name
+from converter.read.sheets import CellError, TableMatch, cell_name
 from converter.validate.problems import Collector
 from converter.values import LARGEST_LAG, id_text, is_blank, normalise, parse_number, shown
 
@@ -122,6 +122,8 @@ def read_predecessor_column(book: LinkBook, activities: list[Activity],
     pc = cols["predecessors"]
     id_column = cell_name(0, cols["id"])[:-1]
     for act, (r, value) in zip(activities, cells):
+        if isinstance(value, CellError):  # the reader's error-value names the cell
+            continue
         cell = cell_name(r, pc)
         for token in split_predecessors(value):
             parsed = parse_link_token(token)
@@ -162,6 +164,8 @@ def read_links_sheet(book: LinkBook, match: TableMatch) -> None:
         vals = {k: (row[c] if c < len(row) else None) for k, c in match.columns.items()}
         if all(is_blank(v) for v in vals.values()):
             continue
+        if any(isinstance(v, CellError) for v in vals.values()):
+            continue  # the reader's error-value names the cell; the row is not guessed at
         link = _link_row(book, match, r, vals)
         if link is not None:
             book.add(*link, match.sheet.name, cell_name(r, match.columns["pred"]))

@@ -10,7 +10,7 @@ import datetime as dt
 
 from converter.model import WARNING, Problem, Settings
 from converter.options import ConvertOptions, SheetValue, resolve
-from converter.read.sheets import SheetData, cell_name
+from converter.read.sheets import CellError, SheetData, cell_name
 from converter.values import is_blank, normalise, shown
 
 SETTING_LABELS: dict[str, tuple[str, ...]] = {
@@ -49,6 +49,11 @@ class SettingsSheet:
             label = row[0] if row else None
             value = row[1] if len(row) > 1 else None
             here = SheetValue(value, sheet.name, cell_name(r, 1))
+            if isinstance(label, CellError) or isinstance(value, CellError):
+                # the reader's error-value names the cell; a label still starts its setting
+                labelled = not is_blank(label) and not isinstance(label, CellError)
+                current = _SETTING_ALIASES.get(normalise(label)) if labelled else None
+                continue
             if is_blank(label):
                 if current == "holidays" and not is_blank(value):
                     self.holidays.append(here)

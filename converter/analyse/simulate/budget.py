@@ -37,12 +37,13 @@ from dataclasses import dataclass
 
 from converter.analyse.simulate.inputs import chunk_size
 from converter.model import ERROR, Problem
+from converter.options import DEFAULT_SIMULATION_MEMORY_MB, MIN_SIMULATION_MEMORY_MB
 
 #: The default budget of a simulation run, in MB (2**20 bytes).
-DEFAULT_MEMORY_MB = 1024
+DEFAULT_MEMORY_MB = DEFAULT_SIMULATION_MEMORY_MB
 
 #: The smallest budget accepted, in MB.
-MIN_MEMORY_MB = 32
+MIN_MEMORY_MB = MIN_SIMULATION_MEMORY_MB
 
 #: Sensitivities are computed from at least this many iterations (or all, if fewer):
 #: standard error about 0.033 at rho = 0.

@@ -38,6 +38,8 @@ class SimulationResult:
     #: Iterations the sensitivities come from: the first ones of the run (all of them
     #: unless the run's samples did not fit the memory budget, see :mod:`.budget`).
     sensitivity_iterations: int = 0
+    #: The memory budget the run was kept within, in MB (0: not recorded).
+    memory_budget_mb: int = 0
 
     def __post_init__(self) -> None:
         if not self.sensitivity_iterations:
@@ -75,7 +77,8 @@ class Counts:
 
 def summarise(project: np.ndarray, counts: Counts, sensitivity: np.ndarray, *, iterations,
               seed, distribution, correlation, due, pert_mean,
-              sensitivity_iterations: int = 0) -> SimulationResult:
+              sensitivity_iterations: int = 0, memory_budget_mb: int = 0
+              ) -> SimulationResult:
     """The result of a run from its project durations, counts and sensitivities."""
     y = project
     count = y.size
@@ -103,4 +106,5 @@ def summarise(project: np.ndarray, counts: Counts, sensitivity: np.ndarray, *, i
         sensitivity=sensitivity,
         target_p={i: h / count for i, h in counts.hits.items()},
         sensitivity_iterations=sensitivity_iterations,
+        memory_budget_mb=memory_budget_mb,
     )

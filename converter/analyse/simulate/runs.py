@@ -418,7 +418,7 @@ def simulate(
         raise _out_of_memory(inp, plan) from None
     common = dict(iterations=inp.iterations, seed=inp.seed, due=due, pert_mean=pert_mean,
                   distribution=_run_name(inp, distribution),
-                  sensitivity_iterations=plan.sample)
+                  sensitivity_iterations=plan.sample, memory_budget_mb=plan.budget >> 20)
     first = summarise(*results[0], correlation=0.0, **common)
     if not correlated:
         return first

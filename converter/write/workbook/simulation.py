@@ -110,7 +110,24 @@ def _write_run(ws, fmt, a, r: int) -> int:
     ws.write_string(r, 0, "To reproduce", fmt.label)
     ws.merge_range(r, 1, r, LAST, command, fmt.wrap)
     ws.set_row(r, row_height([(command, merged_width(WIDTHS[1:]))]))
+    note = sensitivity_note(sim)
+    if note is not None:
+        r += 1
+        ws.write_string(r, 0, "Sensitivities", fmt.label)
+        ws.merge_range(r, 1, r, LAST, note, fmt.wrap)
+        ws.set_row(r, row_height([(note, merged_width(WIDTHS[1:]))]))
     return r + 1
+
+
+def sensitivity_note(sim) -> str | None:
+    """Where the sensitivities come from when the memory budget kept only the first
+    iterations' samples (None when they use every iteration)."""
+    if sim.sensitivity_iterations >= sim.iterations:
+        return None
+    return (f"Sensitivities from the first {sim.sensitivity_iterations:,} of "
+            f"{sim.iterations:,} iterations (memory budget {sim.memory_budget_mb:,} MB); "
+            f"standard error about ±{sim.sensitivity_std_error:.2g} near 0 "
+            "(Fieller, Hartley & Pearson 1957)")
 
 
 def _write_results(ws, fmt, a, r: int) -> int:
@@ -314,4 +331,4 @@ def _write_most_critical(wb, ws, fmt, a, start: int) -> int:
     return head + top
 
 
-__all__ = ["reproduce_command", "write_simulation"]
+__all__ = ["reproduce_command", "sensitivity_note", "write_simulation"]
