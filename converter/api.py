@@ -25,8 +25,8 @@ from converter.model import ERROR, Problem, Schedule
 from converter.options import ConvertOptions
 
 __all__ = ["ConvertOptions", "ConvertResult", "Loaded", "PertbookError", "check", "convert",
-           "fit_stem", "kind_of", "load", "load_input", "name_limit", "new_file_mode",
-           "not_a_regular_file", "output_paths", "process_umask", "same_file"]
+           "fit_stem", "kind_of", "load", "load_input", "memory_problems", "name_limit",
+           "new_file_mode", "not_a_regular_file", "output_paths", "process_umask", "same_file"]
 
 #: The suffixes of ``convert``'s two outputs.
 RESULT_SUFFIXES = (".analysis.xlsx", ".analysis.json")
@@ -287,8 +287,33 @@ def load_input(path: str | os.PathLike, options: ConvertOptions | None = None) -
     read = read_input(Path(path))
     if read.raw is None:
         return Loaded(read.path, None, read.problems, read.sha256)
-    schedule, more = validate(read.raw, options or ConvertOptions())
-    return Loaded(read.path, schedule, read.problems + more, read.sha256)
+    options = options or ConvertOptions()
+    schedule, more = validate(read.raw, options)
+    if any(p.severity == ERROR for p in read.problems):
+        schedule = None  # an error cell (the reader's) is skipped by validation: invalid
+    elif schedule is not None:  # the reader's warnings go on the Warnings sheet too
+        schedule.warnings[:0] = read.problems
+    loaded = Loaded(read.path, schedule, read.problems + more, read.sha256)
+    if loaded.ok and options.simulate:
+        loaded.problems += memory_problems(schedule, options.simulation_memory_mb)
+    return loaded
+
+
+def memory_problems(schedule: Schedule, memory_mb: int | None) -> list[Problem]:
+    """The error of a valid schedule whose simulation cannot fit its memory budget
+    (code ``simulation-memory``, at the Iterations cell, naming the largest count that
+    fits), or of a budget below the smallest accepted; else nothing."""
+    from converter.analyse.simulate.budget import memory_problem
+    from converter.options import parse_memory_mb
+
+    if memory_mb is not None:
+        try:
+            memory_mb = parse_memory_mb(memory_mb)
+        except ValueError as exc:
+            return [Problem(ERROR, "bad-option", f"the simulation memory budget: {exc}",
+                            fix="Give --simulation-memory 32 (MB) or more.")]
+    problem = memory_problem(schedule, memory_mb)
+    return [] if problem is None else [problem]
 
 
 def load(path: str | os.PathLike, options: ConvertOptions | None = None):
@@ -322,6 +347,7 @@ def convert(
     raises :class:`PertbookError` before anything is read.
     """
     from converter.analyse.analysis import analyse
+    from converter.analyse.simulate.budget import SimulationMemoryError, refusal_problem
     from converter.write.json_summary import build_json
     from converter.write.workbook import write_workbook
 
@@ -340,7 +366,12 @@ def convert(
                            sheet=schedule.sheet if schedule else None)
     analysis = None
     if loaded.ok:
-        analysis = analyse(schedule, options)
+        try:
+            analysis = analyse(schedule, options)
+        except SimulationMemoryError as exc:  # the estimate passed, the run did not fit
+            problems.append(refusal_problem(exc, schedule.settings.source_of("iterations")))
+            result.ok = False
+    if result.ok and analysis is not None:
         _atomic_write(xlsx_target, lambda tmp: write_workbook(analysis, tmp))
         result.workbook = xlsx_target
         result.headline = analysis.headline()

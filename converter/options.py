@@ -18,12 +18,23 @@ from __future__ import annotations
 
 import argparse
 import datetime as dt
+import math
 import re
 from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass
 
 from converter.model import DISTRIBUTIONS, ERROR, Problem, Settings
-from converter.values import as_date, as_number, is_blank, normalise
+from converter.values import (
+    LARGEST_DURATION,
+    as_date,
+    as_number,
+    date_out_of_range,
+    is_blank,
+    normalise,
+    parse_number,
+    parse_working_days,
+    shown,
+)
 
 DISTRIBUTION_ALIASES = {
     "pert": "pert", "beta": "pert", "pertbeta": "pert", "betapert": "pert",
@@ -39,11 +50,6 @@ TIME_UNITS = {
     "elapseddays": "calendar days",
 }
 
-WEEKDAYS = {
-    "mon": 0, "monday": 0, "tue": 1, "tues": 1, "tuesday": 1, "wed": 2, "wednesday": 2,
-    "thu": 3, "thur": 3, "thurs": 3, "thursday": 3, "fri": 4, "friday": 4,
-    "sat": 5, "saturday": 5, "sun": 6, "sunday": 6,
-}
 
 CONFIDENCE_EXAMPLE = "50, 80, 90 or 50%, 80%, 90% or 0.5, 0.8, 0.9"
 
@@ -131,46 +137,93 @@ def _confidence_tokens(value: object) -> list[tuple[str, float, bool]]:
     return out
 
 
+def parse_date(value: object) -> dt.date:
+    """A date (a date cell or ``YYYY-MM-DD`` text) from 1900-03-01 on.
+
+    The one rule for every date given: the start date, a due date, a holiday, a target.
+
+    Examples
+    --------
+    >>> parse_date("2027-06-30")
+    datetime.date(2027, 6, 30)
+    >>> parse_date("1899-12-31")
+    Traceback (most recent call last):
+    ...
+    ValueError: 1899-12-31 is before 1900-03-01, the first date pertbook works with
+    """
+    d = as_date(value)
+    if d is None:
+        raise ValueError(f"{shown(value)} is not a date (use a date cell or YYYY-MM-DD)")
+    reason = date_out_of_range(d)
+    if reason is not None:
+        raise ValueError(reason)
+    return d
+
+
+def parse_duration(value: object) -> float:
+    """A duration in time units: a plain number from 0 to 10,000,000.
+
+    Examples
+    --------
+    >>> parse_duration("60"), parse_duration(2.5)
+    (60.0, 2.5)
+    """
+    x = parse_number(value)
+    if not 0 <= x <= LARGEST_DURATION:
+        raise ValueError(f"{shown(value)} is not a duration from 0 to "
+                         f"{LARGEST_DURATION:,.0f} time units")
+    return x
+
+
 def parse_due(value: object) -> float | dt.date | None:
-    """A due value: a date (cell or YYYY-MM-DD text) or a non-negative duration; blank: None.
+    """A due value: a date (cell or YYYY-MM-DD text) or a duration; blank: None.
 
     The same rule reads a due date on the command line, on the settings sheet and an
-    activity's interim target.
+    activity's interim target. A duration is a plain number from 0 to 10,000,000; a date
+    is from 1900-03-01 on (:func:`parse_date`).
 
     Examples
     --------
     >>> parse_due("60"), parse_due("2027-06-30"), parse_due(" ")
     (60.0, datetime.date(2027, 6, 30), None)
     """
+    if isinstance(value, float) and math.isnan(value):
+        raise ValueError("nan is not a date or a duration")
     if is_blank(value):
         return None
-    d = as_date(value)
-    if d is not None:
-        return d
+    if as_date(value) is not None:
+        return parse_date(value)
     x = as_number(value)
-    if x is not None and x >= 0:
-        return x
-    raise ValueError(f"{value!r} is neither a date (YYYY-MM-DD) nor a duration")
+    if x is None:
+        raise ValueError(f"{shown(value)} is neither a date (YYYY-MM-DD) nor a duration")
+    return parse_duration(x)
 
 
 def parse_start_date(value: object) -> dt.date:
-    """The project start: a date cell or ``YYYY-MM-DD`` text."""
-    d = as_date(value)
-    if d is None:
-        raise ValueError(f"{value!r} is not a date (use a date cell or YYYY-MM-DD)")
-    return d
+    """The project start: a date cell or ``YYYY-MM-DD`` text, from 1900-03-01 on."""
+    return parse_date(value)
 
 
 def _whole(value: object, low: int, high: int) -> int:
     x = as_number(value)
     if x is None or not x.is_integer() or not low <= x <= high:
-        raise ValueError(f"{value!r} is not a whole number from {low} to {high}")
+        raise ValueError(f"{shown(value)} is not a whole number from {low:,} to {high:,}")
     return int(x)
 
 
 def parse_iterations(value: object) -> int:
     """Monte Carlo iterations: a whole number from 1 to 10,000,000."""
     return _whole(value, 1, 10_000_000)
+
+
+#: The simulation's memory budget in MB: the default and the smallest accepted.
+DEFAULT_SIMULATION_MEMORY_MB = 1024
+MIN_SIMULATION_MEMORY_MB = 32
+
+
+def parse_memory_mb(value: object) -> int:
+    """The simulation's memory budget: a whole number of MB, at least 32."""
+    return _whole(value, MIN_SIMULATION_MEMORY_MB, 1 << 20)
 
 
 def parse_seed(value: object) -> int:
@@ -185,12 +238,12 @@ def parse_paths(value: object) -> int:
 
 def parse_correlation(value: object) -> float:
     """Rank correlation within a group: 0 up to (not including) 1; ``25%`` is 0.25."""
-    x = as_number(value)
-    if x is None and isinstance(value, str) and value.strip().endswith("%"):
-        x = as_number(value.strip()[:-1])
-        x = None if x is None else x / 100
+    try:
+        x = parse_number(value, percent=True)
+    except ValueError:
+        x = None
     if x is None or not 0.0 <= x < 1.0:
-        raise ValueError(f"{value!r} is not a correlation from 0 up to (not including) 1")
+        raise ValueError(f"{shown(value)} is not a correlation from 0 up to (not including) 1")
     return x
 
 
@@ -198,7 +251,7 @@ def parse_distribution(value: object) -> str:
     """``pert`` (also ``beta``), ``triangular`` (``tri``) or ``uniform`` (``flat``)."""
     d = DISTRIBUTION_ALIASES.get(normalise(value))
     if d is None:
-        raise ValueError(f"{value!r} is not one of {', '.join(DISTRIBUTIONS)}")
+        raise ValueError(f"{shown(value)} is not one of {', '.join(DISTRIBUTIONS)}")
     return d
 
 
@@ -206,36 +259,8 @@ def parse_time_unit(value: object) -> str:
     """``working days``, ``weeks`` (working weeks) or ``calendar days``."""
     u = TIME_UNITS.get(normalise(value))
     if u is None:
-        raise ValueError(f"{value!r} is not working days, weeks or calendar days")
+        raise ValueError(f"{shown(value)} is not working days, weeks or calendar days")
     return u
-
-
-def parse_working_days(value: object) -> tuple[int, ...]:
-    """Weekdays (Monday = 0) from e.g. ``Mon-Fri``, ``Sun-Thu``, ``Mon, Tue, Thu``.
-
-    Examples
-    --------
-    >>> parse_working_days("Mon-Fri"), parse_working_days("Fri-Mon")
-    ((0, 1, 2, 3, 4), (0, 4, 5, 6))
-    """
-    s = str(value).strip().lower().replace("\u2013", "-")
-    days: set[int] = set()
-    for part in re.split(r"[,;/ ]+", s):
-        if not part:
-            continue
-        if "-" in part:
-            a, b = part.split("-", 1)
-            if a not in WEEKDAYS or b not in WEEKDAYS:
-                raise ValueError(part)
-            first, last = WEEKDAYS[a], WEEKDAYS[b]
-            days.update((first + k) % 7 for k in range((last - first) % 7 + 1))
-        elif part in WEEKDAYS:
-            days.add(WEEKDAYS[part])
-        else:
-            raise ValueError(part)
-    if not days:
-        raise ValueError(s)
-    return tuple(sorted(days))
 
 
 # --------------------------------------------------------------------------- the options
@@ -245,22 +270,30 @@ class Option:
 
     ``attr`` is the :class:`ConvertOptions` field and command-line option (``--due``);
     ``None`` for options given only on the settings sheet. The default is the
-    :class:`~converter.model.Settings` field's own.
+    :class:`~converter.model.Settings` field's own. ``setting`` ``None`` marks an option of
+    the run alone (never read from the settings sheet, not a Settings field): its flag is
+    ``name`` and its default ``default``.
     """
 
-    setting: str
+    setting: str | None
     attr: str | None
     parse: Callable[[object], object]
     help: str = ""
     metavar: str | None = None
+    name: str | None = None
+    default: object = None
 
     @property
     def flag(self) -> str | None:
-        return None if self.attr is None else "--" + self.attr.replace("_", "-")
+        if self.attr is None:
+            return None
+        return "--" + (self.name or self.attr).replace("_", "-")
 
     @property
     def default_text(self) -> str:
         """The default in words, e.g. ``"10000"``, ``"50,80,90,95%"``, ``"none"``."""
+        if self.setting is None:
+            return "none" if self.default is None else str(self.default)
         value = getattr(Settings(), self.setting)
         if value is None:
             return "none"
@@ -287,8 +320,13 @@ OPTIONS: tuple[Option, ...] = (
            'confidence levels in percent, e.g. "50,80,90" (or "50%,80%" or "0.5,0.8")',
            "LEVELS"),
     Option("paths", "paths", parse_paths, "how many of the longest paths to list", "K"),
+    Option(None, "simulation_memory_mb", parse_memory_mb,
+           "memory budget of the simulation in MB, at least 32; beyond it the sensitivities "
+           "come from the first iterations only, or the run is refused (exit 2). The "
+           "watcher shares it among its workers", "MB", name="simulation_memory",
+           default=DEFAULT_SIMULATION_MEMORY_MB),
 )
-BY_SETTING: dict[str, Option] = {o.setting: o for o in OPTIONS}
+BY_SETTING: dict[str, Option] = {o.setting: o for o in OPTIONS if o.setting is not None}
 
 
 @dataclass
@@ -312,6 +350,7 @@ class ConvertOptions:
     simulate: bool = True
     progress: object | None = None  # callable(done, total) for the simulation
     simulation_workers: int | None = None  # processes for the simulation; None: from the cores
+    simulation_memory_mb: int | None = None  # simulation memory budget (MB); None: 1024
 
 
 # --------------------------------------------------------------------------- command line
@@ -322,7 +361,7 @@ def _argument_type(option: Option) -> Callable[[str], object]:
         except (ValueError, TypeError) as exc:
             raise argparse.ArgumentTypeError(str(exc)) from None
 
-    parse.__name__ = option.setting
+    parse.__name__ = option.setting or option.attr or "value"
     return parse
 
 
@@ -400,7 +439,7 @@ def resolve(
     for option in OPTIONS:
         value = None if options is None or option.attr is None else getattr(options,
                                                                               option.attr)
-        if value is None:
+        if value is None or option.setting is None:
             continue
         try:
             setattr(settings, option.setting, option.parse(value))
@@ -415,13 +454,10 @@ def resolve(
 def _resolve_holidays(settings: Settings, given: list[SheetValue], problems: list) -> None:
     days = []
     for g in given:
-        d = as_date(g.value)
-        if d is None:
-            problems.append(Problem(ERROR, "bad-setting",
-                                    f"holiday {g.value!r} is not a date (use a date cell or "
-                                    "YYYY-MM-DD)", g.sheet, g.cell))
-        else:
-            days.append(d)
+        try:
+            days.append(parse_date(g.value))
+        except ValueError as exc:
+            problems.append(Problem(ERROR, "bad-setting", f"holiday {exc}", g.sheet, g.cell))
     if days:
         settings.holidays = tuple(sorted(set(days)))
         settings.sources["holidays"] = f"settings sheet ({given[0].sheet})"

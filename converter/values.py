@@ -3,6 +3,10 @@
 Cells arrive from calamine (numbers, dates, text) or from a CSV file (always text), and
 options arrive from the command line (text); the same rules read all of them. These are
 used by the option parsers (:mod:`converter.options`) and by validation.
+
+The limits here are what the analysis can compute with (see the README, "Limits"):
+durations up to :data:`LARGEST_DURATION` time units, lags and leads up to
+:data:`LARGEST_LAG`, and dates from :data:`FIRST_DATE` to :data:`LAST_DATE`.
 """
 
 from __future__ import annotations
@@ -11,7 +15,25 @@ import datetime as dt
 import math
 import re
 
-_INTEGRAL_TEXT = re.compile(r"^[1-9]\d*\.0+$|^0\.0+$")
+#: The largest duration (an estimate, a due or a target duration) in time units.
+LARGEST_DURATION = 1e7
+#: The largest lag or lead, in time units (either sign).
+LARGEST_LAG = 1e7
+#: The first date pertbook works with: spreadsheet date serials agree between programs
+#: only from 1 March 1900 (the 1900 date system counts a 29 February 1900 that never was).
+FIRST_DATE = dt.date(1900, 3, 1)
+#: The last date a spreadsheet can hold.
+LAST_DATE = dt.date(9999, 12, 31)
+
+#: A plain decimal number: an optional sign, digits with an optional decimal point, an
+#: optional exponent. No digit group separators, underscores, words (inf, nan) or
+#: digits of other scripts: what Python's float() accepts beyond this is refused.
+_PLAIN_NUMBER = re.compile(r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?")
+_INTEGRAL_TEXT = re.compile(r"^[1-9][0-9]*\.0+$|^0\.0+$")
+_ISO_DATE_TIME = re.compile(
+    r"([0-9]{4}-[0-9]{2}-[0-9]{2})(?:[ T]([0-9]{1,2}:[0-9]{2}(?::[0-9]{2}(?:\.[0-9]{1,6})?)?))?")
+_TIME = re.compile(r"([0-9]{1,2}):([0-9]{2})(?::([0-9]{2}))?")
+_LONGEST_SHOWN = 60
 
 
 def normalise(text: object) -> str:
@@ -25,7 +47,10 @@ def normalise(text: object) -> str:
     ('mostlikely', 'lead/lag')
     """
     s = str(text).strip().lower()
-    s = re.sub(r"\s*\([^)]*\)\s*$", "", s)
+    if s.endswith(")"):  # the bracket part: from the first "(" after any earlier ")"
+        opening = s.find("(", s.rfind(")", 0, len(s) - 1) + 1, len(s) - 1)
+        if opening >= 0:
+            s = s[:opening]
     return re.sub(r"[\s_.\-]+", "", s)
 
 
@@ -44,66 +69,226 @@ def is_blank(value: object) -> bool:
     return isinstance(value, str) and not value.strip()
 
 
+# --------------------------------------------------------------------------- showing
+def _time_text(t: dt.time) -> str:
+    text = f"{t.hour:02d}:{t.minute:02d}"
+    if t.second or t.microsecond:
+        text += f":{t.second:02d}"
+    if t.microsecond:
+        text += f".{t.microsecond:06d}".rstrip("0")
+    return text
+
+
+def _date_time_text(value: dt.datetime) -> str:
+    if value.time() == dt.time(0):
+        return value.date().isoformat()
+    return f"{value.date().isoformat()} {_time_text(value.time())}"
+
+
+def _number_text(x: float) -> str:
+    if math.isfinite(x) and x.is_integer() and abs(x) < 1e16:
+        return str(int(x))
+    return repr(x)
+
+
+def shown(value: object) -> str:
+    """A cell's value as the user typed or sees it, for messages.
+
+    Text in double quotes (long text cut short), numbers without a needless ``.0``, dates
+    as ``YYYY-MM-DD``, times of day as ``HH:MM``; never Python's own notation.
+
+    Examples
+    --------
+    >>> shown(dt.date(2024, 3, 1)), shown(dt.datetime(2024, 1, 2, 10, 30)), shown(3.0)
+    ('2024-03-01', '2024-01-02 10:30', '3')
+    >>> shown(" two "), shown(dt.time(9, 5)), shown(1e155)
+    ('"two"', '09:05', '1e+155')
+    """
+    if isinstance(value, bool):
+        return str(value).upper()
+    if isinstance(value, float):
+        return _number_text(value)
+    if isinstance(value, int):
+        text = str(value)
+        return text if len(text) <= _LONGEST_SHOWN else f"a {len(text)}-digit number"
+    if isinstance(value, dt.datetime):
+        return _date_time_text(value)
+    if isinstance(value, dt.date):
+        return value.isoformat()
+    if isinstance(value, dt.time):
+        return _time_text(value)
+    text = str(value).strip()
+    if len(text) > _LONGEST_SHOWN:
+        return f'"{text[:_LONGEST_SHOWN - 20]}...{text[-10:]}" ({len(text)} characters)'
+    return f'"{text}"'
+
+
+# --------------------------------------------------------------------------- numbers
+def parse_number(value: object, *, percent: bool = False) -> float:
+    """A finite number from a numeric cell or plain decimal text; ``ValueError`` otherwise.
+
+    Text must be a plain decimal number: an optional sign (``-``, ``+`` or the minus sign
+    U+2212), digits with an optional decimal point and an optional exponent (``2.5``,
+    ``-1``, ``1e3``). Python's ``float`` also reads ``1_0``, ``nan``, ``inf`` and digits
+    of other scripts; these are refused. With ``percent``, ``25%`` is read as 0.25.
+
+    Parameters
+    ----------
+    value : object
+        A cell value (number, text, date, ...) or a command-line text.
+    percent : bool
+        Whether a trailing ``%`` is allowed (the number is then divided by 100).
+
+    Returns
+    -------
+    float
+        The number, finite.
+
+    Raises
+    ------
+    ValueError
+        With a message that starts with the value as shown to the user.
+
+    Examples
+    --------
+    >>> parse_number(" 2.5 "), parse_number("\u22121e3"), parse_number("25%", percent=True)
+    (2.5, -1000.0, 0.25)
+    >>> parse_number("1_0")
+    Traceback (most recent call last):
+    ...
+    ValueError: "1_0" is not a plain number (such as 2.5, -1 or 1e3)
+    """
+    if type(value) is float and math.isfinite(value):  # the common case first
+        return value
+    if isinstance(value, bool):
+        raise ValueError(f"{shown(value)} is a true/false value, not a number")
+    if isinstance(value, (dt.date, dt.datetime)):
+        raise ValueError(f"{shown(value)} is a date, not a number")
+    if isinstance(value, (dt.time, dt.timedelta)):
+        raise ValueError(f"{shown(value)} is a time, not a number")
+    if isinstance(value, (int, float)):
+        try:
+            x = float(value)
+        except OverflowError:
+            raise ValueError(f"{shown(value)} is too large to compute with") from None
+        if not math.isfinite(x):
+            raise ValueError(f"{shown(value)} is not a finite number")
+        return x
+    if not isinstance(value, str):
+        raise ValueError(f"{shown(value)} is not a number")
+    text = value.strip().replace("\u2212", "-")
+    scale = 1.0
+    if percent and text.endswith("%"):
+        text, scale = text[:-1].rstrip(), 0.01
+    if not _PLAIN_NUMBER.fullmatch(text):
+        raise ValueError(f"{shown(value)} is not a plain number (such as 2.5, -1 or 1e3)")
+    x = float(text)
+    if not math.isfinite(x):
+        raise ValueError(f"{shown(value)} is too large to compute with")
+    return x * scale
+
+
 def as_number(value: object) -> float | None:
-    """A finite number from a numeric cell or numeric text; None when it is not one.
+    """:func:`parse_number` without a message: the number, or None when it is not one.
 
     Examples
     --------
     >>> as_number(" 2.5 "), as_number("\u22121"), as_number("two"), as_number(True)
     (2.5, -1.0, None, None)
     """
-    if isinstance(value, bool):
+    try:
+        return parse_number(value)
+    except ValueError:
         return None
-    if isinstance(value, (int, float)):
-        x = float(value)
-        return x if math.isfinite(x) else None
-    if isinstance(value, str):
-        try:
-            x = float(value.strip().replace("\u2212", "-"))
-        except ValueError:
-            return None
-        return x if math.isfinite(x) else None
-    return None
 
 
+# --------------------------------------------------------------------------- dates
 def as_date(value: object) -> dt.date | None:
     """A date from a date cell or ``YYYY-MM-DD`` text (a time of day is dropped).
 
+    Text must be the whole date, optionally followed by a time of day
+    (``2025-03-03 09:00`` or ``2025-03-03T09:00``); ``20250303`` is a number, not a date.
+
     Examples
     --------
-    >>> as_date("2025-03-03"), as_date("next monday")
-    (datetime.date(2025, 3, 3), None)
+    >>> as_date("2025-03-03"), as_date("next monday"), as_date("20250303")
+    (datetime.date(2025, 3, 3), None, None)
     """
     if isinstance(value, dt.datetime):
         return value.date()
     if isinstance(value, dt.date):
         return value
     if isinstance(value, str):
+        m = _ISO_DATE_TIME.fullmatch(value.strip())
+        if m is None:
+            return None
         try:
-            return dt.date.fromisoformat(value.strip()[:10])
+            return dt.date.fromisoformat(m.group(1))
         except ValueError:
             return None
     return None
 
 
+def date_out_of_range(d: dt.date) -> str | None:
+    """Why ``d`` is outside the dates pertbook works with; None when it is inside.
+
+    Examples
+    --------
+    >>> date_out_of_range(dt.date(1899, 12, 31)) is None, date_out_of_range(LAST_DATE)
+    (False, None)
+    """
+    if d < FIRST_DATE:
+        return (f"{d.isoformat()} is before {FIRST_DATE.isoformat()}, the first date "
+                "pertbook works with")
+    return None  # no Python date is after LAST_DATE
+
+
+# --------------------------------------------------------------------------- IDs
+def _id_of_text(text: str) -> str:
+    if not text[:1].isdigit():  # every rule below is for text that starts with a digit
+        return text
+    if _INTEGRAL_TEXT.match(text):
+        return text.split(".")[0]
+    m = _ISO_DATE_TIME.fullmatch(text)
+    if m is not None:
+        try:
+            when = dt.datetime.fromisoformat(f"{m.group(1)} {m.group(2) or '00:00'}")
+        except ValueError:
+            return text
+        return _date_time_text(when)
+    m = _TIME.fullmatch(text)
+    if m is not None:
+        hour, minute, second = (int(g or 0) for g in m.groups())
+        if hour < 24 and minute < 60 and second < 60:
+            return _time_text(dt.time(hour, minute, second))
+    return text
+
+
 def id_text(value: object) -> str:
-    """IDs are text; a numeric cell 3 or 3.0 (or the text "3.0" of a CSV export) is ID "3".
+    """An activity ID as text: the one rule for IDs wherever they appear.
+
+    The ID column, each predecessor token, the links sheet and groups all read IDs
+    through this, so the same ID typed as a number, a date or text is the same ID:
+    a number 3 or 3.0 and the text ``3.0`` are ``"3"``; a date is ``YYYY-MM-DD``; a date
+    and time (a cell, or text with ``T`` or a space) is ``YYYY-MM-DD HH:MM`` (seconds
+    when not zero); a time of day is ``HH:MM``.
 
     Examples
     --------
     >>> id_text(3.0), id_text("3.0"), id_text(" A3 ")
     ('3', '3', 'A3')
+    >>> id_text(dt.datetime(2024, 1, 2, 10, 30)), id_text("2024-01-02T10:30:00")
+    ('2024-01-02 10:30', '2024-01-02 10:30')
     """
+    if isinstance(value, str):
+        return _id_of_text(value.strip())
     if isinstance(value, bool):
         return str(value).upper()
-    if isinstance(value, float) and value.is_integer():
-        return str(int(value))
-    if isinstance(value, (dt.datetime, dt.date)):
-        return value.isoformat()
-    text = str(value).strip()
-    if _INTEGRAL_TEXT.match(text):
-        return text.split(".")[0]
-    return text
+    if isinstance(value, float):
+        return str(int(value)) if value.is_integer() else repr(value)
+    if isinstance(value, (dt.date, dt.time)):  # a datetime is a date too
+        return shown(value)
+    return _id_of_text(str(value).strip())
 
 
 def as_written(value: object) -> str:
@@ -120,16 +305,42 @@ def as_written(value: object) -> str:
     >>> as_written(dt.time(8, 0)), as_written(3.0), as_written(2.5), as_written(" NA ")
     ('08:00', '3', '2.5', 'NA')
     """
-    if isinstance(value, dt.datetime):
-        if value.time() == dt.time(0):
-            return value.date().isoformat()
-        return value.strftime("%Y-%m-%d %H:%M" if not value.second else "%Y-%m-%d %H:%M:%S")
-    if isinstance(value, dt.date):
-        return value.isoformat()
-    if isinstance(value, dt.time):
-        return value.strftime("%H:%M" if not value.second else "%H:%M:%S")
-    if isinstance(value, float) and math.isfinite(value) and value.is_integer():
-        return str(int(value))
-    if isinstance(value, float):
-        return repr(value)
+    if isinstance(value, (bool, int, float, dt.date, dt.time)):
+        return shown(value)
     return str(value).strip()
+
+
+#: Weekday names and abbreviations (Monday = 0), for the working days.
+WEEKDAYS = {
+    "mon": 0, "monday": 0, "tue": 1, "tues": 1, "tuesday": 1, "wed": 2, "wednesday": 2,
+    "thu": 3, "thur": 3, "thurs": 3, "thursday": 3, "fri": 4, "friday": 4,
+    "sat": 5, "saturday": 5, "sun": 6, "sunday": 6,
+}
+
+
+def parse_working_days(value: object) -> tuple[int, ...]:
+    """Weekdays (Monday = 0) from e.g. ``Mon-Fri``, ``Sun-Thu``, ``Mon, Tue, Thu``.
+
+    Examples
+    --------
+    >>> parse_working_days("Mon-Fri"), parse_working_days("Fri-Mon")
+    ((0, 1, 2, 3, 4), (0, 4, 5, 6))
+    """
+    s = str(value).strip().lower().replace("\u2013", "-")
+    days: set[int] = set()
+    for part in re.split(r"[,;/ ]+", s):
+        if not part:
+            continue
+        if "-" in part:
+            a, b = part.split("-", 1)
+            if a not in WEEKDAYS or b not in WEEKDAYS:
+                raise ValueError(part)
+            first, last = WEEKDAYS[a], WEEKDAYS[b]
+            days.update((first + k) % 7 for k in range((last - first) % 7 + 1))
+        elif part in WEEKDAYS:
+            days.add(WEEKDAYS[part])
+        else:
+            raise ValueError(part)
+    if not days:
+        raise ValueError(s)
+    return tuple(sorted(days))

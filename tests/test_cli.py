@@ -528,17 +528,18 @@ def test_convert_and_watch_take_the_same_conversion_options():
     # the list the issue names, no more and no fewer
     assert set(convert_opts) == {"--due", "--json", "--iterations", "--seed", "--distribution",
                                  "--correlation", "--paths", "--confidence", "--start-date",
-                                 "--no-simulation"}
+                                 "--no-simulation", "--simulation-memory"}
     given = ["--due", "2027-06-30", "--json", "--iterations", "500", "--seed", "7",
              "--distribution", "tri", "--correlation", "25%", "--paths", "4",
-             "--confidence", "50,80", "--start-date", "2027-01-04", "--no-simulation"]
+             "--confidence", "50,80", "--start-date", "2027-01-04", "--no-simulation",
+             "--simulation-memory", "512"]
     parser = cli.build_parser()
     from_convert = options_from_args(parser.parse_args(["convert", "x.xlsx", *given]))
     from_watch = options_from_args(parser.parse_args(["watch", "F", *given]))
     assert from_convert == from_watch == ConvertOptions(
         due=dt.date(2027, 6, 30), json=True, iterations=500, seed=7, distribution="triangular",
         correlation=0.25, paths=4, confidence=(0.5, 0.8), start_date=dt.date(2027, 1, 4),
-        simulate=False)
+        simulate=False, simulation_memory_mb=512)
     defaults = options_from_args(parser.parse_args(["watch", "F"]))
     assert defaults == options_from_args(parser.parse_args(["convert", "x"])) == ConvertOptions()
 

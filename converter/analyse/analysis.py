@@ -17,7 +17,13 @@ import numpy as np
 from converter.analyse import figures, pert
 from converter.analyse.calendar import Calendar, days_per_unit
 from converter.analyse.checks import Check, run_checks
-from converter.analyse.figures import ActivityDates, ConfidenceRow, FinishRow, Histogram
+from converter.analyse.figures import (
+    ActivityDates,
+    ConfidenceRow,
+    FinishRow,
+    Histogram,
+    TimelineBars,
+)
 from converter.analyse.network import (
     CpmResult,
     Network,
@@ -95,6 +101,7 @@ class Analysis:
     most_critical: list[int] = field(default_factory=list)  # by criticality index (simulated)
     timeline: list[int] = field(default_factory=list)  # activities the timeline charts
     timeline_cut: bool = False  # whether the timeline charts only some activities
+    timeline_bars: TimelineBars | None = None  # where the timeline's bars sit
 
     @property
     def project_sd(self) -> float:
@@ -285,6 +292,7 @@ def _simulate(schedule: Schedule, net: Network, o, m, p, due, targets: list[Targ
         pert_mean=project_mean,
         progress=getattr(options, "progress", None) if options is not None else None,
         workers=getattr(options, "simulation_workers", None),
+        memory_mb=getattr(options, "simulation_memory_mb", None),
     )
     for t in targets:
         t.p_simulated = simulation.target_p.get(t.activity)
@@ -307,3 +315,4 @@ def _add_figures(a: Analysis) -> None:
         a.activity_dates = figures.activity_dates(cal, a.cpm)
     a.timeline, a.timeline_cut = figures.timeline_rows(
         len(a.ids), [pr.path.activities for pr in a.paths], a.cpm.total_float)
+    a.timeline_bars = figures.timeline_bars(a.timeline, a.cpm, a.te, a.activity_dates)

@@ -20,9 +20,13 @@ Conventions for an offset ``t`` (``x`` = ``t`` in working days, after rounding t
   ``x <= 0`` (a milestone at the project start) is on the date of work at ``x``,
   i.e. ``finish_date(t) == start_date(t)`` for ``t <= 0``; ``t = 0`` is day 1.
 
-So a zero-duration milestone at offset 5 shows start date = working day 6 and
-finish date = working day 5 (the end of day 5 and the start of day 6 are the same
-instant).
+* an activity's start date never falls after its finish date: given the finish offset
+  too (:meth:`Calendar.start_dates` with ``finishes``), the start is working day
+  ``min(floor(x_start) + 1, finish day)``. This matters only for an activity of zero
+  length on the calendar, a milestone: at offset 5 it starts and finishes on working
+  day 5, the day the work before it is finished (the end of day 5 and the start of
+  day 6 are the same instant; the milestone takes the date of the day that ends).
+  For any positive length ``floor(x_start) + 1 <= ceil(x_finish)`` already.
 
 Python dates come from numpy's business-day functions (``numpy.busday_offset``,
 ``numpy.busday_count``). The sheet formulas use ``WORKDAY.INTL`` (documented by
@@ -105,6 +109,8 @@ class Calendar:
     datetime.date(2025, 3, 12)
     >>> cal.offset_of(dt.date(2025, 3, 12))
     3.0
+    >>> cal.start_date(3), cal.start_date(3, finish=3)  # a milestone takes its finish date
+    (datetime.date(2025, 3, 13), datetime.date(2025, 3, 12))
     >>> cal.start_date_formula("T", "S", "H")
     'WORKDAY.INTL(WORKDAY.INTL(S-1,1,"0000011",H),INT(ROUND(T,9)),"0000011",H)'
     """
@@ -196,21 +202,43 @@ class Calendar:
             out = np.busday_offset(self._start64, n, roll="forward", busdaycal=self._busdaycal)
         return np.atleast_1d(out).astype("datetime64[D]").tolist()
 
-    def start_dates(self, ts) -> list[dt.date]:
-        """:meth:`start_date` for each offset in ``ts`` (vectorised)."""
-        return self._dates(np.floor(self._steps(ts)))
+    def _finish_steps(self, ts) -> np.ndarray:
+        x = self._steps(ts)
+        return np.where(x > 0, np.ceil(x) - 1, np.floor(x))
+
+    def start_dates(self, ts, finishes=None) -> list[dt.date]:
+        """:meth:`start_date` for each offset in ``ts`` (vectorised).
+
+        Parameters
+        ----------
+        ts : array_like
+            Start offsets.
+        finishes : array_like, optional
+            Each activity's finish offset. Given, a start date is never after the finish
+            date of ``finishes``: a milestone (zero length) starts on the day it finishes,
+            the day the work before it ends.
+
+        Returns
+        -------
+        list of datetime.date
+        """
+        n = np.floor(self._steps(ts))
+        if finishes is not None:
+            n = np.minimum(n, self._finish_steps(finishes))
+        return self._dates(n)
 
     def finish_dates(self, ts) -> list[dt.date]:
         """:meth:`finish_date` for each offset in ``ts`` (vectorised)."""
-        x = self._steps(ts)
-        return self._dates(np.where(x > 0, np.ceil(x) - 1, np.floor(x)))
+        return self._dates(self._finish_steps(ts))
 
-    def start_date(self, t: float) -> dt.date:
+    def start_date(self, t: float, finish: float | None = None) -> dt.date:
         """Date on which work at offset ``t`` is done: working day ``floor(x) + 1``.
 
-        ``t = 4.3`` working days is during the 5th working day.
+        ``t = 4.3`` working days is during the 5th working day. With ``finish`` (the
+        activity's finish offset), never after :meth:`finish_date` of it: a milestone at
+        ``t = finish = 5`` starts on working day 5.
         """
-        return self.start_dates([t])[0]
+        return self.start_dates([t], None if finish is None else [finish])[0]
 
     def finish_date(self, t: float) -> dt.date:
         """Date at the END of which offset ``t`` is reached: working day ``ceil(x)``.
@@ -274,8 +302,13 @@ class Calendar:
         hol = self._holiday_arg(holidays_ref)
         return f'WORKDAY.INTL({first},{n_text},"{self.weekend_code}"{hol})'
 
+    def _finish_steps_formula(self, offset_ref: str) -> str:
+        x = self.steps_formula(offset_ref)
+        return f"IF({x}>0,ROUNDUP({x},0)-1,INT({x}))"
+
     def start_date_formula(
-        self, offset_ref: str, start_ref: str, holidays_ref: str | None = None
+        self, offset_ref: str, start_ref: str, holidays_ref: str | None = None,
+        finish_ref: str | None = None,
     ) -> str:
         """Formula text (no leading "=") giving :meth:`start_date` of the offset in ``offset_ref``.
 
@@ -285,8 +318,14 @@ class Calendar:
         it (``days = 0`` returns working day 1 itself; negative steps go back).
         Calendar days: ``S+INT(ROUND(T,9))`` (no WORKDAY.INTL; format the cell as a date).
         ``holidays_ref`` may be None only when the calendar has no holidays.
+
+        With ``finish_ref`` (the cell of the activity's finish offset) the step count is
+        ``MIN(INT(ROUND(T,9)),<the finish step count of F>)``, as
+        :meth:`start_dates` with ``finishes``: a milestone starts on its finish date.
         """
         n_text = f"INT({self.steps_formula(offset_ref)})"
+        if finish_ref is not None:
+            n_text = f"MIN({n_text},{self._finish_steps_formula(finish_ref)})"
         return self._day_formula(n_text, start_ref, holidays_ref)
 
     def finish_date_formula(
@@ -297,9 +336,8 @@ class Calendar:
         As :meth:`start_date_formula` with the step count
         ``IF(x>0,ROUNDUP(x,0)-1,INT(x))`` where ``x = ROUND(T,9)`` (``T*days`` for weeks).
         """
-        x = self.steps_formula(offset_ref)
-        n_text = f"IF({x}>0,ROUNDUP({x},0)-1,INT({x}))"
-        return self._day_formula(n_text, start_ref, holidays_ref)
+        return self._day_formula(self._finish_steps_formula(offset_ref), start_ref,
+                                 holidays_ref)
 
     def offset_of_formula(
         self, date_ref: str, start_ref: str, holidays_ref: str | None = None

@@ -74,13 +74,17 @@ def _finish_dates(calendar: Calendar | None, offsets: list[float]) -> list[dt.da
 def finish_table(
     mean: float, sd: float, simulation: SimulationResult | None, calendar: Calendar | None
 ) -> list[FinishRow]:
-    """Durations in round steps from the analytic P1 to P99 (the simulated range if sd is 0)."""
+    """Durations in round steps over the analytic P1 to P99 and the simulated P1 to P99
+    (both curves run their whole course on the chart)."""
     from scipy.stats import norm
 
+    ranges = []
     if sd > 0:
-        lo, hi = mean + norm.ppf(TABLE_LOW) * sd, mean + norm.ppf(TABLE_HIGH) * sd
-    elif simulation is not None and simulation.sd > 0:
-        lo, hi = simulation.percentile(TABLE_LOW), simulation.percentile(TABLE_HIGH)
+        ranges.append((mean + norm.ppf(TABLE_LOW) * sd, mean + norm.ppf(TABLE_HIGH) * sd))
+    if simulation is not None and simulation.sd > 0:
+        ranges.append((simulation.percentile(TABLE_LOW), simulation.percentile(TABLE_HIGH)))
+    if ranges:
+        lo, hi = min(r[0] for r in ranges), max(r[1] for r in ranges)
     else:
         lo = hi = mean
     step = nice_step(hi - lo)
@@ -128,7 +132,9 @@ class Histogram:
 
     ``upper[k]`` is the upper edge of bin ``k``; ``share`` and ``cumulative`` are the
     count and the running count over the iterations. ``due_bin`` is the bin that holds
-    the due date (None without one, or when it lies outside every bin).
+    the due date (None without one, or when it lies outside every bin). ``due_at`` is
+    where the due date falls on a chart whose bins stand at 1, 2, ... (bin ``k`` spans
+    ``k + 0.5`` to ``k + 1.5``), and ``peak`` the largest count.
     """
 
     upper: list[float]
@@ -137,6 +143,8 @@ class Histogram:
     share: list[float]
     cumulative: list[float]
     due_bin: int | None
+    due_at: float | None = None
+    peak: int = 0
 
 
 def histogram(durations: np.ndarray, due: float | None, bins: int = 30) -> Histogram:
@@ -145,8 +153,8 @@ def histogram(durations: np.ndarray, due: float | None, bins: int = 30) -> Histo
     Examples
     --------
     >>> h = histogram(np.array([1.0, 2.0, 2.5, 4.0]), due=2.2, bins=3)
-    >>> h.upper, h.counts, h.due_bin
-    ([2.0, 3.0, 4.0], [1, 2, 1], 1)
+    >>> h.upper, h.counts, h.due_bin, round(h.due_at, 6), h.peak
+    ([2.0, 3.0, 4.0], [1, 2, 1], 1, 1.7, 2)
     """
     lo, hi = float(durations.min()), float(durations.max())
     if hi <= lo:
@@ -161,10 +169,13 @@ def histogram(durations: np.ndarray, due: float | None, bins: int = 30) -> Histo
         edges = edges[1:]
     total = float(counts.sum())
     width = float(edges[1] - edges[0]) if edges.size > 1 else 0.0
-    due_bin = None
+    due_bin = due_at = None
     if due is not None and edges.size:
         k = int(np.searchsorted(edges, due, side="left"))
         due_bin = k if k < edges.size and (edges[k] - width) <= due else None
+        if due_bin is not None:  # bin k's lower edge is at k + 0.5 on the chart
+            into = (due - (edges[k] - width)) / width if width > 0 else 0.5
+            due_at = k + 0.5 + float(into)
     return Histogram(
         upper=edges.tolist(),
         counts=counts.tolist(),
@@ -172,6 +183,8 @@ def histogram(durations: np.ndarray, due: float | None, bins: int = 30) -> Histo
         share=(counts / total).tolist(),
         cumulative=(np.cumsum(counts) / total).tolist(),
         due_bin=due_bin,
+        due_at=due_at,
+        peak=int(counts.max()) if counts.size else 0,
     )
 
 
@@ -188,9 +201,9 @@ class ActivityDates:
 def activity_dates(calendar: Calendar, cpm: CpmResult) -> ActivityDates:
     """Start dates (work at the offset) and finish dates (end of the day reached)."""
     return ActivityDates(
-        early_start=calendar.start_dates(cpm.es),
+        early_start=calendar.start_dates(cpm.es, finishes=cpm.ef),
         early_finish=calendar.finish_dates(cpm.ef),
-        late_start=calendar.start_dates(cpm.ls),
+        late_start=calendar.start_dates(cpm.ls, finishes=cpm.lf),
         late_finish=calendar.finish_dates(cpm.lf),
     )
 
@@ -226,3 +239,56 @@ def timeline_rows(n: int, path_activities: list[list[int]], total_float) -> tupl
                 break
             keep.add(i)
     return sorted(keep)[:CHART_LIMIT], True
+
+
+@dataclass
+class TimelineBars:
+    """Where each charted activity's bar sits on the timeline, in the axis unit.
+
+    With a calendar the axis is in dates: ``start`` is the early start date's serial day
+    and the lengths are calendar days (the bar runs from the start of the early start day
+    to the end of the early finish day; the float from there to the end of the late finish
+    day). Without one, the axis is in schedule units from the start: ``start`` is the early
+    start, the bar the expected duration, the float the total float. ``marker`` is the
+    length a milestone's mark takes: an eightieth of the span, at least a day (or 0.5).
+    """
+
+    start: list[float]
+    length: list[float]
+    float_: list[float]
+    dates: bool
+    marker: float = 1.0
+
+
+def timeline_bars(rows: list[int], cpm: CpmResult, te, dates: ActivityDates | None,
+                  epoch: dt.date = dt.date(1899, 12, 30)) -> TimelineBars:
+    """Bars for the activities ``rows`` (see :class:`TimelineBars`).
+
+    ``epoch`` is day 0 of the spreadsheet's serial dates (the 1900 date system).
+
+    Examples
+    --------
+    >>> cpm = CpmResult.__new__(CpmResult)
+    >>> cpm.es, cpm.total_float = np.array([0.0, 2.0]), np.array([0.0, 1.5])
+    >>> b = timeline_bars([0, 1], cpm, np.array([2.0, 0.0]), None)
+    >>> b.start, b.length, b.float_, b.marker
+    ([0.0, 2.0], [2.0, 0.0], [0.0, 1.5], 0.5)
+    """
+    if dates is None:
+        bars = TimelineBars(
+            start=[float(cpm.es[i]) for i in rows],
+            length=[float(te[i]) for i in rows],
+            float_=[max(0.0, float(cpm.total_float[i])) for i in rows],
+            dates=False)
+    else:
+        es, ef, lf = dates.early_start, dates.early_finish, dates.late_finish
+        bars = TimelineBars(
+            start=[float((es[i] - epoch).days) for i in rows],
+            length=[float(max(0, (ef[i] - es[i]).days + 1)) if te[i] > 0 else 0.0
+                    for i in rows],
+            float_=[float(max(0, (lf[i] - ef[i]).days)) for i in rows],
+            dates=True)
+    ends = [s + n + f for s, n, f in zip(bars.start, bars.length, bars.float_, strict=True)]
+    span = (max(ends) - min(bars.start)) if rows else 0.0
+    bars.marker = round(max(span / 80.0, 1.0 if bars.dates else 0.5), 2)
+    return bars

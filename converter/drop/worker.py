@@ -27,6 +27,7 @@ from pathlib import Path
 from converter.api import ConvertOptions
 from converter.drop import folder as df
 from converter.drop.plan import Report
+from converter.options import DEFAULT_SIMULATION_MEMORY_MB, MIN_SIMULATION_MEMORY_MB
 
 ConvertFn = Callable[..., object]
 
@@ -44,11 +45,24 @@ ORPHAN_CHECK_SECONDS = 0.5
 
 def worker_options(options: ConvertOptions | None, workers: int) -> ConvertOptions:
     """The options each conversion gets: a copy, without a progress callback (it would
-    cross a process boundary), and with one simulation process per conversion when
-    several conversions run side by side (they already share out the cores)."""
+    cross a process boundary), with one simulation process per conversion when several
+    conversions run side by side (they already share out the cores), and its share of the
+    watcher's simulation memory budget: the total (``--simulation-memory``, default
+    1024 MB) divided by the conversions that may run at once, at least 32 MB, so no one
+    dropped file can take most of the watcher's memory.
+
+    Examples
+    --------
+    >>> worker_options(ConvertOptions(simulation_memory_mb=1000), 4).simulation_memory_mb
+    250
+    """
     base = options or ConvertOptions()
     sim = 1 if workers > 1 else base.simulation_workers
-    return dataclasses.replace(base, progress=None, simulation_workers=sim)
+    total = (DEFAULT_SIMULATION_MEMORY_MB if base.simulation_memory_mb is None
+             else int(base.simulation_memory_mb))
+    share = max(MIN_SIMULATION_MEMORY_MB, total // max(workers, 1))
+    return dataclasses.replace(base, progress=None, simulation_workers=sim,
+                               simulation_memory_mb=share)
 
 
 # --------------------------------------------------------------------------- in the worker

@@ -16,6 +16,7 @@ from converter.model import Problem, RawTable, Schedule
 from converter.options import ConvertOptions
 from converter.read.sheets import RawInput, cell_name
 from converter.validate.activities import check_columns, read_activities
+from converter.validate.bounds import check_dates_fit
 from converter.validate.links import (
     LinkBook,
     check_cycles,
@@ -47,7 +48,7 @@ def validate(
         The schedule only when there is no error; the problems in the order found.
     """
     out = Collector()
-    settings, setting_problems = resolve_settings(raw.settings, options)
+    settings, setting_problems, places = resolve_settings(raw.settings, options)
     out.problems.extend(setting_problems)
     if not check_columns(raw, out):
         return None, out.problems
@@ -65,6 +66,8 @@ def validate(
         read_links_sheet(book, raw.links)
     check_cycles(rows.activities, book.links, out)
     warn_unlinked(rows.activities, book.links, match, out)
+    if not out.errors:  # the sum of sane numbers: only once each of them is sane
+        check_dates_fit(rows.activities, book.links, settings, places, match, out)
     if out.errors:
         return None, out.problems
     schedule = Schedule(

@@ -15,13 +15,14 @@ from converter.options import parse_distribution, parse_due
 from converter.read.sheets import (
     ACTIVITY_COLUMNS,
     REQUIRED_ACTIVITY,
+    CellError,
     RawInput,
     SheetData,
     TableMatch,
     cell_name,
 )
 from converter.validate.problems import Collector
-from converter.values import as_number, id_text, is_blank
+from converter.values import LARGEST_DURATION, id_text, is_blank, parse_number
 
 FIELD_TITLES = {
     "id": "ID",
@@ -56,7 +57,7 @@ def check_columns(raw: RawInput, out: Collector) -> bool:
             missing.append(FIELD_TITLES["predecessors"])
         out.error("missing-column",
                   f"required column(s) missing: {', '.join(missing)}; headers found: "
-                  f"{_header_list(found) or '(none)'}",
+                  f"{_header_list(found) or '(none)'}" + _searched(raw),
                   sheet.name, cell_name(match.header_row, 0) if match else "A1",
                   fix="Name the columns e.g. " + ", ".join(
                       ACTIVITY_COLUMNS[k][0].title() for k in
@@ -65,7 +66,7 @@ def check_columns(raw: RawInput, out: Collector) -> bool:
     if "predecessors" not in match.columns and raw.links is None:
         out.error("missing-column",
                   "required column missing: Predecessors (and no links sheet); headers found: "
-                  + _header_list(match.headers),
+                  + _header_list(match.headers) + _searched(raw),
                   match.sheet.name, cell_name(match.header_row, 0))
         return False
     if fixed_only:
@@ -74,6 +75,12 @@ def check_columns(raw: RawInput, out: Collector) -> bool:
                  match.sheet.name, cell_name(match.header_row, match.columns["most_likely"]),
                  fix="Add Optimistic and Pessimistic columns for a risk analysis.")
     return True
+
+
+def _searched(raw: RawInput) -> str:
+    """What the reader searched and why it passed sheets over, as a sentence to append."""
+    summary = raw.search_summary()
+    return f". {summary}" if summary else ""
 
 
 def _header_list(headers: list[str]) -> str:
@@ -141,14 +148,15 @@ def _activity(row, cols, r, sheet, ident, settings: Settings, out: Collector) ->
     name = ident if is_blank(name_raw) else str(name_raw).strip()
     dist = None
     d_raw = _cell(row, cols, "distribution")
-    if not is_blank(d_raw):
+    if not is_blank(d_raw) and not isinstance(d_raw, CellError):
         try:
             dist = parse_distribution(d_raw)
         except ValueError as exc:
             out.error("bad-distribution", str(exc), sheet, cell_name(r, cols["distribution"]),
                       ident)
     group_raw = _cell(row, cols, "group")
-    group = None if is_blank(group_raw) else id_text(group_raw)
+    group = None if is_blank(group_raw) or isinstance(group_raw, CellError) else id_text(
+        group_raw)
     target = _target(_cell(row, cols, "target"), cols, r, sheet, ident, settings, out)
     return Activity(ident, name, o, m, p, row=r + 1, distribution=dist, group=group,
                     target=target)
@@ -157,7 +165,7 @@ def _activity(row, cols, r, sheet, ident, settings: Settings, out: Collector) ->
 def _target(value, cols, r, sheet, ident, settings: Settings,
             out: Collector) -> float | dt.date | None:
     """An interim target: a duration, or a date when there is a start date."""
-    if is_blank(value):
+    if is_blank(value) or isinstance(value, CellError):  # an error cell: the reader's error
         return None
     where = cell_name(r, cols["target"])
     try:
@@ -171,6 +179,11 @@ def _target(value, cols, r, sheet, ident, settings: Settings,
                   sheet, where, ident,
                   fix="Add a 'Start date' setting or give the target as a duration.")
         return None
+    if isinstance(target, dt.date) and target < settings.start_date:
+        out.warn("target-before-start",
+                 f"target {target.isoformat()} is before the start date "
+                 f"{settings.start_date.isoformat()}: the chance of meeting it is 0%",
+                 sheet, where, ident, fix="Check the year of the target date.")
     return target
 
 
@@ -185,17 +198,31 @@ def _estimate_values(row, cols, r, sheet, ident, out: Collector) -> dict | None:
         if is_blank(raw):
             values[key] = None
             continue
-        x = as_number(raw)
-        where = cell_name(r, c)
-        if x is None:
-            out.error("not-a-number",
-                      f"{FIELD_TITLES[key]} estimate {raw!r} is not a number", sheet, where,
-                      ident, fix="Type a plain number of time units (no text or units).")
+        if isinstance(raw, CellError):  # the reader's error-value names the cell
             bad = True
-        elif x < 0:
+            continue
+        where = cell_name(r, c)
+        try:
+            x = parse_number(raw)
+        except ValueError as exc:
+            dated = isinstance(raw, (dt.date, dt.time, dt.timedelta))
+            out.error("not-a-number", f"{FIELD_TITLES[key]} estimate {exc}", sheet, where,
+                      ident, fix="Format the cell as a number, not a date or time, and type "
+                      "the duration in time units." if dated else
+                      "Type a plain number of time units (no text or units).")
+            bad = True
+            continue
+        if x < 0:
             out.error("negative-estimate",
                       f"{FIELD_TITLES[key]} estimate {x:g} is negative", sheet, where, ident,
                       fix="Durations cannot be negative.")
+            bad = True
+        elif x > LARGEST_DURATION:
+            out.error("too-large",
+                      f"{FIELD_TITLES[key]} estimate {x:g} is more than "
+                      f"{LARGEST_DURATION:,.0f} time units, the longest duration pertbook "
+                      "computes with", sheet, where, ident,
+                      fix="Check the number and the time unit of the schedule.")
             bad = True
         else:
             values[key] = x

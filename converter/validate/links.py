@@ -6,15 +6,16 @@ network as a whole must have no cycle; each problem names the cell the link came
 
 from __future__ import annotations
 
+import math
 import re
 from collections.abc import Iterable
 
 import networkx as nx
 
 from converter.model import LINK_TYPES, Activity, Link
-from converter.read.sheets import TableMatch, cell_name
+from converter.read.sheets import CellError, TableMatch, cell_name
 from converter.validate.problems import Collector
-from converter.values import as_number, id_text, is_blank, normalise
+from converter.values import LARGEST_LAG, id_text, is_blank, normalise, parse_number, shown
 
 LINK_TYPE_WORDS = {
     "fs": "FS", "finishtostart": "FS", "finishstart": "FS",
@@ -23,35 +24,59 @@ LINK_TYPE_WORDS = {
     "sf": "SF", "starttofinish": "SF", "startfinish": "SF",
 }
 
-_BRACKET = re.compile(r"^(?P<id>.*?)\s*\[(?P<spec>[^\[\]]*)\]$")
-_SPEC = re.compile(r"^(?P<type>FS|SS|FF|SF)?\s*(?P<lag>[+-]\s*\d+(?:\.\d+)?)?$", re.IGNORECASE)
+_SPEC = re.compile(r"^(?P<type>FS|SS|FF|SF)?(?P<lag>[+-](?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)"
+                   r"(?:[eE][+-]?[0-9]+)?)?$", re.IGNORECASE)
 
 
 # --------------------------------------------------------------------------- notation
 def parse_link_token(token: str) -> tuple[str, str, float] | str:
     """``ID``, ``ID[+2]``, ``ID[SS]``, ``ID[SS+3]``, ``ID[FF-1]`` -> (id, type, lag).
 
-    Returns an error message (str) when the bracket part cannot be read. Type and
-    lag sit only inside the brackets, so IDs may contain ``+`` and ``-``.
+    Returns an error message (str) when the bracket part cannot be read or its lag is
+    beyond the largest lag (:data:`~converter.values.LARGEST_LAG`). Type and lag sit
+    only inside the brackets, so IDs may contain ``+`` and ``-``. The ID is read by the
+    one rule for IDs (:func:`~converter.values.id_text`): ``1.0`` is ID ``1``.
 
     Examples
     --------
-    >>> parse_link_token("A3[SS+2]"), parse_link_token("B-1")
-    (('A3', 'SS', 2.0), ('B-1', 'FS', 0.0))
+    >>> parse_link_token("A3[SS+2]"), parse_link_token("B-1"), parse_link_token("1.0[-1]")
+    (('A3', 'SS', 2.0), ('B-1', 'FS', 0.0), ('1', 'FS', -1.0))
     """
-    m = _BRACKET.match(token)
-    if not m:
-        return token, "FS", 0.0
-    ident, spec = m.group("id").strip(), m.group("spec").strip()
+    bracket = _bracket(token)
+    if bracket is None:
+        return id_text(token), "FS", 0.0
+    ident, spec = bracket
     if not ident:
         return f'"{token}" has a bracket part but no activity ID before it'
-    s = _SPEC.match(spec.replace(" ", ""))
+    s = _SPEC.match(re.sub(r"\s+", "", spec).replace("\u2212", "-"))
     if not s or (s.group("type") is None and s.group("lag") is None and spec):
-        return (f'"{token}": cannot read [{spec}]; write the link type FS, SS, FF or SF '
-                "and/or a lag such as +2 or -1, e.g. A3[SS+2]")
+        return (f'"{_short(token)}": cannot read [{_short(spec)}]; write the link type FS, SS, '
+                "FF or SF and/or a lag such as +2 or -1, e.g. A3[SS+2]")
     kind = (s.group("type") or "FS").upper()
-    lag = float(s.group("lag").replace(" ", "")) if s.group("lag") else 0.0
-    return ident, kind, lag
+    lag = float(s.group("lag")) if s.group("lag") else 0.0  # a plain number by _SPEC
+    if not abs(lag) <= LARGEST_LAG:
+        size = f"{lag:g}" if math.isfinite(lag) else "too large a number"
+        return (f'"{_short(token)}": the lag ({size}) is beyond {LARGEST_LAG:,.0f} time units '
+                "either way, the longest lag or lead pertbook computes with")
+    return id_text(ident), kind, lag
+
+
+def _bracket(token: str) -> tuple[str, str] | None:
+    """(ID, bracket part) of ``ID[...]`` (the last bracket pair, with no bracket inside).
+
+    String methods rather than a regular expression: a long cell of spaces must not
+    take quadratic time.
+    """
+    if not token.endswith("]"):
+        return None
+    opening = token.rfind("[")
+    if opening < 0 or "]" in token[opening + 1:-1]:
+        return None
+    return token[:opening].strip(), token[opening + 1:-1].strip()
+
+
+def _short(text: str, most: int = 40) -> str:
+    return text if len(text) <= most else text[: most - 12] + "..." + text[-8:]
 
 
 def split_predecessors(value: object) -> list[str]:
@@ -64,9 +89,9 @@ def split_predecessors(value: object) -> list[str]:
     """
     if is_blank(value):
         return []
-    if isinstance(value, (int, float)) and not isinstance(value, bool):
+    if not isinstance(value, str):  # a number, date or time cell: one ID
         return [id_text(value)]
-    return [t.strip() for t in re.split(r"[,;\n]", str(value)) if t.strip()]
+    return [t.strip() for t in re.split(r"[,;\n]", value) if t.strip()]
 
 
 # --------------------------------------------------------------------------- collecting
@@ -97,6 +122,8 @@ def read_predecessor_column(book: LinkBook, activities: list[Activity],
     pc = cols["predecessors"]
     id_column = cell_name(0, cols["id"])[:-1]
     for act, (r, value) in zip(activities, cells):
+        if isinstance(value, CellError):  # the reader's error-value names the cell
+            continue
         cell = cell_name(r, pc)
         for token in split_predecessors(value):
             parsed = parse_link_token(token)
@@ -137,6 +164,8 @@ def read_links_sheet(book: LinkBook, match: TableMatch) -> None:
         vals = {k: (row[c] if c < len(row) else None) for k, c in match.columns.items()}
         if all(is_blank(v) for v in vals.values()):
             continue
+        if any(isinstance(v, CellError) for v in vals.values()):
+            continue  # the reader's error-value names the cell; the row is not guessed at
         link = _link_row(book, match, r, vals)
         if link is not None:
             book.add(*link, match.sheet.name, cell_name(r, match.columns["pred"]))
@@ -163,18 +192,23 @@ def _link_row(book: LinkBook, match: TableMatch, r: int, vals: dict):
     if "type" in cols and not is_blank(vals.get("type")):
         kind = LINK_TYPE_WORDS.get(normalise(vals["type"]))
         if kind is None:
-            out.error("bad-link", f"link type {vals['type']!r} is not one of "
+            out.error("bad-link", f"link type {shown(vals['type'])} is not one of "
                       f"{', '.join(LINK_TYPES)}", sheet, cell_name(r, cols["type"]), succ)
             ok = False
     lag = 0.0
     if "lag" in cols and not is_blank(vals.get("lag")):
-        x = as_number(vals["lag"])
-        if x is None:
-            out.error("bad-link", f"lag {vals['lag']!r} is not a number", sheet,
-                      cell_name(r, cols["lag"]), succ)
+        lag_cell = cell_name(r, cols["lag"])
+        try:
+            lag = parse_number(vals["lag"])
+        except ValueError as exc:
+            out.error("bad-link", f"lag {exc}", sheet, lag_cell, succ)
             ok = False
         else:
-            lag = x
+            if abs(lag) > LARGEST_LAG:
+                out.error("too-large", f"lag {lag:g} is beyond {LARGEST_LAG:,.0f} time units "
+                          "either way, the longest lag or lead pertbook computes with", sheet,
+                          lag_cell, succ, fix="Check the number and the time unit.")
+                ok = False
     if ok and pred == succ:
         out.error("self-link", f"{pred} is linked to itself", sheet,
                   cell_name(r, cols["pred"]), pred)

@@ -145,7 +145,7 @@ def _activities(a) -> list[dict]:
 def _simulation(sim) -> dict | None:
     if sim is None:
         return None
-    return {
+    data = {
         "iterations": sim.iterations,
         "seed": sim.seed,
         "distribution": sim.distribution,
@@ -165,3 +165,7 @@ def _simulation(sim) -> dict | None:
             "p_meet_due": _num(sim.independent.p_meet_due),
         },
     }
+    if sim.sensitivity_iterations < sim.iterations:  # only where the memory budget cut
+        data["sensitivity_iterations"] = sim.sensitivity_iterations
+        data["sensitivity_std_error"] = _num(sim.sensitivity_std_error)
+    return data

@@ -160,6 +160,50 @@ def test_against_numpy_busday_offset(working_days, holidays, start):
     assert [cal.start_date(t) for t in ts[:20]] == starts[:20]
 
 
+def test_handover_milestone_takes_the_day_the_work_before_it_ends():
+    # The case: a milestone at offset 16 from Mon 2027-03-01, Monday to Friday and
+    # two holidays (invented: Wed 2027-03-10 and Wed 2027-03-17). Hand count: working days
+    # 1-5 = 03-01..05, 6-9 = 03-08, 09, 11, 12, 10-13 = 03-15, 16, 18, 19, 14-16 =
+    # 03-22..24, 17 = Thu 03-25. Before the fix the milestone started 03-25 and finished
+    # 03-24; it now starts and finishes on 03-24, the end of day 16.
+    hol = (D(2027, 3, 10), D(2027, 3, 17))
+    assert D(2027, 3, 1).weekday() == MON
+    cal = Calendar(D(2027, 3, 1), holidays=hol)
+    assert cal.finish_date(16) == D(2027, 3, 24)
+    assert cal.start_date(16) == D(2027, 3, 25)  # work at offset 16 is done on day 17
+    assert cal.start_date(16, finish=16) == D(2027, 3, 24)
+    assert cal.start_dates([16, 0, 16], finishes=[16, 0, 17]) == [
+        D(2027, 3, 24), D(2027, 3, 1), D(2027, 3, 25)]
+    # numpy.busday_offset: working day 16 counted from 0 is offset 15.
+    want = np.busday_offset(np.datetime64("2027-03-01"), 15, roll="forward",
+                            holidays=np.array(hol, dtype="datetime64[D]"))
+    assert cal.start_date(16, finish=16) == want.astype(dt.date)
+
+
+@pytest.mark.parametrize("cal", [
+    Calendar(D(2026, 12, 30), holidays=(D(2027, 1, 1), D(2027, 1, 6))),
+    Calendar(D(2025, 3, 1), unit="weeks"),
+    Calendar(D(2025, 3, 1), unit="calendar days"),
+], ids=["working days", "weeks", "calendar days"])
+def test_start_never_after_finish_and_milestones_start_where_they_finish(cal):
+    # Reference: the rules themselves in numpy terms. For any length d >= 0 the start date
+    # (given the finish) is not after the finish date; a zero length starts on its finish
+    # date; any length that stays positive after rounding keeps the plain start rule.
+    rng = np.random.default_rng(11)
+    starts = np.concatenate([rng.uniform(0, 40, 300), np.arange(0, 30.0)])
+    lengths = np.concatenate([rng.choice([0.0, 0.5, 1.0, 2.0, 1e-12], 300), np.zeros(30)])
+    finishes = starts + lengths
+    got = cal.start_dates(starts, finishes=finishes)
+    plain = cal.start_dates(starts)
+    end = cal.finish_dates(finishes)
+    for s, f, g, p, e in zip(starts, finishes, got, plain, end, strict=True):
+        assert g <= e
+        if round(f, 9) == round(s, 9):
+            assert g == e  # a milestone: one date
+        else:
+            assert g == p  # a positive length: the start rule unchanged
+
+
 def test_offset_of_round_trip_against_numpy():
     # For every date d with offset_of(d) > 0, finish_date(offset_of(d)) is the last working
     # day on or before d (numpy.busday_offset with roll="backward").
@@ -265,6 +309,7 @@ def _eval(formula: str, cells: dict) -> float:
         "ROUND": _round,
         "RUP": _roundup,
         "IF": lambda c, a, b: a if c else b,
+        "MIN": min,
     }
     env.update(cells)
     return eval(py, {"__builtins__": {}}, env)
@@ -298,6 +343,10 @@ def test_formulas_match_python_in_emulation(cal):
         got_f = _eval(cal.finish_date_formula("T", "S", hol_ref), cells)
         assert _date(got_s) == cal.start_date(t), t
         assert _date(got_f) == cal.finish_date(t), t
+        for length in (0.0, 1e-12, 0.5, 1.0):  # with the finish: milestones and others
+            cells["F"] = float(t) + length
+            got_m = _eval(cal.start_date_formula("T", "S", hol_ref, finish_ref="F"), cells)
+            assert _date(got_m) == cal.start_date(t, finish=t + length), (t, length)
     for k in range(-15, 40):
         d = cal.start + dt.timedelta(days=k)
         cells["D"] = d.toordinal()
@@ -316,3 +365,46 @@ def test_formula_text_convention():
         assert not text.startswith("=")
         assert text.count('"0000011"') == 2 and text.count("Holidays!$A$2:$A$9") == 2
         assert text.count("(") == text.count(")")
+
+
+# ---------------------------------------------------------------- LibreOffice
+
+
+@pytest.mark.libreoffice
+def test_milestone_start_formula_recalculates_in_libreoffice(libreoffice, tmp_path):
+    # Outside check: LibreOffice evaluates the start-date formula given the finish cell
+    # (the MIN form) and must reach the date cached from Calendar.start_dates(finishes=).
+    import xlsxwriter
+    from recalc import compare_recalculated, recalculate
+
+    epoch = D(1899, 12, 30).toordinal()  # serial 0 of the 1900 date system from 1900-03-01
+
+    def serial(d):
+        return float(d.toordinal() - epoch)
+
+    cases = [  # (calendar, its sheet)
+        (Calendar(D(2027, 3, 1), holidays=(D(2027, 3, 10), D(2027, 3, 17))), "hol"),
+        (Calendar(D(2025, 3, 1), unit="weeks", holidays=(D(2025, 3, 3),)), "weeks"),
+        (Calendar(D(2025, 3, 1), unit="calendar days"), "cal"),
+    ]
+    pairs = [(16.0, 16.0), (0.0, 0.0), (16.0, 17.0), (2.5, 2.5), (3.0, 3.0 + 1e-12),
+             (7.25, 9.0), (1.0, 1.0)]
+    path = tmp_path / "milestones.xlsx"
+    wb = xlsxwriter.Workbook(str(path))
+    date_format = wb.add_format({"num_format": "yyyy-mm-dd"})
+    for cal, label in cases:
+        ws = wb.add_worksheet(label)
+        ws.write_datetime(0, 1, dt.datetime.combine(cal.start, dt.time()), date_format)
+        for k, h in enumerate(cal.holidays):
+            ws.write_datetime(k, 5, dt.datetime.combine(h, dt.time()), date_format)
+        hol = f"$F$1:$F${len(cal.holidays)}" if cal.holidays else None
+        got = cal.start_dates([s for s, _ in pairs], finishes=[f for _, f in pairs])
+        for r, ((s, f), want) in enumerate(zip(pairs, got, strict=True), start=1):
+            ws.write_number(r, 0, s)
+            ws.write_number(r, 1, f)
+            formula = cal.start_date_formula(f"A{r + 1}", "$B$1", hol, finish_ref=f"B{r + 1}")
+            ws.write_formula(r, 2, "=" + formula, date_format, serial(want))
+    wb.close()
+    report = compare_recalculated(path, recalculate(path, tmp_path))
+    assert report.compared == len(cases) * len(pairs)
+    assert list(report) == []

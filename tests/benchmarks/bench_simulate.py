@@ -1,6 +1,7 @@
 """Benchmark: Monte Carlo simulation (converter.analyse.simulate).
 
-Run with ``python tests/benchmarks/bench_simulate.py`` (``--quick`` for smaller sizes).
+Run with ``python tests/benchmarks/bench_simulate.py`` (``--quick`` for smaller sizes;
+``--memory`` for case 3 only).
 
 1. 10,000 activities, about 30,000 FS links (random layered network) x 10,000
    iterations, PERT-beta, with criticality and sensitivity: seconds and peak memory,
@@ -9,12 +10,17 @@ Run with ``python tests/benchmarks/bench_simulate.py`` (``--quick`` for smaller 
 2. 500 activities: a plain loop (scipy.stats draws per activity, a Python forward pass
    over the links, one iteration at a time; 200 iterations) against simulate() with
    10,000 iterations, compared per iteration. Target: at least 100x.
+3. The memory budget (default 1 GB): 120 activities x 10 million iterations and 2,000
+   activities x 1 million (random layered networks, PERT-beta), with the default worker
+   choice: seconds, peak memory, and how many iterations the sensitivities came from
+   (with their standard error). Target: all processes together within the budget.
 
 Each case runs in a fresh interpreter so that peak memory (ru_maxrss) is its own.
 Peak memory is reported three ways: the parent's peak resident set, the largest
 worker's (both ru_maxrss), and the peak of all processes together: their private
 resident memory plus the growth of shared memory (the sample store the workers share,
-counted once), polled every 0.2 s.
+counted once), polled every 0.2 s. Case 3 polls the proportional set size (Pss) of
+every process instead, which counts each shared page once across them.
 """
 
 from __future__ import annotations
@@ -147,6 +153,59 @@ def case_large(n: int, links: int, iterations: int, workers: int | None) -> dict
     }
 
 
+def _pss_kb(pid: int) -> int:
+    try:
+        with open(f"/proc/{pid}/smaps_rollup") as fh:
+            for line in fh:
+                if line.startswith("Pss:"):
+                    return int(line.split()[1])
+    except OSError:
+        pass
+    return 0
+
+
+class PeakPss(PeakMemory):
+    """Peak over the run of the summed proportional set size of this process and its
+    children (shared pages divided among the processes sharing them), less its value at
+    the start: the memory the run added, all processes together."""
+
+    def __enter__(self):
+        self._base = _pss_kb(os.getpid())  # before the run, not when the thread first runs
+        return super().__enter__()
+
+    def _run(self):
+        me = os.getpid()
+        while not self._stop.is_set():
+            total = sum(_pss_kb(p) for p in [me, *_children(me)]) - self._base
+            self.peak_kb = max(self.peak_kb, total)
+            time.sleep(self.interval)
+
+
+def case_budget(n: int, iterations: int, memory_mb: int | None) -> dict:
+    from converter.analyse.simulate import simulate
+
+    net = layered_network(n, 3 * n, layers=20, seed=7)
+    o, m, p = estimates(n, seed=8)
+    with PeakPss() as mem:
+        t0 = time.perf_counter()
+        r = simulate(net, o, m, p, iterations=iterations, seed=9, memory_mb=memory_mb)
+        wall = time.perf_counter() - t0
+    kids = resource.getrusage(resource.RUSAGE_CHILDREN)
+    return {
+        "case": "budget",
+        "activities": n,
+        "iterations": iterations,
+        "memory_mb": memory_mb,
+        "seconds": wall,
+        "added_pss_mb": mem.peak_kb / 1024,
+        "parent_peak_rss_mb": resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024,
+        "largest_worker_peak_rss_mb": kids.ru_maxrss / 1024,
+        "sensitivity_iterations": r.sensitivity_iterations,
+        "sensitivity_se": r.sensitivity_std_error,
+        "mean": r.mean,
+    }
+
+
 def loop_simulation(net, o, m, p, iterations: int, seed: int) -> np.ndarray:
     """The plain way: per iteration, one scipy.stats draw per activity, then a Python
     forward pass over the (FS) links in topological order."""
@@ -213,11 +272,15 @@ def run_child(args: list[str]) -> dict:
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--quick", action="store_true", help="smaller sizes (a smoke run)")
+    ap.add_argument("--memory", action="store_true", help="only case 3 (the memory budget)")
     ap.add_argument("--child", nargs="*", help=argparse.SUPPRESS)
     ns = ap.parse_args()
     if ns.child is not None:
         kind, *rest = ns.child
-        if kind == "large":
+        if kind == "budget":
+            n, iters, mb = rest
+            res = case_budget(int(n), int(iters), None if mb == "default" else int(mb))
+        elif kind == "large":
             n, links, iters, workers = rest
             res = case_large(int(n), int(links), int(iters), None if workers == "auto" else
                              int(workers))
@@ -227,9 +290,28 @@ def main() -> None:
         print(json.dumps(res))
         return
 
-    n, links, iters = (2_000, 6_000, 2_000) if ns.quick else (10_000, 30_000, 10_000)
     with open("/proc/loadavg") as fh:
         print(f"load average before: {fh.read().split()[:3]}  cores: {os.cpu_count()}")
+    if not ns.memory:
+        run_speed(ns.quick)
+    scale = 10 if ns.quick else 1
+    for n, iters in ((120, 10_000_000 // scale), (2_000, 1_000_000 // scale)):
+        r = run_child(["budget", str(n), str(iters), "default"])
+        print(
+            f"[3] {n:,} activities x {iters:,} iterations, default budget (1,024 MB): "
+            f"{r['seconds']:.1f} s; memory added by the run, all processes together (Pss) "
+            f"{r['added_pss_mb']:.0f} MB; peak RSS: parent {r['parent_peak_rss_mb']:.0f} MB, "
+            f"largest worker {r['largest_worker_peak_rss_mb']:.0f} MB; sensitivities from the "
+            f"first {r['sensitivity_iterations']:,} iterations (standard error "
+            f"{r['sensitivity_se']:.4f} near 0)  [target: within the budget]"
+        )
+    with open("/proc/loadavg") as fh:
+        print(f"load average after: {fh.read().split()[:3]}")
+
+
+def run_speed(quick: bool) -> None:
+    """Cases 1 and 2."""
+    n, links, iters = (2_000, 6_000, 2_000) if quick else (10_000, 30_000, 10_000)
     for workers in ("auto", "1"):
         r = run_child(["large", str(n), str(links), str(iters), workers])
         print(
@@ -240,7 +322,7 @@ def main() -> None:
             f"{r['largest_worker_peak_rss_mb']:.0f} MB, all processes together "
             f"{r['peak_total_mb']:.0f} MB  [target < 10 s, < 2 GB]"
         )
-    loop_iters, sim_iters = (50, 2_000) if ns.quick else (200, 10_000)
+    loop_iters, sim_iters = (50, 2_000) if quick else (200, 10_000)
     r = run_child(["loop", "500", "1500", str(loop_iters), str(sim_iters)])
     print(
         f"[2] {r['activities']} activities, {r['links']} links: plain loop "
@@ -250,8 +332,6 @@ def main() -> None:
         f" with criticality and sensitivity); speed-up {r['speed_up']:.0f}x  [target >= 100x]"
         f"; means {r['loop_mean']:.2f} vs {r['simulate_mean']:.2f}"
     )
-    with open("/proc/loadavg") as fh:
-        print(f"load average after: {fh.read().split()[:3]}")
 
 
 if __name__ == "__main__":

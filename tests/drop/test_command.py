@@ -79,6 +79,12 @@ def test_cli_watch_builds_convert_options_and_the_watcher():
     # several conversions side by side: one simulation process each, on a copy
     assert w.options.simulation_workers == 1 and options.simulation_workers is None
     assert w.options.iterations == 500
+    # the watcher's simulation memory (default 1024 MB) shared by the 3 workers
+    assert options.simulation_memory_mb is None and w.options.simulation_memory_mb == 341
+    given = cli.build_parser().parse_args(["watch", "F", "--workers", "2",
+                                           "--simulation-memory", "3000"])
+    assert watcher_from_args(given, options_from_args(given)).options.simulation_memory_mb \
+        == 1500
     defaults = options_from_args(cli.build_parser().parse_args(["watch", "F"]))
     assert defaults == ConvertOptions()
 

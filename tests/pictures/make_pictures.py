@@ -30,25 +30,28 @@ from converter.api import ConvertOptions, convert  # noqa: E402
 SAMPLE = REPO / "samples" / "clinic-it-rollout.xlsx"
 OUTDIR = REPO / "samples" / "pages"
 
-#: picture name -> (sheet, which of the sheet's pages, 1 = its first)
+#: picture name -> (sheet, a text on the page wanted: the first of the sheet's pages with it)
 PICTURES = {
-    "summary": ("Summary", 1),
-    "simulation-1": ("Simulation", 1),
-    "simulation-2": ("Simulation", 2),
-    "timeline": ("Timeline", 1),
+    "summary": ("Summary", "When will it finish?"),
+    "probability": ("Probability", "Chance of finishing by each duration"),
+    "histogram": ("Simulation", "Histogram of simulated durations"),
+    "drivers": ("Simulation", "Risk drivers"),
+    "timeline": ("Timeline", "Schedule on expected times"),
 }
 
 
-def sheet_pages(pdf: Path) -> dict[str, list[int]]:
-    """Page numbers (from 1) of each sheet, read from the footer's sheet name."""
-    pages: dict[str, list[int]] = {}
+def find_pages(pdf: Path) -> dict[str, int]:
+    """Picture name -> page number (from 1), from the footer's sheet name and the text."""
+    found: dict[str, int] = {}
     for number, text in enumerate(page_texts(pdf), start=1):
         lines = [line for line in text.splitlines() if line.strip()]
         if not lines or not re.search(r"Page \d+ of \d+\s*$", lines[-1]):
             continue
         sheet = re.split(r"\s{2,}", lines[-1].strip())[0]
-        pages.setdefault(sheet, []).append(number)
-    return pages
+        for name, (want, words) in PICTURES.items():
+            if name not in found and sheet == want and words in text:
+                found[name] = number
+    return found
 
 
 def make_pictures(sample: Path = SAMPLE, outdir: Path = OUTDIR, dpi: int = 70) -> list[Path]:
@@ -61,15 +64,29 @@ def make_pictures(sample: Path = SAMPLE, outdir: Path = OUTDIR, dpi: int = 70) -
         if not result.ok:
             raise SystemExit(f"{sample.name} did not convert: {result.problems}")
         pdf = to_pdf(work / f"{sample.stem}.analysis.xlsx", work)
-        pages = sheet_pages(pdf)
-        for name, (sheet, k) in PICTURES.items():
-            numbers = pages.get(sheet, [])
-            if len(numbers) < k:
-                continue
+        pages = find_pages(pdf)
+        for name in PICTURES:
+            if name not in pages:
+                raise SystemExit(f"no page for the picture {name!r}: {PICTURES[name]}")
             stem = work / name
-            subprocess.run(["pdftoppm", "-png", "-r", str(dpi), "-f", str(numbers[k - 1]),
-                            "-l", str(numbers[k - 1]), "-singlefile", str(pdf), str(stem)],
-                           check=True, capture_output=True)
+            page = str(pages[name])
+            subprocess.run(
+                [
+                    "pdftoppm",
+                    "-png",
+                    "-r",
+                    str(dpi),
+                    "-f",
+                    page,
+                    "-l",
+                    page,
+                    "-singlefile",
+                    str(pdf),
+                    str(stem),
+                ],
+                check=True,
+                capture_output=True,
+            )
             target = outdir / f"{name}.png"
             shutil.move(str(stem.with_suffix(".png")), target)
             made.append(target)

@@ -1,9 +1,10 @@
 """Print a workbook as LibreOffice would, and read the pages back.
 
-``to_pdf`` runs LibreOffice headless (``--convert-to pdf``, a private profile per run, as
-``recalc.recalculate`` does); ``page_words`` and ``page_texts`` read the PDF with poppler's
-``pdftotext`` (``-bbox``: every word with its box in points, origin top left; ``-layout``:
-the text of each page as laid out); ``to_png`` draws the pages with ``pdftoppm``.
+``to_pdf`` runs LibreOffice headless (``--convert-to pdf``, a private profile per run that
+keeps the cached values, see tests/support/libreoffice.py); ``page_words`` and
+``page_texts`` read the PDF with poppler's ``pdftotext`` (``-bbox``: every word with its
+box in points, origin top left; ``-layout``: the text of each page as laid out);
+``to_png`` draws the pages with ``pdftoppm``.
 
 Not a test module: test files and ``tests/pictures/make_pictures.py`` import it.
 """
@@ -14,13 +15,16 @@ import os
 import shutil
 import subprocess
 import tempfile
+import threading
 import xml.etree.ElementTree as ET
 from dataclasses import dataclass
 from pathlib import Path
 
-from recalc import _kill_group, _lock, _new_profile, soffice_path
+from libreoffice import PROFILE_TEMPLATE, RECALC_NEVER, kill_group
+from recalc import soffice_path
 
 DEFAULT_TIMEOUT = 240.0  # seconds
+_lock = threading.Lock()  # one printing LibreOffice at a time from this process
 
 
 class RenderError(RuntimeError):
@@ -50,38 +54,74 @@ def to_pdf(
     document: Path, outdir: Path, *, timeout: float = DEFAULT_TIMEOUT, soffice: str | None = None
 ) -> Path:
     """Print ``document`` to ``outdir/<stem>.pdf`` with LibreOffice headless; returns the path."""
+    return to_pdf_many([document], outdir, timeout=timeout, soffice=soffice)[0]
+
+
+def to_pdf_many(
+    documents: list[Path],
+    outdir: Path,
+    *,
+    timeout: float = DEFAULT_TIMEOUT,
+    soffice: str | None = None,
+) -> list[Path]:
+    """Print each document to ``outdir/<stem>.pdf`` in one LibreOffice run (a private
+    profile that leaves the cached values as they are); returns the PDFs in order."""
     exe = soffice or soffice_path()
     if exe is None:
         raise RenderError("LibreOffice (soffice) not found")
-    document = Path(document).resolve()
+    sources = [Path(d).resolve() for d in documents]
     outdir = Path(outdir).resolve()
     outdir.mkdir(parents=True, exist_ok=True)
-    target = outdir / f"{document.stem}.pdf"
+    targets = [outdir / f"{src.stem}.pdf" for src in sources]
     with tempfile.TemporaryDirectory(prefix="pertbook-pdf-") as tmp:
         work = Path(tmp)
-        profile = _new_profile(work)
+        profile = work / "profile"
+        (profile / "user").mkdir(parents=True)
+        (profile / "user" / "registrymodifications.xcu").write_text(
+            PROFILE_TEMPLATE.format(mode=RECALC_NEVER), encoding="utf-8"
+        )
         out = work / "out"
         out.mkdir()
-        cmd = [exe, f"-env:UserInstallation={profile.as_uri()}", "--headless", "--invisible",
-               "--nologo", "--nodefault", "--nolockcheck", "--norestore",
-               "--convert-to", "pdf", "--outdir", str(out), str(document)]
+        cmd = [
+            exe,
+            f"-env:UserInstallation={profile.as_uri()}",
+            "--headless",
+            "--invisible",
+            "--nologo",
+            "--nodefault",
+            "--nolockcheck",
+            "--norestore",
+            "--convert-to",
+            "pdf",
+            "--outdir",
+            str(out),
+            *map(str, sources),
+        ]
         with _lock:
-            proc = subprocess.Popen(cmd, stdout=subprocess.PIPE, stderr=subprocess.PIPE,
-                                    env=dict(os.environ, HOME=str(work)),
-                                    start_new_session=True)
+            proc = subprocess.Popen(
+                cmd,
+                stdout=subprocess.PIPE,
+                stderr=subprocess.PIPE,
+                env=dict(os.environ, HOME=str(work)),
+                start_new_session=True,
+            )
             try:
                 stdout, stderr = proc.communicate(timeout=timeout)
             except subprocess.TimeoutExpired as exc:
-                _kill_group(proc)
-                raise RenderError(f"LibreOffice did not print {document.name} within "
-                                  f"{timeout:.0f} s") from exc
-        produced = out / f"{document.stem}.pdf"
-        if proc.returncode != 0 or not produced.is_file() or produced.stat().st_size == 0:
-            text = (stdout + stderr).decode("utf-8", "replace").strip()
-            raise RenderError(f"LibreOffice failed to print {document.name} "
-                              f"(exit code {proc.returncode}): {text or 'no output'}")
-        shutil.move(str(produced), target)
-    return target
+                kill_group(proc)
+                raise RenderError(
+                    f"LibreOffice did not print {len(sources)} document(s) within {timeout:.0f} s"
+                ) from exc
+        text = (stdout + stderr).decode("utf-8", "replace").strip()
+        for src, target in zip(sources, targets, strict=True):
+            produced = out / f"{src.stem}.pdf"
+            if proc.returncode != 0 or not produced.is_file() or produced.stat().st_size == 0:
+                raise RenderError(
+                    f"LibreOffice failed to print {src.name} "
+                    f"(exit code {proc.returncode}): {text or 'no output'}"
+                )
+            shutil.move(str(produced), target)
+    return targets
 
 
 def _run(cmd: list[str]) -> str:
@@ -116,8 +156,15 @@ def page_words(pdf: Path) -> list[list[Word]]:
         words = []
         for w in page:
             if w.tag.endswith("word"):
-                words.append(Word(w.text or "", float(w.get("xMin")), float(w.get("yMin")),
-                                  float(w.get("xMax")), float(w.get("yMax"))))
+                words.append(
+                    Word(
+                        w.text or "",
+                        float(w.get("xMin")),
+                        float(w.get("yMin")),
+                        float(w.get("xMax")),
+                        float(w.get("yMax")),
+                    )
+                )
         pages.append(words)
     return pages
 

@@ -32,7 +32,7 @@ from converter.write.workbook.rows import (
 )
 
 DEFAULT_WIDTH = 8.43  # characters: the spreadsheet default column width
-DEFAULT_HEIGHT = 15.0  # points
+DEFAULT_HEIGHT = 15.0  # points, where the sheet does not give its own default
 
 NS = {
     "c": "http://schemas.openxmlformats.org/drawingml/2006/chart",
@@ -65,6 +65,12 @@ class Sheet:
                     if (r, c) != (r0, c0):
                         self.covered.add((r, c))
         self.breaks = sorted(b.id for b in ws.col_breaks.brk) if ws.col_breaks else []
+        fmt = ws.sheet_format
+        self.default_height = (
+            float(fmt.defaultRowHeight)
+            if fmt is not None and fmt.defaultRowHeight
+            else DEFAULT_HEIGHT
+        )
         self.last_col = ws.max_column
         if ws.print_area:
             area = ws.print_area if isinstance(ws.print_area, str) else ws.print_area[0]
@@ -75,14 +81,16 @@ class Sheet:
 
     def height(self, row: int) -> float:
         h = self.ws.row_dimensions[row].height if row in self.ws.row_dimensions else None
-        return float(h) if h else DEFAULT_HEIGHT
+        return float(h) if h else self.default_height
 
     def box(self, row: int, col: int) -> tuple[float, float]:
         """Width (characters) and height (points) of the cell, merges included."""
         if (row, col) in self.merged:
             c0, r0, c1, r1 = self.merged[(row, col)]
-            return (merged_width(self.width(c) for c in range(c0, c1 + 1)),
-                    sum(self.height(r) for r in range(r0, r1 + 1)))
+            return (
+                merged_width(self.width(c) for c in range(c0, c1 + 1)),
+                sum(self.height(r) for r in range(r0, r1 + 1)),
+            )
         return self.width(col), self.height(row)
 
     def value(self, row: int, col: int):
@@ -139,13 +147,18 @@ def _align(cell) -> str:
 
 
 def _indented(cell) -> bool:
-    return bool(cell.alignment is not None and cell.alignment.indent)
+    """Indented as shown: an indent applies to left-, right- or distributed-aligned cells,
+    not under the general alignment (ECMA-376 Part 1, the alignment element's indent
+    attribute, from memory; LibreOffice's PDF of the samples shows the same)."""
+    al = cell.alignment
+    return bool(al is not None and al.indent and al.horizontal in ("left", "right", "distributed"))
 
 
 def _is_header(cell) -> bool:
     fill = cell.fill
-    return bool(cell.font is not None and cell.font.b and fill is not None
-                and fill.patternType == "solid")
+    return bool(
+        cell.font is not None and cell.font.b and fill is not None and fill.patternType == "solid"
+    )
 
 
 # ------------------------------------------------------------------------------ checks
@@ -165,8 +178,10 @@ def wrapped_text_fits(sheet: Sheet) -> list[str]:
             need = lines_needed(cell.value, width, size, bold)
             held = lines_held(height, size)
             if need > held:
-                found.append(f"{sheet.where(cell.row, cell.column)}: wrapped text needs {need} "
-                             f"lines, the row shows {held} ({cell.value[:40]!r})")
+                found.append(
+                    f"{sheet.where(cell.row, cell.column)}: wrapped text needs {need} "
+                    f"lines, the row shows {held} ({cell.value[:40]!r})"
+                )
     return found
 
 
@@ -198,16 +213,16 @@ def text_not_cut(sheet: Sheet) -> list[str]:
 
 
 def _spill(sheet: Sheet, cell, extra: float, where: str, text: str) -> list[str]:
-    c0, _r0, c1, _r1 = sheet.merged.get((cell.row, cell.column),
-                                        (cell.column, cell.row, cell.column, cell.row))
+    c0, _r0, c1, _r1 = sheet.merged.get(
+        (cell.row, cell.column), (cell.column, cell.row, cell.column, cell.row)
+    )
     col = c1
     while extra > 0:
         col += 1
         if col > sheet.last_col or col - 1 in sheet.breaks:
             return [f"{where}: {text[:40]!r} runs past the printed page edge"]
         if sheet.value(cell.row, col) is not None or (cell.row, col) in sheet.covered:
-            return [f"{where}: {text[:40]!r} is cut by the next cell "
-                    f"{sheet.where(cell.row, col)}"]
+            return [f"{where}: {text[:40]!r} is cut by the next cell {sheet.where(cell.row, col)}"]
         extra -= sheet.width(col)
     return []
 
@@ -229,19 +244,31 @@ def aligned_apart(sheet: Sheet) -> list[str]:
             if (cell.row, cell.column) in sheet.merged:
                 continue
             right = ws.cell(row=cell.row, column=cell.column + 1)
-            if (right.value is not None and (right.row, right.column) not in sheet.covered
-                    and _align(cell) == "right" and _align(right) == "left"
-                    and not _indented(cell) and not _indented(right)):
-                found.append(f"{sheet.where(cell.row, cell.column)}: right-aligned "
-                             f"{shown_text(cell)!r} touches {shown_text(right)!r} on its right")
+            if (
+                right.value is not None
+                and (right.row, right.column) not in sheet.covered
+                and _align(cell) == "right"
+                and _align(right) == "left"
+                and not _indented(cell)
+                and not _indented(right)
+            ):
+                found.append(
+                    f"{sheet.where(cell.row, cell.column)}: right-aligned "
+                    f"{shown_text(cell)!r} touches {shown_text(right)!r} on its right"
+                )
             below = ws.cell(row=cell.row + 1, column=cell.column)
-            if (isinstance(cell.value, str) and _is_header(cell)
-                    and isinstance(below.value, (int, float, dt.date))
-                    and not isinstance(below.value, bool)
-                    and "center" not in (_align(cell), _align(below))
-                    and _align(cell) != _align(below)):
-                found.append(f"{sheet.where(cell.row, cell.column)}: header {cell.value!r} is "
-                             f"{_align(cell)}-aligned over {_align(below)}-aligned numbers")
+            if (
+                isinstance(cell.value, str)
+                and _is_header(cell)
+                and isinstance(below.value, (int, float, dt.date))
+                and not isinstance(below.value, bool)
+                and "center" not in (_align(cell), _align(below))
+                and _align(cell) != _align(below)
+            ):
+                found.append(
+                    f"{sheet.where(cell.row, cell.column)}: header {cell.value!r} is "
+                    f"{_align(cell)}-aligned over {_align(below)}-aligned numbers"
+                )
     return found
 
 
@@ -257,8 +284,11 @@ def chart_titles(xlsx: Path) -> dict[str, list[str]]:
                 problems = []
                 deleted = chart.find("c:autoTitleDeleted", NS)
                 title = chart.find("c:title", NS)
-                if title is None or not _has_text(title) or (
-                        deleted is not None and deleted.get("val") in ("1", "true")):
+                if (
+                    title is None
+                    or not _has_text(title)
+                    or (deleted is not None and deleted.get("val") in ("1", "true"))
+                ):
                     problems.append(f"{sheet} {name}: chart has no title")
                 for axis in chart.find("c:plotArea", NS):
                     tag = axis.tag.split("}")[1]
@@ -285,8 +315,10 @@ def _rels(z: zipfile.ZipFile, part: str) -> dict[str, str]:
     if rels_path not in z.namelist():
         return {}
     root = ET.fromstring(z.read(rels_path))
-    return {rel.get("Id"): posixpath.normpath(posixpath.join(folder, rel.get("Target")))
-            for rel in root.findall("pr:Relationship", NS)}
+    return {
+        rel.get("Id"): posixpath.normpath(posixpath.join(folder, rel.get("Target")))
+        for rel in root.findall("pr:Relationship", NS)
+    }
 
 
 def _charts_by_sheet(z: zipfile.ZipFile) -> dict[str, list[str]]:
@@ -318,7 +350,9 @@ def labels_beside_tall_text(sheet: Sheet) -> list[str]:
                 continue
             vertical = cell.alignment.vertical if cell.alignment is not None else None
             if vertical not in ("top", "justify", "distributed"):
-                found.append(f"{sheet.where(cell.row, cell.column)}: {shown_text(cell)[:30]!r} "
-                             f"sits at the {vertical or 'bottom'} of a "
-                             f"{sheet.height(cell.row):g} pt row")
+                found.append(
+                    f"{sheet.where(cell.row, cell.column)}: {shown_text(cell)[:30]!r} "
+                    f"sits at the {vertical or 'bottom'} of a "
+                    f"{sheet.height(cell.row):g} pt row"
+                )
     return found

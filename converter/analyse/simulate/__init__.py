@@ -1,11 +1,21 @@
 """Monte Carlo simulation over the array passes.
 
-Modules: :mod:`.runs` (the runs: chunks, passes, summary), :mod:`.inputs` (validated
-inputs, chunk sizes), :mod:`.sampling` (duration distributions), :mod:`.correlation`
-(Iman-Conover rank correlation), :mod:`.ranks` (Spearman sensitivity), :mod:`.workers`
-(process pool, shared memory).
+Modules: :mod:`.runs` (the runs: chunks, passes), :mod:`.result` (the result and its
+summary), :mod:`.budget` (the memory budget), :mod:`.inputs` (validated inputs, chunk
+sizes), :mod:`.sampling` (duration distributions), :mod:`.correlation` (Iman-Conover
+rank correlation), :mod:`.ranks` (Spearman sensitivity), :mod:`.workers` (process pool,
+shared memory).
 """
 
+from converter.analyse.simulate.budget import (
+    DEFAULT_MEMORY_MB,
+    MemoryPlan,
+    SimulationMemoryError,
+    memory_problem,
+    plan_memory,
+    refusal_problem,
+    sensitivity_std_error,
+)
 from converter.analyse.simulate.correlation import induce_rank_correlation
 from converter.analyse.simulate.inputs import chunk_size
 from converter.analyse.simulate.ranks import centred_ranks, spearman_rows
@@ -19,14 +29,21 @@ from converter.analyse.simulate.runs import (
 from converter.analyse.simulate.sampling import beta_cheng, sample_durations
 
 __all__ = [
+    "DEFAULT_MEMORY_MB",
     "PERCENTILE_KEYS",
+    "MemoryPlan",
+    "SimulationMemoryError",
     "SimulationResult",
     "beta_cheng",
     "centred_ranks",
     "chunk_size",
     "draw_samples",
     "induce_rank_correlation",
+    "memory_problem",
+    "plan_memory",
+    "refusal_problem",
     "sample_durations",
+    "sensitivity_std_error",
     "simulate",
     "simulate_durations",
     "spearman_rows",

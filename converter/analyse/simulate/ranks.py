@@ -57,6 +57,33 @@ def _sorted_block(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return where, values + 0.0
 
 
+def _untie(tie_row, tie_col, cols, centred, ry, num, sxx) -> None:
+    """Average ranks for runs of equal sorted values, in place on ``num`` and ``sxx``.
+
+    ``(tie_row, tie_col)``: each sorted position equal to the next, in row-major order.
+    Every run of t equal values lowers the row's rank sum of squares by (t^3 - t) / 12
+    and moves its members' ranks to their average. The updates of a row are applied
+    in position order whether its rows are done together or one by one (the same
+    numbers either way).
+    """
+    if not tie_row.size:
+        return
+    flat = tie_row * cols + tie_col
+    starts = np.r_[0, np.flatnonzero(np.diff(flat) != 1) + 1]
+    ends = np.r_[starts[1:], flat.size] - 1
+    run_row = tie_row[starts]
+    first, last = tie_col[starts], tie_col[ends] + 1
+    length = last - first + 1
+    avg = (first + last) / 2.0 + 1.0 - (cols + 1) / 2.0
+    np.subtract.at(sxx, run_row, (length**3 - length) / 12.0)
+    pos = np.repeat(first, length) + (
+        np.arange(length.sum()) - np.repeat(np.cumsum(length) - length, length)
+    )
+    r = np.repeat(run_row, length)
+    delta = (np.repeat(avg, length) - centred[pos]) * ry[r, pos]
+    np.add.at(num, r, delta)
+
+
 def spearman_block(x: np.ndarray, centred_y: np.ndarray, syy: float) -> np.ndarray:
     """Spearman correlation of each row of ``x`` with the ranks behind ``centred_y``.
 
@@ -76,22 +103,13 @@ def spearman_block(x: np.ndarray, centred_y: np.ndarray, syy: float) -> np.ndarr
     centred = _centre(np.arange(1, cols + 1))  # ranks of a sorted row without ties
     num = ry @ centred
     sxx = np.full(x.shape[0], cols * (cols * cols - 1.0) / 12.0)
-    tie_row, tie_col = np.nonzero(keys[:, 1:] == keys[:, :-1])
-    if tie_row.size:
-        flat = tie_row * cols + tie_col
-        starts = np.r_[0, np.flatnonzero(np.diff(flat) != 1) + 1]
-        ends = np.r_[starts[1:], flat.size] - 1
-        run_row = tie_row[starts]
-        first, last = tie_col[starts], tie_col[ends] + 1
-        length = last - first + 1
-        avg = (first + last) / 2.0 + 1.0 - (cols + 1) / 2.0
-        np.subtract.at(sxx, run_row, (length**3 - length) / 12.0)
-        pos = np.repeat(first, length) + (
-            np.arange(length.sum()) - np.repeat(np.cumsum(length) - length, length)
-        )
-        r = np.repeat(run_row, length)
-        delta = (np.repeat(avg, length) - centred[pos]) * ry[r, pos]
-        np.add.at(num, r, delta)
+    equal = keys[:, 1:] == keys[:, :-1]
+    if np.count_nonzero(equal) <= cols:  # few ties: all rows at once
+        _untie(*np.nonzero(equal), cols, centred, ry, num, sxx)
+    else:  # many: a row at a time, so the work arrays stay within one row's size
+        for i in np.flatnonzero(equal.any(axis=1)):
+            tie_col = np.flatnonzero(equal[i])
+            _untie(np.full(tie_col.size, i), tie_col, cols, centred, ry, num, sxx)
     rho = num / np.sqrt(sxx * syy)
     out[varying] = np.clip(rho, -1.0, 1.0)
     return out

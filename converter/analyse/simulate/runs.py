@@ -9,11 +9,18 @@ criticality index (share of iterations in which an activity is critical) of
 that paper.
 
 Iterations are handled a chunk at a time: the samples of a chunk form an
-``(n, c)`` matrix and both passes run on all ``c`` columns at once (no Python
-loop per iteration). The sampled durations are kept for the whole run as float32
-(about 7 significant digits) because the rank correlation of each activity with
-the project duration (:mod:`.ranks`) needs every sample; the passes use exactly
-those stored values, so a sensitivity can be recomputed from :func:`draw_samples`.
+``(n, c)`` matrix and both passes run on its columns a block at a time (no Python
+loop per iteration). The sampled durations are rounded to float32 (about 7
+significant digits) and kept as such for the rank correlation of each activity with
+the project duration (:mod:`.ranks`); the passes use exactly those rounded values,
+so a sensitivity can be recomputed from :func:`draw_samples`.
+
+Memory stays within a budget (:mod:`.budget`, default 1 GB): the project durations
+of every iteration and the criticality counts are always kept whole; the samples of
+the first ``K`` iterations only when all ``N`` do not fit, and the sensitivities then
+come from those ``K`` (:attr:`SimulationResult.sensitivity_iterations`). A run within
+the budget is exactly the unlimited one.
+
 The samplers are in :mod:`.sampling`; activities sharing a correlation group get rank
 correlation ``correlation`` by Iman & Conover (:mod:`.correlation`), applied to each
 chunk of iterations; large runs share the chunks among processes (:mod:`.workers`).
@@ -28,54 +35,36 @@ same per-activity samples as the correlated one, only in another order.
 
 from __future__ import annotations
 
+import errno
 import math
 from collections.abc import Callable, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 import numpy as np
 
 from converter.analyse.network import Network, critical_tolerances
 from converter.analyse.passes import backward_into, forward_into, pass_plan
 from converter.analyse.simulate import workers as processes
+from converter.analyse.simulate.budget import (
+    MemoryPlan,
+    SimulationMemoryError,
+    pass_columns,
+    plan_memory,
+)
 from converter.analyse.simulate.correlation import induce_rank_correlation
 from converter.analyse.simulate.inputs import Inputs, check_correlation, chunk_size, prepare
 from converter.analyse.simulate.ranks import RANK_ROWS, centred_ranks, spearman_block, spearman_rows
+from converter.analyse.simulate.result import (
+    PERCENTILE_KEYS,
+    Counts,
+    SimulationResult,
+    summarise,
+)
 from converter.analyse.simulate.sampling import sample_durations
 from converter.model import DEFAULT_ITERATIONS, DEFAULT_SEED, DISTRIBUTIONS
 
-#: Percentile keys reported in :attr:`SimulationResult.percentiles`.
-PERCENTILE_KEYS: tuple[float, ...] = (
-    0.01, 0.05, 0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7, 0.8, 0.9, 0.95, 0.99,
-)
-
-@dataclass
-class SimulationResult:
-    """Outcome of a simulation run (arrays indexed by activity)."""
-
-    iterations: int
-    seed: int
-    distribution: str
-    correlation: float
-    durations: np.ndarray
-    mean: float
-    sd: float
-    std_error_mean: float
-    p_meet_due: float | None
-    p_meet_due_std_error: float | None
-    percentiles: dict[float, float]
-    merge_bias: float
-    criticality: np.ndarray
-    sensitivity: np.ndarray
-    target_p: dict[int, float] = field(default_factory=dict)
-    independent: SimulationResult | None = None
-
-    def percentile(self, q: float) -> float:
-        """Project duration at probability ``q`` (numpy's default linear method)."""
-        return float(np.percentile(self.durations, 100.0 * q))
-
-    def p_finish_by(self, t: float) -> float:
-        """Share of iterations whose project duration is at most ``t``."""
-        return float(np.count_nonzero(self.durations <= t)) / self.durations.size
+__all__ = ["PERCENTILE_KEYS", "SimulationResult", "draw_samples", "simulate",
+           "simulate_durations"]
 
 
 def _rng(seed: int, stream: int, chunk: int) -> np.random.Generator:
@@ -126,44 +115,58 @@ class _Passes:
         for i in self.targets:
             if not 0 <= i < net.n:
                 raise ValueError(f"target activity index {i} out of range")
-        self._buffers: tuple[int, tuple[np.ndarray, ...]] | None = None
+        self._samples: np.ndarray | None = None
+        self._work: tuple[np.ndarray, ...] | None = None
 
-    def buffers(self, cols: int) -> tuple[np.ndarray, ...]:
-        """Reused work matrices for ``cols`` iterations: durations, early, late, flags."""
-        if self._buffers is None or self._buffers[0] != cols:
+    def samples(self, cols: int) -> np.ndarray:
+        """A reused ``(n, cols)`` matrix for the durations of a chunk."""
+        if self._samples is None or self._samples.shape[1] != cols:
+            self._samples = None  # the old one goes first
+            self._samples = processes.mapped((self.n, cols), float)
+        return self._samples
+
+    def work(self, cols: int) -> tuple[np.ndarray, ...]:
+        """Reused early times, late times and flags for ``cols`` iterations (or more)."""
+        if self._work is None or self._work[0].shape[1] < cols:
             n = self.n
-            self._buffers = (cols, (processes.mapped((n, cols), float),
-                                    processes.mapped((2 * n, cols), float),
-                                    processes.mapped((2 * n, cols), float),
-                                    processes.mapped((n, cols), bool)))
-        return self._buffers[1]
+            self._work = None
+            self._work = (processes.mapped((2 * n, cols), float),
+                          processes.mapped((2 * n, cols), float),
+                          processes.mapped((n, cols), bool))
+        return tuple(w[:, :cols] for w in self._work)
 
     def run(self, d: np.ndarray) -> tuple[np.ndarray, np.ndarray, dict[int, int]]:
-        """Project finish per column, critical counts per activity, target hits."""
+        """Project finish per column, critical counts per activity, target hits.
+
+        The columns are independent, so the passes take a block of
+        :func:`.budget.pass_columns` of them at a time (the same numbers as all at once).
+        """
         n, cols = d.shape
-        _, x, y, crit = self.buffers(cols)
         nonneg = bool(d.min() >= 0.0) if d.size else True
+        block = pass_columns(n, cols)
+        finish = np.empty(cols)
+        critical = np.zeros(n, dtype=np.int64)
+        hits = dict.fromkeys(self.targets, 0)
+        for c0 in range(0, cols, block):
+            c1 = min(cols, c0 + block)
+            critical += self._block(d[:, c0:c1], nonneg, finish[c0:c1], hits)
+        return finish, critical, hits
+
+    def _block(self, d: np.ndarray, nonneg: bool, finish: np.ndarray,
+               hits: dict[int, int]) -> np.ndarray:
+        """Both passes on the columns of ``d``: their finish into ``finish``, target hits
+        added to ``hits``; returns the critical count per activity."""
+        n, cols = d.shape
+        x, y, crit = self.work(cols)
         forward_into(self.plan, d, x, nonneg)
-        finish = x[n:].max(axis=0) if n else np.zeros(cols)
+        finish[...] = x[n:].max(axis=0) if n else 0.0
         backward_into(self.plan, d, finish, y, nonneg)
         tf = y[:n]
         tf -= x[:n]
         np.less_equal(tf, critical_tolerances(finish), out=crit)
-        hits = {i: int(np.count_nonzero(x[n + i] <= t)) for i, t in self.targets.items()}
-        return finish, crit.sum(axis=1), hits
-
-
-class _Counts:
-    """Critical counts per activity and target hits, summed over chunks."""
-
-    def __init__(self, n: int, targets: dict[int, float]):
-        self.critical = np.zeros(n, dtype=np.int64)
-        self.hits = {i: 0 for i in targets}
-
-    def add(self, crit: np.ndarray, hits: dict[int, int]) -> None:
-        self.critical += crit
-        for i, h in hits.items():
-            self.hits[i] += h
+        for i, t in self.targets.items():
+            hits[i] += int(np.count_nonzero(x[n + i] <= t))
+        return crit.sum(axis=1)
 
 
 # --------------------------------------------------------------------------- runs
@@ -175,24 +178,42 @@ class _Job:
 
     inp: Inputs
     passes: _Passes
-    store: np.ndarray  # (n, iterations) float32 samples
+    store: np.ndarray  # (n, sample) float32 samples of the first ``sample`` iterations
     project: np.ndarray  # (iterations,) project durations of the current run
-    centred: np.ndarray  # (iterations,) centred ranks of ``project`` for the rank step
+    centred: np.ndarray  # (sample,) centred ranks of ``project[:sample]`` for the rank step
     correlation: float
+
+    @property
+    def sample(self) -> int:
+        return self.store.shape[1]
+
+
+def _round_to_single(d: np.ndarray) -> None:
+    """Round ``d`` in place to float32 values, as a float32 store would (a row block at
+    a time)."""
+    step = max(1, 1_000_000 // max(d.shape[1], 1))
+    for r0 in range(0, d.shape[0], step):
+        d[r0 : r0 + step] = d[r0 : r0 + step].astype(np.float32)
 
 
 def _chunk(job: _Job, j: int, correlate: bool) -> tuple[int, np.ndarray, dict[int, int]]:
-    """Sample (or, for the correlated run, re-order) chunk ``j``, run the passes."""
+    """Sample (or, for the correlated run, re-order) chunk ``j``, run the passes.
+
+    The chunk's samples are rounded to float32 and, for the iterations kept
+    (:attr:`_Job.sample`), stored. The correlated run re-orders the stored samples, or
+    draws again those not kept (the same numbers from the chunk's own stream).
+    """
     a, b = job.inp.chunks()[j]
-    d = job.passes.buffers(b - a)[0]
-    if correlate:
-        d[...] = job.store[:, a:b]
-        _correlate_chunk(job.inp, j, d, job.correlation)
-        job.store[:, a:b] = d
+    kept = max(0, min(b, job.sample) - a)  # the chunk's leading iterations in the store
+    d = job.passes.samples(b - a)
+    if correlate and kept == b - a:
+        d[...] = job.store[:, a:b]  # the first run's samples, as stored
     else:
         _sample_chunk(job.inp, j, b - a, out=d)
-        job.store[:, a:b] = d
-        d[...] = job.store[:, a:b]  # the passes use the stored (float32) values
+        _round_to_single(d)  # the passes use the values a float32 store holds
+    if correlate:
+        _correlate_chunk(job.inp, j, d, job.correlation)
+    job.store[:, a : a + kept] = d[:, :kept]
     finish, crit, hits = job.passes.run(d)
     job.project[a:b] = finish
     return b - a, crit, hits
@@ -207,23 +228,27 @@ def _ranked(job: _Job, r0: int, r1: int, syy: float) -> tuple[int, np.ndarray]:
     return r0, out
 
 
-def _run_serial(job: _Job, correlate: bool, tick) -> tuple[_Counts, np.ndarray]:
-    counts = _Counts(job.inp.n, job.passes.targets)
+def _rank_project(job: _Job) -> float:
+    """Centred ranks of the kept iterations' project durations into ``job.centred``."""
+    return centred_ranks(job.project[: job.sample], out=job.centred)[1]
+
+
+def _run_serial(job: _Job, correlate: bool, tick) -> tuple[Counts, np.ndarray]:
+    counts = Counts(job.inp.n, job.passes.targets)
     for j in range(len(job.inp.chunks())):
         done, crit, hits = _chunk(job, j, correlate)
         counts.add(crit, hits)
         tick(done)
-    _, syy = centred_ranks(job.project, out=job.centred)
-    return counts, _ranked(job, 0, job.inp.n, syy)[1]
+    return counts, _ranked(job, 0, job.inp.n, _rank_project(job))[1]
 
 
-def _run_parallel(workers, job: _Job, correlate: bool, tick) -> tuple[_Counts, np.ndarray]:
-    counts = _Counts(job.inp.n, job.passes.targets)
+def _run_parallel(workers, job: _Job, correlate: bool, tick) -> tuple[Counts, np.ndarray]:
+    counts = Counts(job.inp.n, job.passes.targets)
     tasks = [(j, correlate) for j in range(len(job.inp.chunks()))]
     for done, crit, hits in processes.map_unordered(workers, _chunk, tasks):
         counts.add(crit, hits)
         tick(done)
-    _, syy = centred_ranks(job.project, out=job.centred)
+    syy = _rank_project(job)
     n = job.inp.n
     step = max(RANK_ROWS, -(-n // (8 * RANK_ROWS)) * RANK_ROWS)
     sensitivity = np.empty(n)
@@ -231,39 +256,6 @@ def _run_parallel(workers, job: _Job, correlate: bool, tick) -> tuple[_Counts, n
     for r0, values in processes.map_unordered(workers, _ranked, ranges):
         sensitivity[r0 : r0 + values.size] = values
     return counts, sensitivity
-
-
-# --------------------------------------------------------------------------- summary
-
-
-def _summary(project: np.ndarray, counts: _Counts, sensitivity: np.ndarray, *, iterations,
-             seed, distribution, correlation, due, pert_mean) -> SimulationResult:
-    y = project
-    count = y.size
-    mean = float(y.mean())
-    sd = float(y.std(ddof=1))
-    p_due = se_due = None
-    if due is not None:
-        p_due = float(np.count_nonzero(y <= float(due))) / count
-        se_due = math.sqrt(p_due * (1.0 - p_due) / count)
-    values = np.percentile(y, [100.0 * q for q in PERCENTILE_KEYS])
-    return SimulationResult(
-        iterations=iterations,
-        seed=seed,
-        distribution=distribution,
-        correlation=float(correlation),
-        durations=y,
-        mean=mean,
-        sd=sd,
-        std_error_mean=sd / math.sqrt(count),
-        p_meet_due=p_due,
-        p_meet_due_std_error=se_due,
-        percentiles={q: float(v) for q, v in zip(PERCENTILE_KEYS, values, strict=True)},
-        merge_bias=mean - float(pert_mean),
-        criticality=counts.critical / count,
-        sensitivity=sensitivity,
-        target_p={i: h / count for i, h in counts.hits.items()},
-    )
 
 
 def simulate_durations(
@@ -283,7 +275,7 @@ def simulate_durations(
         raise ValueError("durations must be (activities, iterations >= 2)")
     iterations = durations.shape[1]
     passes = _Passes(net, targets)
-    counts = _Counts(net.n, passes.targets)
+    counts = Counts(net.n, passes.targets)
     project = np.empty(iterations)
     step = chunk_size(net.n, iterations)
     for a in range(0, iterations, step):
@@ -294,7 +286,7 @@ def simulate_durations(
         if progress is not None:
             progress(b, iterations)
     sensitivity = spearman_rows(durations, project)
-    return _summary(project, counts, sensitivity, iterations=iterations, seed=seed,
+    return summarise(project, counts, sensitivity, iterations=iterations, seed=seed,
                     distribution=distribution, correlation=correlation, due=due,
                     pert_mean=pert_mean)
 
@@ -313,12 +305,17 @@ def _both_runs(job: _Job, runs: tuple[bool, ...], count: int, tick) -> list[tupl
         with processes.pool(count, job) as workers:
             for correlate in runs:
                 counts, sens = _run_parallel(workers, job, correlate, tick)
-                results.append((job.project.copy(), counts, sens))
+                results.append((_durations(job, correlate == runs[-1]), counts, sens))
     else:
         for correlate in runs:
             counts, sens = _run_serial(job, correlate, tick)
-            results.append((job.project.copy(), counts, sens))
+            results.append((_durations(job, correlate == runs[-1]), counts, sens))
     return results
+
+
+def _durations(job: _Job, last: bool) -> np.ndarray:
+    """The run's project durations: the job's own array after the last run, else a copy."""
+    return job.project if last else job.project.copy()
 
 
 def simulate(
@@ -328,6 +325,7 @@ def simulate(
     iterations: int = DEFAULT_ITERATIONS, seed: int = DEFAULT_SEED, due: float | None = None,
     targets: dict[int, float] | None = None, pert_mean: float = math.nan,
     progress: Callable[[int, int], None] | None = None, workers: int | None = None,
+    memory_mb: int | None = None,
 ) -> SimulationResult:
     """Monte Carlo simulation of the network's project duration (see module docstring).
 
@@ -360,14 +358,24 @@ def simulate(
         Processes to share the run (1: this process only). None chooses: from 20 million
         samples one per usable core up to 4, else 1. More than 1 needs the ``fork`` start
         method and a process that is not itself a daemonic worker (else 1 is used). The
-        numbers do not depend on it.
+        numbers do not depend on it. Fewer are used where the memory budget needs it.
+    memory_mb : int, optional
+        Memory budget of the run in MB (None: :data:`.budget.DEFAULT_MEMORY_MB`); see
+        :mod:`.budget` for what it bounds and how.
 
     Returns
     -------
     SimulationResult
         With ``correlation > 0`` and at least one group of two or more varying
         activities, its ``independent`` is the same run (same samples, same seed)
-        without the correlation.
+        without the correlation. Its ``sensitivity_iterations`` tells how many (first)
+        iterations the sensitivities come from.
+
+    Raises
+    ------
+    SimulationMemoryError
+        The run cannot fit the budget (nor can it run in the memory the machine has);
+        it names the largest iteration count that fits.
 
     References
     ----------
@@ -399,17 +407,41 @@ def simulate(
             progress(done[0], total)
 
     count = processes.worker_count(workers, inp.n * inp.iterations, len(inp.chunks()))
-    shared = count > 1
-    store = processes.mapped((inp.n, inp.iterations), np.float32, shared)
-    project = processes.mapped((inp.iterations,), float, shared)
-    centred = processes.mapped((inp.iterations,), float, shared)
-    job = _Job(inp, _Passes(net, targets), store, project, centred, float(correlation))
-    results = _both_runs(job, (False, True)[: 1 + correlated], count, tick)
+    group = max((g.size for g in inp.groups), default=0) if correlated else 0
+    plan = plan_memory(inp.n, inp.iterations, count, inp.chunk, group, 1 + correlated,
+                       memory_mb)
+    try:
+        results = _run(net, inp, plan, targets, float(correlation), tick)
+    except (MemoryError, OSError) as exc:
+        if isinstance(exc, OSError) and exc.errno != errno.ENOMEM:
+            raise
+        raise _out_of_memory(inp, plan) from None
     common = dict(iterations=inp.iterations, seed=inp.seed, due=due, pert_mean=pert_mean,
-                  distribution=_run_name(inp, distribution))
-    first = _summary(*results[0], correlation=0.0, **common)
+                  distribution=_run_name(inp, distribution),
+                  sensitivity_iterations=plan.sample, memory_budget_mb=plan.budget >> 20)
+    first = summarise(*results[0], correlation=0.0, **common)
     if not correlated:
         return first
-    result = _summary(*results[1], correlation=correlation, **common)
+    result = summarise(*results[1], correlation=correlation, **common)
     result.independent = first
     return result
+
+
+def _run(net, inp: Inputs, plan: MemoryPlan, targets, correlation: float, tick) -> list:
+    """Both runs (the correlated one only when there are groups to correlate)."""
+    shared = plan.workers > 1
+    store = processes.mapped((inp.n, plan.sample), np.float32, shared)
+    project = processes.mapped((inp.iterations,), float, shared)
+    centred = processes.mapped((plan.sample,), float, shared)
+    job = _Job(inp, _Passes(net, targets), store, project, centred, correlation)
+    correlated = correlation > 0.0 and bool(inp.groups)
+    return _both_runs(job, (False, True)[: 1 + correlated], plan.workers, tick)
+
+
+def _out_of_memory(inp: Inputs, plan: MemoryPlan) -> SimulationMemoryError:
+    """The error for a run the machine had no memory for, though the budget allowed it."""
+    mb = plan.budget >> 20
+    return SimulationMemoryError(
+        f"the machine ran out of memory for the simulation of {inp.n:,} activities x "
+        f"{inp.iterations:,} iterations (its budget is {mb:,} MB; less is free)",
+        largest_iterations=0, needed_mb=-(-plan.needed // (1 << 20)), budget_mb=mb)

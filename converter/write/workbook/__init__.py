@@ -23,6 +23,12 @@ from converter.write.workbook.reference import (
     write_settings,
     write_warnings,
 )
+from converter.write.workbook.rows import (
+    DEFAULT_FONT_SIZE,
+    DEFAULT_ROW_PIXELS,
+    FONT_NAME,
+    height_for_lines,
+)
 from converter.write.workbook.simulation import write_simulation
 from converter.write.workbook.styles import Formats
 from converter.write.workbook.summary import write_summary
@@ -48,6 +54,15 @@ class _PreparedFormulaSheet(xlsxwriter.worksheet.Worksheet):
         return formula
 
 
+    def _write_string(self, row, col, string, cell_format=None):
+        """Also give a row holding larger text (a title) room for one line of it, unless
+        the sheet sets that row's height itself (later, or already)."""
+        size = getattr(cell_format, "font_size", DEFAULT_FONT_SIZE) if cell_format else None
+        if size and size > DEFAULT_FONT_SIZE and row not in self.row_sizes:
+            self.set_row(row, height_for_lines(1, size))
+        return super()._write_string(row, col, string, cell_format)
+
+
 class _Workbook(xlsxwriter.Workbook):
     worksheet_class = _PreparedFormulaSheet
 
@@ -65,6 +80,11 @@ def write_workbook(analysis, path: str | Path) -> None:
             "strings_to_urls": False,
             "strings_to_numbers": False,
             "nan_inf_to_errors": True,
+            # one font everywhere, not the theme's (scheme "none"): see rows.FONT_NAME;
+            # every value at the top of its row, beside the first line of a tall neighbour
+            "default_format_properties": {"font_name": FONT_NAME, "font_size": DEFAULT_FONT_SIZE,
+                                          "font_scheme": "none", "valign": "top"},
+            "default_row_height": DEFAULT_ROW_PIXELS,  # one line of that font
         },
     )
     wb.set_properties({
@@ -95,16 +115,7 @@ def write_workbook(analysis, path: str | Path) -> None:
     write_method(wb, fmt, analysis, lay)
     write_input(wb, fmt, analysis, lay)
     write_warnings(wb, fmt, analysis, lay)
-    for ws in wb.worksheets():
-        if not pages.is_set_up(ws):  # sheets that plan their own pages keep their plan
-            _printable(ws)
+    for ws in wb.worksheets():  # sheets that did not set up their pages themselves
+        if not pages.is_set_up(ws):
+            pages.set_up(ws)
     wb.close()
-
-
-def _printable(ws) -> None:
-    """Landscape, one page wide, so a printed or PDF copy keeps each table whole."""
-    ws.set_landscape()
-    ws.set_paper(9)  # A4
-    ws.fit_to_pages(1, 0)
-    ws.set_margins(left=0.4, right=0.4, top=0.5, bottom=0.5)
-    ws.set_footer("&L&A&RPage &P of &N")

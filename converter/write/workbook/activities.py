@@ -12,7 +12,10 @@ import math
 
 from converter.model import FS, LINK_TYPES
 from converter.write.workbook import formulas as f
+from converter.write.workbook import pages
 from converter.write.workbook.layout import ACTIVITIES, FIRST, LINKS, Layout
+from converter.write.workbook.rows import DEFAULT_ROW_HEIGHT, fit_row, merged_width, row_height
+from converter.write.workbook.styles import TABLE_HEAD_SIZE, TITLE_ROW
 
 HEADERS = {
     "id": "ID", "name": "Description", "pred": "Predecessors (as given)",
@@ -46,26 +49,50 @@ def incoming_outgoing(net) -> tuple[list[list[int]], list[list[int]]]:
     return incoming, outgoing
 
 
+#: Column widths in characters; every other column is a number 8.5 wide.
+WIDTHS = {"id": 9.0, "name": 26.0, "pred": 12.0, "o": 9.5, "m": 9.5, "p": 9.5, "crit": 8.0,
+          "es_date": 10.5, "ef_date": 10.5, "ls_date": 10.5, "lf_date": 10.5,
+          "criticality": 10.0, "sensitivity": 11.0}
+NUMBER_WIDTH = 8.5
+INTRO = ("Shaded columns are the estimates as read; every other figure is a formula. Early "
+         "start = MAX over what the incoming links allow; late finish = MIN over what the "
+         "outgoing links allow (see the Links sheet).")
+
+
+def _table_head(ws, fmt, lay: Layout) -> None:
+    """Title and introduction, and the header row, each head aligned like its column.
+
+    A wide table prints in bands that repeat the ID and description columns, and with
+    them whatever rows 1-3 hold there: so the title and its subtitle fit those two
+    columns, and the longer introduction stands over the first band's figures.
+    """
+    c = lay.cols
+    ws.write_string(0, 0, "Activities", fmt.title)
+    ws.set_row(0, TITLE_ROW)
+    ws.merge_range(1, 0, 1, c["name"], "The passes and float, as formulas", fmt.subtitle)
+    last = c["lf"]
+    ws.merge_range(1, c["pred"], 2, last, INTRO, fmt.subtitle_wrap)
+    need = row_height([(INTRO, merged_width(_width(k) for k in list(c)[c["pred"]:last + 1]))])
+    ws.set_row(2, max(DEFAULT_ROW_HEIGHT, need - DEFAULT_ROW_HEIGHT))
+    heads = []
+    for key, col in c.items():
+        # heads centred over numbers, so neighbouring heads do not run together
+        style = fmt.th if key in ("id", "name", "pred") else fmt.th_center
+        ws.write_string(FIRST - 1, col, HEADERS[key], style)
+        ws.set_column(col, col, _width(key))
+        heads.append((HEADERS[key], _width(key), TABLE_HEAD_SIZE, True))
+    ws.set_row(FIRST - 1, row_height(heads))
+    ws.freeze_panes(FIRST, 2)
+
+
+def _width(key: str) -> float:
+    return WIDTHS.get(key, NUMBER_WIDTH)
+
+
 def write_activities(wb, fmt, a, lay: Layout) -> None:
     ws = wb.add_worksheet(ACTIVITIES)
-    ws.write_string(0, 0, "Activities: expected times, forward and backward pass, float", fmt.title)
-    ws.write_string(1, 0, "Shaded columns are the estimates as read; every other figure is a "
-                    "formula. Early start = MAX over what the incoming links allow; late finish "
-                    "= MIN over what the outgoing links allow (see the Links sheet).",
-                    fmt.subtitle)
+    _table_head(ws, fmt, lay)
     c = lay.cols
-    for key, col in c.items():
-        ws.write_string(FIRST - 1, col, HEADERS[key], fmt.header)
-    ws.set_row(FIRST - 1, 60)
-    ws.freeze_panes(FIRST, 2)
-    ws.set_column(c["id"], c["id"], 10)
-    ws.set_column(c["name"], c["name"], 34)
-    ws.set_column(c["pred"], c["pred"], 18)
-    ws.set_column(c["o"], c["crit"], 10.5)
-    if lay.dates:
-        ws.set_column(c["es_date"], c["lf_date"], 11.5)
-    if lay.simulated:
-        ws.set_column(c["criticality"], c["sensitivity"], 13)
 
     net, cpm = a.net, a.cpm
     incoming, outgoing = incoming_outgoing(net)
@@ -77,9 +104,11 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
     raw_preds = _predecessor_text(a)
     for i, act in enumerate(a.schedule.activities):
         r = lay.row(i)
-        ws.write_string(r, c["id"], act.id)
-        ws.write_string(r, c["name"], act.name)
-        ws.write_string(r, c["pred"], raw_preds[i])
+        ws.write_string(r, c["id"], act.id, fmt.wrap)
+        ws.write_string(r, c["name"], act.name, fmt.wrap)
+        ws.write_string(r, c["pred"], raw_preds[i], fmt.wrap)
+        fit_row(ws, r, [(act.id, WIDTHS["id"]), (act.name, WIDTHS["name"]),
+                        (raw_preds[i], WIDTHS["pred"])])
         ws.write_number(r, c["o"], act.optimistic, fmt.input_num)
         ws.write_number(r, c["m"], act.most_likely, fmt.input_num)
         ws.write_number(r, c["p"], act.pessimistic, fmt.input_num)
@@ -119,22 +148,17 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
         ws.write_formula(r, c["crit"], f.is_critical(lay.cell(i, "tf")),
                          fmt.critical if cpm.critical[i] else fmt.center, crit)
         if dates is not None:
-            for key, src, fn, when in (
-                ("es_date", "es", cal.start_date_formula, dates.early_start),
-                ("ef_date", "ef", cal.finish_date_formula, dates.early_finish),
-                ("ls_date", "ls", cal.start_date_formula, dates.late_start),
-                ("lf_date", "lf", cal.finish_date_formula, dates.late_finish),
-            ):
-                ws.write_formula(r, c[key], "=" + fn(lay.cell(i, src), "ProjectStart", holidays),
-                                 fmt.date, serial(when[i]))
+            _write_dates(ws, fmt, lay, c, r, i, cal, dates, holidays)
         if sim is not None:
             ws.write_number(r, c["criticality"], float(sim.criticality[i]), fmt.prob)
             s = float(sim.sensitivity[i])
             if math.isnan(s):
-                ws.write_string(r, c["sensitivity"], "n/a (fixed)")
+                ws.write_string(r, c["sensitivity"], "n/a (fixed)", fmt.text_right)
             else:
                 ws.write_number(r, c["sensitivity"], s, fmt.num4)
     ws.autofilter(FIRST - 1, 0, lay.last_row, max(c.values()))
+    bands = [c[k] for k in ("tf", "criticality") if k in c]  # float and dates, simulated
+    pages.set_up(ws, header_rows=(FIRST - 1, FIRST - 1), title_cols=(0, 1), bands=bands)
 
 
 def _predecessor_text(a) -> list[str]:
@@ -152,21 +176,24 @@ def _predecessor_text(a) -> list[str]:
 
 LINK_HEADERS = ["From", "To", "Type", "Lag (+) / lead (-)", "Driven start of successor",
                 "Slack on this link", "Latest finish allowed to predecessor", "Driving link"]
+LINK_WIDTHS = [10.0, 10.0, 7.0, 10.0, 14.0, 14.0, 14.0, 10.0]
+LINK_INTRO = ("FS: successor starts after predecessor finishes + lag. SS: starts after "
+              "predecessor starts + lag. FF: finishes after predecessor finishes + lag. SF: "
+              "finishes after predecessor starts + lag. A negative lag is a lead.")
 
 
 def write_links(wb, fmt, a, lay: Layout) -> None:
     ws = wb.add_worksheet(LINKS)
     ws.write_string(0, 0, "Links: what each precedence link requires", fmt.title)
-    ws.write_string(1, 0, "FS: successor starts after predecessor finishes + lag. SS: starts "
-                    "after predecessor starts + lag. FF: finishes after predecessor finishes + "
-                    "lag. SF: finishes after predecessor starts + lag. A negative lag is a lead.",
-                    fmt.subtitle)
-    for col, h in enumerate(LINK_HEADERS):
-        ws.write_string(FIRST - 1, col, h, fmt.header)
-    ws.set_row(FIRST - 1, 45)
-    ws.set_column(0, 1, 10)
-    ws.set_column(2, 3, 9)
-    ws.set_column(4, 7, 14)
+    ws.set_row(0, TITLE_ROW)
+    ws.merge_range(1, 0, 1, len(LINK_HEADERS) - 1, LINK_INTRO, fmt.subtitle_wrap)
+    ws.set_row(1, row_height([(LINK_INTRO, merged_width(LINK_WIDTHS))]))
+    for col, (h, width) in enumerate(zip(LINK_HEADERS, LINK_WIDTHS)):
+        style = fmt.th if col < 3 else fmt.th_center
+        ws.write_string(FIRST - 1, col, h, style)
+        ws.set_column(col, col, width)
+    ws.set_row(FIRST - 1, row_height([(h, w, TABLE_HEAD_SIZE, True)
+                                      for h, w in zip(LINK_HEADERS, LINK_WIDTHS)]))
     ws.freeze_panes(FIRST, 2)
     net, cpm = a.net, a.cpm
     ids = a.ids
@@ -192,3 +219,23 @@ def write_links(wb, fmt, a, lay: Layout) -> None:
         ws.autofilter(FIRST - 1, 0, FIRST + net.link_count - 1, len(LINK_HEADERS) - 1)
     else:
         ws.write_string(FIRST, 0, "No links: every activity starts at the project start.")
+    pages.set_up(ws, header_rows=(FIRST - 1, FIRST - 1))
+
+
+def _write_dates(ws, fmt, lay: Layout, c, r: int, i: int, cal, dates, holidays) -> None:
+    """The four date columns of one activity; a start never falls after its finish (a
+    milestone takes its finish date)."""
+    for key, when, formula in (
+        ("es_date", dates.early_start,
+         cal.start_date_formula(lay.cell(i, "es"), "ProjectStart", holidays,
+                                finish_ref=lay.cell(i, "ef"))),
+        ("ef_date", dates.early_finish,
+         cal.finish_date_formula(lay.cell(i, "ef"), "ProjectStart", holidays)),
+        ("ls_date", dates.late_start,
+         cal.start_date_formula(lay.cell(i, "ls"), "ProjectStart", holidays,
+                                finish_ref=lay.cell(i, "lf"))),
+        ("lf_date", dates.late_finish,
+         cal.finish_date_formula(lay.cell(i, "lf"), "ProjectStart", holidays)),
+    ):
+        ws.write_formula(r, c[key], "=" + formula, fmt.date, serial(when[i]))
+

@@ -15,6 +15,7 @@ draws narrower columns only leaves more margin.
 
 from __future__ import annotations
 
+import itertools
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass, field
@@ -47,16 +48,14 @@ HEIGHT_SHARE = 0.96
 #: Fixed padding of a column in points (LibreOffice measured about 4-5 pt).
 COLUMN_PAD = 5.0
 
-#: Default row height in points (Excel's 15 pt; a renderer's own optimal height is lower).
-DEFAULT_ROW = 15.0
-
 #: A last page holding fewer rows than this, or less than this share of a page, is stray.
 STRAY_ROWS = 3
-STRAY_SHARE = 0.12
+STRAY_SHARE = 0.25
 
 
-def column_points(width_chars: float, font_name: str = FONT_NAME,
-                  font_size: float = DEFAULT_FONT_SIZE) -> float:
+def column_points(
+    width_chars: float, font_name: str = FONT_NAME, font_size: float = DEFAULT_FONT_SIZE
+) -> float:
     """Printed width in points of a column ``width_chars`` characters wide (on the wide side).
 
     Examples
@@ -104,24 +103,48 @@ class PagePlan:
         return len(self.row_breaks) + 1
 
 
-def _bands(widths: list[float], first: int, room: float) -> list[int]:
-    """Columns at which a new page starts when ``widths[first:]`` are laid in ``room``."""
-    breaks, used = [], 0.0
-    for col in range(first, len(widths)):
-        if used > 0 and used + widths[col] > room:
-            breaks.append(col)
-            used = 0.0
-        used += widths[col]
+def _bands(widths: list[float], first: int, room: float, prefer: Sequence[int] = ()) -> list[int]:
+    """Columns at which a new page starts when ``widths[first:]`` are laid in ``room``,
+    at the last ``prefer`` column of the page where there is one."""
+    breaks: list[int] = []
+    start, col = first, first
+    while col < len(widths):
+        if col > start and sum(widths[start : col + 1]) > room:
+            better = [p for p in prefer if start < p <= col]
+            start = better[-1] if better else col
+            breaks.append(start)
+            col = start
+        col += 1
     return breaks
 
 
-def plan_columns(widths: Sequence[float], title_cols: tuple[int, int] | None,
-                 room: float, min_scale: float) -> tuple[float, list[int]]:
+def _even_preferred(
+    widths: list[float], lead: int, space: float, prefer: Sequence[int], bands: int
+) -> list[int] | None:
+    """Of the ways to begin ``bands - 1`` bands at ``prefer`` columns that fit ``space``,
+    the one with the narrowest widest band (None when there is none)."""
+    best, best_width = None, math.inf
+    for cut in itertools.combinations(sorted(p for p in prefer if p > lead), bands - 1):
+        edges = [lead, *cut, len(widths)]
+        widest = max(sum(widths[a:b]) for a, b in zip(edges, edges[1:]))
+        if widest <= space and widest < best_width:
+            best, best_width = list(cut), widest
+    return best
+
+
+def plan_columns(
+    widths: Sequence[float],
+    title_cols: tuple[int, int] | None,
+    room: float,
+    min_scale: float,
+    prefer: Sequence[int] = (),
+) -> tuple[float, list[int]]:
     """Scale and column breaks for columns ``widths`` (points) on pages ``room`` wide.
 
     One band when the whole width fits at ``min_scale`` or more; otherwise the fewest bands
     at ``min_scale``, the title columns repeated on each, then the largest scale that keeps
-    that many bands, the columns shared evenly.
+    that many bands, the columns shared evenly (a band begins at a ``prefer`` column
+    where one falls on the page).
 
     Examples
     --------
@@ -140,33 +163,42 @@ def plan_columns(widths: Sequence[float], title_cols: tuple[int, int] | None,
     title = sum(widths[:lead])
     space = room / min_scale - title
     if space <= 0 or any(w > space for w in widths[lead:]):  # titles too wide to repeat
-        return min_scale, _bands(widths, 0, room / min_scale)
-    breaks = _bands(widths, lead, space)
-    bands = len(breaks) + 1
-    # share the columns evenly: the narrowest room that still gives the same band count
-    low, high = max(widths[lead:]), space
-    for _ in range(40):
-        mid = (low + high) / 2.0
-        if len(_bands(widths, lead, mid)) + 1 <= bands:
-            high = mid
-        else:
-            low = mid
-    breaks = _bands(widths, lead, high)
+        return min_scale, _bands(widths, 0, room / min_scale, prefer)
+    breaks = _bands(widths, lead, space, prefer)
+    even = _even_preferred(widths, lead, space, prefer, len(breaks) + 1)
+    if even is not None:
+        breaks = even
+    elif not set(breaks) <= set(prefer):
+        # share the columns evenly: the narrowest room that still gives as many bands
+        bands = len(breaks) + 1
+        low, high = max(widths[lead:]), space
+        for _ in range(40):
+            mid = (low + high) / 2.0
+            if len(_bands(widths, lead, mid, prefer)) + 1 <= bands:
+                high = mid
+            else:
+                low = mid
+        breaks = _bands(widths, lead, high, prefer)
     if lead:
         breaks = [b for b in breaks if b > lead]
-    widest = max(title + sum(widths[a:b]) for a, b in
-                 zip([lead] + breaks, breaks + [len(widths)]))
+    widest = max(title + sum(widths[a:b]) for a, b in zip([lead] + breaks, breaks + [len(widths)]))
     return min(1.0, room / widest), breaks
 
 
-def plan_rows(heights: Sequence[float], header_rows: tuple[int, int] | None, room: float,
-              keep: Sequence[tuple[int, int]] = ()) -> list[int]:
+def plan_rows(
+    heights: Sequence[float],
+    header_rows: tuple[int, int] | None,
+    room: float,
+    keep: Sequence[tuple[int, int]] = (),
+    starts: Sequence[int] = (),
+) -> list[int]:
     """Row breaks for rows ``heights`` (points, at print scale) on pages ``room`` tall.
 
     Pages are filled in turn, the header rows repeated at the top of each later page;
     a block in ``keep`` (first and last row) moves whole to the next page when it would be
-    split (unless it is taller than a page). When the last page would hold a stray row or
-    two, the rows are shared evenly among the pages instead.
+    split (unless it is taller than a page); a row in ``starts`` always begins a page. When
+    the last page before such a row, or the very last, would hold a stray row or two, the
+    rows since the previous start are shared evenly among their pages instead.
 
     Examples
     --------
@@ -174,56 +206,100 @@ def plan_rows(heights: Sequence[float], header_rows: tuple[int, int] | None, roo
     [10, 19]
     >>> plan_rows([10.0] * 21, (0, 0), 100.0)   # greedy would leave 2 rows alone
     [8, 15]
+    >>> plan_rows([10.0] * 30, None, 100.0, starts=[12])
+    [6, 12, 22]
     """
-    breaks = _fill(heights, header_rows, room, keep)
-    if not breaks or not _stray(heights, breaks, room):
-        return breaks
-    pages = len(breaks) + 1
-    low, high = room / pages, room
-    for _ in range(40):  # the smallest page height that still gives this many pages
-        mid = (low + high) / 2.0
-        if len(_fill(heights, header_rows, mid, keep)) + 1 <= pages:
-            high = mid
-        else:
-            low = mid
-    return _fill(heights, header_rows, high, keep)
-
-
-def _fill(heights: Sequence[float], header_rows: tuple[int, int] | None, room: float,
-          keep: Sequence[tuple[int, int]]) -> list[int]:
-    header = 0.0 if header_rows is None else sum(heights[header_rows[0]:header_rows[1] + 1])
-    block_end = {}
-    for first, last in keep:
-        for row in range(first, last + 1):
-            block_end[row] = (first, last)
     breaks: list[int] = []
-    used = 0.0
-    row = 0
-    while row < len(heights):
-        h = heights[row]
-        start = breaks[-1] if breaks else 0
-        if used + h > room and row > start:
-            first, last = block_end.get(row, (row, row))
-            cut = first if first > start and sum(heights[first:last + 1]) + header <= room \
-                else row
+    for first, end in _chunks(len(heights), starts):
+        if first:
+            breaks.append(first)
+        part = _fill(heights, header_rows, room, keep, first, end)
+        if part and _stray(heights, part, end, room):
+            pages = len(part) + 1
+            # no lower than the tallest kept block that fits a page, so none is split
+            blocks = [sum(heights[a : b + 1]) for a, b in keep if first <= a and b < end]
+            low = max([room / pages] + [h for h in blocks if h <= room])
+            high = room
+            for _ in range(40):  # the smallest page height that still gives this many pages
+                mid = (low + high) / 2.0
+                if len(_fill(heights, header_rows, mid, keep, first, end)) + 1 <= pages:
+                    high = mid
+                else:
+                    low = mid
+            part = _fill(heights, header_rows, high, keep, first, end)
+        breaks += part
+    return breaks
+
+
+def _chunks(n: int, starts: Sequence[int]) -> list[tuple[int, int]]:
+    """The row ranges [first, end) between the rows that must begin a page."""
+    bounds = [0] + sorted({s for s in starts if 0 < s < n}) + [n]
+    return list(zip(bounds, bounds[1:]))
+
+
+def _fill(
+    heights: Sequence[float],
+    header_rows: tuple[int, int] | None,
+    room: float,
+    keep: Sequence[tuple[int, int]],
+    first: int = 0,
+    end: int | None = None,
+) -> list[int]:
+    """Greedy page breaks for rows ``first`` to ``end - 1``, a page starting at ``first``."""
+    end = len(heights) if end is None else end
+    header = 0.0 if header_rows is None else sum(heights[header_rows[0] : header_rows[1] + 1])
+    block = {}
+    for top, bottom in keep:
+        for row in range(top, bottom + 1):
+            block[row] = (top, bottom)
+    breaks: list[int] = []
+    used = header if header_rows is not None and first > header_rows[1] else 0.0
+    row = first
+    while row < end:
+        start = breaks[-1] if breaks else first
+        if used + heights[row] > room and row > start:
+            top, bottom = block.get(row, (row, row))
+            fits = sum(heights[top : bottom + 1]) + header <= room
+            cut = top if top > start and fits else row
             breaks.append(cut)
             row = cut
             used = header if header_rows is not None and cut > header_rows[1] else 0.0
             continue
-        used += h
+        used += heights[row]
         row += 1
     return breaks
 
 
-def _stray(heights: Sequence[float], breaks: list[int], room: float) -> bool:
-    last = heights[breaks[-1]:]
+def _stray(heights: Sequence[float], breaks: list[int], end: int, room: float) -> bool:
+    """Whether the last page, rows ``breaks[-1]`` to ``end - 1``, holds only a row or two."""
+    last = heights[breaks[-1] : end]
     return len(last) < STRAY_ROWS or sum(last) < STRAY_SHARE * room
 
 
-def plan(widths_chars: Sequence[float], heights: Sequence[float], *,
-         header_rows: tuple[int, int] | None = None, title_cols: tuple[int, int] | None = None,
-         keep: Sequence[tuple[int, int]] = (), font_name: str = FONT_NAME,
-         font_size: float = DEFAULT_FONT_SIZE, paper: tuple[float, float] = A4) -> PagePlan:
+def _greedy(heights, header_rows, room, keep, starts) -> tuple[int, int]:
+    """Pages of greedy filling, and how many of them (before a start, or the last) are
+    stray."""
+    pages = strays = 0
+    for first, end in _chunks(len(heights), starts):
+        part = _fill(heights, header_rows, room, keep, first, end)
+        pages += len(part) + 1
+        strays += bool(part and _stray(heights, part, end, room))
+    return pages, strays
+
+
+def plan(
+    widths_chars: Sequence[float],
+    heights: Sequence[float],
+    *,
+    header_rows: tuple[int, int] | None = None,
+    title_cols: tuple[int, int] | None = None,
+    keep: Sequence[tuple[int, int]] = (),
+    starts: Sequence[int] = (),
+    bands: Sequence[int] = (),
+    font_name: str = FONT_NAME,
+    font_size: float = DEFAULT_FONT_SIZE,
+    paper: tuple[float, float] = A4,
+) -> PagePlan:
     """The page set-up of a sheet with columns ``widths_chars`` and rows ``heights`` (pt).
 
     Parameters
@@ -236,6 +312,10 @@ def plan(widths_chars: Sequence[float], heights: Sequence[float], *,
         Rows and columns to repeat on every page.
     keep : sequence of (first_row, last_row)
         Blocks (charts, short tables) not to split across pages.
+    starts : sequence of int
+        Rows that begin a new page.
+    bands : sequence of int
+        Columns where a band of a wide table should begin, where one falls on the page.
     font_name, font_size : str, float
         The sheet's body font: the scale never takes it below :data:`MIN_FONT`.
     paper : (width, height) in points
@@ -256,21 +336,27 @@ def plan(widths_chars: Sequence[float], heights: Sequence[float], *,
     width, height = printable(landscape, paper)
     height *= HEIGHT_SHARE
     min_percent = math.ceil(100.0 * min(1.0, MIN_FONT / font_size) - 1e-9)
-    scale, col_breaks = plan_columns(points, title_cols, width, min_percent / 100.0)
+    scale, col_breaks = plan_columns(points, title_cols, width, min_percent / 100.0, bands)
     percent = max(min_percent, min(100, math.floor(scale * 100.0 + 1e-9)))
-    row_breaks = _fill(heights, header_rows, height * 100.0 / percent, keep)
-    if row_breaks and _stray(heights, row_breaks, height * 100.0 / percent):
-        # a tiny overflow: print a little smaller, while the text stays readable
+    strays = _greedy(heights, header_rows, height * 100.0 / percent, keep, starts)[1]
+    if strays:  # a tiny overflow: print a little smaller, while the text stays readable
         for smaller in range(percent - 1, min_percent - 1, -1):
-            fewer = _fill(heights, header_rows, height * 100.0 / smaller, keep)
-            if len(fewer) < len(row_breaks):
-                percent = smaller
+            fewer = _greedy(heights, header_rows, height * 100.0 / smaller, keep, starts)[1]
+            if fewer < strays:  # the largest scale that leaves fewer stray pages
+                strays, percent = fewer, smaller
+            if not strays:
                 break
-        row_breaks = plan_rows(heights, header_rows, height * 100.0 / percent, keep)
-    return PagePlan(landscape=landscape, scale=percent, col_breaks=col_breaks,
-                    row_breaks=row_breaks, header_rows=header_rows,
-                    title_cols=title_cols if col_breaks else None,
-                    last_row=len(heights) - 1, last_col=len(widths_chars) - 1)
+    row_breaks = plan_rows(heights, header_rows, height * 100.0 / percent, keep, starts)
+    return PagePlan(
+        landscape=landscape,
+        scale=percent,
+        col_breaks=col_breaks,
+        row_breaks=row_breaks,
+        header_rows=header_rows,
+        title_cols=title_cols if col_breaks else None,
+        last_row=len(heights) - 1,
+        last_col=len(widths_chars) - 1,
+    )
 
 
 def apply(ws, p: PagePlan) -> None:
@@ -322,17 +408,36 @@ def sheet_geometry(ws) -> tuple[list[float], list[float], list[tuple[int, int]]]
     return widths, heights, spans
 
 
-def set_up(ws, *, header_rows: tuple[int, int] | None = None,
-           title_cols: tuple[int, int] | None = None, keep: Sequence[tuple[int, int]] = (),
-           font_name: str = FONT_NAME, font_size: float = DEFAULT_FONT_SIZE) -> PagePlan:
+def set_up(
+    ws,
+    *,
+    header_rows: tuple[int, int] | None = None,
+    title_cols: tuple[int, int] | None = None,
+    keep: Sequence[tuple[int, int]] = (),
+    starts: Sequence[int] = (),
+    bands: Sequence[int] = (),
+    font_name: str = FONT_NAME,
+    font_size: float = DEFAULT_FONT_SIZE,
+) -> PagePlan:
     """Plan and set the page set-up of a finished sheet (call it last); returns the plan.
 
     ``header_rows`` and ``title_cols`` (first, last) repeat on every page; the rows of each
-    block in ``keep`` and of each chart stay on one page where they fit.
+    block in ``keep`` and of each chart stay on one page where they fit; a row in
+    ``starts`` begins a new page; a wide table's bands begin at ``bands`` columns where
+    they can.
     """
     widths, heights, charts = sheet_geometry(ws)
-    p = plan(widths, heights, header_rows=header_rows, title_cols=title_cols,
-             keep=list(keep) + charts, font_name=font_name, font_size=font_size)
+    p = plan(
+        widths,
+        heights,
+        header_rows=header_rows,
+        title_cols=title_cols,
+        keep=list(keep) + charts,
+        starts=starts,
+        bands=bands,
+        font_name=font_name,
+        font_size=font_size,
+    )
     apply(ws, p)
     ws.page_plan = p
     return p

@@ -4,35 +4,47 @@ from __future__ import annotations
 
 from converter.model import LINK_TYPES
 from converter.write.workbook import formulas as f
+from converter.write.workbook import pages
 from converter.write.workbook.layout import FIRST, PATHS, Layout
+from converter.write.workbook.rows import fit_row, merged_width, row_height
+from converter.write.workbook.styles import TABLE_HEAD_SIZE, TITLE_ROW
 
 SUMMARY_HEADERS = ["Path", "Expected length", "Variance", "Standard deviation", "z",
                    "Chance of meeting the due date", "Riskier than the critical path?",
                    "Activities", "Route"]
 STEP_HEADERS = ["Path", "Step", "Activity", "Entered by link", "Coefficient of its duration",
                 "Expected time TE", "Variance", "Lag on the link in"]
+WIDTHS = [7.0, 10.0, 10.0, 10.0, 9.0, 11.0, 17.0, 10.0, 48.0]
+#: How each head sits: over a centred count, a number, or text.
+SUMMARY_ALIGN = "crrrrcccl"
+STEP_ALIGN = "ccllrrrr"
+INTRO = ("Ranked by expected length, ties by larger variance. Length = SUMPRODUCT(coefficients, "
+         "TE) + lags over the path's steps below; a duration counts +1 normally, 0 or -1 where "
+         "start-to-start or finish-to-finish links skip it.")
+
+
+def _heads(ws, fmt, row: int, heads: list[str], align: str) -> None:
+    styles = {"c": fmt.th_center, "r": fmt.th_center, "l": fmt.th, "i": fmt.th_indent}
+    for col, (h, how) in enumerate(zip(heads, align)):
+        ws.write_string(row, col, h, styles[how])
+    ws.set_row(row, row_height([(h, w, TABLE_HEAD_SIZE, True) for h, w in zip(heads, WIDTHS)]))
 
 
 def write_paths(wb, fmt, a, lay: Layout) -> None:
     ws = wb.add_worksheet(PATHS)
     ws.write_string(0, 0, f"The {len(a.paths)} longest paths (of {a.path_count:,} in the network)",
                     fmt.title)
-    ws.write_string(1, 0, "Ranked by expected length, ties by larger variance. Length = "
-                    "SUMPRODUCT(coefficients, TE) + lags over the path's steps below; a duration "
-                    "counts +1 normally, 0 or -1 where start-to-start or finish-to-finish links "
-                    "skip it.", fmt.subtitle)
-    for col, h in enumerate(SUMMARY_HEADERS):
-        ws.write_string(FIRST - 1, col, h, fmt.header)
-    ws.set_row(FIRST - 1, 45)
-    ws.set_column(0, 0, 8)
-    ws.set_column(1, 7, 13)
-    ws.set_column(8, 8, 80)
+    ws.set_row(0, TITLE_ROW)
+    ws.merge_range(1, 0, 1, len(WIDTHS) - 1, INTRO, fmt.subtitle_wrap)
+    ws.set_row(1, row_height([(INTRO, merged_width(WIDTHS))]))
+    for col, width in enumerate(WIDTHS):
+        ws.set_column(col, col, width)
+    _heads(ws, fmt, FIRST - 1, SUMMARY_HEADERS, SUMMARY_ALIGN)
     k = len(a.paths)
     step_top = FIRST + k + 4
     ws.write_string(step_top - 2, 0, "Path steps", fmt.title)
-    for col, h in enumerate(STEP_HEADERS):
-        ws.write_string(step_top - 1, col, h, fmt.header)
-    ws.set_row(step_top - 1, 32)
+    ws.set_row(step_top - 2, TITLE_ROW)
+    _heads(ws, fmt, step_top - 1, STEP_HEADERS, STEP_ALIGN)
     r = step_top
     riskier = set(a.riskier_paths)
     index_of_link = a.net
@@ -40,8 +52,8 @@ def write_paths(wb, fmt, a, lay: Layout) -> None:
         path = pr.path
         first = r
         for step, (act, coef) in enumerate(zip(path.activities, path.coefficients)):
-            ws.write_number(r, 0, n + 1, fmt.int)
-            ws.write_number(r, 1, step + 1, fmt.int)
+            ws.write_number(r, 0, n + 1, fmt.int_center)
+            ws.write_number(r, 1, step + 1, fmt.int_center)
             ws.write_string(r, 2, a.ids[act])
             if step == 0:
                 ws.write_string(r, 3, "(path start)")
@@ -59,7 +71,7 @@ def write_paths(wb, fmt, a, lay: Layout) -> None:
         last = r - 1
         row = FIRST + n
         coef, te, var, lag = (f.span(first, last, c) for c in (4, 5, 6, 7))
-        ws.write_number(row, 0, n + 1, fmt.int)
+        ws.write_number(row, 0, n + 1, fmt.int_center)
         ws.write_formula(row, 1, f.path_length(coef, te, lag), fmt.num, path.mean)
         ws.write_formula(row, 2, f.path_variance(coef, var), fmt.num4, path.variance)
         ws.write_formula(row, 3, f"=SQRT({f.ref(row, 2)})", fmt.num, path.sd)
@@ -69,17 +81,26 @@ def write_paths(wb, fmt, a, lay: Layout) -> None:
             ws.write_formula(row, 5, f.p_meet("DueDuration", f.ref(row, 1), f.ref(row, 3)),
                              fmt.prob, pr.p_meet_due)
             if n == 0:
-                ws.write_string(row, 6, "critical path")
+                ws.write_string(row, 6, "critical path", fmt.wrap_center)
             else:
                 flag = ("YES: lower chance than the critical path" if n in riskier else "no")
-                ws.write_string(row, 6, flag, fmt.flag if n in riskier else fmt.text)
-        else:
-            ws.write_string(row, 4, "no due date")
+                ws.write_string(row, 6, flag,
+                                fmt.wrap_flag_center if n in riskier else fmt.wrap_center)
+        else:  # over the z, chance and riskier columns
+            ws.merge_range(row, 4, row, 6, "no due date", fmt.center)
         ws.write_number(row, 7, len(path.activities), fmt.int_center)
-        route = " > ".join(a.ids[i] for i in path.activities)
-        ws.write_string(row, 8, route[:32000])
+        route = " > ".join(a.ids[i] for i in path.activities)[:32000]
+        ws.write_string(row, 8, route, fmt.wrap)
+        flag_text = "YES: lower chance than the critical path" if n in riskier else ""
+        fit_row(ws, row, [(route, WIDTHS[8]), (flag_text, WIDTHS[6] - 1.0, 10.0, True)])
     if a.tied_longest > 1:
-        ws.write_string(FIRST + k, 0, f"{a.tied_longest} paths tie for the longest expected "
-                        "length; path 1 is the one with the largest variance (the cautious "
-                        "choice), and its variance is the project variance.", fmt.flag)
+        tie = (f"{a.tied_longest} paths tie for the longest expected length; path 1 is the one "
+               "with the largest variance (the cautious choice), and its variance is the "
+               "project variance.")
+        ws.merge_range(FIRST + k, 0, FIRST + k, len(WIDTHS) - 1, tie, fmt.wrap_flag)
+        ws.set_row(FIRST + k, row_height([(tie, merged_width(WIDTHS) - 1.0, 10.0, True)]))
     ws.freeze_panes(FIRST, 1)
+    # the steps' title and head stay with their first rows; a path may run on to the next
+    # page, under the repeated head
+    pages.set_up(ws, header_rows=(step_top - 1, step_top - 1),
+                 keep=[(step_top - 2, min(step_top + 2, r - 1))])

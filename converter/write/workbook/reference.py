@@ -123,7 +123,10 @@ METHOD_TEXT = [
      "and the finish's spread is shaped by every path, not the critical one alone."),
     ("Calendar", "With a start date, time 0 is the start of the first working day on or after it. "
      "A start at offset t falls on working day INT(t) + 1; a finish at offset t is at the END of "
-     "working day ROUNDUP(t) (a finish at 0 is on day 1). Dates are WORKDAY.INTL formulas with "
+     "working day ROUNDUP(t) (a finish at 0 is on day 1). A start never falls after its finish: "
+     "a milestone (zero duration) starts and finishes on the same date, the working day on "
+     "which the work before it is finished (the first working day for a milestone at the "
+     "start). Dates are WORKDAY.INTL formulas with "
      "the weekend code and the holiday list on the Settings used sheet. Weeks count as working "
      "weeks; calendar days ignore weekends and holidays."),
     ("Assumptions", "Activity durations are independent unless grouped for correlation; the "

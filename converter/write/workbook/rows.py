@@ -25,8 +25,10 @@ import unicodedata
 from collections.abc import Iterable
 
 #: The workbook's default font and its size in points (every cell without its own).
-FONT_NAME = "Calibri"
-DEFAULT_FONT_SIZE = 11.0
+#: Arial is drawn as its metric twin Liberation Sans where it is not installed (LibreOffice
+#: ships it), so the pages look the same in Excel and in LibreOffice.
+FONT_NAME = "Arial"
+DEFAULT_FONT_SIZE = 10.0
 
 #: Character advance in digit widths: the larger of DejaVu Sans and Liberation Sans.
 _WIDTH_GROUPS = {
@@ -65,13 +67,17 @@ BOLD_FACTOR = 1.12
 WIDTH_MARGIN = 1.08
 
 #: Line pitch as a multiple of the font size. The fonts' own pitches (ascent + descent +
-#: line gap, hhea table) are 1.164 (DejaVu Sans), 1.149 (Liberation Sans) and 1.221
-#: (Calibri, from memory); 1.3 leaves room above the tallest, and one 11 pt line plus
-#: :data:`ROW_PADDING` still fits the default 15 pt row.
-LINE_FACTOR = 1.3
+#: line gap, hhea table) are 1.164 (DejaVu Sans) and 1.149 (Liberation Sans); Excel gives
+#: a line of 10 pt Arial a 12.75 pt row (1.275, from memory). 1.25 with
+#: :data:`ROW_PADDING` makes one 10 pt line exactly that default row.
+LINE_FACTOR = 1.25
 
 #: Points added to a row for the cell's top and bottom margins.
-ROW_PADDING = 0.5
+ROW_PADDING = 0.25
+
+#: The workbook's default row: one line of the default font (17 px at 96 dpi).
+DEFAULT_ROW_HEIGHT = 12.75
+DEFAULT_ROW_PIXELS = 17
 
 #: Row heights are whole pixels at 96 dpi: multiples of 0.75 pt.
 PIXEL = 0.75
@@ -212,7 +218,7 @@ def line_height(font_size: float = DEFAULT_FONT_SIZE) -> float:
     Examples
     --------
     >>> round(line_height(11.0), 2)
-    14.3
+    13.75
     """
     return font_size * LINE_FACTOR
 
@@ -222,10 +228,10 @@ def height_for_lines(lines: int, font_size: float = DEFAULT_FONT_SIZE) -> float:
 
     Examples
     --------
-    >>> height_for_lines(1)
-    15.0
+    >>> height_for_lines(1) == DEFAULT_ROW_HEIGHT
+    True
     >>> height_for_lines(3, font_size=8.0)
-    32.25
+    30.75
     """
     height = max(1, lines) * line_height(font_size) + ROW_PADDING
     return min(MAX_ROW_HEIGHT, math.ceil(height / PIXEL - 1e-9) * PIXEL)
@@ -238,9 +244,9 @@ def lines_held(height: float, font_size: float = DEFAULT_FONT_SIZE) -> int:
     --------
     >>> lines_held(height_for_lines(4))
     4
-    >>> lines_held(15.0)
+    >>> lines_held(DEFAULT_ROW_HEIGHT)
     1
-    >>> lines_held(15.0, font_size=14.0)
+    >>> lines_held(DEFAULT_ROW_HEIGHT, font_size=12.0)
     0
     """
     return int((height - ROW_PADDING) / line_height(font_size) + 1e-9)
@@ -273,7 +279,7 @@ def row_height(cells: Iterable[Cell], minimum: float | None = None) -> float:
     cells : iterable of tuples
         ``(text, width_chars)`` with optional ``font_size`` and ``bold``.
     minimum : float, optional
-        A floor, e.g. the default row height (15 pt), so short rows keep their height.
+        A floor, e.g. :data:`DEFAULT_ROW_HEIGHT`, so short rows keep their height.
 
     Returns
     -------
@@ -283,9 +289,9 @@ def row_height(cells: Iterable[Cell], minimum: float | None = None) -> float:
     Examples
     --------
     >>> row_height([("short", 30), ("a longer text that wraps onto two lines", 20)])
-    29.25
-    >>> row_height([("short", 30, 8.0)], minimum=15.0)
-    15.0
+    25.5
+    >>> row_height([("short", 30, 8.0)], minimum=DEFAULT_ROW_HEIGHT)
+    12.75
     """
     height = 0.0
     for cell in cells:
@@ -296,3 +302,43 @@ def row_height(cells: Iterable[Cell], minimum: float | None = None) -> float:
     if minimum is not None:
         height = max(height, minimum)
     return height
+
+
+def shorten(text: str, width_chars: float, font_size: float = DEFAULT_FONT_SIZE) -> str:
+    """``text`` cut to one line of ``width_chars``, at a word boundary, with an ellipsis.
+
+    Examples
+    --------
+    >>> shorten("IT-05 Hardware delivery (supplier lead time)", 24)
+    'IT-05 Hardware delivery…'
+    >>> shorten("IT-05 Kick-off", 24)
+    'IT-05 Kick-off'
+    """
+    if text_width(text, font_size) <= width_chars:
+        return text
+    room = width_chars - text_width("…", font_size)
+    cut = _longest_prefix(text, room, font_size, False)
+    space = text.rfind(" ", 0, cut + 1)
+    if space > cut // 2:  # break at a word where that keeps most of the room
+        cut = space
+    return text[:cut].rstrip(" ,;:-(") + "…"
+
+
+def fit_row(ws, row: int, cells: Iterable[Cell]) -> float:
+    """Give row ``row`` of the xlsxwriter sheet ``ws`` the height its wrapped ``cells`` need,
+    where that is more than the default; returns the height."""
+    height = row_height(cells, minimum=DEFAULT_ROW_HEIGHT)
+    if height > DEFAULT_ROW_HEIGHT:
+        ws.set_row(row, height)
+    return height
+
+
+def rows_spanned(pixels: float) -> int:
+    """Default rows an object ``pixels`` tall covers (an object below starts after them).
+
+    Examples
+    --------
+    >>> rows_spanned(340)
+    20
+    """
+    return math.ceil(pixels / DEFAULT_ROW_PIXELS)
