@@ -76,7 +76,6 @@ def child_env() -> dict[str, str]:
     """The environment of a command: the checkout first on the path, default limits."""
     env = {k: v for k, v in os.environ.items() if not k.startswith("PERTBOOK_")}
     env["PYTHONPATH"] = str(REPO) + os.pathsep + env.get("PYTHONPATH", "")
-    env["PYTHONWARNINGS"] = "default"  # a warning that reaches stderr is seen, not hidden
     return env
 
 
@@ -114,11 +113,12 @@ class Outcome:
 
 def split_by_input(run: Run, names: list[str]) -> dict[str, Outcome]:
     """Each input's lines (``NAME: ...``); a line that names no input continues the one
-    before (a message holding a line break)."""
+    before (a message holding a line break). A command given one input has all its lines
+    (however the name is shown)."""
     by_length = sorted(names, key=len, reverse=True)
     outcomes = {n: Outcome() for n in names}
     for stream in ("stdout", "stderr"):
-        current = None
+        current = names[0] if len(names) == 1 else None
         for line in getattr(run, stream).splitlines():
             owner = next((n for n in by_length if line.startswith(n + ": ")), None)
             current = owner or current
@@ -127,28 +127,34 @@ def split_by_input(run: Run, names: list[str]) -> dict[str, Outcome]:
     return outcomes
 
 
+def _said(lines: list[str], name: str, *words: str) -> bool:
+    """Whether a line says ``NAME: <one of words>...`` (the name as given, or shown
+    otherwise when the command had this one input)."""
+    for line in lines:
+        rest = line[len(name) + 2:] if line.startswith(name + ": ") else line
+        if rest.startswith(words) or any(f": {w}" in line for w in words):
+            return True
+    return False
+
+
 def check_code(outcome: Outcome, name: str) -> int | None:
     """The exit code ``check`` gave one input: 0 valid, 2 invalid, 1 a fault."""
-    if any(line.startswith(f"{name}: internal error") for line in outcome.stderr):
+    if _said(outcome.stderr, name, "internal error"):
         return 1
-    for line in outcome.stdout:
-        if line == f"{name}: valid" or line.startswith(f"{name}: valid (activity sheet"):
-            return 0
-        if line == f"{name}: INVALID" or line.startswith(f"{name}: INVALID (activity sheet"):
-            return 2
+    if _said(outcome.stdout, name, "INVALID"):
+        return 2
+    if _said(outcome.stdout, name, "valid"):
+        return 0
     return None
 
 
 def convert_code(outcome: Outcome, name: str) -> int | None:
     """The exit code ``convert`` gave one input, from its own lines."""
-    faults = (f"{name}: internal error", f"{name}: cannot write the results")
-    if any(line.startswith(faults) for line in outcome.stderr):
+    if _said(outcome.stderr, name, "internal error", "cannot write the results"):
         return 1
-    if any(line.startswith((f"{name}: invalid input", f"{name}: not converted"))
-           for line in outcome.stderr):
+    if _said(outcome.stderr, name, "invalid input", "not converted"):
         return 2
-    if any(line.startswith(f"{name}: wrote ") and line.endswith(".analysis.xlsx")
-           for line in outcome.stdout):
+    if _said([x for x in outcome.stdout if x.endswith(".analysis.xlsx")], name, "wrote "):
         return 0
     return None
 

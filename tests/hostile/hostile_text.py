@@ -26,7 +26,7 @@ from pathlib import Path
 
 import xlwt
 from hostile_corpus import BASE, BASE_TE, HEADER, invalid, replaced, rows_with, valid, write_csv
-from hostile_files import Formula, write_ods, write_xlsx
+from hostile_files import Formula, Raw, write_ods, write_xlsx
 
 PAYLOADS = {
     "dde-equals": "=cmd|' /C calc'!A0",
@@ -170,6 +170,10 @@ def na_chain() -> list[list[object]]:
 NA_READ = {w: {"name": w, "te": 2.0} for w in NA_WORDS}
 LONG = ("Long description " * 1928)[:32755] + "end of 32767"  # 32,767 characters
 LONG_ID = "L" * 32767
+#: An operating-system command (set the window title) and "clear the screen" (ECMA-48).
+ESCAPES = "\x1b]0;owned\x07\x1b[2JX"
+RAW = ("control characters of the input reach the terminal (CWE-150); converter/cli.py "
+       "(messages and names printed)")
 CONTROL = "bell\x07 escape\x1b[31mred\x1b[0m nul-free \x01\x02\x1f end"
 
 
@@ -220,7 +224,16 @@ ODD = [
     valid("odd-control-characters", "plan.xlsx", book(replaced(3, 1, CONTROL)),
           {"T2": {"name": CONTROL}}),
     invalid("odd-terminal-escape-in-estimate", "plan.xlsx", book(replaced(3, 4, "\x1b[2J")),
-            "Plan!E3", "T2"),
+            "Plan!E3", "T2", defect=f"an estimate's escape sequence is printed raw; {RAW}"),
+    invalid("odd-escape-sequence-in-duplicate-id", "plan.xlsx",
+            book(rows_with([ESCAPES, "one", None, 1, 1, 1], [ESCAPES, "two", None, 1, 1, 1])),
+            "Plan!A7", defect=f"an ID's escape sequence is printed raw in the messages; {RAW}"),
+    valid("odd-escape-sequence-in-file-name", "plan\x1b]0;owned\x07\x1b[2J.csv",
+          lambda p: write_csv(p, BASE), {"T1": {"te": BASE_TE["T1"]}},
+          defect=f"the file name's escape sequence is printed raw (check and convert); {RAW}"),
+    valid("odd-escaped-lone-surrogate", "plan.xlsx",
+          book(replaced(3, 1, Raw('<c r="B3" t="inlineStr"><is><t>a_xD800_b</t></is></c>'))),
+          {"T2": {"te": BASE_TE["T2"]}}),
     valid("odd-literal-escape-text", "plan.xlsx", book(replaced(3, 1, "_x0041_ and _x000D_")),
           {"T2": {"name": "_x0041_ and _x000D_"}}),
     valid("odd-spaces-around-ids", "plan.xlsx",

@@ -19,7 +19,12 @@ README, "Reading files" and "Problems"):
 - an invalid input gets no workbook; every file written gets ``0o666 & ~umask``, the mode
   of an ordinary new file (POSIX ``open`` and ``umask``; 0666 is what ordinary tools ask
   for, common practice), under a umask other than the usual 022 so that the check bites;
-- the values the case says must be read are in the JSON summary;
+- the values the case says must be read are in the JSON summary (``"ok"`` as the exit
+  code says);
+- no Python warning (numpy's ``RuntimeWarning`` among them) reaches stderr (issue), and
+  no control character from the input reaches the terminal through a message: an escape
+  sequence in a cell or a file name could rewrite the user's screen (CWE-150, "Improper
+  Neutralization of Escape, Meta, or Control Sequences");
 - no input text becomes a formula in any workbook written (``hostile_run.formula_problems``).
 """
 
@@ -169,6 +174,12 @@ def case_params() -> list:
     return params
 
 
+def control_characters(text: str) -> list[str]:
+    """C0 and C1 control characters and DEL in ``text`` (line breaks and tabs allowed)."""
+    return sorted({repr(ch) for ch in text
+                   if (ord(ch) < 32 and ch not in "\t\n\r") or 0x7F <= ord(ch) <= 0x9F})
+
+
 def new_files(folder: Path, case: Case) -> list[Path]:
     return sorted(p for p in folder.iterdir() if p.name != case.file
                   and not p.name.startswith("."))
@@ -179,6 +190,8 @@ def test_case(corpus: Corpus, case: Case):
     name = str(corpus.paths[case.name])
     checked, converted = corpus.check[case.name], corpus.convert[case.name]
     assert "Traceback" not in checked.text + converted.text
+    assert "Warning:" not in checked.text + converted.text
+    assert control_characters(checked.text + converted.text) == []
     assert check_code(checked, name) == case.exit, checked.text
     assert convert_code(converted, name) == case.exit, converted.text
     for place in case.places:  # named by both commands (check and convert agree)
@@ -193,9 +206,15 @@ def test_case(corpus: Corpus, case: Case):
         assert stat.S_IMODE(path.stat().st_mode) == 0o666 & ~UMASK_CLI, path
     for path in workbooks:
         assert formula_problems(path, case.texts) == [], path
+    summaries = [p for p in produced if p.name.endswith(".analysis.json")]
+    for path in summaries:
+        summary = json.loads(path.read_text("utf-8"))
+        assert summary["ok"] is (case.exit == 0), path
+        if case.exit == 2:
+            assert any(p["severity"] == "error" for p in summary["problems"]), path
     if case.values:
-        (summary,) = [p for p in produced if p.name.endswith(".analysis.json")]
-        read = {a["id"]: a for a in json.loads(summary.read_text("utf-8"))["activities"]}
+        (path,) = summaries
+        read = {a["id"]: a for a in json.loads(path.read_text("utf-8"))["activities"]}
         for activity, expected in case.values.items():
             assert activity in read, (activity, sorted(read))
             for key, value in expected.items():
@@ -218,6 +237,7 @@ def test_every_command_bounded_and_clean(corpus: Corpus):
         if job.quarantine:
             continue  # a known defect may break these; its case is an expected failure
         assert "Traceback" not in run.stderr, run.stderr[-3000:]
+        assert "Warning:" not in run.stderr, run.stderr[-3000:]
         outcomes = corpus.check if job.kind == "check" else corpus.convert
         decode = check_code if job.kind == "check" else convert_code
         codes = [decode(outcomes[c.name], str(corpus.paths[c.name])) for c in job.cases]
