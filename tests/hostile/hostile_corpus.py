@@ -5,9 +5,10 @@ and ``convert`` must both give (0 valid, 2 invalid: never 1, never a crash), the
 (``Sheet!Cell``, activity IDs, words) that its messages must name, the values that must
 be read (checked in the JSON summary of ``convert --json``), and the input text that must
 stay text in every workbook written. The cases live in the themed modules
-``hostile_structure`` (containers and limits), ``hostile_text`` (formula injection and
-odd text), ``hostile_values`` (numbers, dates, IDs, links, settings) and ``hostile_csv``
-(CSV files, things that are not files, file names); :func:`all_cases` gathers them.
+``hostile_issue`` (the issue's own examples), ``hostile_structure`` (containers and
+limits), ``hostile_text`` (formula injection and odd text), ``hostile_values`` (numbers,
+dates, IDs, links, settings) and ``hostile_csv`` (CSV files, things that are not files,
+file names); :func:`all_cases` gathers them.
 
 Expected outcomes are worked out from the project's issue and README (what must be
 refused, what must be read as written) and from the formats' own rules (cited in the
@@ -18,7 +19,6 @@ from __future__ import annotations
 
 import csv
 import io
-import os
 from collections.abc import Callable
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -109,12 +109,13 @@ def invalid(name: str, file: str, build: Builder, *places: str, **kw) -> Case:
 def all_cases() -> list[Case]:
     """Every case of the corpus, in a fixed order; names are unique."""
     import hostile_csv
+    import hostile_issue
     import hostile_structure
     import hostile_text
     import hostile_values
 
-    cases = (hostile_structure.CASES + hostile_text.CASES + hostile_values.CASES
-             + hostile_csv.CASES)
+    cases = (hostile_issue.CASES + hostile_structure.CASES + hostile_text.CASES
+             + hostile_values.CASES + hostile_csv.CASES)
     names = [c.name for c in cases]
     duplicates = {n for n in names if names.count(n) > 1}
     assert not duplicates, duplicates
@@ -128,7 +129,3 @@ def build_case(case: Case, root: Path) -> Path:
     path = folder / case.file
     case.build(path)
     return path
-
-
-def fifo_supported() -> bool:
-    return hasattr(os, "mkfifo")

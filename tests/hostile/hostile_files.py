@@ -162,8 +162,12 @@ def cell_xml(ref: str, value: object, shared: list[str] | None) -> str:
         return f'<c r="{ref}" t="e"><v>{escape(value.text)}</v></c>'
     if isinstance(value, Formula):
         cached = value.cached
-        kind = ' t="str"' if isinstance(cached, str) else ""
-        text = xml_text(cached) if isinstance(cached, str) else repr(float(cached))
+        if isinstance(cached, Error):
+            kind, text = ' t="e"', escape(cached.text)
+        elif isinstance(cached, str):
+            kind, text = ' t="str"', xml_text(cached)
+        else:
+            kind, text = "", repr(float(cached))
         return f'<c r="{ref}"{kind}><f>{escape(value.text)}</f><v>{text}</v></c>'
     if isinstance(value, bool):
         return f'<c r="{ref}" t="b"><v>{int(value)}</v></c>'
