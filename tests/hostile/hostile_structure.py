@@ -23,6 +23,7 @@ from __future__ import annotations
 
 import random
 import struct
+import zlib
 from pathlib import Path
 
 import xlwt
@@ -93,19 +94,36 @@ def sheet_with(extra_cells: str, rows=None) -> str:
 
 
 def bomb_xlsx(path: Path, part: str, head: bytes, block: bytes, count: int, tail: bytes,
-              declared: int | None = None) -> Path:
-    """The base workbook with ``part`` replaced by a deflate bomb of ``count`` blocks."""
+              declared: int | None = None, checksum: bool = False) -> Path:
+    """The base workbook with ``part`` replaced by a deflate bomb of ``count`` blocks (its
+    CRC-32 worked out when ``checksum``, else 0: a bomb is refused before it is checked)."""
     parts = xlsx_parts({"Plan": BASE})
     packed = bomb_stream(head, block, count, tail)
     size = len(head) + len(block) * count + len(tail) if declared is None else declared
+    crc = 0
+    if checksum:
+        crc = zlib.crc32(head)
+        for _ in range(count):
+            crc = zlib.crc32(block, crc)
+        crc = zlib.crc32(tail, crc)
     entries = [Entry(n, d) for n, d in parts.items() if n != part]
-    entries.append(Entry(part, packed=packed, size=size & 0xFFFFFFFF, crc=0))
+    entries.append(Entry(part, packed=packed, size=size & 0xFFFFFFFF, crc=crc))
     return write_zip(path, entries)
 
 
 def sheet_bomb(path: Path, declared: int | None = None) -> Path:
     head = sheet_xml(BASE).replace("</sheetData></worksheet>", "").encode()
     return bomb_xlsx(path, SHEET, head, b" " * MB, 1024, b"</sheetData></worksheet>", declared)
+
+
+def padded(mb: int, block: bytes):
+    """The base sheet followed by ``mb`` MB of ``block`` (whitespace, empty rows) inside its
+    ``<sheetData>``: within the unpacked limit, with a true size and checksum."""
+    def make(path: Path) -> Path:
+        head = sheet_xml(BASE).replace("</sheetData></worksheet>", "").encode()
+        return bomb_xlsx(path, SHEET, head, block * (MB // len(block)), mb,
+                         b"</sheetData></worksheet>", checksum=True)
+    return make
 
 
 def row_bomb(path: Path) -> Path:
@@ -276,6 +294,9 @@ _CASES = [
     # the shared string table's counts are claims: a large one must not be laid out ...
     valid("xlsx-shared-count-2-million", "plan.xlsx", huge_shared_count(2_000_000), READ_BASE,
           resource=True),
+    # large but within the limits: read, in bounded memory (the 2 GB of every command)
+    valid("xlsx-100-mb-of-whitespace", "plan.xlsx", padded(100, b" "), READ_BASE),
+    valid("xlsx-50-mb-of-empty-rows", "plan.xlsx", padded(50, b'<row r="9"/>'), READ_BASE),
     valid("xlsx-path-traversal-names", "plan.xlsx", traversal, READ_BASE),
     valid("xlsx-named-xls", "plan.xls", base_xlsx, READ_BASE, places=("plan.xls",)),
     valid("xlsx-named-ods", "plan.ods", base_xlsx, READ_BASE),
@@ -389,9 +410,8 @@ _CASES = [
     invalid("ods-without-mimetype-part", "plan.ods",
             lambda p: write_zip(p, [Entry("content.xml", _ods_content())]), "plan.ods"),
     invalid("ods-no-content", "plan.ods",
-            lambda p: write_ods(p, {}, content=b"")
-            and write_zip(p, [Entry("mimetype", b"application/vnd.oasis.opendocument."
-                                    b"spreadsheet", method=0)]), "plan.ods"),
+            lambda p: write_zip(p, [Entry("mimetype", b"application/vnd.oasis.opendocument."
+                                          b"spreadsheet", method=0)]), "plan.ods"),
     invalid("ods-bad-xml", "plan.ods", lambda p: ods_base(p, content=b"<office:document"),
             "plan.ods"),
     invalid("ods-text-document", "plan.ods",
