@@ -56,7 +56,7 @@ def prepare(root: Path, cases: list[Case]) -> WatchSet:
 
 def run(ws: WatchSet, umask: int) -> WatchSet:
     ws.run = run_measured(["watch", str(ws.root), "--once", "--interval", "0.1",
-                           "--workers", "2", "--once-wait", "10", "--no-simulation",
+                           "--workers", "1", "--once-wait", "10", "--no-simulation",
                            "--json", "--quiet"], ws.root.parent, umask=umask, tag="watch")
     return ws
 
