@@ -61,8 +61,12 @@ REDIRECTED_WIDTH = 200
 # --------------------------------------------------------------------------- the parser
 def _global_flags(parser: argparse.ArgumentParser, *, default) -> None:
     """Flags accepted before and after the command (``--debug``)."""
-    parser.add_argument("--debug", action="store_true", default=default,
-                        help="show the traceback of an internal fault")
+    parser.add_argument(
+        "--debug",
+        action="store_true",
+        default=default,
+        help="show the traceback of an internal fault",
+    )
 
 
 def _build() -> tuple[argparse.ArgumentParser, dict[str, argparse.ArgumentParser]]:
@@ -78,33 +82,41 @@ def _build() -> tuple[argparse.ArgumentParser, dict[str, argparse.ArgumentParser
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
 
     def command(name: str, help_text: str, epilog: str) -> argparse.ArgumentParser:
-        return sub.add_parser(name, help=help_text, description=help_text, epilog=epilog,
-                              parents=[common],
-                              formatter_class=argparse.RawDescriptionHelpFormatter)
+        return sub.add_parser(
+            name,
+            help=help_text,
+            description=help_text,
+            epilog=epilog,
+            parents=[common],
+            formatter_class=argparse.RawDescriptionHelpFormatter,
+        )
 
     inputs = f"schedule file(s) to read: {suffix_list()}"
     commands = {}
     p = commands["convert"] = command(
-        "convert", "analyse schedules and write analysis workbooks", EPILOG_CONVERT)
+        "convert", "analyse schedules and write analysis workbooks", EPILOG_CONVERT
+    )
     p.add_argument("inputs", nargs="+", metavar="INPUT", help=inputs)
     p.add_argument("--outdir", metavar="DIR", help="output folder (default: beside each input)")
     p.add_argument("--quiet", action="store_true", help="print problems only")
     add_conversion_options(p)
 
     p = commands["check"] = command(
-        "check", "validate schedules only (exit 0 valid, 2 invalid); writes nothing",
-        EPILOG_CHECK)
+        "check", "validate schedules only (exit 0 valid, 2 invalid); writes nothing", EPILOG_CHECK
+    )
     p.add_argument("inputs", nargs="+", metavar="INPUT", help=inputs)
 
     p = commands["template"] = command(
-        "template", "write a blank input workbook to fill in", EPILOG_TEMPLATE)
+        "template", "write a blank input workbook to fill in", EPILOG_TEMPLATE
+    )
     p.add_argument("output", metavar="OUT.xlsx", help="the workbook to write")
     p.add_argument("--force", action="store_true", help="replace OUT.xlsx if it exists")
 
     from converter.drop import add_watch_arguments
 
     p = commands["watch"] = command(
-        "watch", "convert every sheet dropped into FOLDER/inbox", EPILOG_WATCH)
+        "watch", "convert every sheet dropped into FOLDER/inbox", EPILOG_WATCH
+    )
     add_conversion_options(p)
     add_watch_arguments(p)
     return parser, commands
@@ -155,8 +167,14 @@ class SimulationProgress:
                 TimeRemainingColumn,
             )
 
-            self.bar = Progress(TextColumn("simulating"), BarColumn(), MofNCompleteColumn(),
-                                TimeRemainingColumn(), console=self.console, transient=True)
+            self.bar = Progress(
+                TextColumn("simulating"),
+                BarColumn(),
+                MofNCompleteColumn(),
+                TimeRemainingColumn(),
+                console=self.console,
+                transient=True,
+            )
             self.bar.start()
             self.task = self.bar.add_task("simulating", total=total)
         self.bar.update(self.task, completed=done, total=total)
@@ -211,8 +229,9 @@ _FIGURES = (
 
 
 def _date_key(key: str) -> str:
-    return {"expected_duration": "finish_date",
-            "simulated_mean": "simulated_finish_date"}.get(key, f"{key}_date")
+    return {"expected_duration": "finish_date", "simulated_mean": "simulated_finish_date"}.get(
+        key, f"{key}_date"
+    )
 
 
 def headline_table(name: str, h: dict) -> Table:
@@ -237,14 +256,17 @@ def headline_table(name: str, h: dict) -> Table:
         return out
 
     for label, *keys in _FIGURES:
-        pairs = [(format_duration(h.get(keys[k]), unit), h.get(_date_key(keys[k])))
-                 for _, k in sources]
+        pairs = [
+            (format_duration(h.get(keys[k]), unit), h.get(_date_key(keys[k]))) for _, k in sources
+        ]
         table.add_row(label, *cells(pairs))
     if h.get("due") is not None:
         due = h.get("due_date") or format_duration(h["due"], unit)
         keys = {0: "p_meet_due", 1: "simulated_p_meet_due"}
-        table.add_row(f"Chance to finish by {due}",
-                      *cells([(format_chance(h.get(keys[k])), None) for _, k in sources]))
+        table.add_row(
+            f"Chance to finish by {due}",
+            *cells([(format_chance(h.get(keys[k])), None) for _, k in sources]),
+        )
     if "failed_checks" in h:
         table.add_row("Health checks failed", f"{h['failed_checks']} of {h['checks']}")
     table.add_row("Warnings", str(h.get("warnings", 0)))
@@ -273,8 +295,10 @@ def _print_problems(path: str, problems, stream) -> None:
                 continue
         stream.write(f"{path}: {p}\n")
     if warnings > WARNINGS_SHOWN:
-        stream.write(f"{path}: ... and {warnings - WARNINGS_SHOWN} more warning(s), all listed "
-                     "on the workbook's Warnings sheet\n")
+        stream.write(
+            f"{path}: ... and {warnings - WARNINGS_SHOWN} more warning(s), all listed "
+            "on the workbook's Warnings sheet\n"
+        )
 
 
 @dataclass
@@ -363,15 +387,18 @@ def _targets(args) -> list[Target]:
         for result in (xlsx, js) if args.json else (xlsx,):
             hit = inputs.holder(result)
             if hit is not None:
-                target.refused = (f"{name}: not converted: its result {result} would replace "
-                                  f"{hit}, an input of this run; choose another --outdir")
+                target.refused = (
+                    f"{name}: not converted: its result {result} would replace "
+                    f"{hit}, an input of this run; choose another --outdir"
+                )
                 break
         out.append(target)
     return out
 
 
-def _convert_one(args, options, name: str, xlsx: Path, js: Path
-                 ) -> tuple[int, ConvertResult | None]:
+def _convert_one(
+    args, options, name: str, xlsx: Path, js: Path
+) -> tuple[int, ConvertResult | None]:
     """Convert one input, printing its problems; returns the exit code and the result."""
     err = make_console(sys.stderr)
     show_progress = err.is_terminal and not args.quiet
@@ -427,8 +454,10 @@ def cmd_check(args) -> int:
             result = check(name)
             _print_problems(name, result.problems, sys.stderr)
             code = EXIT_OK if result.ok else EXIT_INVALID
-            print(f"{name}: {'valid' if result.ok else 'INVALID'}"
-                  + (f" (activity sheet {result.sheet})" if result.sheet else ""))
+            print(
+                f"{name}: {'valid' if result.ok else 'INVALID'}"
+                + (f" (activity sheet {result.sheet})" if result.sheet else "")
+            )
         except Exception as exc:  # noqa: BLE001
             code = EXIT_FAULT
             sys.stderr.write(f"{name}: internal error: {type(exc).__name__}: {exc}\n")
@@ -460,8 +489,12 @@ def cmd_watch(args) -> int:
     return run_watch(args, options_from_args(args))
 
 
-COMMANDS = {"convert": cmd_convert, "check": cmd_check, "template": cmd_template,
-            "watch": cmd_watch}
+COMMANDS = {
+    "convert": cmd_convert,
+    "check": cmd_check,
+    "template": cmd_template,
+    "watch": cmd_watch,
+}
 
 
 def main(argv: list[str] | None = None) -> int:

@@ -37,16 +37,30 @@ from converter.values import (
 )
 
 DISTRIBUTION_ALIASES = {
-    "pert": "pert", "beta": "pert", "pertbeta": "pert", "betapert": "pert",
-    "triangular": "triangular", "triangle": "triangular", "tri": "triangular",
-    "uniform": "uniform", "flat": "uniform", "rectangular": "uniform",
+    "pert": "pert",
+    "beta": "pert",
+    "pertbeta": "pert",
+    "betapert": "pert",
+    "triangular": "triangular",
+    "triangle": "triangular",
+    "tri": "triangular",
+    "uniform": "uniform",
+    "flat": "uniform",
+    "rectangular": "uniform",
 }
 
 TIME_UNITS = {
-    "workingdays": "working days", "workdays": "working days", "days": "working days",
-    "day": "working days", "workingday": "working days", "businessdays": "working days",
-    "weeks": "weeks", "week": "weeks", "workingweeks": "weeks",
-    "calendardays": "calendar days", "calendarday": "calendar days",
+    "workingdays": "working days",
+    "workdays": "working days",
+    "days": "working days",
+    "day": "working days",
+    "workingday": "working days",
+    "businessdays": "working days",
+    "weeks": "weeks",
+    "week": "weeks",
+    "workingweeks": "weeks",
+    "calendardays": "calendar days",
+    "calendarday": "calendar days",
     "elapseddays": "calendar days",
 }
 
@@ -102,9 +116,11 @@ def parse_confidence(value: object) -> tuple[float, ...]:
     small = [t for t, x in bare if 0 < abs(x) <= 1]
     large = [t for t, x in bare if abs(x) > 1]
     if small and large:
-        raise ValueError(f"confidence levels {small[0]} and {large[0]} mix fractions and "
-                         "percentages: write them all as percentages (50, 80, 90) or all as "
-                         "fractions (0.5, 0.8, 0.9)")
+        raise ValueError(
+            f"confidence levels {small[0]} and {large[0]} mix fractions and "
+            "percentages: write them all as percentages (50, 80, 90) or all as "
+            "fractions (0.5, 0.8, 0.9)"
+        )
     levels += [(t, x / 100.0 if large else x) for t, x in bare]
     for text, level in levels:
         if not 0.0 < level < 1.0:
@@ -131,8 +147,9 @@ def _confidence_tokens(value: object) -> list[tuple[str, float, bool]]:
         if percent:
             number = as_number(text[:-1])
         if number is None:
-            raise ValueError(f'confidence level "{text}" is not a number (write e.g. '
-                             f"{CONFIDENCE_EXAMPLE})")
+            raise ValueError(
+                f'confidence level "{text}" is not a number (write e.g. {CONFIDENCE_EXAMPLE})'
+            )
         out.append((text, number, percent))
     return out
 
@@ -170,8 +187,9 @@ def parse_duration(value: object) -> float:
     """
     x = parse_number(value)
     if not 0 <= x <= LARGEST_DURATION:
-        raise ValueError(f"{shown(value)} is not a duration from 0 to "
-                         f"{LARGEST_DURATION:,.0f} time units")
+        raise ValueError(
+            f"{shown(value)} is not a duration from 0 to {LARGEST_DURATION:,.0f} time units"
+        )
     return x
 
 
@@ -303,28 +321,58 @@ class Option:
 
 
 OPTIONS: tuple[Option, ...] = (
-    Option("start_date", "start_date", parse_start_date,
-           "project start date; dates are counted from it", "YYYY-MM-DD"),
+    Option(
+        "start_date",
+        "start_date",
+        parse_start_date,
+        "project start date; dates are counted from it",
+        "YYYY-MM-DD",
+    ),
     Option("time_unit", None, parse_time_unit),
     Option("working_days", None, parse_working_days),
-    Option("due", "due", parse_due,
-           "due date: a duration in the schedule's time unit (e.g. 60) or a date YYYY-MM-DD "
-           "(needs a start date)", "DUE"),
+    Option(
+        "due",
+        "due",
+        parse_due,
+        "due date: a duration in the schedule's time unit (e.g. 60) or a date YYYY-MM-DD "
+        "(needs a start date)",
+        "DUE",
+    ),
     Option("iterations", "iterations", parse_iterations, "Monte Carlo iterations", "N"),
     Option("seed", "seed", parse_seed, "random seed (written into the output)", "S"),
-    Option("distribution", "distribution", parse_distribution,
-           "duration distribution for the simulation", "|".join(DISTRIBUTIONS)),
-    Option("correlation", "correlation", parse_correlation,
-           "rank correlation among activities of the same group, 0 to below 1", "RHO"),
-    Option("confidence_levels", "confidence", parse_confidence,
-           'confidence levels in percent, e.g. "50,80,90" (or "50%,80%" or "0.5,0.8")',
-           "LEVELS"),
+    Option(
+        "distribution",
+        "distribution",
+        parse_distribution,
+        "duration distribution for the simulation",
+        "|".join(DISTRIBUTIONS),
+    ),
+    Option(
+        "correlation",
+        "correlation",
+        parse_correlation,
+        "rank correlation among activities of the same group, 0 to below 1",
+        "RHO",
+    ),
+    Option(
+        "confidence_levels",
+        "confidence",
+        parse_confidence,
+        'confidence levels in percent, e.g. "50,80,90" (or "50%,80%" or "0.5,0.8")',
+        "LEVELS",
+    ),
     Option("paths", "paths", parse_paths, "how many of the longest paths to list", "K"),
-    Option(None, "simulation_memory_mb", parse_memory_mb,
-           "memory budget of the simulation in MB, at least 32; beyond it the sensitivities "
-           "come from the first iterations only, or the run is refused (exit 2). The "
-           "watcher shares it among its workers", "MB", name="simulation_memory",
-           default=DEFAULT_SIMULATION_MEMORY_MB),
+    Option(
+        None,
+        "simulation_memory_mb",
+        parse_memory_mb,
+        "memory budget of the simulation in MB, at least 32; beyond it the sensitivities "
+        "come from the first iterations only, or the run is refused (exit 2). The "
+        "watcher shares it among its workers",
+        "MB",
+        name="simulation_memory",
+        default=DEFAULT_SIMULATION_MEMORY_MB,
+    ),
 )
 BY_SETTING: dict[str, Option] = {o.setting: o for o in OPTIONS if o.setting is not None}
 
@@ -372,13 +420,21 @@ def add_conversion_options(parser: argparse.ArgumentParser) -> None:
         if option.flag is None:
             continue
         default = "" if option.default_text == "none" else f" (default {option.default_text})"
-        group.add_argument(option.flag, dest=option.attr, type=_argument_type(option),
-                           metavar=option.metavar,
-                           help=(option.help + default).replace("%", "%%"))
-    group.add_argument("--json", action="store_true",
-                       help="also write <stem>.analysis.json (also for invalid input)")
-    group.add_argument("--no-simulation", action="store_true",
-                       help="skip the Monte Carlo simulation")
+        group.add_argument(
+            option.flag,
+            dest=option.attr,
+            type=_argument_type(option),
+            metavar=option.metavar,
+            help=(option.help + default).replace("%", "%%"),
+        )
+    group.add_argument(
+        "--json",
+        action="store_true",
+        help="also write <stem>.analysis.json (also for invalid input)",
+    )
+    group.add_argument(
+        "--no-simulation", action="store_true", help="skip the Monte Carlo simulation"
+    )
 
 
 def options_from_args(args: argparse.Namespace) -> ConvertOptions:
@@ -430,15 +486,20 @@ def resolve(
         try:
             setattr(settings, key, BY_SETTING[key].parse(given.value))
         except (ValueError, TypeError) as exc:
-            problems.append(Problem(ERROR, "bad-setting",
-                                    f"setting {key.replace('_', ' ')}: {exc}",
-                                    given.sheet, given.cell))
+            problems.append(
+                Problem(
+                    ERROR,
+                    "bad-setting",
+                    f"setting {key.replace('_', ' ')}: {exc}",
+                    given.sheet,
+                    given.cell,
+                )
+            )
             continue
         settings.sources[key] = f"settings sheet ({given.where})"
     _resolve_holidays(settings, list(holidays), problems)
     for option in OPTIONS:
-        value = None if options is None or option.attr is None else getattr(options,
-                                                                              option.attr)
+        value = None if options is None or option.attr is None else getattr(options, option.attr)
         if value is None or option.setting is None:
             continue
         try:
@@ -468,11 +529,15 @@ def _due_needs_start(settings: Settings, on_sheet: SheetValue | None) -> list[Pr
     if settings.start_date is not None or not isinstance(settings.due, dt.date):
         return []
     from_sheet = settings.source_of("due").startswith("settings sheet")
-    return [Problem(
-        ERROR, "due-date-without-start",
-        f"the due date {settings.due.isoformat()} is a calendar date but there is no "
-        "start date to count from" + ("" if from_sheet else " (--due on the command line)"),
-        on_sheet.sheet if from_sheet and on_sheet else None,
-        on_sheet.cell if from_sheet and on_sheet else None,
-        fix="Add a 'Start date' row to the settings sheet (or --start-date), or give "
-            "the due date as a number of time units.")]
+    return [
+        Problem(
+            ERROR,
+            "due-date-without-start",
+            f"the due date {settings.due.isoformat()} is a calendar date but there is no "
+            "start date to count from" + ("" if from_sheet else " (--due on the command line)"),
+            on_sheet.sheet if from_sheet and on_sheet else None,
+            on_sheet.cell if from_sheet and on_sheet else None,
+            fix="Add a 'Start date' row to the settings sheet (or --start-date), or give "
+            "the due date as a number of time units.",
+        )
+    ]

@@ -28,8 +28,15 @@ class Formats:
         add = wb.add_format
         self.title = add({"bold": True, "font_size": TITLE_SIZE, "font_color": PALETTE["ink"]})
         self.subtitle = add({"italic": True, "font_color": "#555555"})
-        self.header = add({"bold": True, "bg_color": PALETTE["mist"], "bottom": 1,
-                           "text_wrap": True, "valign": "top"})
+        self.header = add(
+            {
+                "bold": True,
+                "bg_color": PALETTE["mist"],
+                "bottom": 1,
+                "text_wrap": True,
+                "valign": "top",
+            }
+        )
         self.label = add({"bold": True, "valign": "top"})  # top: beside the first line
         self.text = add({})
         self.wrap = add({"text_wrap": True, "valign": "top"})
@@ -47,8 +54,9 @@ class Formats:
         self.big_date = add({"bold": True, "font_size": 12, "num_format": DATE_FORMAT})
         self.flag = add({"bold": True, "font_color": PALETTE["clay"]})
         self.good = add({"font_color": PALETTE["moss"], "bold": True})
-        self.caution = add({"text_wrap": True, "valign": "top", "font_color": PALETTE["clay"],
-                            "italic": True})
+        self.caution = add(
+            {"text_wrap": True, "valign": "top", "font_color": PALETTE["clay"], "italic": True}
+        )
         self.critical = add({"bold": True, "font_color": PALETTE["ink"], "align": "center"})
         self.center = add({"align": "center"})
         self.int_center = add({"num_format": "0", "align": "center"})
@@ -56,44 +64,91 @@ class Formats:
         # ignore it under the general alignment; headers over numbers, notes apart from
         # figures, labels at the top of tall rows)
         # table heads at 9 pt: left over text, centred over numbers
-        head = {"bold": True, "font_size": TABLE_HEAD_SIZE, "bg_color": PALETTE["mist"],
-                "bottom": 1, "text_wrap": True}
+        head = {
+            "bold": True,
+            "font_size": TABLE_HEAD_SIZE,
+            "bg_color": PALETTE["mist"],
+            "bottom": 1,
+            "text_wrap": True,
+        }
         self.th = add(head)
         self.th_center = add({**head, "align": "center"})
         self.th_indent = add({**head, "indent": 1, "align": "left"})
-        self.section_title = add({"bold": True, "font_size": 12, "font_color": PALETTE["ink"],
-                                  "bottom": 1, "bottom_color": PALETTE["slate"]})
-        self.section_head = add({"bold": True, "font_color": PALETTE["ink"], "bottom": 1,
-                                 "bottom_color": PALETTE["slate"], "align": "right",
-                                 "text_wrap": True})
+        self.section_title = add(
+            {
+                "bold": True,
+                "font_size": 12,
+                "font_color": PALETTE["ink"],
+                "bottom": 1,
+                "bottom_color": PALETTE["slate"],
+            }
+        )
+        self.section_head = add(
+            {
+                "bold": True,
+                "font_color": PALETTE["ink"],
+                "bottom": 1,
+                "bottom_color": PALETTE["slate"],
+                "align": "right",
+                "text_wrap": True,
+            }
+        )
         self.label_wrap = add({"bold": True, "text_wrap": True})
         self.note = add({"text_wrap": True, "valign": "top", "indent": 1, "align": "left"})
-        self.note_italic = add({"text_wrap": True, "valign": "top", "indent": 1, "align": "left",
-                                "italic": True, "font_color": "#555555"})
-        self.wrap_flag = add({"text_wrap": True, "valign": "top", "bold": True,
-                              "font_color": PALETTE["clay"], "indent": 1, "align": "left"})
+        self.note_italic = add(
+            {
+                "text_wrap": True,
+                "valign": "top",
+                "indent": 1,
+                "align": "left",
+                "italic": True,
+                "font_color": "#555555",
+            }
+        )
+        self.wrap_flag = add(
+            {
+                "text_wrap": True,
+                "valign": "top",
+                "bold": True,
+                "font_color": PALETTE["clay"],
+                "indent": 1,
+                "align": "left",
+            }
+        )
         self.wrap_indent = add({"text_wrap": True, "valign": "top", "indent": 1, "align": "left"})
         self.wrap_center = add({"text_wrap": True, "align": "center"})
-        self.wrap_flag_center = add({"text_wrap": True, "bold": True, "align": "center",
-                                     "font_color": PALETTE["clay"]})
+        self.wrap_flag_center = add(
+            {"text_wrap": True, "bold": True, "align": "center", "font_color": PALETTE["clay"]}
+        )
         self.text_right = add({"align": "right"})
         self.text_indent = add({"indent": 1, "align": "left"})
-        self.big_value = add({"bold": True, "num_format": NUMBER_FORMAT,
-                              "bg_color": PALETTE["mist"]})
-        self.big_value_date = add({"bold": True, "num_format": DATE_FORMAT,
-                                   "bg_color": PALETTE["mist"]})
+        self.big_value = add(
+            {"bold": True, "num_format": NUMBER_FORMAT, "bg_color": PALETTE["mist"]}
+        )
+        self.big_value_date = add(
+            {"bold": True, "num_format": DATE_FORMAT, "bg_color": PALETTE["mist"]}
+        )
         # top-aligned and left-aligned variants for tables with wrapped text
         self.label_top = add({"bold": True, "valign": "top", "text_wrap": True})
-        self.section = add({"bold": True, "font_color": PALETTE["ink"], "bottom": 1,
-                            "bottom_color": PALETTE["slate"]})
+        self.section = add(
+            {
+                "bold": True,
+                "font_color": PALETTE["ink"],
+                "bottom": 1,
+                "bottom_color": PALETTE["slate"],
+            }
+        )
         self.int_top = add({"num_format": "0", "align": "center", "valign": "top"})
         self.prob_top = add({"num_format": PROB_FORMAT, "valign": "top"})
-        self.good_top = add({"font_color": PALETTE["moss"], "bold": True, "valign": "top",
-                             "align": "center"})
-        self.flag_top = add({"bold": True, "font_color": PALETTE["clay"], "valign": "top",
-                             "align": "center"})
-        self.subtitle_wrap = add({"italic": True, "font_color": "#555555", "text_wrap": True,
-                                  "valign": "top"})
+        self.good_top = add(
+            {"font_color": PALETTE["moss"], "bold": True, "valign": "top", "align": "center"}
+        )
+        self.flag_top = add(
+            {"bold": True, "font_color": PALETTE["clay"], "valign": "top", "align": "center"}
+        )
+        self.subtitle_wrap = add(
+            {"italic": True, "font_color": "#555555", "text_wrap": True, "valign": "top"}
+        )
         self.left = add({"align": "left", "valign": "top"})
         self.num_left = add({"align": "left", "valign": "top", "num_format": "General"})
         self.date_left = add({"num_format": DATE_FORMAT, "align": "left", "valign": "top"})
