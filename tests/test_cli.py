@@ -37,7 +37,7 @@ from helpers import (
 from scipy.stats import norm
 
 import converter
-from converter import cli
+from converter import cli, terminal
 from converter.api import ConvertOptions, PertbookError, convert
 from converter.options import options_from_args
 
@@ -710,13 +710,13 @@ def test_package_exports_what_it_names():
 def test_chance_rounded_to_whole_percent_never_0_or_100(p, text):
     # whole percent, half up; a chance that rounds to 0 or 100 is said "<1%" / ">99%"
     # (the project's issue "reviewer-grade output")
-    assert cli.format_chance(p) == text
+    assert terminal.format_chance(p) == text
 
 
 def test_duration_one_decimal_with_unit():
-    assert cli.format_duration(44.2987, "working days") == "44.3 working days"
-    assert cli.format_duration(6.25, "weeks") == "6.2 weeks"  # half to even, as str.format
-    assert cli.format_duration(None, "weeks") == "-"
+    assert terminal.format_duration(44.2987, "working days") == "44.3 working days"
+    assert terminal.format_duration(6.25, "weeks") == "6.2 weeks"  # half to even, as str.format
+    assert terminal.format_duration(None, "weeks") == "-"
 
 
 def _rows(out: str) -> dict[str, list[str]]:
@@ -773,8 +773,8 @@ def test_headline_shows_simulation_beside_critical_path(tmp_path, capsys):
         f"{project['duration_at_confidence']['0.8']:.1f} working days",
     ]
     assert rows["Chance to finish by 15.0 working days"] == [
-        cli.format_chance(sim["p_meet_due"]),
-        cli.format_chance(project["p_meet_due"]),
+        terminal.format_chance(sim["p_meet_due"]),
+        terminal.format_chance(project["p_meet_due"]),
     ]
     failed = sum(1 for c in data["checks"] if not c["passed"])
     assert rows["Health checks failed"] == [f"{failed} of {len(data['checks'])}"]
@@ -811,13 +811,13 @@ def test_progress_bar_only_on_a_terminal_and_taken_down(tmp_path):
     from rich.console import Console
 
     screen = StringIO()
-    bar = cli.SimulationProgress(Console(file=screen, force_terminal=True, width=60), delay=0)
+    bar = terminal.SimulationProgress(Console(file=screen, force_terminal=True, width=60), delay=0)
     with bar:
         bar(0, 10)
         bar(5, 10)
         assert bar.bar is not None
     assert bar.bar is None and "simulating" in screen.getvalue()
-    quiet = cli.SimulationProgress(Console(file=StringIO(), force_terminal=True), delay=3600)
+    quiet = terminal.SimulationProgress(Console(file=StringIO(), force_terminal=True), delay=3600)
     quiet(5, 10)  # under the delay: nothing drawn
     assert quiet.bar is None
 
