@@ -20,8 +20,6 @@ from __future__ import annotations
 
 import argparse
 import datetime as dt
-import math
-import re
 from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass
 
@@ -45,17 +43,7 @@ from converter.options.parsers import (
     parse_start_date,
     parse_time_unit,
 )
-from converter.values import (
-    LARGEST_DURATION,
-    as_date,
-    as_number,
-    date_out_of_range,
-    is_blank,
-    normalise,
-    parse_number,
-    parse_working_days,
-    shown,
-)
+from converter.values import parse_working_days
 
 __all__ = [
     "BY_SETTING",
