@@ -24,9 +24,25 @@ from pathlib import Path
 from converter.model import ERROR, Problem, Schedule
 from converter.options import ConvertOptions
 
-__all__ = ["ConvertOptions", "ConvertResult", "Loaded", "PertbookError", "check", "convert",
-           "fit_stem", "kind_of", "load", "load_input", "memory_problems", "name_limit",
-           "new_file_mode", "not_a_regular_file", "output_paths", "process_umask", "same_file"]
+__all__ = [
+    "ConvertOptions",
+    "ConvertResult",
+    "Loaded",
+    "PertbookError",
+    "check",
+    "convert",
+    "fit_stem",
+    "kind_of",
+    "load",
+    "load_input",
+    "memory_problems",
+    "name_limit",
+    "new_file_mode",
+    "not_a_regular_file",
+    "output_paths",
+    "process_umask",
+    "same_file",
+]
 
 #: The suffixes of ``convert``'s two outputs.
 RESULT_SUFFIXES = (".analysis.xlsx", ".analysis.json")
@@ -98,8 +114,10 @@ def not_a_regular_file(path: str | os.PathLike) -> str | None:
     if stat.S_ISREG(st.st_mode) or stat.S_ISDIR(st.st_mode):
         return None
     through = " (through a symbolic link)" if os.path.islink(path) else ""
-    return (f"{path} is {kind_of(st.st_mode)}{through}, not a regular file; pertbook reads "
-            "only regular files")
+    return (
+        f"{path} is {kind_of(st.st_mode)}{through}, not a regular file; pertbook reads "
+        "only regular files"
+    )
 
 
 def same_file(a: str | os.PathLike, b: str | os.PathLike) -> bool:
@@ -280,10 +298,21 @@ def load_input(path: str | os.PathLike, options: ConvertOptions | None = None) -
     refused = not_a_regular_file(path)
     if refused is not None:
         where = Path(path)
-        return Loaded(where, None, [Problem(
-            ERROR, "not-a-file", refused, sheet=where.name,
-            fix="Give the schedule file itself: pertbook reads regular files only, not "
-                "pipes, devices or sockets.")], None)
+        return Loaded(
+            where,
+            None,
+            [
+                Problem(
+                    ERROR,
+                    "not-a-file",
+                    refused,
+                    sheet=where.name,
+                    fix="Give the schedule file itself: pertbook reads regular files only, not "
+                    "pipes, devices or sockets.",
+                )
+            ],
+            None,
+        )
     read = read_input(Path(path))
     if read.raw is None:
         return Loaded(read.path, None, read.problems, read.sha256)
@@ -310,8 +339,14 @@ def memory_problems(schedule: Schedule, memory_mb: int | None) -> list[Problem]:
         try:
             memory_mb = parse_memory_mb(memory_mb)
         except ValueError as exc:
-            return [Problem(ERROR, "bad-option", f"the simulation memory budget: {exc}",
-                            fix="Give --simulation-memory 32 (MB) or more.")]
+            return [
+                Problem(
+                    ERROR,
+                    "bad-option",
+                    f"the simulation memory budget: {exc}",
+                    fix="Give --simulation-memory 32 (MB) or more.",
+                )
+            ]
     problem = memory_problem(schedule, memory_mb)
     return [] if problem is None else [problem]
 
@@ -325,8 +360,12 @@ def load(path: str | os.PathLike, options: ConvertOptions | None = None):
 def check(path: str | os.PathLike, options: ConvertOptions | None = None) -> ConvertResult:
     """Validate only."""
     loaded = load_input(path, options)
-    return ConvertResult(input=Path(path), ok=loaded.ok, problems=loaded.problems,
-                         sheet=loaded.schedule.sheet if loaded.schedule else None)
+    return ConvertResult(
+        input=Path(path),
+        ok=loaded.ok,
+        problems=loaded.problems,
+        sheet=loaded.schedule.sheet if loaded.schedule else None,
+    )
 
 
 def convert(
@@ -362,8 +401,9 @@ def convert(
 
     loaded = load_input(path, options)
     schedule, problems = loaded.schedule, loaded.problems
-    result = ConvertResult(input=path, ok=loaded.ok, problems=problems,
-                           sheet=schedule.sheet if schedule else None)
+    result = ConvertResult(
+        input=path, ok=loaded.ok, problems=problems, sheet=schedule.sheet if schedule else None
+    )
     analysis = None
     if loaded.ok:
         try:

@@ -11,16 +11,11 @@ output is redirected.
 from __future__ import annotations
 
 import argparse
-import math
 import os
 import sys
-import time
 import traceback
 from dataclasses import dataclass
 from pathlib import Path
-
-from rich.console import Console
-from rich.table import Table
 
 from converter import __version__
 from converter.api import (
@@ -34,6 +29,12 @@ from converter.api import (
 from converter.model import ERROR
 from converter.options import add_conversion_options, options_from_args
 from converter.read import suffix_list
+from converter.terminal import (
+    SimulationProgress,
+    _print_problems,
+    make_console,
+    print_headline,
+)
 
 EXIT_OK, EXIT_FAULT, EXIT_INVALID = 0, 1, 2
 #: A fault outranks invalid input, which outranks success, when several files are given.
@@ -54,15 +55,16 @@ EPILOG_WATCH = """example:
   pertbook watch /srv/share/schedules --once      (for cron or a scheduled task)
 """
 
-#: Width for output that is not a terminal (a file, a pipe): wide enough never to wrap.
-REDIRECTED_WIDTH = 200
-
 
 # --------------------------------------------------------------------------- the parser
 def _global_flags(parser: argparse.ArgumentParser, *, default) -> None:
     """Flags accepted before and after the command (``--debug``)."""
-    parser.add_argument("--debug", action="store_true", default=default,
-                        help="show the traceback of an internal fault")
+    parser.add_argument(
+        "--debug",
+        action="store_true",
+        default=default,
+        help="show the traceback of an internal fault",
+    )
 
 
 def _build() -> tuple[argparse.ArgumentParser, dict[str, argparse.ArgumentParser]]:
@@ -78,33 +80,41 @@ def _build() -> tuple[argparse.ArgumentParser, dict[str, argparse.ArgumentParser
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
 
     def command(name: str, help_text: str, epilog: str) -> argparse.ArgumentParser:
-        return sub.add_parser(name, help=help_text, description=help_text, epilog=epilog,
-                              parents=[common],
-                              formatter_class=argparse.RawDescriptionHelpFormatter)
+        return sub.add_parser(
+            name,
+            help=help_text,
+            description=help_text,
+            epilog=epilog,
+            parents=[common],
+            formatter_class=argparse.RawDescriptionHelpFormatter,
+        )
 
     inputs = f"schedule file(s) to read: {suffix_list()}"
     commands = {}
     p = commands["convert"] = command(
-        "convert", "analyse schedules and write analysis workbooks", EPILOG_CONVERT)
+        "convert", "analyse schedules and write analysis workbooks", EPILOG_CONVERT
+    )
     p.add_argument("inputs", nargs="+", metavar="INPUT", help=inputs)
     p.add_argument("--outdir", metavar="DIR", help="output folder (default: beside each input)")
     p.add_argument("--quiet", action="store_true", help="print problems only")
     add_conversion_options(p)
 
     p = commands["check"] = command(
-        "check", "validate schedules only (exit 0 valid, 2 invalid); writes nothing",
-        EPILOG_CHECK)
+        "check", "validate schedules only (exit 0 valid, 2 invalid); writes nothing", EPILOG_CHECK
+    )
     p.add_argument("inputs", nargs="+", metavar="INPUT", help=inputs)
 
     p = commands["template"] = command(
-        "template", "write a blank input workbook to fill in", EPILOG_TEMPLATE)
+        "template", "write a blank input workbook to fill in", EPILOG_TEMPLATE
+    )
     p.add_argument("output", metavar="OUT.xlsx", help="the workbook to write")
     p.add_argument("--force", action="store_true", help="replace OUT.xlsx if it exists")
 
     from converter.drop import add_watch_arguments
 
     p = commands["watch"] = command(
-        "watch", "convert every sheet dropped into FOLDER/inbox", EPILOG_WATCH)
+        "watch", "convert every sheet dropped into FOLDER/inbox", EPILOG_WATCH
+    )
     add_conversion_options(p)
     add_watch_arguments(p)
     return parser, commands
@@ -121,160 +131,6 @@ def command_parsers() -> dict[str, argparse.ArgumentParser]:
 
 
 # --------------------------------------------------------------------------- terminal
-def make_console(stream) -> Console:
-    """A rich console on ``stream``: measured on a terminal, plain and unwrapped otherwise."""
-    console = Console(file=stream, highlight=False)
-    if not console.is_terminal:
-        console.width = REDIRECTED_WIDTH
-    return console
-
-
-class SimulationProgress:
-    """A rich progress bar on a terminal, shown only once a simulation has run a second.
-
-    Call it as ``progress(done, total)`` (the simulation's progress callback); use it as a
-    context manager so the bar is taken down however the conversion ends.
-    """
-
-    def __init__(self, console: Console, delay: float = 1.0):
-        self.console = console
-        self.delay = delay
-        self.start = time.monotonic()
-        self.bar = None  # a rich.progress.Progress once shown
-        self.task = None
-
-    def __call__(self, done: int, total: int) -> None:
-        if self.bar is None:
-            if done >= total or time.monotonic() - self.start < self.delay:
-                return
-            from rich.progress import (  # only when shown: keeps start-up quick
-                BarColumn,
-                MofNCompleteColumn,
-                Progress,
-                TextColumn,
-                TimeRemainingColumn,
-            )
-
-            self.bar = Progress(TextColumn("simulating"), BarColumn(), MofNCompleteColumn(),
-                                TimeRemainingColumn(), console=self.console, transient=True)
-            self.bar.start()
-            self.task = self.bar.add_task("simulating", total=total)
-        self.bar.update(self.task, completed=done, total=total)
-        if done >= total:
-            self.close()
-
-    def close(self) -> None:
-        if self.bar is not None:
-            self.bar.stop()
-            self.bar = None
-
-    def __enter__(self) -> SimulationProgress:
-        return self
-
-    def __exit__(self, *exc) -> None:
-        self.close()
-
-
-def format_chance(p: float | None) -> str:
-    """A probability in whole percent, as a scheduler says it: never 0% or 100%.
-
-    Examples
-    --------
-    >>> format_chance(0.5), format_chance(0.004), format_chance(0.9999999975)
-    ('50%', '<1%', '>99%')
-    >>> format_chance(0.994), format_chance(0.006), format_chance(None)
-    ('99%', '1%', '-')
-    """
-    if p is None or math.isnan(p):
-        return "-"
-    whole = math.floor(p * 100 + 0.5)  # half up
-    if whole < 1:
-        return "<1%"
-    if whole > 99:
-        return ">99%"
-    return f"{whole}%"
-
-
-def format_duration(x: float | None, unit: str) -> str:
-    """One decimal with the unit: ``format_duration(44.2987, "working days")`` ->
-    ``'44.3 working days'``."""
-    return "-" if x is None else f"{x:.1f} {unit}"
-
-
-#: Headline rows: label, critical-path key, simulation key.
-_FIGURES = (
-    ("Expected finish", "expected_duration", "simulated_mean"),
-    ("P50", "p50", "simulated_p50"),
-    ("P80", "p80", "simulated_p80"),
-    ("P90", "p90", "simulated_p90"),
-)
-
-
-def _date_key(key: str) -> str:
-    return {"expected_duration": "finish_date",
-            "simulated_mean": "simulated_finish_date"}.get(key, f"{key}_date")
-
-
-def headline_table(name: str, h: dict) -> Table:
-    """The aligned headline of one conversion from :meth:`Analysis.headline` figures."""
-    unit = h.get("time_unit", "time units")
-    simulated = "simulated_mean" in h
-    dated = h.get("start_date") is not None
-    table = Table(box=None, show_edge=False, pad_edge=False, padding=(0, 2, 0, 0))
-    table.add_column(Path(name).name, style="bold", no_wrap=True)
-    sources = [("simulation", 1), ("critical path", 0)] if simulated else [("critical path", 0)]
-    for title, _ in sources:
-        table.add_column(title.capitalize(), justify="right", no_wrap=True)
-        if dated:
-            table.add_column("", no_wrap=True)
-
-    def cells(values: list) -> list[str]:
-        out = []
-        for duration, date in values:
-            out.append(duration)
-            if dated:
-                out.append(date or "")
-        return out
-
-    for label, *keys in _FIGURES:
-        pairs = [(format_duration(h.get(keys[k]), unit), h.get(_date_key(keys[k])))
-                 for _, k in sources]
-        table.add_row(label, *cells(pairs))
-    if h.get("due") is not None:
-        due = h.get("due_date") or format_duration(h["due"], unit)
-        keys = {0: "p_meet_due", 1: "simulated_p_meet_due"}
-        table.add_row(f"Chance to finish by {due}",
-                      *cells([(format_chance(h.get(keys[k])), None) for _, k in sources]))
-    if "failed_checks" in h:
-        table.add_row("Health checks failed", f"{h['failed_checks']} of {h['checks']}")
-    table.add_row("Warnings", str(h.get("warnings", 0)))
-    return table
-
-
-def print_headline(console: Console, name: str, result: ConvertResult) -> None:
-    """The headline table, then one ``NAME: wrote PATH`` line per output."""
-    console.print(headline_table(name, result.headline))
-    for path in (result.workbook, result.json_path):
-        if path is not None:
-            console.print(f"{name}: wrote {path}", soft_wrap=True, markup=False)
-
-
-# --------------------------------------------------------------------------- commands
-#: Warnings printed per file; errors are always printed in full.
-WARNINGS_SHOWN = 20
-
-
-def _print_problems(path: str, problems, stream) -> None:
-    warnings = 0
-    for p in problems:
-        if p.severity != ERROR:
-            warnings += 1
-            if warnings > WARNINGS_SHOWN:
-                continue
-        stream.write(f"{path}: {p}\n")
-    if warnings > WARNINGS_SHOWN:
-        stream.write(f"{path}: ... and {warnings - WARNINGS_SHOWN} more warning(s), all listed "
-                     "on the workbook's Warnings sheet\n")
 
 
 @dataclass
@@ -363,15 +219,18 @@ def _targets(args) -> list[Target]:
         for result in (xlsx, js) if args.json else (xlsx,):
             hit = inputs.holder(result)
             if hit is not None:
-                target.refused = (f"{name}: not converted: its result {result} would replace "
-                                  f"{hit}, an input of this run; choose another --outdir")
+                target.refused = (
+                    f"{name}: not converted: its result {result} would replace "
+                    f"{hit}, an input of this run; choose another --outdir"
+                )
                 break
         out.append(target)
     return out
 
 
-def _convert_one(args, options, name: str, xlsx: Path, js: Path
-                 ) -> tuple[int, ConvertResult | None]:
+def _convert_one(
+    args, options, name: str, xlsx: Path, js: Path
+) -> tuple[int, ConvertResult | None]:
     """Convert one input, printing its problems; returns the exit code and the result."""
     err = make_console(sys.stderr)
     show_progress = err.is_terminal and not args.quiet
@@ -427,8 +286,10 @@ def cmd_check(args) -> int:
             result = check(name)
             _print_problems(name, result.problems, sys.stderr)
             code = EXIT_OK if result.ok else EXIT_INVALID
-            print(f"{name}: {'valid' if result.ok else 'INVALID'}"
-                  + (f" (activity sheet {result.sheet})" if result.sheet else ""))
+            print(
+                f"{name}: {'valid' if result.ok else 'INVALID'}"
+                + (f" (activity sheet {result.sheet})" if result.sheet else "")
+            )
         except Exception as exc:  # noqa: BLE001
             code = EXIT_FAULT
             sys.stderr.write(f"{name}: internal error: {type(exc).__name__}: {exc}\n")
@@ -460,8 +321,12 @@ def cmd_watch(args) -> int:
     return run_watch(args, options_from_args(args))
 
 
-COMMANDS = {"convert": cmd_convert, "check": cmd_check, "template": cmd_template,
-            "watch": cmd_watch}
+COMMANDS = {
+    "convert": cmd_convert,
+    "check": cmd_check,
+    "template": cmd_template,
+    "watch": cmd_watch,
+}
 
 
 def main(argv: list[str] | None = None) -> int:

@@ -31,7 +31,8 @@ LAST_DATE = dt.date(9999, 12, 31)
 _PLAIN_NUMBER = re.compile(r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?")
 _INTEGRAL_TEXT = re.compile(r"^[1-9][0-9]*\.0+$|^0\.0+$")
 _ISO_DATE_TIME = re.compile(
-    r"([0-9]{4}-[0-9]{2}-[0-9]{2})(?:[ T]([0-9]{1,2}:[0-9]{2}(?::[0-9]{2}(?:\.[0-9]{1,6})?)?))?")
+    r"([0-9]{4}-[0-9]{2}-[0-9]{2})(?:[ T]([0-9]{1,2}:[0-9]{2}(?::[0-9]{2}(?:\.[0-9]{1,6})?)?))?"
+)
 _TIME = re.compile(r"([0-9]{1,2}):([0-9]{2})(?::([0-9]{2}))?")
 _LONGEST_SHOWN = 60
 
@@ -119,7 +120,7 @@ def shown(value: object) -> str:
         return _time_text(value)
     text = str(value).strip()
     if len(text) > _LONGEST_SHOWN:
-        return f'"{text[:_LONGEST_SHOWN - 20]}...{text[-10:]}" ({len(text)} characters)'
+        return f'"{text[: _LONGEST_SHOWN - 20]}...{text[-10:]}" ({len(text)} characters)'
     return f'"{text}"'
 
 
@@ -238,8 +239,10 @@ def date_out_of_range(d: dt.date) -> str | None:
     (False, None)
     """
     if d < FIRST_DATE:
-        return (f"{d.isoformat()} is before {FIRST_DATE.isoformat()}, the first date "
-                "pertbook works with")
+        return (
+            f"{d.isoformat()} is before {FIRST_DATE.isoformat()}, the first date "
+            "pertbook works with"
+        )
     return None  # no Python date is after LAST_DATE
 
 
@@ -312,9 +315,23 @@ def as_written(value: object) -> str:
 
 #: Weekday names and abbreviations (Monday = 0), for the working days.
 WEEKDAYS = {
-    "mon": 0, "monday": 0, "tue": 1, "tues": 1, "tuesday": 1, "wed": 2, "wednesday": 2,
-    "thu": 3, "thur": 3, "thurs": 3, "thursday": 3, "fri": 4, "friday": 4,
-    "sat": 5, "saturday": 5, "sun": 6, "sunday": 6,
+    "mon": 0,
+    "monday": 0,
+    "tue": 1,
+    "tues": 1,
+    "tuesday": 1,
+    "wed": 2,
+    "wednesday": 2,
+    "thu": 3,
+    "thur": 3,
+    "thurs": 3,
+    "thursday": 3,
+    "fri": 4,
+    "friday": 4,
+    "sat": 5,
+    "saturday": 5,
+    "sun": 6,
+    "sunday": 6,
 }
 
 

@@ -37,7 +37,7 @@ from helpers import (
 from scipy.stats import norm
 
 import converter
-from converter import cli
+from converter import cli, terminal
 from converter.api import ConvertOptions, PertbookError, convert
 from converter.options import options_from_args
 
@@ -79,8 +79,7 @@ def test_invalid_input_exit_2_places_on_stderr_nothing_written(tmp_path, capsys,
     path, places = build_bad(name, tmp_path)
     before = sha256(path) if path.exists() else None
     out_dir = tmp_path / "out"
-    code, out, err = main(capsys, "convert", path, "--no-simulation", "--json",
-                          "--outdir", out_dir)
+    code, out, err = main(capsys, "convert", path, "--no-simulation", "--json", "--outdir", out_dir)
     assert code == 2
     assert "Traceback" not in err
     problem_lines = [ln for ln in err.splitlines() if re.match(r".*: (error|warning): ", ln)]
@@ -100,8 +99,11 @@ def test_invalid_input_exit_2_places_on_stderr_nothing_written(tmp_path, capsys,
     assert data["ok"] is False
     assert data["input"]["file"] == str(path)
     assert data["input"]["sha256"] == before  # None for the missing file
-    assert {f"{p['sheet']}!{p['cell']}" if p["cell"] else p["sheet"]
-            for p in data["problems"] if p["severity"] == "error"} >= places
+    assert {
+        f"{p['sheet']}!{p['cell']}" if p["cell"] else p["sheet"]
+        for p in data["problems"]
+        if p["severity"] == "error"
+    } >= places
     assert data["activities"] == [] and data["project"] is None
 
 
@@ -122,16 +124,22 @@ def test_all_bad_inputs_in_one_process_never_a_traceback(tmp_path):
 
 
 def test_problem_lines_one_per_problem(tmp_path, capsys):
-    rows = [HEADER, ["A", None, None, 1, 2, 3],
-            ["B", None, "Q", 1, 2, 3],      # C3 missing link
-            ["C", None, "A", "x", 2, 3],    # D4 not a number
-            ["D", None, "A", 1, 2, -3]]     # F5 negative
+    rows = [
+        HEADER,
+        ["A", None, None, 1, 2, 3],
+        ["B", None, "Q", 1, 2, 3],  # C3 missing link
+        ["C", None, "A", "x", 2, 3],  # D4 not a number
+        ["D", None, "A", 1, 2, -3],
+    ]  # F5 negative
     path = write_xlsx(tmp_path / "three.xlsx", {"Activities": rows})
     code, _, err = main(capsys, "convert", path, "--no-simulation")
     assert code == 2
     errors = [ln for ln in err.splitlines() if ": error: " in ln]
     assert sorted(ln.split(": ")[2] for ln in errors) == [
-        "Activities!C3", "Activities!D4", "Activities!F5"]
+        "Activities!C3",
+        "Activities!D4",
+        "Activities!F5",
+    ]
     assert f"{path}: invalid input (3 problem(s)); no workbook written" in err
 
 
@@ -164,8 +172,9 @@ def test_several_inputs_good_ones_converted_exit_is_worst(tmp_path, capsys):
 def test_all_good_exit_zero(tmp_path, capsys):
     good_xlsx(tmp_path / "a.xlsx")
     write_csv(tmp_path / "b.csv", GOOD_ROWS)
-    code, _, err = main(capsys, "convert", tmp_path / "a.xlsx", tmp_path / "b.csv",
-                        "--no-simulation")
+    code, _, err = main(
+        capsys, "convert", tmp_path / "a.xlsx", tmp_path / "b.csv", "--no-simulation"
+    )
     assert code == 0, err
     assert outputs(tmp_path) == ["a.analysis.xlsx", "b.analysis.xlsx"]
 
@@ -192,11 +201,16 @@ def test_outdir_and_output_names(tmp_path, capsys):
     xlsx = good_xlsx(src / "depot plan.xlsx")
     csv_in = write_csv(src / "boiler.v2.csv", GOOD_ROWS)
     out_dir = tmp_path / "results" / "june"  # does not exist yet
-    code, out, err = main(capsys, "convert", xlsx, csv_in, "--outdir", out_dir,
-                          "--no-simulation", "--json")
+    code, out, err = main(
+        capsys, "convert", xlsx, csv_in, "--outdir", out_dir, "--no-simulation", "--json"
+    )
     assert code == 0, err
-    assert outputs(out_dir) == ["boiler.v2.analysis.json", "boiler.v2.analysis.xlsx",
-                                "depot plan.analysis.json", "depot plan.analysis.xlsx"]
+    assert outputs(out_dir) == [
+        "boiler.v2.analysis.json",
+        "boiler.v2.analysis.xlsx",
+        "depot plan.analysis.json",
+        "depot plan.analysis.xlsx",
+    ]
     assert outputs(src) == []  # nothing beside the inputs
     assert f"wrote {out_dir / 'depot plan.analysis.json'}" in out
     assert not [p for p in out_dir.iterdir() if p.name.startswith(".")]  # no temp files left
@@ -213,8 +227,9 @@ def test_input_is_never_modified(tmp_path, capsys):
     path = good_xlsx(tmp_path / "plan.xlsx")
     before, mtime = sha256(path), path.stat().st_mtime_ns
     for _ in range(2):  # a second run replaces the outputs, never the input
-        code, _, _ = main(capsys, "convert", path, "--no-simulation", "--json",
-                          "--outdir", tmp_path)
+        code, _, _ = main(
+            capsys, "convert", path, "--no-simulation", "--json", "--outdir", tmp_path
+        )
         assert code == 0
     assert sha256(path) == before and path.stat().st_mtime_ns == mtime
     assert outputs(tmp_path) == ["plan.analysis.json", "plan.analysis.xlsx"]
@@ -278,10 +293,12 @@ INJECTED = {
 @pytest.mark.parametrize("kind", ["xlsx", "csv"])
 def test_user_text_is_written_as_text_not_formulas(tmp_path, capsys, kind):
     ids, names = INJECTED["ids"], INJECTED["names"]
-    rows = [HEADER] + [
-        [ids[k], names[k], ids[k - 1] if k else None, 1, 2, 3] for k in range(4)]
-    path = (write_xlsx(tmp_path / "inj.xlsx", {"Activities": rows}) if kind == "xlsx"
-            else write_csv(tmp_path / "inj.csv", rows))
+    rows = [HEADER] + [[ids[k], names[k], ids[k - 1] if k else None, 1, 2, 3] for k in range(4)]
+    path = (
+        write_xlsx(tmp_path / "inj.xlsx", {"Activities": rows})
+        if kind == "xlsx"
+        else write_csv(tmp_path / "inj.csv", rows)
+    )
     code, _, err = main(capsys, "convert", path, "--no-simulation")
     assert code == 0, err
     out = tmp_path / "inj.analysis.xlsx"
@@ -326,18 +343,43 @@ def _good_json(tmp_path, capsys, *extra):
 
 def test_json_public_keys(tmp_path, capsys):
     path, data = _good_json(tmp_path, capsys, "--due", "15")
-    assert {"ok", "input", "time_unit", "activity_count", "project", "activities",
-            "problems"} <= set(data)
+    assert {
+        "ok",
+        "input",
+        "time_unit",
+        "activity_count",
+        "project",
+        "activities",
+        "problems",
+    } <= set(data)
     assert data["ok"] is True
     assert set(data["input"]) >= {"file", "sha256"}
     assert data["input"]["sha256"] == sha256(path)
-    assert {"expected_duration", "variance", "sd", "critical_path", "due", "z", "p_meet_due",
-            "duration_at_confidence"} <= set(data["project"])
+    assert {
+        "expected_duration",
+        "variance",
+        "sd",
+        "critical_path",
+        "due",
+        "z",
+        "p_meet_due",
+        "duration_at_confidence",
+    } <= set(data["project"])
     assert set(data["project"]["duration_at_confidence"]) == {"0.5", "0.8", "0.9", "0.95"}
     assert data["activity_count"] == len(data["activities"]) == 4
     for row in data["activities"]:
-        assert {"id", "te", "variance", "es", "ef", "ls", "lf", "total_float", "free_float",
-                "critical"} <= set(row)
+        assert {
+            "id",
+            "te",
+            "variance",
+            "es",
+            "ef",
+            "ls",
+            "lf",
+            "total_float",
+            "free_float",
+            "critical",
+        } <= set(row)
         assert isinstance(row["id"], str) and isinstance(row["critical"], bool)
     assert data["problems"] == []
 
@@ -373,8 +415,12 @@ def test_json_figures_match_hand_working_and_scipy(tmp_path, capsys):
 
 
 def test_json_ids_are_strings_for_numeric_id_cells(tmp_path, capsys):
-    rows = [HEADER, [10, None, None, 1, 2, 3], [20.0, None, 10, 1, 2, 3],
-            [30, None, "10; 20", 2, 2, 2]]
+    rows = [
+        HEADER,
+        [10, None, None, 1, 2, 3],
+        [20.0, None, 10, 1, 2, 3],
+        [30, None, "10; 20", 2, 2, 2],
+    ]
     path = write_xlsx(tmp_path / "num.xlsx", {"Activities": rows})
     code, _, err = main(capsys, "convert", path, "--no-simulation", "--json")
     assert code == 0, err
@@ -382,31 +428,39 @@ def test_json_ids_are_strings_for_numeric_id_cells(tmp_path, capsys):
     assert [a["id"] for a in data["activities"]] == ["10", "20", "30"]
     assert data["project"]["critical_path"] == ["10", "20", "30"]
     # row 4 has O = M = P: a warning (Activities!E4) that does not block
-    assert [(p["severity"], p["code"], p["sheet"], p["cell"], p["activity"])
-            for p in data["problems"]] == [("warning", "deterministic", "Activities", "E4", "30")]
+    assert [
+        (p["severity"], p["code"], p["sheet"], p["cell"], p["activity"]) for p in data["problems"]
+    ] == [("warning", "deterministic", "Activities", "E4", "30")]
 
 
 def test_json_warnings_for_valid_input(tmp_path, capsys):
-    rows = [HEADER, ["A", None, None, 1, 2, 3],
-            ["B", None, "A", None, 4, None],   # only M: E3
-            ["C", None, None, 1, 2, 3]]        # unlinked: C4
+    rows = [
+        HEADER,
+        ["A", None, None, 1, 2, 3],
+        ["B", None, "A", None, 4, None],  # only M: E3
+        ["C", None, None, 1, 2, 3],
+    ]  # unlinked: C4
     path = write_xlsx(tmp_path / "warn.xlsx", {"Activities": rows})
     code, _, err = main(capsys, "convert", path, "--no-simulation", "--json")
     assert code == 0
     assert "warning: Activities!E3" in err and "warning: Activities!C4" in err
     data = json.loads((tmp_path / "warn.analysis.json").read_text(encoding="utf-8"))
     assert data["ok"] is True
-    assert sorted((p["severity"], p["code"], p["cell"], p["activity"])
-                  for p in data["problems"]) == [
-        ("warning", "deterministic", "E3", "B"), ("warning", "no-links", "C4", "C")]
+    assert sorted(
+        (p["severity"], p["code"], p["cell"], p["activity"]) for p in data["problems"]
+    ) == [("warning", "deterministic", "E3", "B"), ("warning", "no-links", "C4", "C")]
     for p in data["problems"]:
         assert set(p) == {"severity", "code", "message", "sheet", "cell", "activity"}
     assert (tmp_path / "warn.analysis.xlsx").is_file()
 
 
 def test_command_line_overrides_settings_sheet_in_json(tmp_path, capsys):
-    settings = [["Setting", "Value"], ["Due", 30], ["Start date", "2025-03-03"],
-                ["Confidence levels", "0.6"]]
+    settings = [
+        ["Setting", "Value"],
+        ["Due", 30],
+        ["Start date", "2025-03-03"],
+        ["Confidence levels", "0.6"],
+    ]
     path = write_xlsx(tmp_path / "s.xlsx", {"Activities": GOOD_ROWS, "Settings": settings})
     code, _, err = main(capsys, "convert", path, "--no-simulation", "--json")
     assert code == 0, err
@@ -414,8 +468,19 @@ def test_command_line_overrides_settings_sheet_in_json(tmp_path, capsys):
     assert data["project"]["due"] == 30
     assert data["start_date"] == "2025-03-03"
     assert set(data["project"]["duration_at_confidence"]) == {"0.6"}
-    code, _, err = main(capsys, "convert", path, "--no-simulation", "--json", "--due", "14",
-                        "--start-date", "2025-04-07", "--confidence", "50%,90%")
+    code, _, err = main(
+        capsys,
+        "convert",
+        path,
+        "--no-simulation",
+        "--json",
+        "--due",
+        "14",
+        "--start-date",
+        "2025-04-07",
+        "--confidence",
+        "50%,90%",
+    )
     assert code == 0, err
     data = json.loads((tmp_path / "s.analysis.json").read_text(encoding="utf-8"))
     assert data["project"]["due"] == 14
@@ -436,8 +501,7 @@ def test_bad_due_option_is_invalid_input_not_a_crash(tmp_path, capsys):
 # --------------------------------------------------------------------------- with simulation
 def test_convert_with_simulation(tmp_path, capsys):
     path = good_xlsx(tmp_path / "sim.xlsx")
-    code, _, err = main(capsys, "convert", path, "--json", "--iterations", "500",
-                        "--seed", "3")
+    code, _, err = main(capsys, "convert", path, "--json", "--iterations", "500", "--seed", "3")
     assert code == 0, err
     data = json.loads((tmp_path / "sim.analysis.json").read_text(encoding="utf-8"))
     assert data["simulation"]["iterations"] == 500
@@ -461,8 +525,11 @@ def test_template_command_writes_once_and_never_overwrites(tmp_path, capsys):
 def test_same_stem_inputs_keep_both_results(tmp_path, capsys):
     xlsx = tmp_path / "plan.xlsx"
     csv = tmp_path / "plan.csv"
-    rows = [["ID", "Predecessors", "Optimistic", "Most likely", "Pessimistic"],
-            ["A", "", 1, 2, 3], ["B", "A", 2, 3, 5]]
+    rows = [
+        ["ID", "Predecessors", "Optimistic", "Most likely", "Pessimistic"],
+        ["A", "", 1, 2, 3],
+        ["B", "A", 2, 3, 5],
+    ]
     wb = openpyxl.Workbook()
     for r in rows:
         wb.active.append(r)
@@ -488,25 +555,36 @@ def test_unwritable_output_folder_is_a_clear_message_not_a_traceback(tmp_path, c
 # --------------------------------------------------------------------------- options
 # The project's issue: "--confidence 50,80,90,95" failed although the help shows the
 # default as 50,80,90,95%; numbers above 1 are percentages, up to 1 fractions.
-@pytest.mark.parametrize("given, keys", [
-    ("50,80,90,95", {"0.5", "0.8", "0.9", "0.95"}),
-    ("50%,80%", {"0.5", "0.8"}),
-    ("0.8", {"0.8"}),
-    ("80", {"0.8"}),
-])
+@pytest.mark.parametrize(
+    "given, keys",
+    [
+        ("50,80,90,95", {"0.5", "0.8", "0.9", "0.95"}),
+        ("50%,80%", {"0.5", "0.8"}),
+        ("0.8", {"0.8"}),
+        ("80", {"0.8"}),
+    ],
+)
 def test_confidence_option_percent_or_fraction(tmp_path, capsys, given, keys):
     _, data = _good_json(tmp_path, capsys, "--confidence", given)
     assert set(data["project"]["duration_at_confidence"]) == keys
     sd = math.sqrt(132 / 36)  # critical path A, B, D as worked above
     for key in keys:  # mean + Phi^-1(c) sd, scipy.stats.norm
         assert data["project"]["duration_at_confidence"][key] == pytest.approx(
-            13 + norm.ppf(float(key)) * sd)
+            13 + norm.ppf(float(key)) * sd
+        )
 
 
-@pytest.mark.parametrize("given, named", [
-    ("0", "0"), ("100", "100"), ("-5", "-5"), ("high", "high"), ("100%", "100%"),
-    ("0.5,80", "80"),
-])
+@pytest.mark.parametrize(
+    "given, named",
+    [
+        ("0", "0"),
+        ("100", "100"),
+        ("-5", "-5"),
+        ("high", "high"),
+        ("100%", "100%"),
+        ("0.5,80", "80"),
+    ],
+)
 def test_bad_confidence_option_is_a_clear_usage_error(tmp_path, capsys, given, named):
     path = good_xlsx(tmp_path / "plan.xlsx")
     code, out, err = main(capsys, "convert", path, "--no-simulation", f"--confidence={given}")
@@ -526,20 +604,61 @@ def test_convert_and_watch_take_the_same_conversion_options():
     convert_opts = _conversion_options(subs["convert"].format_help())
     assert convert_opts == _conversion_options(subs["watch"].format_help())
     # the list the issue names, no more and no fewer
-    assert set(convert_opts) == {"--due", "--json", "--iterations", "--seed", "--distribution",
-                                 "--correlation", "--paths", "--confidence", "--start-date",
-                                 "--no-simulation", "--simulation-memory"}
-    given = ["--due", "2027-06-30", "--json", "--iterations", "500", "--seed", "7",
-             "--distribution", "tri", "--correlation", "25%", "--paths", "4",
-             "--confidence", "50,80", "--start-date", "2027-01-04", "--no-simulation",
-             "--simulation-memory", "512"]
+    assert set(convert_opts) == {
+        "--due",
+        "--json",
+        "--iterations",
+        "--seed",
+        "--distribution",
+        "--correlation",
+        "--paths",
+        "--confidence",
+        "--start-date",
+        "--no-simulation",
+        "--simulation-memory",
+    }
+    given = [
+        "--due",
+        "2027-06-30",
+        "--json",
+        "--iterations",
+        "500",
+        "--seed",
+        "7",
+        "--distribution",
+        "tri",
+        "--correlation",
+        "25%",
+        "--paths",
+        "4",
+        "--confidence",
+        "50,80",
+        "--start-date",
+        "2027-01-04",
+        "--no-simulation",
+        "--simulation-memory",
+        "512",
+    ]
     parser = cli.build_parser()
     from_convert = options_from_args(parser.parse_args(["convert", "x.xlsx", *given]))
     from_watch = options_from_args(parser.parse_args(["watch", "F", *given]))
-    assert from_convert == from_watch == ConvertOptions(
-        due=dt.date(2027, 6, 30), json=True, iterations=500, seed=7, distribution="triangular",
-        correlation=0.25, paths=4, confidence=(0.5, 0.8), start_date=dt.date(2027, 1, 4),
-        simulate=False, simulation_memory_mb=512)
+    assert (
+        from_convert
+        == from_watch
+        == ConvertOptions(
+            due=dt.date(2027, 6, 30),
+            json=True,
+            iterations=500,
+            seed=7,
+            distribution="triangular",
+            correlation=0.25,
+            paths=4,
+            confidence=(0.5, 0.8),
+            start_date=dt.date(2027, 1, 4),
+            simulate=False,
+            simulation_memory_mb=512,
+        )
+    )
     defaults = options_from_args(parser.parse_args(["watch", "F"]))
     assert defaults == options_from_args(parser.parse_args(["convert", "x"])) == ConvertOptions()
 
@@ -573,20 +692,31 @@ def test_package_exports_what_it_names():
 
 
 # --------------------------------------------------------------------------- headline
-@pytest.mark.parametrize("p, text", [
-    (0.9999999975, ">99%"), (0.004, "<1%"), (0.5, "50%"), (1.0, ">99%"), (0.0, "<1%"),
-    (0.995, ">99%"), (0.994, "99%"), (0.005, "1%"), (0.125, "13%"), (None, "-"),
-])
+@pytest.mark.parametrize(
+    "p, text",
+    [
+        (0.9999999975, ">99%"),
+        (0.004, "<1%"),
+        (0.5, "50%"),
+        (1.0, ">99%"),
+        (0.0, "<1%"),
+        (0.995, ">99%"),
+        (0.994, "99%"),
+        (0.005, "1%"),
+        (0.125, "13%"),
+        (None, "-"),
+    ],
+)
 def test_chance_rounded_to_whole_percent_never_0_or_100(p, text):
     # whole percent, half up; a chance that rounds to 0 or 100 is said "<1%" / ">99%"
     # (the project's issue "reviewer-grade output")
-    assert cli.format_chance(p) == text
+    assert terminal.format_chance(p) == text
 
 
 def test_duration_one_decimal_with_unit():
-    assert cli.format_duration(44.2987, "working days") == "44.3 working days"
-    assert cli.format_duration(6.25, "weeks") == "6.2 weeks"  # half to even, as str.format
-    assert cli.format_duration(None, "weeks") == "-"
+    assert terminal.format_duration(44.2987, "working days") == "44.3 working days"
+    assert terminal.format_duration(6.25, "weeks") == "6.2 weeks"  # half to even, as str.format
+    assert terminal.format_duration(None, "weeks") == "-"
 
 
 def _rows(out: str) -> dict[str, list[str]]:
@@ -599,8 +729,10 @@ def _rows(out: str) -> dict[str, list[str]]:
 
 
 def test_headline_critical_path_figures_and_dates(tmp_path, capsys):
-    path = write_xlsx(tmp_path / "dated.xlsx", {
-        "Activities": GOOD_ROWS, "Settings": [["Start date", "2025-03-03"]]})
+    path = write_xlsx(
+        tmp_path / "dated.xlsx",
+        {"Activities": GOOD_ROWS, "Settings": [["Start date", "2025-03-03"]]},
+    )
     code, out, err = main(capsys, "convert", path, "--no-simulation", "--due", "15")
     assert code == 0, err
     rows = _rows(out)
@@ -624,19 +756,26 @@ def test_headline_critical_path_figures_and_dates(tmp_path, capsys):
 
 def test_headline_shows_simulation_beside_critical_path(tmp_path, capsys):
     path = good_xlsx(tmp_path / "sim.xlsx")
-    code, out, err = main(capsys, "convert", path, "--json", "--iterations", "400",
-                          "--seed", "5", "--due", "15")
+    code, out, err = main(
+        capsys, "convert", path, "--json", "--iterations", "400", "--seed", "5", "--due", "15"
+    )
     assert code == 0, err
     data = json.loads((tmp_path / "sim.analysis.json").read_text(encoding="utf-8"))
     sim, project = data["simulation"], data["project"]
     rows = _rows(out)
     assert rows["sim.xlsx"] == ["Simulation", "Critical path"]
-    assert rows["Expected finish"] == [f"{sim['mean']:.1f} working days",
-                                       f"{project['expected_duration']:.1f} working days"]
-    assert rows["P80"] == [f"{sim['percentiles']['0.8']:.1f} working days",
-                           f"{project['duration_at_confidence']['0.8']:.1f} working days"]
+    assert rows["Expected finish"] == [
+        f"{sim['mean']:.1f} working days",
+        f"{project['expected_duration']:.1f} working days",
+    ]
+    assert rows["P80"] == [
+        f"{sim['percentiles']['0.8']:.1f} working days",
+        f"{project['duration_at_confidence']['0.8']:.1f} working days",
+    ]
     assert rows["Chance to finish by 15.0 working days"] == [
-        cli.format_chance(sim["p_meet_due"]), cli.format_chance(project["p_meet_due"])]
+        terminal.format_chance(sim["p_meet_due"]),
+        terminal.format_chance(project["p_meet_due"]),
+    ]
     failed = sum(1 for c in data["checks"] if not c["passed"])
     assert rows["Health checks failed"] == [f"{failed} of {len(data['checks'])}"]
     assert f"{path}: wrote {tmp_path / 'sim.analysis.json'}" in out
@@ -662,7 +801,8 @@ def test_redirected_output_has_no_control_codes(tmp_path, monkeypatch):
         assert "\x1b" not in stream and "\r" not in stream
     assert "Expected finish" in r.stdout and "Chance to finish by 14.0 working days" in r.stdout
     assert f"wrote {tmp_path / 'a-rather-long-schedule-name-for-wrapping.analysis.xlsx'}" in (
-        r.stdout)
+        r.stdout
+    )
 
 
 def test_progress_bar_only_on_a_terminal_and_taken_down(tmp_path):
@@ -671,13 +811,13 @@ def test_progress_bar_only_on_a_terminal_and_taken_down(tmp_path):
     from rich.console import Console
 
     screen = StringIO()
-    bar = cli.SimulationProgress(Console(file=screen, force_terminal=True, width=60), delay=0)
+    bar = terminal.SimulationProgress(Console(file=screen, force_terminal=True, width=60), delay=0)
     with bar:
         bar(0, 10)
         bar(5, 10)
         assert bar.bar is not None
     assert bar.bar is None and "simulating" in screen.getvalue()
-    quiet = cli.SimulationProgress(Console(file=StringIO(), force_terminal=True), delay=3600)
+    quiet = terminal.SimulationProgress(Console(file=StringIO(), force_terminal=True), delay=3600)
     quiet(5, 10)  # under the delay: nothing drawn
     assert quiet.bar is None
 

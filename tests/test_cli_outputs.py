@@ -44,9 +44,16 @@ def run(*args: object, umask: int | None = None, cwd: Path | None = None):
     env = dict(os.environ)
     env["PYTHONPATH"] = str(REPO) + os.pathsep + env.get("PYTHONPATH", "")
     kw = {} if umask is None else {"umask": umask}
-    return subprocess.run([sys.executable, "-m", "converter", *map(str, args)], cwd=cwd,
-                          env=env, capture_output=True, text=True, timeout=HANG_GUARD,
-                          check=False, **kw)
+    return subprocess.run(
+        [sys.executable, "-m", "converter", *map(str, args)],
+        cwd=cwd,
+        env=env,
+        capture_output=True,
+        text=True,
+        timeout=HANG_GUARD,
+        check=False,
+        **kw,
+    )
 
 
 def mode(path: Path) -> int:
@@ -69,8 +76,7 @@ def test_pipe_and_device_are_refused_before_opening(tmp_path):
     assert "plan.xlsx is a character device (through a symbolic link)" in done.stderr
     assert "Traceback" not in done.stderr
 
-    done = run("convert", "plan.csv", "plan.xlsx", "linked.xlsx", "--no-simulation",
-               cwd=tmp_path)
+    done = run("convert", "plan.csv", "plan.xlsx", "linked.xlsx", "--no-simulation", cwd=tmp_path)
     assert done.returncode == 2, done.stderr
     assert "plan.csv: invalid input (1 problem(s)); no workbook written" in done.stderr
     assert "plan.xlsx: invalid input (1 problem(s)); no workbook written" in done.stderr
@@ -89,8 +95,10 @@ def test_an_output_never_replaces_an_input_of_the_run(tmp_path, capsys):
     before = sha256(theirs)
     code, out, err = main(capsys, "convert", plan, theirs, "--outdir", d, "--no-simulation")
     assert code == 2
-    assert (f"{plan}: not converted: its result {d / 'x.analysis.xlsx'} would replace "
-            f"{theirs}, an input of this run") in err
+    assert (
+        f"{plan}: not converted: its result {d / 'x.analysis.xlsx'} would replace "
+        f"{theirs}, an input of this run"
+    ) in err
     assert sha256(theirs) == before
     assert (d / "x.analysis.analysis.xlsx").exists()  # the other input is converted
     assert f"{plan}: wrote" not in out
@@ -129,8 +137,9 @@ def test_every_input_of_a_run_gets_its_own_result(tmp_path, capsys):
     # README "Command line": the first keeps <stem>, later ones <stem>-<ext>, -<ext>-2, ...
     expected = ["plan", "plan-xlsx", "plan-csv", "plan-xlsx-2"]
     for _ in range(2):  # deterministic: the same names on a second run
-        code, out, err = main(capsys, "convert", *given, "--outdir", out_dir,
-                              "--no-simulation", "--json")
+        code, out, err = main(
+            capsys, "convert", *given, "--outdir", out_dir, "--no-simulation", "--json"
+        )
         assert code == 0, err
         for path, stem in zip(given, expected):
             data = json.loads((out_dir / f"{stem}.analysis.json").read_text(encoding="utf-8"))
@@ -148,8 +157,9 @@ def test_long_input_names_give_results_that_fit(tmp_path, capsys):
     paths = [good_xlsx(tmp_path / f"{long_stem}.xlsx"), good_xlsx(tmp_path / f"{sibling}.xlsx")]
     if sys.getfilesystemencoding().lower().replace("-", "") == "utf8":
         paths.append(write_csv(tmp_path / f"{wide}.csv", GOOD_ROWS))
-    code, _, err = main(capsys, "convert", *paths, "--outdir", tmp_path / "out",
-                        "--no-simulation", "--json")
+    code, _, err = main(
+        capsys, "convert", *paths, "--outdir", tmp_path / "out", "--no-simulation", "--json"
+    )
     assert code == 0, err
     results = sorted(p.name for p in (tmp_path / "out").iterdir())
     assert len(results) == 2 * len(paths)
@@ -197,8 +207,7 @@ def test_outputs_get_the_ordinary_mode_under_the_umask(tmp_path, umask):
     good = good_xlsx(tmp_path / "plan.xlsx")
     bad = write_csv(tmp_path / "bad.csv", [GOOD_ROWS[0], ["A", "a", "Q7", 1, 2, 3]])
     out_dir = tmp_path / "out"
-    done = run("convert", good, bad, "--outdir", out_dir, "--no-simulation", "--json",
-               umask=umask)
+    done = run("convert", good, bad, "--outdir", out_dir, "--no-simulation", "--json", umask=umask)
     assert done.returncode == 2, done.stderr
     done = run("template", tmp_path / "blank.xlsx", umask=umask)
     assert done.returncode == 0, done.stderr

@@ -45,8 +45,23 @@ def test_readme_set_up_commands_match_ci():
 
 
 def test_json_keys_documented():
-    for key in ("expected_duration", "critical_path", "p_meet_due", "duration_at_confidence",
-                "p_meet_due_all_paths", "std_error_mean", "p_meet_due_std_error",
-                "merge_bias", "criticality", "sensitivity", "early_start_date", "links",
-                "targets", "checks", "problems", "start_date", "calendar"):
+    for key in (
+        "expected_duration",
+        "critical_path",
+        "p_meet_due",
+        "duration_at_confidence",
+        "p_meet_due_all_paths",
+        "std_error_mean",
+        "p_meet_due_std_error",
+        "merge_bias",
+        "criticality",
+        "sensitivity",
+        "early_start_date",
+        "links",
+        "targets",
+        "checks",
+        "problems",
+        "start_date",
+        "calendar",
+    ):
         assert f'"{key}"' in README, key

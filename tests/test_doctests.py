@@ -57,7 +57,10 @@ KEY_ALGORITHMS = {
     "converter.analyse.simulate.runs.simulate": ("Parameters", "Returns", "References"),
     "converter.analyse.simulate.sampling.beta_cheng": ("Parameters", "Returns", "References"),
     "converter.analyse.simulate.correlation.induce_rank_correlation": (
-        "Parameters", "Returns", "References"),
+        "Parameters",
+        "Returns",
+        "References",
+    ),
     "converter.analyse.simulate.ranks.spearman_rows": ("Parameters", "Returns", "References"),
 }
 

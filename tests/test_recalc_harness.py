@@ -192,8 +192,9 @@ def test_recalc_setting_is_what_forces_recalculation(tmp_path, libreoffice):
     forced = compare_recalculated(src, libreoffice.recalculate(src, tmp_path / "on"))
     assert [m.split(":")[0] for m in forced] == ["S!A2"]
     assert "recalculated 6" in forced[0]
-    with LibreOffice(libreoffice.soffice, recalc_mode=RECALC_NEVER,
-                     backend=libreoffice.backend) as never_office:
+    with LibreOffice(
+        libreoffice.soffice, recalc_mode=RECALC_NEVER, backend=libreoffice.backend
+    ) as never_office:
         never = compare_recalculated(src, never_office.recalculate(src, tmp_path / "off"))
     assert list(never) == [] and never.compared == 1
 

@@ -45,8 +45,9 @@ def test_too_many_iterations_for_the_budget_is_exit_2_naming_the_largest(tmp_pat
     before = sha256(path)
     largest = budget.largest_iterations(4, memory_mb=SMALL_MB)
     assert 2 <= largest < REFUSED
-    code, _, err = main(capsys, "convert", path, "--json", "--iterations", REFUSED,
-                        "--simulation-memory", SMALL_MB)
+    code, _, err = main(
+        capsys, "convert", path, "--json", "--iterations", REFUSED, "--simulation-memory", SMALL_MB
+    )
     assert code == 2, err
     assert f"at most {largest:,} iterations fit" in err and "Traceback" not in err
     assert not (tmp_path / "plan.analysis.xlsx").exists()  # no result for refused input
@@ -55,14 +56,24 @@ def test_too_many_iterations_for_the_budget_is_exit_2_naming_the_largest(tmp_pat
     assert [p["code"] for p in data["problems"]] == ["simulation-memory"]
     assert sha256(path) == before
     # the same schedule without the simulation needs no budget
-    code, _, err = main(capsys, "convert", path, "--iterations", REFUSED,
-                        "--simulation-memory", SMALL_MB, "--no-simulation")
+    code, _, err = main(
+        capsys,
+        "convert",
+        path,
+        "--iterations",
+        REFUSED,
+        "--simulation-memory",
+        SMALL_MB,
+        "--no-simulation",
+    )
     assert code == 0, err
 
 
 def test_check_names_the_iterations_cell_of_the_settings_sheet(tmp_path):
-    path = write_xlsx(tmp_path / "plan.xlsx", {
-        "Activities": GOOD_ROWS, "Settings": [["Setting", "Value"], ["Iterations", REFUSED]]})
+    path = write_xlsx(
+        tmp_path / "plan.xlsx",
+        {"Activities": GOOD_ROWS, "Settings": [["Setting", "Value"], ["Iterations", REFUSED]]},
+    )
     result = check(path, ConvertOptions(simulation_memory_mb=SMALL_MB))
     assert result.exit_code == 2
     (problem,) = result.problems
@@ -92,12 +103,15 @@ def test_a_refusal_during_the_run_is_a_problem_not_a_fault(tmp_path, monkeypatch
     import converter.analyse.analysis as analysis
 
     def refuse(schedule, options):
-        raise SimulationMemoryError("the simulation needs more", largest_iterations=700,
-                                    needed_mb=99, budget_mb=SMALL_MB)
+        raise SimulationMemoryError(
+            "the simulation needs more", largest_iterations=700, needed_mb=99, budget_mb=SMALL_MB
+        )
 
     monkeypatch.setattr(analysis, "analyse", refuse)
-    path = write_xlsx(tmp_path / "plan.xlsx", {
-        "Activities": GOOD_ROWS, "Settings": [["Setting", "Value"], ["Iterations", 900]]})
+    path = write_xlsx(
+        tmp_path / "plan.xlsx",
+        {"Activities": GOOD_ROWS, "Settings": [["Setting", "Value"], ["Iterations", 900]]},
+    )
     result = convert(path, ConvertOptions(json=True))
     assert result.exit_code == 2 and result.workbook is None
     (problem,) = result.problems
@@ -108,8 +122,18 @@ def test_a_refusal_during_the_run_is_a_problem_not_a_fault(tmp_path, monkeypatch
 
 def test_sampled_sensitivities_are_stated_on_the_sheet_and_in_the_json(tmp_path, capsys):
     path = good_xlsx(tmp_path / "plan.xlsx")
-    code, _, err = main(capsys, "convert", path, "--json", "--iterations", SAMPLED,
-                        "--seed", "5", "--simulation-memory", SMALL_MB)
+    code, _, err = main(
+        capsys,
+        "convert",
+        path,
+        "--json",
+        "--iterations",
+        SAMPLED,
+        "--seed",
+        "5",
+        "--simulation-memory",
+        SMALL_MB,
+    )
     assert code == 0, err
     sim = json.loads((tmp_path / "plan.analysis.json").read_text(encoding="utf-8"))["simulation"]
     k = sim["sensitivity_iterations"]
@@ -117,13 +141,19 @@ def test_sampled_sensitivities_are_stated_on_the_sheet_and_in_the_json(tmp_path,
     se = math.sqrt(1.06 / (k - 3))  # Fieller, Hartley & Pearson (1957)
     assert sim["sensitivity_std_error"] == pytest.approx(se, rel=1e-12)
     ws = openpyxl.load_workbook(tmp_path / "plan.analysis.xlsx")["Simulation"]
-    found = [(c.row, c.value) for row in ws.iter_rows() for c in row
-             if isinstance(c.value, str) and c.value.startswith("Sensitivities from")]
+    found = [
+        (c.row, c.value)
+        for row in ws.iter_rows()
+        for c in row
+        if isinstance(c.value, str) and c.value.startswith("Sensitivities from")
+    ]
     assert len(found) == 1
     row, text = found[0]
-    assert text == (f"Sensitivities from the first {k:,} of {SAMPLED:,} iterations (memory "
-                    f"budget {SMALL_MB} MB); standard error about ±{se:.2g} near 0 "
-                    "(Fieller, Hartley & Pearson 1957)")
+    assert text == (
+        f"Sensitivities from the first {k:,} of {SAMPLED:,} iterations (memory "
+        f"budget {SMALL_MB} MB); standard error about ±{se:.2g} near 0 "
+        "(Fieller, Hartley & Pearson 1957)"
+    )
     assert ws.row_dimensions[row].height == row_height([(text, merged_width(WIDTHS[1:]))])
 
 
@@ -135,5 +165,8 @@ def test_every_iteration_used_leaves_the_outputs_as_they_were(tmp_path, capsys):
     sim = json.loads((tmp_path / "plan.analysis.json").read_text(encoding="utf-8"))["simulation"]
     assert "sensitivity_iterations" not in sim and "sensitivity_std_error" not in sim
     ws = openpyxl.load_workbook(tmp_path / "plan.analysis.xlsx")["Simulation"]
-    assert not any(isinstance(c.value, str) and c.value.startswith("Sensitivities from")
-                   for row in ws.iter_rows() for c in row)
+    assert not any(
+        isinstance(c.value, str) and c.value.startswith("Sensitivities from")
+        for row in ws.iter_rows()
+        for c in row
+    )

@@ -27,6 +27,7 @@ STAGES: tuple[str, ...] = (
     "write",
     "api",
     "drop",
+    "terminal",
     "cli",
 )
 

@@ -39,6 +39,7 @@ from converter.model import Schedule
 if TYPE_CHECKING:
     from converter.analyse.simulate.runs import SimulationResult
 
+
 @dataclass
 class PathResult:
     """A near-critical path with its probability of meeting the due date."""
@@ -121,7 +122,8 @@ class Analysis:
         if self.p_meet_due is None:
             return []
         return [
-            k for k, pr in enumerate(self.paths[1:], start=1)
+            k
+            for k, pr in enumerate(self.paths[1:], start=1)
             if pr.p_meet_due is not None and pr.p_meet_due < self.p_meet_due - 1e-12
         ]
 
@@ -166,8 +168,9 @@ class Analysis:
             h["simulated_finish_date"] = date(sim.mean)
             for level in levels:
                 key = f"simulated_p{round(level * 100)}"
-                value = (sim.percentiles[level] if level in sim.percentiles
-                         else sim.percentile(level))
+                value = (
+                    sim.percentiles[level] if level in sim.percentiles else sim.percentile(level)
+                )
                 h[key], h[f"{key}_date"] = round(value, 6), date(value)
         h["checks"] = len(self.checks)
         h["failed_checks"] = sum(1 for c in self.checks if not c.passed)
@@ -213,8 +216,13 @@ def analyse(schedule: Schedule, options=None) -> Analysis:
         if due is None:
             path_results.append(PathResult(path, None, None))
         else:
-            path_results.append(PathResult(path, pert.z_score(due, path.mean, path.sd),
-                                           pert.p_meet(due, path.mean, path.sd)))
+            path_results.append(
+                PathResult(
+                    path,
+                    pert.z_score(due, path.mean, path.sd),
+                    pert.p_meet(due, path.mean, path.sd),
+                )
+            )
     critical = found[0]
     project_mean = float(cpm.finish)
     project_variance = float(critical.variance)
@@ -238,12 +246,30 @@ def analyse(schedule: Schedule, options=None) -> Analysis:
 
     unit_days = days_per_unit(s.time_unit, s.working_days)
     a = Analysis(
-        schedule=schedule, net=net, ids=ids, o=o, m=m, p=p, te=te, var=var, cpm=cpm,
-        paths=path_results, project_mean=project_mean, project_variance=project_variance,
-        due=due, due_date=due_date, z=z, p_meet_due=p_due, confidence=confidence,
-        calendar=calendar, simulation=simulation,
+        schedule=schedule,
+        net=net,
+        ids=ids,
+        o=o,
+        m=m,
+        p=p,
+        te=te,
+        var=var,
+        cpm=cpm,
+        paths=path_results,
+        project_mean=project_mean,
+        project_variance=project_variance,
+        due=due,
+        due_date=due_date,
+        z=z,
+        p_meet_due=p_due,
+        confidence=confidence,
+        calendar=calendar,
+        simulation=simulation,
         checks=run_checks(ids, o, m, p, net, cpm, days_per_unit=unit_days),
-        targets=targets, path_count=count_paths(net), tied_longest=tied, p_all_paths=p_all,
+        targets=targets,
+        path_count=count_paths(net),
+        tied_longest=tied,
+        p_all_paths=p_all,
         link_push=driving_push(net, cpm.es, cpm.ef, te),
         link_pull=link_pull(net, cpm.ls, cpm.lf, te),
         link_driving=np.abs(cpm.link_slack) <= tol,
@@ -253,8 +279,9 @@ def analyse(schedule: Schedule, options=None) -> Analysis:
     return a
 
 
-def _targets(acts, net: Network, te, var, cpm: CpmResult,
-             calendar: Calendar | None) -> list[TargetResult]:
+def _targets(
+    acts, net: Network, te, var, cpm: CpmResult, calendar: Calendar | None
+) -> list[TargetResult]:
     """Interim targets: each activity's finish against its target on its longest path."""
     targets: list[TargetResult] = []
     for i, act in enumerate(acts):
@@ -266,13 +293,25 @@ def _targets(acts, net: Network, te, var, cpm: CpmResult,
         to_it = k_longest_paths(net, te, var, 1, ends=ends)
         v = to_it[0].variance if to_it else 0.0
         mean_i = float(cpm.ef[i])
-        targets.append(TargetResult(i, t_off, t_date, mean_i, v,
-                                    pert.p_meet(t_off, mean_i, math.sqrt(v)), None))
+        targets.append(
+            TargetResult(
+                i, t_off, t_date, mean_i, v, pert.p_meet(t_off, mean_i, math.sqrt(v)), None
+            )
+        )
     return targets
 
 
-def _simulate(schedule: Schedule, net: Network, o, m, p, due, targets: list[TargetResult],
-              project_mean: float, options) -> SimulationResult:
+def _simulate(
+    schedule: Schedule,
+    net: Network,
+    o,
+    m,
+    p,
+    due,
+    targets: list[TargetResult],
+    project_mean: float,
+    options,
+) -> SimulationResult:
     """The Monte Carlo run; fills each target's simulated chance."""
     from converter.analyse.simulate.runs import simulate
 
@@ -280,7 +319,10 @@ def _simulate(schedule: Schedule, net: Network, o, m, p, due, targets: list[Targ
     dists = [a.distribution for a in schedule.activities]
     groups = [a.group for a in schedule.activities]
     simulation = simulate(
-        net, o, m, p,
+        net,
+        o,
+        m,
+        p,
         distribution=s.distribution,
         distributions=dists if any(dists) else None,
         groups=groups if any(groups) else None,
@@ -314,5 +356,6 @@ def _add_figures(a: Analysis) -> None:
         a.confidence_dates = {c: cal.finish_date(v) for c, v in a.confidence.items()}
         a.activity_dates = figures.activity_dates(cal, a.cpm)
     a.timeline, a.timeline_cut = figures.timeline_rows(
-        len(a.ids), [pr.path.activities for pr in a.paths], a.cpm.total_float)
+        len(a.ids), [pr.path.activities for pr in a.paths], a.cpm.total_float
+    )
     a.timeline_bars = figures.timeline_bars(a.timeline, a.cpm, a.te, a.activity_dates)

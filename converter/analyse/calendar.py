@@ -307,7 +307,10 @@ class Calendar:
         return f"IF({x}>0,ROUNDUP({x},0)-1,INT({x}))"
 
     def start_date_formula(
-        self, offset_ref: str, start_ref: str, holidays_ref: str | None = None,
+        self,
+        offset_ref: str,
+        start_ref: str,
+        holidays_ref: str | None = None,
         finish_ref: str | None = None,
     ) -> str:
         """Formula text (no leading "=") giving :meth:`start_date` of the offset in ``offset_ref``.
@@ -336,8 +339,7 @@ class Calendar:
         As :meth:`start_date_formula` with the step count
         ``IF(x>0,ROUNDUP(x,0)-1,INT(x))`` where ``x = ROUND(T,9)`` (``T*days`` for weeks).
         """
-        return self._day_formula(self._finish_steps_formula(offset_ref), start_ref,
-                                 holidays_ref)
+        return self._day_formula(self._finish_steps_formula(offset_ref), start_ref, holidays_ref)
 
     def offset_of_formula(
         self, date_ref: str, start_ref: str, holidays_ref: str | None = None

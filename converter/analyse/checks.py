@@ -34,7 +34,6 @@ from converter.model import FS, LINK_TYPES
 LOGIC, ESTIMATES, STRUCTURE = "logic", "estimates", "structure"
 
 
-
 @dataclass(frozen=True)
 class Source:
     """A published source the checks cite: ``short`` in a table cell, ``full`` once below."""
@@ -89,8 +88,11 @@ SEQUENCING = "sequencing all activities"
 
 
 def _dcma(check: int, name: str, best_practice: int, practice: str) -> tuple[Citation, ...]:
-    return (Citation(DCMA, f"check {check} ({name})"),
-            Citation(GAO, f"best practice {best_practice} ({practice})", why=True))
+    return (
+        Citation(DCMA, f"check {check} ({name})"),
+        Citation(GAO, f"best practice {best_practice} ({practice})", why=True),
+    )
+
 
 #: DCMA "high float" and "high duration" limit, in working days.
 LONG_DAYS = 44.0
@@ -355,9 +357,10 @@ def _estimate_checks(ids: list[str], o: np.ndarray, m: np.ndarray, p: np.ndarray
             out_of=n,
             matters="An activity without a range adds no uncertainty, so the simulated "
             "spread of the finish is too narrow if its duration is really uncertain.",
-            cited=(Citation(COMMON),
-                   Citation(GAO, "best practice 8 (conducting a schedule risk analysis)",
-                            why=True)),
+            cited=(
+                Citation(COMMON),
+                Citation(GAO, "best practice 8 (conducting a schedule risk analysis)", why=True),
+            ),
             detail="milestones (O = M = P = 0) are not counted",
         ),
         Check(
@@ -398,8 +401,10 @@ def _structure_checks(ids: list[str], net: Network, cpm: CpmResult) -> list[Chec
     groups = sorted(nx.connected_components(g), key=lambda c: (-len(c), min(c)))
     outside_main = sorted(i for c in groups[1:] for i in c)
     sizes = ", ".join(str(len(c)) for c in groups)
-    closed = (Citation(COMMON, "one start and one finish"),
-              Citation(GAO, f"best practice 2 ({SEQUENCING})", why=True))
+    closed = (
+        Citation(COMMON, "one start and one finish"),
+        Citation(GAO, f"best practice 2 ({SEQUENCING})", why=True),
+    )
     return [
         Check(
             key="extra_starts",
@@ -437,8 +442,10 @@ def _structure_checks(ids: list[str], net: Network, cpm: CpmResult) -> list[Chec
             out_of=n,
             matters="Activities not linked to the main network cannot affect its finish, "
             "so their risk is missing from the analysis.",
-            cited=(Citation(COMMON, "one connected network"),
-                   Citation(GAO, "best practice 5 (horizontal traceability)", why=True)),
+            cited=(
+                Citation(COMMON, "one connected network"),
+                Citation(GAO, "best practice 5 (horizontal traceability)", why=True),
+            ),
             detail=f"{len(groups)} group(s) of sizes {sizes}; activities outside the largest "
             "are listed"
             if groups

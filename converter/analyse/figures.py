@@ -94,8 +94,12 @@ def finish_table(
     durations = [round(start + k * step, 10) for k in range(count)]
     dates = _finish_dates(calendar, durations)
     return [
-        FinishRow(t, pert.p_meet(t, mean, sd),
-                  simulation.p_finish_by(t) if simulation is not None else None, d)
+        FinishRow(
+            t,
+            pert.p_meet(t, mean, sd),
+            simulation.p_finish_by(t) if simulation is not None else None,
+            d,
+        )
         for t, d in zip(durations, dates, strict=True)
     ]
 
@@ -260,8 +264,13 @@ class TimelineBars:
     marker: float = 1.0
 
 
-def timeline_bars(rows: list[int], cpm: CpmResult, te, dates: ActivityDates | None,
-                  epoch: dt.date = dt.date(1899, 12, 30)) -> TimelineBars:
+def timeline_bars(
+    rows: list[int],
+    cpm: CpmResult,
+    te,
+    dates: ActivityDates | None,
+    epoch: dt.date = dt.date(1899, 12, 30),
+) -> TimelineBars:
     """Bars for the activities ``rows`` (see :class:`TimelineBars`).
 
     ``epoch`` is day 0 of the spreadsheet's serial dates (the 1900 date system).
@@ -279,15 +288,16 @@ def timeline_bars(rows: list[int], cpm: CpmResult, te, dates: ActivityDates | No
             start=[float(cpm.es[i]) for i in rows],
             length=[float(te[i]) for i in rows],
             float_=[max(0.0, float(cpm.total_float[i])) for i in rows],
-            dates=False)
+            dates=False,
+        )
     else:
         es, ef, lf = dates.early_start, dates.early_finish, dates.late_finish
         bars = TimelineBars(
             start=[float((es[i] - epoch).days) for i in rows],
-            length=[float(max(0, (ef[i] - es[i]).days + 1)) if te[i] > 0 else 0.0
-                    for i in rows],
+            length=[float(max(0, (ef[i] - es[i]).days + 1)) if te[i] > 0 else 0.0 for i in rows],
             float_=[float(max(0, (lf[i] - ef[i]).days)) for i in rows],
-            dates=True)
+            dates=True,
+        )
     ends = [s + n + f for s, n, f in zip(bars.start, bars.length, bars.float_, strict=True)]
     span = (max(ends) - min(bars.start)) if rows else 0.0
     bars.marker = round(max(span / 80.0, 1.0 if bars.dates else 0.5), 2)

@@ -227,7 +227,7 @@ def forward_pass(net: Network, d: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     x = np.empty((2 * net.n, dd.shape[1]))
     nonneg = bool(dd.min() >= 0.0) if dd.size else True
     forward_into(net.plan, dd, x, nonneg)
-    es, ef = x[: net.n], x[net.n:]
+    es, ef = x[: net.n], x[net.n :]
     return (es[:, 0], ef[:, 0]) if d.ndim == 1 else (es, ef)
 
 
@@ -276,7 +276,7 @@ def backward_pass(
     y = np.empty((2 * net.n, cols))
     nonneg = bool(dd.min() >= 0.0) if dd.size else True
     backward_into(net.plan, dd, anchor, y, nonneg)
-    ls, lf = y[: net.n], y[net.n:]
+    ls, lf = y[: net.n], y[net.n :]
     return (ls[:, 0], lf[:, 0]) if d.ndim == 1 else (ls, lf)
 
 

@@ -156,8 +156,9 @@ def forward_into(plan: PassPlan, d: np.ndarray, x: np.ndarray, nonneg: bool) -> 
         x[n + st.nodes] = acc
 
 
-def backward_into(plan: PassPlan, d: np.ndarray, finish: np.ndarray, y: np.ndarray,
-              nonneg: bool) -> None:
+def backward_into(
+    plan: PassPlan, d: np.ndarray, finish: np.ndarray, y: np.ndarray, nonneg: bool
+) -> None:
     """Late starts into ``y[:n]`` and late finishes into ``y[n:]``, anchored per column."""
     n, cols = plan.n, d.shape[1]
     y[n:] = finish

@@ -191,20 +191,35 @@ def _candidates(search: _Search, labels: _Labels, step) -> _Candidates:
     cand = _Candidates(
         mean=labels.mean[sj, xs, ms] + net.lag[lk] + coef * search.te[sj],
         var=labels.vari[sj, xs, ms] + (coef * coef) * search.var[sj],
-        node=net.pred[lk], state=search.out_state[lk], next_node=sj,
-        next_act_rank=labels.act_rank[sj, xs, ms], link=lk,
-        next_full_rank=labels.full_rank[sj, xs, ms], next_state=xs, next_slot=ms,
+        node=net.pred[lk],
+        state=search.out_state[lk],
+        next_node=sj,
+        next_act_rank=labels.act_rank[sj, xs, ms],
+        link=lk,
+        next_full_rank=labels.full_rank[sj, xs, ms],
+        next_state=xs,
+        next_slot=ms,
     )
     ends = step.nodes[search.can_end[step.nodes]]
     if ends.size:
         zero_i = np.zeros(ends.size, dtype=np.int64)
         minus = zero_i - 1
         zero_f = np.zeros(ends.size)
-        extra = dict(mean=zero_f, var=zero_f, node=ends, state=zero_i, next_node=minus,
-                     next_act_rank=minus, link=minus, next_full_rank=minus,
-                     next_state=zero_i, next_slot=zero_i)
-        cand = _Candidates(**{name: np.concatenate((getattr(cand, name), extra[name]))
-                              for name in extra})
+        extra = dict(
+            mean=zero_f,
+            var=zero_f,
+            node=ends,
+            state=zero_i,
+            next_node=minus,
+            next_act_rank=minus,
+            link=minus,
+            next_full_rank=minus,
+            next_state=zero_i,
+            next_slot=zero_i,
+        )
+        cand = _Candidates(
+            **{name: np.concatenate((getattr(cand, name), extra[name])) for name in extra}
+        )
     return cand
 
 
@@ -269,8 +284,14 @@ def _best_starts(search: _Search, labels: _Labels, can_start: np.ndarray):
     coef = 1 - xs
     p_mean = labels.mean[node, xs, ms] + coef * search.te[node]
     p_var = labels.vari[node, xs, ms] + (coef * coef) * search.var[node]
-    order = np.lexsort((labels.full_rank[node, xs, ms], node,
-                        -np.round(p_var / search.q_var), -np.round(p_mean / search.q_mean)))
+    order = np.lexsort(
+        (
+            labels.full_rank[node, xs, ms],
+            node,
+            -np.round(p_var / search.q_var),
+            -np.round(p_mean / search.q_mean),
+        )
+    )
     return [(int(node[i]), int(xs[i]), int(ms[i])) for i in order[: search.k]]
 
 
@@ -332,15 +353,23 @@ def k_longest_paths(
         can_end = np.asarray(ends, dtype=bool).reshape(-1)
     enters, leaves_start = _entry_exit(net)
     search = _Search(
-        net=net, te=te, var=var, k=k, can_end=can_end, enters_i=enters.astype(np.int64),
-        out_state=leaves_start.astype(np.int64), q_mean=critical_tolerance(finish),
+        net=net,
+        te=te,
+        var=var,
+        k=k,
+        can_end=can_end,
+        enters_i=enters.astype(np.int64),
+        out_state=leaves_start.astype(np.int64),
+        q_mean=critical_tolerance(finish),
         q_var=critical_tolerance(float(var.sum())),
     )
     labels = _Labels.empty(n, k, can_end)
     for step in net.backward_steps:  # links grouped by the height of their predecessor
         _keep_best(search, labels, step, _candidates(search, labels, step))
-    return [_trace(net, te, var, start, labels, enters, leaves_start)
-            for start in _best_starts(search, labels, can_start)]
+    return [
+        _trace(net, te, var, start, labels, enters, leaves_start)
+        for start in _best_starts(search, labels, can_start)
+    ]
 
 
 def _run_lengths(first: np.ndarray) -> np.ndarray:
@@ -365,8 +394,10 @@ def _trace(
         link = int(labels.nxt_link[node, state, slot])
         if link < 0:
             break
-        state, slot = (int(labels.nxt_state[node, state, slot]),
-                       int(labels.nxt_slot[node, state, slot]))
+        state, slot = (
+            int(labels.nxt_state[node, state, slot]),
+            int(labels.nxt_slot[node, state, slot]),
+        )
         node = int(net.succ[link])
         links.append(link)
         activities.append(node)

@@ -32,31 +32,67 @@ def add_watch_arguments(parser: argparse.ArgumentParser) -> None:
     ('drop', True, 5.0, 60.0, 60.0, 60.0)
     """
     parser.add_argument("folder", metavar="FOLDER", help="the drop folder (created if missing)")
-    parser.add_argument("--interval", type=float, default=5.0, metavar="SECONDS",
-                        help="seconds between polls (default %(default)g)")
-    parser.add_argument("--once", action="store_true",
-                        help="process what is in the inbox, then exit, for cron or a scheduled "
-                             "task (without it: keep watching)")
-    parser.add_argument("--workers", type=int, default=None, metavar="N",
-                        help="conversions in parallel; 0 converts in this process "
-                             f"(default one per CPU: {os.cpu_count() or 1} here)")
+    parser.add_argument(
+        "--interval",
+        type=float,
+        default=5.0,
+        metavar="SECONDS",
+        help="seconds between polls (default %(default)g)",
+    )
+    parser.add_argument(
+        "--once",
+        action="store_true",
+        help="process what is in the inbox, then exit, for cron or a scheduled "
+        "task (without it: keep watching)",
+    )
+    parser.add_argument(
+        "--workers",
+        type=int,
+        default=None,
+        metavar="N",
+        help="conversions in parallel; 0 converts in this process "
+        f"(default one per CPU: {os.cpu_count() or 1} here)",
+    )
     for part in PARTS:
-        parser.add_argument(f"--{part}", default=part, metavar="NAME",
-                            help=f"name of the {part} folder inside FOLDER "
-                                 "(default %(default)s)")
-    parser.add_argument("--log", default=None, metavar="FILE",
-                        help="log file, or 'none' for no file (default FOLDER/pertbook.log)")
-    parser.add_argument("--once-wait", type=float, default=60.0, metavar="SECONDS",
-                        help="with --once, how long to wait for files still being written "
-                             "(default %(default)g)")
-    parser.add_argument("--max-backoff", type=float, default=60.0, metavar="SECONDS",
-                        help="longest wait between retries when a folder cannot be used "
-                             "(default %(default)g)")
-    parser.add_argument("--stop-wait", type=float, default=60.0, metavar="SECONDS",
-                        help="after Ctrl+C or SIGTERM, how long the files in hand may take to "
-                             "finish before they go back to the inbox (default %(default)g)")
-    parser.add_argument("--quiet", action="store_true",
-                        help="log to the file only (without it: also to the terminal)")
+        parser.add_argument(
+            f"--{part}",
+            default=part,
+            metavar="NAME",
+            help=f"name of the {part} folder inside FOLDER (default %(default)s)",
+        )
+    parser.add_argument(
+        "--log",
+        default=None,
+        metavar="FILE",
+        help="log file, or 'none' for no file (default FOLDER/pertbook.log)",
+    )
+    parser.add_argument(
+        "--once-wait",
+        type=float,
+        default=60.0,
+        metavar="SECONDS",
+        help="with --once, how long to wait for files still being written (default %(default)g)",
+    )
+    parser.add_argument(
+        "--max-backoff",
+        type=float,
+        default=60.0,
+        metavar="SECONDS",
+        help="longest wait between retries when a folder cannot be used (default %(default)g)",
+    )
+    parser.add_argument(
+        "--stop-wait",
+        type=float,
+        default=60.0,
+        metavar="SECONDS",
+        help="after Ctrl+C or SIGTERM, how long the files in hand may take to "
+        "finish before they go back to the inbox (default %(default)g)",
+    )
+    parser.add_argument(
+        "--quiet",
+        action="store_true",
+        help="log to the file only (without it: also to the terminal)",
+    )
 
 
 def watcher_from_args(args: argparse.Namespace, options: ConvertOptions, **kw) -> Watcher:

@@ -139,8 +139,13 @@ def _renameat2():
             try:
                 libc = ctypes.CDLL(None, use_errno=True)
                 fn = libc.renameat2
-                fn.argtypes = [ctypes.c_int, ctypes.c_char_p, ctypes.c_int, ctypes.c_char_p,
-                               ctypes.c_uint]
+                fn.argtypes = [
+                    ctypes.c_int,
+                    ctypes.c_char_p,
+                    ctypes.c_int,
+                    ctypes.c_char_p,
+                    ctypes.c_uint,
+                ]
                 fn.restype = ctypes.c_int
                 _renameat2_fn = fn
             except (OSError, AttributeError):
@@ -239,8 +244,13 @@ def time_stamp() -> str:
 def unique_stem(folder: Path, stem: str, suffixes: list[str] | tuple[str, ...]) -> str:
     """:func:`free_stem` against what is in ``folder`` now, stamped with the current time,
     fitted to the folder's file-name limit."""
-    return free_stem(stem, suffixes, lambda name: os.path.lexists(folder / name), time_stamp(),
-                     name_limit(folder))
+    return free_stem(
+        stem,
+        suffixes,
+        lambda name: os.path.lexists(folder / name),
+        time_stamp(),
+        name_limit(folder),
+    )
 
 
 def _twin_in(folder: Path, st: os.stat_result) -> Path | None:

@@ -70,7 +70,7 @@ class Health:
 
     def trouble(self, what: str, exc: BaseException) -> None:
         """Log the trouble and put the next poll off."""
-        delay = min(self.max_backoff, self.interval * (2 ** self.level))
+        delay = min(self.max_backoff, self.interval * (2**self.level))
         self.level = min(self.level + 1, 30)
         self.healthy = False
         self.next_poll = time.monotonic() + delay

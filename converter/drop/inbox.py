@@ -41,8 +41,12 @@ def open_check(path: Path) -> str | None:
         return BUSY
     if not stat.S_ISREG(st.st_mode):
         return kind_of(st.st_mode)
-    flags = os.O_RDONLY | getattr(os, "O_NONBLOCK", 0) | getattr(os, "O_NOFOLLOW", 0) \
+    flags = (
+        os.O_RDONLY
+        | getattr(os, "O_NONBLOCK", 0)
+        | getattr(os, "O_NOFOLLOW", 0)
         | getattr(os, "O_BINARY", 0)
+    )
     try:
         fd = os.open(path, flags)
     except FileNotFoundError:
@@ -59,7 +63,6 @@ def open_check(path: Path) -> str | None:
     finally:
         os.close(fd)
     return None
-
 
 
 class InboxScan:
@@ -104,8 +107,10 @@ class InboxScan:
                         continue
                     kind = df.classify(entry.name, hidden=df.is_hidden(entry))
                     if kind == df.OTHER:
-                        self.refuse(entry.name, "not a spreadsheet pertbook reads: "
-                                    + ", ".join(df.ACCEPTED_SUFFIXES))
+                        self.refuse(
+                            entry.name,
+                            "not a spreadsheet pertbook reads: " + ", ".join(df.ACCEPTED_SUFFIXES),
+                        )
                     if kind != df.TAKE:
                         continue
                     st = entry.stat(follow_symlinks=False)

@@ -185,8 +185,11 @@ class Watcher:
         process_umask()  # read once before any worker starts: outputs get the user's mode
         root = self.layout.root
         if not root.parent.is_dir():  # an unmounted share: do not build a local look-alike
-            raise FileNotFoundError(errno.ENOENT, "the folder's parent is not there "
-                                    "(is the share mounted?)", str(root.parent))
+            raise FileNotFoundError(
+                errno.ENOENT,
+                "the folder's parent is not there (is the share mounted?)",
+                str(root.parent),
+            )
         root.mkdir(exist_ok=True)
         self.layout.work.mkdir(parents=True, exist_ok=True)
         open_log(self.log, self.log_path, echo=self.echo)
@@ -198,7 +201,10 @@ class Watcher:
         self.work = df.WorkArea(self.layout)
         mode = "once" if self.once else f"every {self.interval:g} s"
         self.log.info(
-            "watching %s (%s, %d worker%s)", root, mode, self.workers,
+            "watching %s (%s, %d worker%s)",
+            root,
+            mode,
+            self.workers,
             "" if self.workers == 1 else "s",
         )
         self.results.recover(self.work, self.stale_after)
@@ -219,7 +225,9 @@ class Watcher:
                 self.log.warning("could not tidy the working folder: %s", exc)
         c = self.counts
         self.log.info(
-            "stopped: %d converted, %d invalid, %d faults", c["converted"], c["invalid"],
+            "stopped: %d converted, %d invalid, %d faults",
+            c["converted"],
+            c["invalid"],
             c["fault"],
         )
         close_logger(self.log)
@@ -243,12 +251,12 @@ class Watcher:
             try:
                 df.settle(job.dir, self.layout)
             except OSError as exc:
-                self.log.error("%s: could not put back (%s); it stays in %s",
-                               job.name, exc, job.dir)
+                self.log.error(
+                    "%s: could not put back (%s); it stays in %s", job.name, exc, job.dir
+                )
                 self.results.stuck.append(job)
                 continue
-            self.log.info("%s\treturned to the inbox (to be retried at the next start)",
-                          job.name)
+            self.log.info("%s\treturned to the inbox (to be retried at the next start)", job.name)
 
     def _finished(self) -> bool:
         busy = bool(self._inflight or self._isolate)
@@ -263,8 +271,7 @@ class Watcher:
             deadline = self._stop_deadline
             running = any(not future.done() for future in self._inflight)
             if running and deadline is not None and time.monotonic() > deadline:
-                self.log.warning("the files in hand did not finish within %g s",
-                                 self.stop_wait)
+                self.log.warning("the files in hand did not finish within %g s", self.stop_wait)
                 self._abort()
                 return True
             return not busy
@@ -276,8 +283,10 @@ class Watcher:
         quiet = time.monotonic() - self.health.last_progress
         if not busy and waiting and quiet > self.once_wait:
             left = sorted(self.inbox.waiting) + [j.name for j in self.results.stuck]
-            self.log.warning("giving up for this run; left for the next: %s",
-                             ", ".join(left) or "(folder unavailable)")
+            self.log.warning(
+                "giving up for this run; left for the next: %s",
+                ", ".join(left) or "(folder unavailable)",
+            )
             return True
         return False
 
@@ -289,8 +298,7 @@ class Watcher:
         self._fill()
         timeout = min(max(self.health.next_poll - time.monotonic(), 0.0), LONGEST_WAIT)
         if self._inflight:
-            done, _ = cf.wait(list(self._inflight), timeout=timeout,
-                              return_when=cf.FIRST_COMPLETED)
+            done, _ = cf.wait(list(self._inflight), timeout=timeout, return_when=cf.FIRST_COMPLETED)
             for future in done:
                 self._collect(future)
         elif timeout > 0 and not (self.inbox.ready and self._can_claim()):
@@ -323,8 +331,9 @@ class Watcher:
         the share itself is probably unavailable and nothing is created locally.
         """
         if not self.layout.work.is_dir():
-            raise OSError(errno.ENOENT, "working folder missing (share unavailable?)",
-                          str(self.layout.work))
+            raise OSError(
+                errno.ENOENT, "working folder missing (share unavailable?)", str(self.layout.work)
+            )
         if not self.work.dir.is_dir():
             self.work.dir.mkdir()
         for key, path in self.layout.shared():
@@ -338,8 +347,13 @@ class Watcher:
     # ------------------------------------------------------------------ claim, submit, collect
 
     def _can_claim(self) -> bool:
-        return (self.health.healthy and not self.stop_requested and not self.results.stuck
-                and not self._isolate and self._isolated is None)
+        return (
+            self.health.healthy
+            and not self.stop_requested
+            and not self.results.stuck
+            and not self._isolate
+            and self._isolated is None
+        )
 
     def _fill(self) -> None:
         """Claim ready files and hand them to workers, up to one per worker."""
@@ -396,8 +410,9 @@ class Watcher:
     def _submit(self, job: Job) -> None:
         self._converting_here = isinstance(self._pool, InlinePool)
         try:
-            future = self._pool.submit(run_conversion, self.convert_fn, job.dir, job.name,
-                                       self.options)
+            future = self._pool.submit(
+                run_conversion, self.convert_fn, job.dir, job.name, self.options
+            )
         except BrokenProcessPool:  # broke since the check: run this one alone later
             if self._isolated is job:
                 self._isolated = None

@@ -27,24 +27,27 @@ from converter.write.problems import fault_problem
 CONVERTED, INVALID, FAULT, RETRY = "converted", "invalid", "fault", "retry"
 
 #: errno values that say the storage is in trouble (full, gone, read-only), not the file.
-STORAGE_ERRNOS = frozenset({
-    errno.ENOSPC,
-    getattr(errno, "EDQUOT", errno.ENOSPC),
-    errno.EROFS,
-    errno.EIO,
-    getattr(errno, "ESTALE", errno.EIO),
-    errno.ENOTCONN,
-    getattr(errno, "EHOSTDOWN", errno.EHOSTUNREACH),
-    errno.EHOSTUNREACH,
-    errno.ENETDOWN,
-    errno.ENETUNREACH,
-    errno.ETIMEDOUT,
-})
+STORAGE_ERRNOS = frozenset(
+    {
+        errno.ENOSPC,
+        getattr(errno, "EDQUOT", errno.ENOSPC),
+        errno.EROFS,
+        errno.EIO,
+        getattr(errno, "ESTALE", errno.EIO),
+        errno.ENOTCONN,
+        getattr(errno, "EHOSTDOWN", errno.EHOSTUNREACH),
+        errno.EHOSTUNREACH,
+        errno.ENETDOWN,
+        errno.ENETUNREACH,
+        errno.ETIMEDOUT,
+    }
+)
 FULL_ERRNOS = frozenset({errno.ENOSPC, getattr(errno, "EDQUOT", errno.ENOSPC)})
 
 NO_WORKBOOK = "The converter reported success but wrote no workbook."
-WORKER_DIED = ("The conversion process stopped abruptly on this file twice "
-               "(for example it ran out of memory).")
+WORKER_DIED = (
+    "The conversion process stopped abruptly on this file twice (for example it ran out of memory)."
+)
 
 
 @dataclass(frozen=True)
@@ -108,8 +111,14 @@ class Plan:
 Taken = Callable[[str, str], bool]  # (part, file name) -> a file of that name is there
 
 
-def plan_job(name: str, report: Report, files: JobFiles, taken: Taken, stamp: str,
-             limit: int = DEFAULT_NAME_MAX) -> Plan:
+def plan_job(
+    name: str,
+    report: Report,
+    files: JobFiles,
+    taken: Taken,
+    stamp: str,
+    limit: int = DEFAULT_NAME_MAX,
+) -> Plan:
     """The plan for the finished job of input ``name``.
 
     Parameters
@@ -161,8 +170,7 @@ def plan_job(name: str, report: Report, files: JobFiles, taken: Taken, stamp: st
     return _fault(name, text, files.has_json, taken, stamp, limit)
 
 
-def _converted(name: str, result, has_json: bool, taken: Taken, stamp: str,
-               limit: int) -> Plan:
+def _converted(name: str, result, has_json: bool, taken: Taken, stamp: str, limit: int) -> Plan:
     stem, suffix = df.split_name(name)
     results = [".analysis.xlsx"] + ([".analysis.json"] if has_json else [])
     out = df.free_stem(stem, results, lambda file: taken("outbox", file), stamp, limit)
@@ -191,8 +199,7 @@ def _fault(name: str, text: str, has_json: bool, taken: Taken, stamp: str, limit
     return Plan(FAULT, moves, summary, (fault_problem(summary),), details=text)
 
 
-def _to_failed(name: str, has_json: bool, taken: Taken, stamp: str,
-               limit: int) -> tuple[Move, ...]:
+def _to_failed(name: str, has_json: bool, taken: Taken, stamp: str, limit: int) -> tuple[Move, ...]:
     """The input with its problems report (and JSON) into ``failed/``, the input last."""
     stem, suffix = df.split_name(name)
     suffixes = [suffix, ".problems.txt", ".problems.xlsx"]
@@ -206,8 +213,9 @@ def _to_failed(name: str, has_json: bool, taken: Taken, stamp: str,
     return tuple(moves)
 
 
-def _failed_stems(name: str, suffixes: list[str], taken: Taken, stamp: str,
-                  limit: int) -> tuple[str, str]:
+def _failed_stems(
+    name: str, suffixes: list[str], taken: Taken, stamp: str, limit: int
+) -> tuple[str, str]:
     """The stem of the reports in ``failed/`` and the input's own stem there.
 
     Both are one free stem, so a report sits beside its input; but when only the reports'
@@ -220,14 +228,14 @@ def _failed_stems(name: str, suffixes: list[str], taken: Taken, stamp: str,
     return s, stem if shortened_only and not taken("failed", name) else s
 
 
-def plain_fault_plan(name: str, text: str, taken: Taken, stamp: str,
-                     limit: int = DEFAULT_NAME_MAX) -> Plan:
+def plain_fault_plan(
+    name: str, text: str, taken: Taken, stamp: str, limit: int = DEFAULT_NAME_MAX
+) -> Plan:
     """The plan when even the problems report could not be written: the input and a
     plain-text note (``text``, already in the job folder) into ``failed/``."""
     stem, suffix = df.split_name(name)
     s, own = _failed_stems(name, [suffix, ".problems.txt"], taken, stamp, limit)
-    moves = (Move(df.PROBLEMS_TXT, "failed", s, ".problems.txt"),
-             Move(name, "failed", own, suffix))
+    moves = (Move(df.PROBLEMS_TXT, "failed", s, ".problems.txt"), Move(name, "failed", own, suffix))
     summary = text.strip().splitlines()[-1] if text.strip() else "unknown fault"
     return Plan(FAULT, moves, summary)
 

@@ -44,14 +44,16 @@ class Results:
         """Plan the job from the worker's report and carry the plan out."""
         seconds = time.monotonic() - job.started
         writable = _writable(job.dir) if report.kind == "oserror" else True
-        files = JobFiles((job.dir / df.RESULT_XLSX).exists(),
-                         (job.dir / df.RESULT_JSON).exists(), writable)
+        files = JobFiles(
+            (job.dir / df.RESULT_XLSX).exists(), (job.dir / df.RESULT_JSON).exists(), writable
+        )
         plan = plan_job(job.name, report, files, self._taken, df.time_stamp(), self._limit())
         if plan.outcome == RETRY:
             code, text = plan.error or (None, "")
             words = os.strerror(code) if code else (text.strip().splitlines() or ["?"])[-1]
-            self.put_back(job, f"{job.name}: storage trouble while converting",
-                          OSError(code, words))
+            self.put_back(
+                job, f"{job.name}: storage trouble while converting", OSError(code, words)
+            )
             return
         try:
             plan = self._prepare(job, plan)
@@ -85,8 +87,7 @@ class Results:
         except Exception:  # noqa: BLE001 - the report writer failed: a plain note instead
             text = traceback.format_exc()
             (job.dir / df.PROBLEMS_TXT).write_text(text, encoding="utf-8")
-            return plain_fault_plan(job.name, text, self._taken, df.time_stamp(),
-                                    self._limit())
+            return plain_fault_plan(job.name, text, self._taken, df.time_stamp(), self._limit())
         return plan
 
     def _name_input_in_json(self, job: Job, plan: Plan) -> None:
@@ -103,8 +104,11 @@ class Results:
         if not isinstance(entry, dict) or not isinstance(entry.get("file"), str):
             return
         final = self.layout.folder(move.part) / f"{move.stem}{move.suffix}"
-        entry["file"] = final.relative_to(self.layout.root).as_posix() \
-            if _under(final, self.layout.root) else str(final)
+        entry["file"] = (
+            final.relative_to(self.layout.root).as_posix()
+            if _under(final, self.layout.root)
+            else str(final)
+        )
         tmp = job.dir / ".pb-json.tmp"
         tmp.write_text(json.dumps(data, indent=2, allow_nan=False), encoding="utf-8")
         os.replace(tmp, path)
@@ -119,7 +123,8 @@ class Results:
             if job not in self.stuck:
                 self.stuck.append(job)
             self.health.trouble(
-                f"{job.name}: its files cannot be placed yet (kept in {job.dir})", exc)
+                f"{job.name}: its files cannot be placed yet (kept in {job.dir})", exc
+            )
             return
         if job in self.stuck:
             self.stuck.remove(job)
@@ -133,8 +138,9 @@ class Results:
             (job.dir / df.PLAN).unlink(missing_ok=True)
             settled = df.settle(job.dir, self.layout)
         except OSError as again:
-            self.log.error("%s: cannot be put back yet (%s); it stays in %s",
-                           job.name, again, job.dir)
+            self.log.error(
+                "%s: cannot be put back yet (%s); it stays in %s", job.name, again, job.dir
+            )
             if job not in self.stuck:
                 self.stuck.append(job)
             return
@@ -148,8 +154,9 @@ class Results:
             try:
                 df.settle(job.dir, self.layout)
             except OSError as exc:
-                self.log.error("%s: could not put back (%s); it stays in %s",
-                               job.name, exc, job.dir)
+                self.log.error(
+                    "%s: could not put back (%s); it stays in %s", job.name, exc, job.dir
+                )
                 self.stuck.append(job)
 
     def retry_stuck(self) -> bool:
@@ -178,12 +185,16 @@ class Results:
             self.counts[outcome] += 1
         if outcome in ("returned", "empty"):
             if outcome == "returned":
-                self.log.info("%s\treturned to the inbox%s", job.name,
-                              " (left by a stopped watcher)" if job.adopted else "")
+                self.log.info(
+                    "%s\treturned to the inbox%s",
+                    job.name,
+                    " (left by a stopped watcher)" if job.adopted else "",
+                )
             return
         main = settled.placed.get(df.RESULT_XLSX) or settled.placed.get(job.name)
-        where = main.relative_to(self.layout.root) if main and _under(main, self.layout.root) \
-            else main
+        where = (
+            main.relative_to(self.layout.root) if main and _under(main, self.layout.root) else main
+        )
         secs = f"{seconds:.2f} s" if seconds is not None else "recovered"
         parts = [job.name, outcome, secs, f"-> {where}"]
         if note:

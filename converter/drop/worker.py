@@ -58,11 +58,15 @@ def worker_options(options: ConvertOptions | None, workers: int) -> ConvertOptio
     """
     base = options or ConvertOptions()
     sim = 1 if workers > 1 else base.simulation_workers
-    total = (DEFAULT_SIMULATION_MEMORY_MB if base.simulation_memory_mb is None
-             else int(base.simulation_memory_mb))
+    total = (
+        DEFAULT_SIMULATION_MEMORY_MB
+        if base.simulation_memory_mb is None
+        else int(base.simulation_memory_mb)
+    )
     share = max(MIN_SIMULATION_MEMORY_MB, total // max(workers, 1))
-    return dataclasses.replace(base, progress=None, simulation_workers=sim,
-                               simulation_memory_mb=share)
+    return dataclasses.replace(
+        base, progress=None, simulation_workers=sim, simulation_memory_mb=share
+    )
 
 
 # --------------------------------------------------------------------------- in the worker
@@ -83,8 +87,9 @@ def start_worker(parent: int, pids, single_thread: bool) -> None:
     if single_thread:  # one BLAS thread per process: the pool already uses every core
         for name in THREAD_VARIABLES:
             os.environ.setdefault(name, "1")
-    threading.Thread(target=_stop_when_orphaned, args=(parent,), daemon=True,
-                     name="orphan-check").start()
+    threading.Thread(
+        target=_stop_when_orphaned, args=(parent,), daemon=True, name="orphan-check"
+    ).start()
     for module in WARM_UP:
         try:
             __import__(module)

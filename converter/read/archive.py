@@ -49,9 +49,9 @@ def part_count(data: bytes) -> int:
         raise Damaged("the zip archive has no end record")
     count = struct.unpack_from("<H", data, at + 10)[0]
     locator = at - 20
-    if locator >= 0 and data[locator:locator + 4] == _ZIP64_LOCATOR:
+    if locator >= 0 and data[locator : locator + 4] == _ZIP64_LOCATOR:
         offset = struct.unpack_from("<Q", data, locator + 8)[0]
-        if offset + 40 > len(data) or data[offset:offset + 4] != b"PK\x06\x06":
+        if offset + 40 > len(data) or data[offset : offset + 4] != b"PK\x06\x06":
             raise Damaged("the zip archive's Zip64 end record is missing")
         count = struct.unpack_from("<Q", data, offset + 32)[0]
     return count
@@ -62,8 +62,9 @@ def open_archive(data: bytes, limits: ReadLimits) -> zipfile.ZipFile:
     count = part_count(data)
     if count > limits.parts:
         raise LimitExceeded(
-            f"the workbook's zip archive has {count:,} parts, beyond the limit of "
-            f"{limits.parts:,}", "Save the workbook again from a spreadsheet program.")
+            f"the workbook's zip archive has {count:,} parts, beyond the limit of {limits.parts:,}",
+            "Save the workbook again from a spreadsheet program.",
+        )
     try:
         archive = zipfile.ZipFile(io.BytesIO(data))
     except (zipfile.BadZipFile, zipfile.LargeZipFile, ValueError, OSError) as exc:
@@ -73,8 +74,10 @@ def open_archive(data: bytes, limits: ReadLimits) -> zipfile.ZipFile:
         if info.flag_bits & 0x1:
             raise Damaged(f"the part {info.filename} is encrypted")
         if info.compress_type not in (zipfile.ZIP_STORED, zipfile.ZIP_DEFLATED):
-            raise Damaged(f"the part {info.filename} is packed with method "
-                          f"{info.compress_type}, which spreadsheet programs do not use")
+            raise Damaged(
+                f"the part {info.filename} is packed with method "
+                f"{info.compress_type}, which spreadsheet programs do not use"
+            )
         declared += info.file_size
     if declared > limits.unpacked_bytes:
         raise _too_big(declared, limits, "declare")
@@ -87,12 +90,15 @@ def _too_big(size: int, limits: ReadLimits, verb: str) -> LimitExceeded:
         f"limit of {megabytes(limits.unpacked_bytes)}",
         "Remove what the schedule does not need (pictures, other sheets, formatting of "
         "empty rows), or raise the limit with the environment variable "
-        "PERTBOOK_MAX_UNPACKED_MB.")
+        "PERTBOOK_MAX_UNPACKED_MB.",
+    )
 
 
 def _oversized(info: zipfile.ZipInfo) -> Damaged:
-    return Damaged(f"the part {info.filename} unpacks to more than the {info.file_size:,} "
-                   "bytes its entry says (a file made to look small)")
+    return Damaged(
+        f"the part {info.filename} unpacks to more than the {info.file_size:,} "
+        "bytes its entry says (a file made to look small)"
+    )
 
 
 class Budget:
@@ -117,15 +123,15 @@ def unpack(data: bytes, info: zipfile.ZipInfo, budget: Budget) -> Iterator[bytes
     ends short of its declared size is Damaged too.
     """
     start = info.header_offset
-    if data[start:start + 4] != b"PK\x03\x04":
+    if data[start : start + 4] != b"PK\x03\x04":
         raise Damaged(f"the part {info.filename} has no local header")
     name_len, extra_len = struct.unpack_from("<HH", data, start + 26)
     begin = start + 30 + name_len + extra_len
-    packed = memoryview(data)[begin:begin + info.compress_size]
+    packed = memoryview(data)[begin : begin + info.compress_size]
     produced = 0
     if info.compress_type == zipfile.ZIP_STORED:
         for at in range(0, len(packed), CHUNK):
-            piece = bytes(packed[at:at + CHUNK])
+            piece = bytes(packed[at : at + CHUNK])
             budget.spend(len(piece))
             produced += len(piece)
             if produced > info.file_size:
@@ -134,13 +140,12 @@ def unpack(data: bytes, info: zipfile.ZipInfo, budget: Budget) -> Iterator[bytes
     else:
         inflate = zlib.decompressobj(-15)
         for at in range(0, len(packed), 64 * 1024):
-            pending = bytes(packed[at:at + 64 * 1024])
+            pending = bytes(packed[at : at + 64 * 1024])
             while pending and not inflate.eof:
                 try:
                     out = inflate.decompress(pending, CHUNK)
                 except zlib.error as exc:
-                    raise Damaged(f"the part {info.filename} cannot be unpacked ({exc})") \
-                        from None
+                    raise Damaged(f"the part {info.filename} cannot be unpacked ({exc})") from None
                 pending = inflate.unconsumed_tail
                 budget.spend(len(out))
                 produced += len(out)
@@ -158,5 +163,7 @@ def unpack(data: bytes, info: zipfile.ZipInfo, budget: Budget) -> Iterator[bytes
         if tail:
             yield tail
     if produced != info.file_size:
-        raise Damaged(f"the part {info.filename} unpacks to {produced:,} bytes but its "
-                      f"entry says {info.file_size:,}")
+        raise Damaged(
+            f"the part {info.filename} unpacks to {produced:,} bytes but its "
+            f"entry says {info.file_size:,}"
+        )

@@ -47,16 +47,20 @@ class CompoundFile:
             raise Damaged("the OLE header gives an impossible sector size")
         self.size = 1 << shift
         self.mini_size = 1 << mini_shift
-        (n_fat, first_dir, _, self.cutoff, first_mini_fat, n_mini_fat, first_difat,
-         n_difat) = struct.unpack_from("<IIIIIIII", data, 0x2C)
+        (n_fat, first_dir, _, self.cutoff, first_mini_fat, n_mini_fat, first_difat, n_difat) = (
+            struct.unpack_from("<IIIIIIII", data, 0x2C)
+        )
         self.fat = self._read_fat(n_fat, first_difat, n_difat)
         self.entries = self._read_directory(first_dir)
         root = self.entries[0] if self.entries else None
         if root is None or root[1] != 5:
             raise Damaged("the OLE directory has no root entry")
         self.mini_stream = self._chain_bytes(root[2], root[3]) if root[3] else b""
-        self.mini_fat = (self._ints(self._chain_bytes(first_mini_fat, None))
-                         if n_mini_fat and first_mini_fat != _END else array("I"))
+        self.mini_fat = (
+            self._ints(self._chain_bytes(first_mini_fat, None))
+            if n_mini_fat and first_mini_fat != _END
+            else array("I")
+        )
 
     @property
     def names(self) -> list[str]:
@@ -77,7 +81,7 @@ class CompoundFile:
         start = (index + 1) * self.size
         if index >= _END - 16 or start >= len(self.data):
             raise Damaged("an OLE sector lies outside the file")
-        return self.data[start:start + self.size]
+        return self.data[start : start + self.size]
 
     @staticmethod
     def _ints(block: bytes) -> array:
@@ -122,7 +126,7 @@ class CompoundFile:
         if mini:
             chain = self._chain(start, self.mini_fat)
             step = self.mini_size
-            out = b"".join(self.mini_stream[i * step:(i + 1) * step] for i in chain)
+            out = b"".join(self.mini_stream[i * step : (i + 1) * step] for i in chain)
         else:
             out = b"".join(self._sector(i) for i in self._chain(start, self.fat))
         if size is not None:
@@ -140,7 +144,7 @@ class CompoundFile:
             if kind == 0:
                 entries.append(("", 0, 0, 0))
                 continue
-            name = raw[off:off + min(max(name_len - 2, 0), 62)].decode("utf-16-le", "replace")
+            name = raw[off : off + min(max(name_len - 2, 0), 62)].decode("utf-16-le", "replace")
             if self.size == 512:
                 size &= 0xFFFFFFFF  # version 3 files: the high half may hold anything
             entries.append((name, kind, start, size))

@@ -56,20 +56,26 @@ def choose_sheets(raw: RawInput) -> list[Problem]:
             settings_match = m
             continue
         if m is None:
-            raw.searched.append(f"{sheet.name}: passed over, no row names two or more "
-                                "activity columns.")
+            raw.searched.append(
+                f"{sheet.name}: passed over, no row names two or more activity columns."
+            )
             continue
-        has_required = sum(k in m.columns for k in ("id", "optimistic", "most_likely",
-                                                     "pessimistic"))
+        has_required = sum(
+            k in m.columns for k in ("id", "optimistic", "most_likely", "pessimistic")
+        )
         rank = (has_required, named(sheet, ACTIVITY_SHEET_NAMES), m.score(), -pos)
         candidates.append((rank, m))
     if complete(settings_match) and not any(complete(m) for _, m in candidates):
         _settings_as_activity(raw, settings_match, candidates, settings)
     elif raw.settings is not None:
-        found = (f" (its row {settings_match.header_row + 1} names activity columns)"
-                 if settings_match else "")
-        raw.searched.append(f"{raw.settings.name}: passed over as the settings sheet, by its "
-                            f"name{found}.")
+        found = (
+            f" (its row {settings_match.header_row + 1} names activity columns)"
+            if settings_match
+            else ""
+        )
+        raw.searched.append(
+            f"{raw.settings.name}: passed over as the settings sheet, by its name{found}."
+        )
     if candidates:
         candidates.sort(key=lambda t: t[0], reverse=True)
         raw.activity = candidates[0][1]
@@ -85,26 +91,35 @@ def choose_sheets(raw: RawInput) -> list[Problem]:
     return problems
 
 
-def _settings_as_activity(raw: RawInput, match: TableMatch, candidates: list,
-                          settings: list[SheetData]) -> None:
+def _settings_as_activity(
+    raw: RawInput, match: TableMatch, candidates: list, settings: list[SheetData]
+) -> None:
     """A sheet named like a settings sheet that holds the only activity list is read as one."""
     sheet = match.sheet
     raw.settings = next((s for s in settings if s is not sheet), None)
     candidates.append(((9, True, match.score(), 0), match))
-    raw.notes.append(f"Activity sheet: {sheet.name} (its name is one for a settings sheet, "
-                     "but it holds the activity columns and no other sheet does).")
+    raw.notes.append(
+        f"Activity sheet: {sheet.name} (its name is one for a settings sheet, "
+        "but it holds the activity columns and no other sheet does)."
+    )
 
 
 def _note_activity_choice(raw: RawInput, candidates: list) -> None:
     rank, chosen = candidates[0]
     for _, m in candidates[1:]:
-        raw.searched.append(f"{m.sheet.name}: passed over, {chosen.sheet.name} names more of "
-                            "the required columns or is named as the activity list.")
+        raw.searched.append(
+            f"{m.sheet.name}: passed over, {chosen.sheet.name} names more of "
+            "the required columns or is named as the activity list."
+        )
     if len(raw.sheets) > 1 and rank[0] != 9:
-        why = ("its name and its column headers mark it as the activity list" if rank[1]
-               else "it has the most recognised column headers")
+        why = (
+            "its name and its column headers mark it as the activity list"
+            if rank[1]
+            else "it has the most recognised column headers"
+        )
         raw.notes.append(
-            f"Activity sheet: {chosen.sheet.name} (of {len(raw.sheets)} sheets; {why}).")
+            f"Activity sheet: {chosen.sheet.name} (of {len(raw.sheets)} sheets; {why})."
+        )
 
 
 def _choose_links(raw: RawInput) -> None:
@@ -126,17 +141,23 @@ def _header_too_low(raw: RawInput) -> list[Problem]:
     for sheet in raw.sheets:
         if sheet is raw.settings:
             continue
-        m = match_header(sheet, ACTIVITY_ALIASES, HEADER_SEARCH_ROWS,
-                         HEADER_SEARCH_ROWS + DEEP_SEARCH_ROWS)
+        m = match_header(
+            sheet, ACTIVITY_ALIASES, HEADER_SEARCH_ROWS, HEADER_SEARCH_ROWS + DEEP_SEARCH_ROWS
+        )
         if complete(m):
             names = ", ".join(h for h in m.headers if h)
-            return [Problem(
-                ERROR, "header-too-low",
-                f"the header row ({names}) is on row {m.header_row + 1}, but pertbook looks "
-                f"for it only in the first {HEADER_SEARCH_ROWS} rows of each sheet",
-                sheet.name, cell_name(m.header_row, 0),
-                fix=f"Delete the rows above the header (or move the table up) so that the "
-                    f"header is within the first {HEADER_SEARCH_ROWS} rows.")]
+            return [
+                Problem(
+                    ERROR,
+                    "header-too-low",
+                    f"the header row ({names}) is on row {m.header_row + 1}, but pertbook looks "
+                    f"for it only in the first {HEADER_SEARCH_ROWS} rows of each sheet",
+                    sheet.name,
+                    cell_name(m.header_row, 0),
+                    fix=f"Delete the rows above the header (or move the table up) so that the "
+                    f"header is within the first {HEADER_SEARCH_ROWS} rows.",
+                )
+            ]
     return []
 
 
@@ -153,12 +174,17 @@ def _duplicate_columns(match: TableMatch) -> list[Problem]:
             continue
         seen.add(key)
         first, second = cell_name(match.header_row, used), cell_name(match.header_row, other)
-        out.append(Problem(
-            WARNING, "duplicate-column",
-            f'two columns are headed as "{_title(key)}": {first} ("{match.headers[used]}") and '
-            f'{second} ("{match.headers[other]}"); the first, {first}, is used',
-            match.sheet.name, second,
-            fix="Rename or delete one of the two columns."))
+        out.append(
+            Problem(
+                WARNING,
+                "duplicate-column",
+                f'two columns are headed as "{_title(key)}": {first} ("{match.headers[used]}") and '
+                f'{second} ("{match.headers[other]}"); the first, {first}, is used',
+                match.sheet.name,
+                second,
+                fix="Rename or delete one of the two columns.",
+            )
+        )
     return out
 
 
@@ -186,19 +212,31 @@ def _error_cells(raw: RawInput) -> list[Problem]:
                 if found <= MAX_ERROR_CELLS:
                     out.append(_error_problem(sheet, r, c, key, value, row, ident_col))
         if found > MAX_ERROR_CELLS:
-            out.append(Problem(ERROR, "error-value", f"{found - MAX_ERROR_CELLS:,} more cells "
-                               "hold error values", sheet.name))
+            out.append(
+                Problem(
+                    ERROR,
+                    "error-value",
+                    f"{found - MAX_ERROR_CELLS:,} more cells hold error values",
+                    sheet.name,
+                )
+            )
     return out
 
 
-def _error_problem(sheet: SheetData, r: int, c: int, key: str, value: CellError,
-                   row: list, ident_col: int | None) -> Problem:
+def _error_problem(
+    sheet: SheetData, r: int, c: int, key: str, value: CellError, row: list, ident_col: int | None
+) -> Problem:
     ident = row[ident_col] if ident_col is not None and ident_col < len(row) else None
     activity = None if is_blank(ident) or isinstance(ident, CellError) else id_text(ident)
     what = {"label": "the setting's label", "value": "the setting's value"}.get(
-        key, f"the {_title(key)} cell")
+        key, f"the {_title(key)} cell"
+    )
     return Problem(
-        ERROR, "error-value",
+        ERROR,
+        "error-value",
         f"{what} holds the error value {value.code} (a formula that failed), not a value",
-        sheet.name, cell_name(r, c), activity,
-        fix="Correct the formula, or type the value itself.")
+        sheet.name,
+        cell_name(r, c),
+        activity,
+        fix="Correct the formula, or type the value itself.",
+    )

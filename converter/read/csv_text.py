@@ -66,7 +66,8 @@ def decode(data: bytes) -> tuple[str, str]:
     if len(head) >= 4 and head.count(0) >= len(head) // 4:
         codec = "utf-16-le" if head[1::2].count(0) > head[0::2].count(0) else "utf-16-be"
         return data.decode(codec, "replace"), codec.upper().replace("-LE", " LE").replace(
-            "-BE", " BE") + " without BOM"
+            "-BE", " BE"
+        ) + " without BOM"
     for codec, name in (("utf-8", "UTF-8"), ("cp1252", "Windows-1252")):
         try:
             return data.decode(codec), name
@@ -75,8 +76,9 @@ def decode(data: bytes) -> tuple[str, str]:
     return data.decode("latin-1"), "Latin-1"
 
 
-def parse(text: str, delimiter: str, limits: ReadLimits,
-          first: int | None = None) -> list[list[object]]:
+def parse(
+    text: str, delimiter: str, limits: ReadLimits, first: int | None = None
+) -> list[list[object]]:
     """Every row of the text (blank cells None, text stripped), within the limits; only the
     ``first`` rows when that is given (to try a delimiter on the top of the file)."""
     rows: list[list[object]] = []
@@ -91,8 +93,11 @@ def parse(text: str, delimiter: str, limits: ReadLimits,
             if len(rows) >= limits.rows:
                 raise _too_many(f"more than {limits.rows:,} rows", "ROWS")
             if len(row) > limits.columns:
-                raise _too_many(f"{len(row):,} fields on row {len(rows) + 1:,}, more than "
-                                f"{limits.columns:,} columns", "COLUMNS")
+                raise _too_many(
+                    f"{len(row):,} fields on row {len(rows) + 1:,}, more than "
+                    f"{limits.columns:,} columns",
+                    "COLUMNS",
+                )
             cells += len(row)
             if cells > limits.cells:
                 raise _too_many(f"more than {limits.cells:,} cells", "CELLS")
@@ -128,17 +133,20 @@ class _Lines:
         if text[end] == "\r" and text.startswith("\n", end + 1):
             end += 1
         self.pos = end + 1
-        return text[pos:end + 1]
+        return text[pos : end + 1]
 
 
 def _too_many(what: str, variable: str) -> LimitExceeded:
-    return LimitExceeded(f"the CSV file has {what}, beyond the limit",
-                         f"Split the file, or raise the limit with the environment variable "
-                         f"PERTBOOK_MAX_{variable}.")
+    return LimitExceeded(
+        f"the CSV file has {what}, beyond the limit",
+        f"Split the file, or raise the limit with the environment variable "
+        f"PERTBOOK_MAX_{variable}.",
+    )
 
 
-def read_csv(data: bytes, limits: ReadLimits,
-             header_score: Callable[[list[list[object]]], tuple]) -> CsvText:
+def read_csv(
+    data: bytes, limits: ReadLimits, header_score: Callable[[list[list[object]]], tuple]
+) -> CsvText:
     """Decode, choose the delimiter by what its header row yields, and parse.
 
     ``header_score(rows)`` ranks the first rows read with one delimiter (higher is better:
@@ -161,6 +169,8 @@ def read_csv(data: bytes, limits: ReadLimits,
     if encoding != "UTF-8":
         notes.append(f"Encoding: {encoding}.")
     if best != ",":
-        notes.append(f"Delimiter: {DELIMITER_WORDS[best]} ({best!r}), chosen because it gives "
-                     "the most recognised column headers.")
+        notes.append(
+            f"Delimiter: {DELIMITER_WORDS[best]} ({best!r}), chosen because it gives "
+            "the most recognised column headers."
+        )
     return CsvText(rows, encoding, best, notes)

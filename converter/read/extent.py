@@ -80,8 +80,9 @@ class SheetScan:
         if grew and self.limits is not None:
             check_extents([self], self.limits)
 
-    def add_error(self, row: int, col: int, code: str, count_rows: int = 1,
-                  count_cols: int = 1) -> None:
+    def add_error(
+        self, row: int, col: int, code: str, count_rows: int = 1, count_cols: int = 1
+    ) -> None:
         """An error value (``#DIV/0!``) at (row, col), repeated like :meth:`add`."""
         self.errors.append((row, col, count_rows, count_cols, code.strip() or "#N/A"))
 
@@ -165,14 +166,19 @@ row 1,048,576, beyond the limit of 300,000 rows
                 f"counted from A1 to the last row and column with a value), beyond the limit "
                 f"of {limits.cells:,} cells",
                 "Delete the sheets and columns the schedule does not need, or raise the limit "
-                "with the environment variable PERTBOOK_MAX_CELLS.", sheet=s.name)
+                "with the environment variable PERTBOOK_MAX_CELLS.",
+                sheet=s.name,
+            )
 
 
-def _beyond(s: SheetScan, cell: tuple[int, int], where: str, limit: str,
-            variable: str) -> LimitExceeded:
+def _beyond(
+    s: SheetScan, cell: tuple[int, int], where: str, limit: str, variable: str
+) -> LimitExceeded:
     ref = cell_ref(*cell)
     return LimitExceeded(
         f"the sheet {s.name} has a value in cell {ref}, {where}, beyond the limit of {limit}",
         f"Delete the stray content at {ref} (select the cell, press Delete) and save; or "
         f"raise the limit with the environment variable PERTBOOK_MAX_{variable}.",
-        sheet=s.name, cell=ref)
+        sheet=s.name,
+        cell=ref,
+    )

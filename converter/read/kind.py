@@ -79,8 +79,11 @@ def sniff(data: bytes) -> str:
 
 def _as_text(head: bytes) -> str | None:
     """The start of the file as text when it reads as text (no control bytes), else None."""
-    for bom, codec in ((codecs.BOM_UTF8, "utf-8-sig"), (codecs.BOM_UTF16_LE, "utf-16"),
-                       (codecs.BOM_UTF16_BE, "utf-16")):
+    for bom, codec in (
+        (codecs.BOM_UTF8, "utf-8-sig"),
+        (codecs.BOM_UTF16_LE, "utf-16"),
+        (codecs.BOM_UTF16_BE, "utf-16"),
+    ):
         if head.startswith(bom):
             text = head.decode(codec, "ignore")
             break

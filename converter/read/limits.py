@@ -83,8 +83,7 @@ class LimitExceeded(Exception):
     ``sheet`` and ``cell`` say where, when the limit was passed at a place.
     """
 
-    def __init__(self, message: str, fix: str, sheet: str | None = None,
-                 cell: str | None = None):
+    def __init__(self, message: str, fix: str, sheet: str | None = None, cell: str | None = None):
         super().__init__(message)
         self.fix = fix
         self.sheet = sheet

@@ -36,8 +36,14 @@ class Loaded:
     notes: list[str] = field(default_factory=list)
 
 
-def _problem(code: str, message: str, where: str, fix: str | None = None,
-             sheet: str | None = None, cell: str | None = None) -> Problem:
+def _problem(
+    code: str,
+    message: str,
+    where: str,
+    fix: str | None = None,
+    sheet: str | None = None,
+    cell: str | None = None,
+) -> Problem:
     return Problem(ERROR, code, message, sheet=sheet or where, cell=cell, fix=fix)
 
 
@@ -48,20 +54,28 @@ def load_sheets(path: Path, limits: ReadLimits | None = None) -> Loaded:
     try:
         content = read_bounded(path, limits.file_bytes)
     except NotAFile as exc:
-        fix = ("Check the file name and folder." if exc.code == "file-missing" else
-               "Give the path of a saved workbook or CSV file." if exc.code == "not-a-file"
-               else None)
+        fix = (
+            "Check the file name and folder."
+            if exc.code == "file-missing"
+            else "Give the path of a saved workbook or CSV file."
+            if exc.code == "not-a-file"
+            else None
+        )
         return Loaded(None, None, [_problem(exc.code, str(exc), where, fix)])
     except LimitExceeded as exc:
         return Loaded(None, None, [_problem("too-large", str(exc), where, exc.fix)])
     loaded = Loaded(None, content.sha256)
     suffix = path.suffix.lower()
     if suffix not in SUFFIXES:
-        loaded.problems.append(_problem(
-            "unreadable",
-            f"{path.name} is not a readable workbook: the file type {path.suffix or '(none)'} "
-            f"is not one of {', '.join(SUFFIXES)}", where, f"Save the activity list as "
-            f"{suffix_list()}."))
+        loaded.problems.append(
+            _problem(
+                "unreadable",
+                f"{path.name} is not a readable workbook: the file type {path.suffix or '(none)'} "
+                f"is not one of {', '.join(SUFFIXES)}",
+                where,
+                f"Save the activity list as {suffix_list()}.",
+            )
+        )
         return loaded
     kind = sniff(content.data)
     if kind == "zip" and suffix == ".csv":
@@ -79,8 +93,9 @@ def load_sheets(path: Path, limits: ReadLimits | None = None) -> Loaded:
             loaded.sheets = _workbook(path, content.data, kind, limits, loaded.notes)
     except LimitExceeded as exc:
         message = str(exc) if exc.sheet else f"{path.name}: {exc}"
-        loaded.problems.append(_problem("too-large", message, where, exc.fix,
-                                        sheet=exc.sheet, cell=exc.cell))
+        loaded.problems.append(
+            _problem("too-large", message, where, exc.fix, sheet=exc.sheet, cell=exc.cell)
+        )
     except Encrypted:
         loaded.problems.append(_encrypted(path))
     except WrongKind as exc:
@@ -90,14 +105,17 @@ def load_sheets(path: Path, limits: ReadLimits | None = None) -> Loaded:
     return loaded
 
 
-def _workbook(path: Path, data: bytes, kind: str, limits: ReadLimits,
-              notes: list[str]) -> list[SheetData]:
+def _workbook(
+    path: Path, data: bytes, kind: str, limits: ReadLimits, notes: list[str]
+) -> list[SheetData]:
     kind, scans = scan_workbook(data, kind, limits)
     expected = {".xlsx": "xlsx", ".xlsm": "xlsx", ".xls": "xls", ".ods": "ods"}
     if expected[path.suffix.lower()] != kind:
         notes.append(f"{path.name} is {WORDS[kind]} by its content; it was read as one.")
-    return [SheetData(name=name, rows=rows, error_cells=errors)
-            for name, rows, errors in read_cells(data, scans, limits)]
+    return [
+        SheetData(name=name, rows=rows, error_cells=errors)
+        for name, rows, errors in read_cells(data, scans, limits)
+    ]
 
 
 def _header_rank(rows: list[list[object]]) -> tuple[int, int]:
@@ -112,14 +130,20 @@ def _encrypted(path: Path) -> Problem:
     return _problem(
         "encrypted",
         f"{path.name} is not a readable workbook: it is an encrypted workbook (protected by "
-        "a password to open), so its cells cannot be read", path.name,
+        "a password to open), so its cells cannot be read",
+        path.name,
         "Save a copy without a password: open it with the password, remove the password to "
-        "open in the file's protection settings, and save the copy.")
+        "open in the file's protection settings, and save the copy.",
+    )
 
 
 def _damaged(path: Path, detail: str) -> Problem:
-    return _problem("unreadable", f"{path.name} is not a readable workbook: it is damaged "
-                    f"({detail})", path.name, RESAVE)
+    return _problem(
+        "unreadable",
+        f"{path.name} is not a readable workbook: it is damaged ({detail})",
+        path.name,
+        RESAVE,
+    )
 
 
 def _wrong_kind(path: Path, suffix: str, kind: str) -> Problem | None:
@@ -130,11 +154,17 @@ def _wrong_kind(path: Path, suffix: str, kind: str) -> Problem | None:
         if kind in ("text", "empty"):
             return None
         what = WORDS["xlsx" if kind == "zip-as-csv" else kind]
-        fix = ("Give the file its real type (e.g. .xlsx) and try again."
-               if kind in WORKBOOK_KINDS or kind == "zip-as-csv"
-               else "Save the activity list as a CSV file.")
-        return _problem("unreadable", f"{path.name} is not a CSV file: by its content it is "
-                        f"{what}", path.name, fix)
+        fix = (
+            "Give the file its real type (e.g. .xlsx) and try again."
+            if kind in WORKBOOK_KINDS or kind == "zip-as-csv"
+            else "Save the activity list as a CSV file."
+        )
+        return _problem(
+            "unreadable",
+            f"{path.name} is not a CSV file: by its content it is {what}",
+            path.name,
+            fix,
+        )
     if kind in ("zip", "xls") or kind in WORKBOOK_KINDS:
         return None  # zip: which kind is told once the archive checks have passed
     fixes = {
@@ -144,7 +174,10 @@ def _wrong_kind(path: Path, suffix: str, kind: str) -> Problem | None:
         "xlsb": "Save it as .xlsx.",
     }
     return _problem(
-        "unreadable", f"{path.name} is not a readable workbook: by its content it is "
+        "unreadable",
+        f"{path.name} is not a readable workbook: by its content it is "
         f"{WORDS[kind]}, not {'an' if suffix in ('.xlsx', '.xlsm', '.xls') else 'a'} "
-        f"{suffix} workbook", path.name, fixes.get(kind, RESAVE))
-
+        f"{suffix} workbook",
+        path.name,
+        fixes.get(kind, RESAVE),
+    )

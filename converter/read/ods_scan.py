@@ -50,8 +50,11 @@ class ContentXml:
         self.row_repeat = 1
         self.col = 0
         self.row_last_col = -1
-        self.scanner = TagScanner(("table", "table-row", "table-cell", "covered-table-cell"),
-                                  self._tag, end_names=("table", "table-row"))
+        self.scanner = TagScanner(
+            ("table", "table-row", "table-cell", "covered-table-cell"),
+            self._tag,
+            end_names=("table", "table-row"),
+        )
 
     def _tag(self, m: re.Match, buf: bytes, final: bool) -> int | None:
         name, end = m.group("name"), bool(m.group("end"))
@@ -82,14 +85,16 @@ class ContentXml:
         self.depth += 1
         if self.depth == 1:  # a table inside a cell's content stays with its sheet
             name = attributes(m.group("attrs")).get(b"name", b"")
-            self.scans.append(SheetScan(html.unescape(name.decode("utf-8", "replace")),
-                                        limits=self.limits))
+            self.scans.append(
+                SheetScan(html.unescape(name.decode("utf-8", "replace")), limits=self.limits)
+            )
             self.row, self.col, self.row_last_col = 0, 0, -1
         if m.group("attrs").rstrip().endswith(b"/"):
             self.depth -= 1
 
-    def _cell(self, m: re.Match, buf: bytes, final: bool, attrs: dict[bytes, bytes],
-              empty_element: bool) -> int | None:
+    def _cell(
+        self, m: re.Match, buf: bytes, final: bool, attrs: dict[bytes, bytes], empty_element: bool
+    ) -> int | None:
         repeat = _count(attrs, b"number-columns-repeated")
         filled = b"value-type" in attrs
         error = _ERROR_TYPE.search(m.group("attrs")) is not None
@@ -111,8 +116,9 @@ class ContentXml:
 
     def _end_row(self) -> None:
         if self.row_last_col >= 0:
-            self.scans[-1].add(self.row, 0, count_rows=self.row_repeat,
-                               count_cols=self.row_last_col + 1)
+            self.scans[-1].add(
+                self.row, 0, count_rows=self.row_repeat, count_cols=self.row_last_col + 1
+            )
         self.row += self.row_repeat
         self.row_repeat = 1
         self.row_last_col = -1

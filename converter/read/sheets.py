@@ -23,20 +23,37 @@ from converter.read.extent import CellError
 from converter.read.limits import ReadLimits
 from converter.values import is_blank, normalise
 
-__all__ = ["ACTIVITY_COLUMNS", "CellError", "LINK_COLUMNS", "REQUIRED_ACTIVITY", "RawInput",
-           "ReadLimits", "ReadResult", "SheetData", "TableMatch", "cell_name", "match_header",
-           "read_input", "read_sheets"]
+__all__ = [
+    "ACTIVITY_COLUMNS",
+    "CellError",
+    "LINK_COLUMNS",
+    "REQUIRED_ACTIVITY",
+    "RawInput",
+    "ReadLimits",
+    "ReadResult",
+    "SheetData",
+    "TableMatch",
+    "cell_name",
+    "match_header",
+    "read_input",
+    "read_sheets",
+]
 
 #: Accepted header spellings for each activity column (compared after `normalise`).
 ACTIVITY_COLUMNS: dict[str, tuple[str, ...]] = {
     "id": ("id", "activity", "activity id", "task id", "code", "activity code", "wbs id"),
     "name": ("task", "name", "description", "activity name", "task name", "activity description"),
-    "predecessors": ("predecessors", "predecessor", "depends on", "after", "preceded by",
-                     "dependencies"),
+    "predecessors": (
+        "predecessors",
+        "predecessor",
+        "depends on",
+        "after",
+        "preceded by",
+        "dependencies",
+    ),
     "optimistic": ("optimistic", "o", "a", "min", "best", "best case", "optimistic duration"),
     "most_likely": ("most likely", "likely", "m", "mode", "most likely duration", "ml"),
-    "pessimistic": ("pessimistic", "p", "b", "max", "worst", "worst case",
-                    "pessimistic duration"),
+    "pessimistic": ("pessimistic", "p", "b", "max", "worst", "worst case", "pessimistic duration"),
     "distribution": ("distribution", "dist", "shape"),
     "group": ("group", "correlation group", "risk group"),
     "target": ("target", "interim target", "target date", "target finish"),
@@ -119,8 +136,14 @@ class RawInput:
 
     def search_summary(self) -> str:
         """The search in one paragraph: ``"Searched ...: Plan: ...; Settings: ..."``."""
-        return (f"Searched the first {HEADER_SEARCH_ROWS} rows of each sheet for the header "
-                "row: " + " ".join(self.searched)) if self.searched else ""
+        return (
+            (
+                f"Searched the first {HEADER_SEARCH_ROWS} rows of each sheet for the header "
+                "row: " + " ".join(self.searched)
+            )
+            if self.searched
+            else ""
+        )
 
 
 @dataclass
@@ -166,10 +189,23 @@ def read_input(path: str | Path, limits: ReadLimits | None = None) -> ReadResult
     sheets = loaded.sheets
     if not sheets or all(s.empty for s in sheets):
         name = sheets[0].name if sheets else path.name
-        return ReadResult(path, loaded.sha256, None, [Problem(
-            ERROR, "empty", f"the sheet {name} is empty: no activities", sheet=name, cell="A1",
-            fix="Put a header row (ID, Predecessors, Optimistic, Most likely, Pessimistic) and "
-                "one row per activity.")])
+        return ReadResult(
+            path,
+            loaded.sha256,
+            None,
+            [
+                Problem(
+                    ERROR,
+                    "empty",
+                    f"the sheet {name} is empty: no activities",
+                    sheet=name,
+                    cell="A1",
+                    fix="Put a header row (ID, Predecessors, Optimistic, Most likely, "
+                    "Pessimistic) and "
+                    "one row per activity.",
+                )
+            ],
+        )
     raw = RawInput(path=path, sha256=loaded.sha256, sheets=sheets, notes=list(loaded.notes))
     problems = choose_sheets(raw)
     return ReadResult(path, loaded.sha256, raw, problems)
@@ -188,8 +224,9 @@ def read_sheets(path: Path, limits: ReadLimits | None = None) -> list[SheetData]
     return loaded.sheets
 
 
-def match_header(sheet: SheetData, aliases: dict[str, str], first: int = 0,
-                 last: int = HEADER_SEARCH_ROWS) -> TableMatch | None:
+def match_header(
+    sheet: SheetData, aliases: dict[str, str], first: int = 0, last: int = HEADER_SEARCH_ROWS
+) -> TableMatch | None:
     """The row (of rows ``first`` to ``last - 1``) that names the most known columns.
 
     A field named twice keeps its first column; the other is listed in ``duplicates``.
@@ -209,8 +246,9 @@ def match_header(sheet: SheetData, aliases: dict[str, str], first: int = 0,
                 duplicates.append((key, columns[key], c))
         if len(columns) >= 2 and (best is None or len(columns) > best.score()):
             headers = ["" if is_blank(v) else str(v) for v in row]
-            best = TableMatch(sheet=sheet, header_row=r, columns=columns, headers=headers,
-                              duplicates=duplicates)
+            best = TableMatch(
+                sheet=sheet, header_row=r, columns=columns, headers=headers, duplicates=duplicates
+            )
     return best
 
 

@@ -64,8 +64,9 @@ def check_regular(path: Path) -> os.stat_result:
         info = os.stat(path)
     except FileNotFoundError:
         if os.path.islink(path):
-            raise NotAFile("file-missing", f"{path} is a link to a file that does not exist") \
-                from None
+            raise NotAFile(
+                "file-missing", f"{path} is a link to a file that does not exist"
+            ) from None
         raise NotAFile("file-missing", f"file not found: {path}") from None
     except OSError as exc:
         raise NotAFile("unreadable", f"{path.name} cannot be opened: {exc.strerror}") from None
@@ -116,4 +117,5 @@ def _too_big(path: Path, size: int, limit: int) -> LimitExceeded:
         f"{path.name} is {megabytes(size)}, more than the {megabytes(limit)} pertbook reads "
         "(the file size limit)",
         "Remove what the schedule does not need (pictures, other sheets), or raise the limit "
-        "with the environment variable PERTBOOK_MAX_FILE_MB.")
+        "with the environment variable PERTBOOK_MAX_FILE_MB.",
+    )

@@ -69,21 +69,27 @@ def _read_part(archive: zipfile.ZipFile, name: str, limit: int) -> bytes:
         raise Damaged(f"the part {name} cannot be unpacked ({exc})") from None
 
 
-def _scan_zip(data: bytes, archive: zipfile.ZipFile, kind: str,
-              limits: ReadLimits) -> list[SheetScan]:
+def _scan_zip(
+    data: bytes, archive: zipfile.ZipFile, kind: str, limits: ReadLimits
+) -> list[SheetScan]:
     """Unpack every part once (bounded), scanning the sheet parts on the way."""
     budget = Budget(limits)
     scanners: dict[str, object] = {}
     scans: list[SheetScan] = []
     if kind == "xlsx":
         small = 32 * 1024 * 1024
-        named = dict((path, name) for name, path in sheet_parts(
-            _read_part(archive, "xl/workbook.xml", small),
-            _read_part(archive, "xl/_rels/workbook.xml.rels", small)))
+        named = dict(
+            (path, name)
+            for name, path in sheet_parts(
+                _read_part(archive, "xl/workbook.xml", small),
+                _read_part(archive, "xl/_rels/workbook.xml.rels", small),
+            )
+        )
         for info in archive.infolist():
             lower = info.filename.lower()
-            if info.filename in named or ("sheet" in lower and lower.endswith(".xml")
-                                          and "sharedstrings" not in lower):
+            if info.filename in named or (
+                "sheet" in lower and lower.endswith(".xml") and "sharedstrings" not in lower
+            ):
                 sheet = SheetXml(named.get(info.filename, info.filename), limits)
                 scanners[info.filename] = sheet.scanner
                 scans.append(sheet.scan)
@@ -105,8 +111,9 @@ def _scan_zip(data: bytes, archive: zipfile.ZipFile, kind: str,
 
 
 # --------------------------------------------------------------------------- reading cells
-def read_cells(data: bytes, scans: list[SheetScan],
-               limits: ReadLimits) -> list[tuple[str, list, int]]:
+def read_cells(
+    data: bytes, scans: list[SheetScan], limits: ReadLimits
+) -> list[tuple[str, list, int]]:
     """(sheet name, rows from A1, error cells) of every worksheet, read with python-calamine.
 
     Raises Damaged when the library fails in any way (a panic included).
@@ -116,8 +123,9 @@ def read_cells(data: bytes, scans: list[SheetScan],
     errors = {s.name: s.errors for s in scans}
     try:
         book = python_calamine.CalamineWorkbook.from_filelike(io.BytesIO(data))
-        names = [m.name for m in book.sheets_metadata
-                 if m.typ == python_calamine.SheetTypeEnum.WorkSheet]
+        names = [
+            m.name for m in book.sheets_metadata if m.typ == python_calamine.SheetTypeEnum.WorkSheet
+        ]
         sheets = []
         for name in names:
             sheet = book.get_sheet_by_name(name)
@@ -138,20 +146,33 @@ def _rows(sheet, name: str, limits: ReadLimits) -> list[list[object]]:
     if sheet.height == 0 or sheet.width == 0:
         return []
     (top, left), (bottom, right) = sheet.start, sheet.end
-    if bottom + 1 > limits.rows or right + 1 > limits.columns \
-            or (bottom + 1) * (right + 1) > limits.cells:
+    if (
+        bottom + 1 > limits.rows
+        or right + 1 > limits.columns
+        or (bottom + 1) * (right + 1) > limits.cells
+    ):
         raise LimitExceeded(
             f"the sheet {name} reaches row {bottom + 1:,} and column {right + 1:,}, beyond "
             f"the limits ({limits.rows:,} rows, {limits.columns:,} columns, "
-            f"{limits.cells:,} cells)", "Delete the stray content after the schedule.",
-            sheet=name)
+            f"{limits.cells:,} cells)",
+            "Delete the stray content after the schedule.",
+            sheet=name,
+        )
     width = right + 1
     rows: list[list[object]] = [[None] * width for _ in range(top)]
     pad = [None] * left
     for values in sheet.iter_rows():  # text and numbers inline: most cells are one of them
-        rows.append(pad + [(v.strip() or None) if v.__class__ is str
-                           else (int(v) if v.is_integer() else v) if v.__class__ is float
-                           else cell_value(v) for v in values])
+        rows.append(
+            pad
+            + [
+                (v.strip() or None)
+                if v.__class__ is str
+                else (int(v) if v.is_integer() else v)
+                if v.__class__ is float
+                else cell_value(v)
+                for v in values
+            ]
+        )
     return rows
 
 

@@ -26,8 +26,16 @@ BOF, EOF, BOUNDSHEET, DIMENSIONS, FILEPASS = 0x0809, 0x000A, 0x0085, 0x0200, 0x0
 FORMULA, BOOLERR, MULRK = 0x0006, 0x0205, 0x00BD
 #: Records holding one value at (row, column) in their first four bytes.
 SINGLE_VALUE = {0x0203, 0x027E, 0x00FD, 0x0204, 0x00D6, BOOLERR, FORMULA}
-ERROR_CODES = {0x00: "#NULL!", 0x07: "#DIV/0!", 0x0F: "#VALUE!", 0x17: "#REF!",
-               0x1D: "#NAME?", 0x24: "#NUM!", 0x2A: "#N/A", 0x2B: "#GETTING_DATA"}
+ERROR_CODES = {
+    0x00: "#NULL!",
+    0x07: "#DIV/0!",
+    0x0F: "#VALUE!",
+    0x17: "#REF!",
+    0x1D: "#NAME?",
+    0x24: "#NUM!",
+    0x2A: "#N/A",
+    0x2B: "#GETTING_DATA",
+}
 
 
 class Encrypted(Exception):
@@ -52,7 +60,7 @@ def scan_xls(data: bytes, limits: ReadLimits) -> list[SheetScan]:
     pos, size = 0, len(stream)
     while pos + 4 <= size:
         kind, length = struct.unpack_from("<HH", stream, pos)
-        body = stream[pos + 4:pos + 4 + length]
+        body = stream[pos + 4 : pos + 4 + length]
         if kind == BOF:
             current = None
             if pos in sheet_at:
@@ -74,9 +82,9 @@ def _sheet_name(body: bytes) -> str:
     count = body[6]
     if len(body) > 7 and body[7] in (0, 1) and len(body) >= 8 + count * (1 + body[7]):
         wide = body[7] == 1  # BIFF8: a flag byte, then 8- or 16-bit characters
-        raw = body[8:8 + count * (2 if wide else 1)]
+        raw = body[8 : 8 + count * (2 if wide else 1)]
         return raw.decode("utf-16-le" if wide else "latin-1", "replace")
-    return body[7:7 + count].decode("latin-1", "replace")  # BIFF5
+    return body[7 : 7 + count].decode("latin-1", "replace")  # BIFF5
 
 
 def _record(scan: SheetScan, kind: int, body: bytes, limits: ReadLimits) -> None:
@@ -101,7 +109,9 @@ def _record(scan: SheetScan, kind: int, body: bytes, limits: ReadLimits) -> None
                 f"({rows:,} rows, {cols:,} columns), beyond the limits of {limits.rows:,} rows "
                 f"and {limits.columns:,} columns",
                 "Open the workbook, delete the rows and columns after the schedule, and save "
-                "it again (or save it as .xlsx).", sheet=scan.name)
+                "it again (or save it as .xlsx).",
+                sheet=scan.name,
+            )
 
 
 def _error_of(kind: int, body: bytes) -> str | None:

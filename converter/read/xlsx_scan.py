@@ -46,8 +46,12 @@ class SheetXml:
     def _fast(self, region: bytes) -> bool:
         """Whole tags of the plain form at C speed; False (scan tag by tag) for anything
         else: a comment, CDATA or declaration, an error cell, a cell without ``r``."""
-        if b"<!" in region or b't="e"' in region or b"t='e'" in region \
-                or _PREFIXED_CELL.search(region):
+        if (
+            b"<!" in region
+            or b't="e"' in region
+            or b"t='e'" in region
+            or _PREFIXED_CELL.search(region)
+        ):
             return False
         hits = _PLAIN_CELL.findall(region)
         if len(hits) != len(_CELL_START.findall(region)):
@@ -92,7 +96,7 @@ class SheetXml:
             end = _CELL_END.search(buf, m.end())
             if end is None and not final:
                 return m.start()  # see the whole cell first
-            inner = buf[m.end():end.start() if end else len(buf)]
+            inner = buf[m.end() : end.start() if end else len(buf)]
             value = _VALUE.search(inner)
             code = html.unescape(value.group(1).decode("utf-8", "replace")) if value else "#N/A"
             self.scan.add_error(self.row, self.col, code)
@@ -129,7 +133,8 @@ class SharedStrings:
             f"the workbook's table of texts {what}, beyond the limit of "
             f"{self.limits.cells:,} cells",
             "Save the workbook again from a spreadsheet program (this usually rebuilds the "
-            "table), or raise the limit with the environment variable PERTBOOK_MAX_CELLS.")
+            "table), or raise the limit with the environment variable PERTBOOK_MAX_CELLS.",
+        )
 
 
 def sheet_parts(workbook_xml: bytes, rels_xml: bytes) -> list[tuple[str, str]]:
@@ -155,8 +160,10 @@ def sheet_parts(workbook_xml: bytes, rels_xml: bytes) -> list[tuple[str, str]]:
         if not m.group("end"):
             sheets.append((attrs.get(b"name", b""), attrs.get(b"id", b"")))
 
-    for text, names, handler in ((rels_xml, ("Relationship",), on_rel),
-                                 (workbook_xml, ("sheet",), on_sheet)):
+    for text, names, handler in (
+        (rels_xml, ("Relationship",), on_rel),
+        (workbook_xml, ("sheet",), on_sheet),
+    ):
         scanner = TagScanner(names, handler)
         scanner.feed(text)
         scanner.feed(b"", final=True)

@@ -31,10 +31,11 @@ FAST_TAIL = 64 * 1024
 
 _ATTRS = rb"""((?:[^>"']|"[^"]*"|'[^']*')*)"""
 _PREFIX = rb"(?:[A-Za-z_][\w.-]*:)?"
-_OTHER_MARKUP = (rb"<!--.*?-->|<!\[CDATA\[.*?\]\]>|<\?.*?\?>|"
-                 rb"</(?!" + _PREFIX + rb"(?:ENDS)[\s>])[^>]*>|"
-                 rb"<(?![!?/])(?!" + _PREFIX + rb"(?:STARTS)[\s/>])"
-                 + _ATTRS.replace(b"(", b"(?:", 1) + rb">")
+_OTHER_MARKUP = (
+    rb"<!--.*?-->|<!\[CDATA\[.*?\]\]>|<\?.*?\?>|"
+    rb"</(?!" + _PREFIX + rb"(?:ENDS)[\s>])[^>]*>|"
+    rb"<(?![!?/])(?!" + _PREFIX + rb"(?:STARTS)[\s/>])" + _ATTRS.replace(b"(", b"(?:", 1) + rb">"
+)
 _ATTRIBUTE = re.compile(rb"""([^\s=/]+)\s*=\s*(?:"([^"]*)"|'([^']*)')""")
 
 
@@ -70,16 +71,29 @@ class TagScanner:
     otherwise the region is scanned tag by tag.
     """
 
-    def __init__(self, names: Iterable[str],
-                 on_tag: Callable[[re.Match, bytes, bool], int | None],
-                 end_names: Iterable[str] = (),
-                 fast: Callable[[bytes], bool] | None = None):
+    def __init__(
+        self,
+        names: Iterable[str],
+        on_tag: Callable[[re.Match, bytes, bool], int | None],
+        end_names: Iterable[str] = (),
+        fast: Callable[[bytes], bool] | None = None,
+    ):
         starts = b"|".join(re.escape(n.encode()) for n in names)
         ends = b"|".join(re.escape(n.encode()) for n in end_names) or b"(?!)"
         other = _OTHER_MARKUP.replace(b"ENDS", ends).replace(b"STARTS", starts)
-        wanted = (rb"<(?P<end>/(?=" + _PREFIX + rb"(?:" + ends + rb")[\s>]))?" + _PREFIX
-                  + rb"(?P<name>" + starts + rb")(?=[\s/>])"
-                  + _ATTRS.replace(b"(", b"(?P<attrs>", 1) + rb">")
+        wanted = (
+            rb"<(?P<end>/(?="
+            + _PREFIX
+            + rb"(?:"
+            + ends
+            + rb")[\s>]))?"
+            + _PREFIX
+            + rb"(?P<name>"
+            + starts
+            + rb")(?=[\s/>])"
+            + _ATTRS.replace(b"(", b"(?P<attrs>", 1)
+            + rb">"
+        )
         self._next = re.compile(rb"(?:[^<]*(?:" + other + rb"))*[^<]*" + wanted, re.DOTALL)
         self._skip = re.compile(rb"(?:[^<]*(?:" + other + rb"))*[^<]*", re.DOTALL)
         self._on_tag = on_tag
@@ -118,16 +132,19 @@ class TagScanner:
     def _keep(self, buf: bytes, pos: int, final: bool) -> None:
         rest = buf[pos:]
         if rest.startswith(b"<!DOCTYPE"):
-            raise Damaged("the XML holds a document type declaration, which spreadsheet "
-                          "programs never write")
+            raise Damaged(
+                "the XML holds a document type declaration, which spreadsheet programs never write"
+            )
         if final:
             if rest.strip():
                 raise Damaged("the XML ends in the middle of a tag")
             self._carry = b""
             return
         if len(rest) > MAX_TOKEN:
-            raise Damaged("the XML holds a single tag, comment or text section over "
-                          f"{MAX_TOKEN // (1024 * 1024)} MB")
+            raise Damaged(
+                "the XML holds a single tag, comment or text section over "
+                f"{MAX_TOKEN // (1024 * 1024)} MB"
+            )
         self._carry = rest
 
     def _transcode(self, chunk: bytes, final: bool) -> bytes:

@@ -55,9 +55,13 @@ def validate(
     match = raw.activity
     rows = read_activities(match, settings, out)
     if not rows.activities and not out.has("blank-id", "duplicate-id"):
-        out.error("empty", "no activities below the header row", match.sheet.name,
-                  cell_name(match.header_row + 1, match.columns["id"]),
-                  fix="Add one row per activity under the header.")
+        out.error(
+            "empty",
+            "no activities below the header row",
+            match.sheet.name,
+            cell_name(match.header_row + 1, match.columns["id"]),
+            fix="Add one row per activity under the header.",
+        )
         return None, out.problems
     book = LinkBook({a.id for a in rows.activities}, out)
     if "predecessors" in match.columns:
@@ -81,7 +85,7 @@ def validate(
             sheet=match.sheet.name,
             header_row=match.header_row + 1,
             headers=match.headers,
-            rows=match.sheet.rows[match.header_row + 1:],
+            rows=match.sheet.rows[match.header_row + 1 :],
             first_row=match.header_row + 2,
         ),
         warnings=out.warnings,

@@ -45,35 +45,50 @@ def check_columns(raw: RawInput, out: Collector) -> bool:
     """Whether the activity sheet has every column needed; a problem when it has not."""
     match = raw.activity
     fixed_only = fixed_durations_only(match)
-    needed = [k for k in REQUIRED_ACTIVITY
-              if not (fixed_only and k in ("optimistic", "pessimistic"))]
+    needed = [
+        k for k in REQUIRED_ACTIVITY if not (fixed_only and k in ("optimistic", "pessimistic"))
+    ]
     if match is None or any(k not in match.columns for k in needed):
-        sheet = match.sheet if match else next((s for s in raw.sheets if not s.empty),
-                                               raw.sheets[0])
+        sheet = (
+            match.sheet if match else next((s for s in raw.sheets if not s.empty), raw.sheets[0])
+        )
         found = match.headers if match else _first_nonblank_row(sheet)
         present = set(match.columns) if match else set()
         missing = [FIELD_TITLES[k] for k in REQUIRED_ACTIVITY if k not in present]
         if "predecessors" not in present and raw.links is None:
             missing.append(FIELD_TITLES["predecessors"])
-        out.error("missing-column",
-                  f"required column(s) missing: {', '.join(missing)}; headers found: "
-                  f"{_header_list(found) or '(none)'}" + _searched(raw),
-                  sheet.name, cell_name(match.header_row, 0) if match else "A1",
-                  fix="Name the columns e.g. " + ", ".join(
-                      ACTIVITY_COLUMNS[k][0].title() for k in
-                      ("id", "predecessors", "optimistic", "most_likely", "pessimistic")))
+        out.error(
+            "missing-column",
+            f"required column(s) missing: {', '.join(missing)}; headers found: "
+            f"{_header_list(found) or '(none)'}" + _searched(raw),
+            sheet.name,
+            cell_name(match.header_row, 0) if match else "A1",
+            fix="Name the columns e.g. "
+            + ", ".join(
+                ACTIVITY_COLUMNS[k][0].title()
+                for k in ("id", "predecessors", "optimistic", "most_likely", "pessimistic")
+            ),
+        )
         return False
     if "predecessors" not in match.columns and raw.links is None:
-        out.error("missing-column",
-                  "required column missing: Predecessors (and no links sheet); headers found: "
-                  + _header_list(match.headers) + _searched(raw),
-                  match.sheet.name, cell_name(match.header_row, 0))
+        out.error(
+            "missing-column",
+            "required column missing: Predecessors (and no links sheet); headers found: "
+            + _header_list(match.headers)
+            + _searched(raw),
+            match.sheet.name,
+            cell_name(match.header_row, 0),
+        )
         return False
     if fixed_only:
-        out.warn("fixed-durations", "no Optimistic or Pessimistic column: every duration is "
-                 "fixed at its Most likely value, so the chances shown carry no spread",
-                 match.sheet.name, cell_name(match.header_row, match.columns["most_likely"]),
-                 fix="Add Optimistic and Pessimistic columns for a risk analysis.")
+        out.warn(
+            "fixed-durations",
+            "no Optimistic or Pessimistic column: every duration is "
+            "fixed at its Most likely value, so the chances shown carry no spread",
+            match.sheet.name,
+            cell_name(match.header_row, match.columns["most_likely"]),
+            fix="Add Optimistic and Pessimistic columns for a risk analysis.",
+        )
     return True
 
 
@@ -109,22 +124,31 @@ def read_activities(match: TableMatch, settings: Settings, out: Collector) -> Ac
     sheet = match.sheet.name
     found = ActivityRows()
     first_row_of: dict[str, int] = {}
-    for offset, row in enumerate(match.sheet.rows[match.header_row + 1:]):
+    for offset, row in enumerate(match.sheet.rows[match.header_row + 1 :]):
         r = match.header_row + 1 + offset
         if all(is_blank(row[c]) for c in cols.values() if c < len(row)):
             continue
         raw_id = _cell(row, cols, "id")
         if is_blank(raw_id):
-            out.error("blank-id", "this row has data but no activity ID", sheet,
-                      cell_name(r, cols["id"]), fix="Give the activity an ID or delete the row.")
+            out.error(
+                "blank-id",
+                "this row has data but no activity ID",
+                sheet,
+                cell_name(r, cols["id"]),
+                fix="Give the activity an ID or delete the row.",
+            )
             read_estimates(row, cols, r, sheet, None, out)  # report its other problems too
             continue
         ident = id_text(raw_id)
         if ident in first_row_of:
-            out.error("duplicate-id",
-                      f'ID "{ident}" is used again (first on row {first_row_of[ident] + 1})',
-                      sheet, cell_name(r, cols["id"]), ident,
-                      fix="Every activity needs its own ID.")
+            out.error(
+                "duplicate-id",
+                f'ID "{ident}" is used again (first on row {first_row_of[ident] + 1})',
+                sheet,
+                cell_name(r, cols["id"]),
+                ident,
+                fix="Every activity needs its own ID.",
+            )
             read_estimates(row, cols, r, sheet, ident, out)
             continue
         first_row_of[ident] = r
@@ -152,18 +176,18 @@ def _activity(row, cols, r, sheet, ident, settings: Settings, out: Collector) ->
         try:
             dist = parse_distribution(d_raw)
         except ValueError as exc:
-            out.error("bad-distribution", str(exc), sheet, cell_name(r, cols["distribution"]),
-                      ident)
+            out.error(
+                "bad-distribution", str(exc), sheet, cell_name(r, cols["distribution"]), ident
+            )
     group_raw = _cell(row, cols, "group")
-    group = None if is_blank(group_raw) or isinstance(group_raw, CellError) else id_text(
-        group_raw)
+    group = None if is_blank(group_raw) or isinstance(group_raw, CellError) else id_text(group_raw)
     target = _target(_cell(row, cols, "target"), cols, r, sheet, ident, settings, out)
-    return Activity(ident, name, o, m, p, row=r + 1, distribution=dist, group=group,
-                    target=target)
+    return Activity(ident, name, o, m, p, row=r + 1, distribution=dist, group=group, target=target)
 
 
-def _target(value, cols, r, sheet, ident, settings: Settings,
-            out: Collector) -> float | dt.date | None:
+def _target(
+    value, cols, r, sheet, ident, settings: Settings, out: Collector
+) -> float | dt.date | None:
     """An interim target: a duration, or a date when there is a start date."""
     if is_blank(value) or isinstance(value, CellError):  # an error cell: the reader's error
         return None
@@ -174,16 +198,25 @@ def _target(value, cols, r, sheet, ident, settings: Settings,
         out.error("bad-target", f"target: {exc}", sheet, where, ident)
         return None
     if isinstance(target, dt.date) and settings.start_date is None:
-        out.error("target-date-without-start",
-                  f"target {target.isoformat()} is a date but there is no start date",
-                  sheet, where, ident,
-                  fix="Add a 'Start date' setting or give the target as a duration.")
+        out.error(
+            "target-date-without-start",
+            f"target {target.isoformat()} is a date but there is no start date",
+            sheet,
+            where,
+            ident,
+            fix="Add a 'Start date' setting or give the target as a duration.",
+        )
         return None
     if isinstance(target, dt.date) and target < settings.start_date:
-        out.warn("target-before-start",
-                 f"target {target.isoformat()} is before the start date "
-                 f"{settings.start_date.isoformat()}: the chance of meeting it is 0%",
-                 sheet, where, ident, fix="Check the year of the target date.")
+        out.warn(
+            "target-before-start",
+            f"target {target.isoformat()} is before the start date "
+            f"{settings.start_date.isoformat()}: the chance of meeting it is 0%",
+            sheet,
+            where,
+            ident,
+            fix="Check the year of the target date.",
+        )
     return target
 
 
@@ -206,23 +239,40 @@ def _estimate_values(row, cols, r, sheet, ident, out: Collector) -> dict | None:
             x = parse_number(raw)
         except ValueError as exc:
             dated = isinstance(raw, (dt.date, dt.time, dt.timedelta))
-            out.error("not-a-number", f"{FIELD_TITLES[key]} estimate {exc}", sheet, where,
-                      ident, fix="Format the cell as a number, not a date or time, and type "
-                      "the duration in time units." if dated else
-                      "Type a plain number of time units (no text or units).")
+            out.error(
+                "not-a-number",
+                f"{FIELD_TITLES[key]} estimate {exc}",
+                sheet,
+                where,
+                ident,
+                fix="Format the cell as a number, not a date or time, and type "
+                "the duration in time units."
+                if dated
+                else "Type a plain number of time units (no text or units).",
+            )
             bad = True
             continue
         if x < 0:
-            out.error("negative-estimate",
-                      f"{FIELD_TITLES[key]} estimate {x:g} is negative", sheet, where, ident,
-                      fix="Durations cannot be negative.")
+            out.error(
+                "negative-estimate",
+                f"{FIELD_TITLES[key]} estimate {x:g} is negative",
+                sheet,
+                where,
+                ident,
+                fix="Durations cannot be negative.",
+            )
             bad = True
         elif x > LARGEST_DURATION:
-            out.error("too-large",
-                      f"{FIELD_TITLES[key]} estimate {x:g} is more than "
-                      f"{LARGEST_DURATION:,.0f} time units, the longest duration pertbook "
-                      "computes with", sheet, where, ident,
-                      fix="Check the number and the time unit of the schedule.")
+            out.error(
+                "too-large",
+                f"{FIELD_TITLES[key]} estimate {x:g} is more than "
+                f"{LARGEST_DURATION:,.0f} time units, the longest duration pertbook "
+                "computes with",
+                sheet,
+                where,
+                ident,
+                fix="Check the number and the time unit of the schedule.",
+            )
             bad = True
         else:
             values[key] = x
@@ -237,31 +287,58 @@ def read_estimates(row, cols, r, sheet, ident, out: Collector):
     o, m, p = values["optimistic"], values["most_likely"], values["pessimistic"]
     m_cell = cell_name(r, cols["most_likely"])
     if o is None and m is None and p is None:
-        out.error("no-estimates", "the activity has no duration estimates", sheet, m_cell, ident,
-                  fix="Fill in Optimistic, Most likely and Pessimistic (or Most likely alone "
-                      "for a fixed duration).")
+        out.error(
+            "no-estimates",
+            "the activity has no duration estimates",
+            sheet,
+            m_cell,
+            ident,
+            fix="Fill in Optimistic, Most likely and Pessimistic (or Most likely alone "
+            "for a fixed duration).",
+        )
         return None
     if m is None:
-        out.error("missing-most-likely", "the most likely estimate is blank", sheet, m_cell,
-                  ident, fix="Fill in the Most likely estimate.")
+        out.error(
+            "missing-most-likely",
+            "the most likely estimate is blank",
+            sheet,
+            m_cell,
+            ident,
+            fix="Fill in the Most likely estimate.",
+        )
         return None
     if o is None and p is None:
         if m == 0 or "optimistic" not in cols:  # a milestone / a sheet of fixed durations
             return m, m, m, True
-        out.warn("deterministic", f"only a most likely value ({m:g}) is given: treated as a "
-                 "fixed duration (O = M = P)", sheet, m_cell, ident)
+        out.warn(
+            "deterministic",
+            f"only a most likely value ({m:g}) is given: treated as a fixed duration (O = M = P)",
+            sheet,
+            m_cell,
+            ident,
+        )
         return m, m, m, True
     if o is None or p is None:
         key = "optimistic" if o is None else "pessimistic"
-        out.error("missing-estimate", f"the {FIELD_TITLES[key].lower()} estimate is blank",
-                  sheet, cell_name(r, cols[key]), ident,
-                  fix="Give all three estimates, or only Most likely for a fixed duration.")
+        out.error(
+            "missing-estimate",
+            f"the {FIELD_TITLES[key].lower()} estimate is blank",
+            sheet,
+            cell_name(r, cols[key]),
+            ident,
+            fix="Give all three estimates, or only Most likely for a fixed duration.",
+        )
         return None
     if not _in_order(o, m, p, cell_name(r, cols["pessimistic"]), m_cell, sheet, ident, out):
         return None
     if o == m == p and m > 0:
-        out.warn("deterministic", f"O = M = P = {m:g}: a fixed duration with no spread",
-                 sheet, m_cell, ident)
+        out.warn(
+            "deterministic",
+            f"O = M = P = {m:g}: a fixed duration with no spread",
+            sheet,
+            m_cell,
+            ident,
+        )
     return o, m, p, o == m == p
 
 
@@ -269,17 +346,26 @@ def _in_order(o, m, p, p_cell, m_cell, sheet, ident, out: Collector) -> bool:
     """O <= M <= P, each violation a problem at the cell that breaks it."""
     ok = True
     if m < o:
-        out.error("order", f"most likely {m:g} is less than optimistic {o:g} "
-                  "(need O <= M <= P)", sheet, m_cell, ident,
-                  fix="Check the order of the three estimates.")
+        out.error(
+            "order",
+            f"most likely {m:g} is less than optimistic {o:g} (need O <= M <= P)",
+            sheet,
+            m_cell,
+            ident,
+            fix="Check the order of the three estimates.",
+        )
         ok = False
     if p < m:
-        out.error("order", f"pessimistic {p:g} is less than most likely {m:g} "
-                  "(need O <= M <= P)", sheet, p_cell, ident,
-                  fix="Check the order of the three estimates.")
+        out.error(
+            "order",
+            f"pessimistic {p:g} is less than most likely {m:g} (need O <= M <= P)",
+            sheet,
+            p_cell,
+            ident,
+            fix="Check the order of the three estimates.",
+        )
         ok = False
     if p < o and ok:
-        out.error("order", f"pessimistic {p:g} is less than optimistic {o:g}", sheet, p_cell,
-                  ident)
+        out.error("order", f"pessimistic {p:g} is less than optimistic {o:g}", sheet, p_cell, ident)
         ok = False
     return ok

@@ -85,33 +85,57 @@ def calendar_days_for(units: float, settings: Settings) -> int:
     return 7 * math.ceil((working + len(settings.holidays)) / per_week)
 
 
-def _alone_too_long(activities: list[Activity], settings: Settings,
-                    places: dict[str, SheetValue], match: TableMatch, room: int):
+def _alone_too_long(
+    activities: list[Activity],
+    settings: Settings,
+    places: dict[str, SheetValue],
+    match: TableMatch,
+    room: int,
+):
     """(units, sheet, cell, activity, what) of the first single duration that alone does not
     fit in ``room`` days: the largest pessimistic estimate, the due duration, the largest
     target duration."""
     fixed = "pessimistic" not in match.columns
     key = "most_likely" if fixed else "pessimistic"
     worst = max(activities, key=lambda a: a.pessimistic)
-    candidates = [(worst.pessimistic, match.sheet.name,
-                   cell_name(worst.row - 1, match.columns[key]), worst.id,
-                   "the duration" if fixed else "the pessimistic estimate")]
+    candidates = [
+        (
+            worst.pessimistic,
+            match.sheet.name,
+            cell_name(worst.row - 1, match.columns[key]),
+            worst.id,
+            "the duration" if fixed else "the pessimistic estimate",
+        )
+    ]
     if isinstance(settings.due, float):
         sheet, cell, where = place_of(settings, "due", places)
         candidates.append((settings.due, sheet, cell, None, f"the due duration{where}"))
     timed = [a for a in activities if isinstance(a.target, float)]
     if timed:
         a = max(timed, key=lambda a: a.target)
-        candidates.append((a.target, match.sheet.name,
-                           cell_name(a.row - 1, match.columns["target"]), a.id, "the target"))
+        candidates.append(
+            (
+                a.target,
+                match.sheet.name,
+                cell_name(a.row - 1, match.columns["target"]),
+                a.id,
+                "the target",
+            )
+        )
     for units, sheet, cell, ident, what in candidates:
         if calendar_days_for(units, settings) > room:
             return units, sheet, cell, ident, what
     return None
 
 
-def check_dates_fit(activities: list[Activity], links: list[Link], settings: Settings,
-                    places: dict[str, SheetValue], match: TableMatch, out: Collector) -> None:
+def check_dates_fit(
+    activities: list[Activity],
+    links: list[Link],
+    settings: Settings,
+    places: dict[str, SheetValue],
+    match: TableMatch,
+    out: Collector,
+) -> None:
     """An error when a date the analysis may show could fall outside 1900-03-01..9999-12-31.
 
     The problem names the cell to change: a single duration (the largest pessimistic
@@ -123,38 +147,54 @@ def check_dates_fit(activities: list[Activity], links: list[Link], settings: Set
         return
     longest = sum(a.pessimistic for a in activities) + sum(max(lk.lag, 0.0) for lk in links)
     spread = spread_allowance(settings.confidence_levels) * math.sqrt(
-        sum(((a.pessimistic - a.optimistic) / 6.0) ** 2 for a in activities))
+        sum(((a.pessimistic - a.optimistic) / 6.0) ** 2 for a in activities)
+    )
     targets = [a.target for a in activities if isinstance(a.target, float)]
     due = settings.due if isinstance(settings.due, float) else 0.0
     latest = max(longest + spread, due, *targets)
     room_after = (LAST_DATE - start).days
     room_before = (start - FIRST_DATE).days
     if calendar_days_for(latest, settings) <= room_after and (
-            spread == 0 or calendar_days_for(spread, settings) <= room_before):
+        spread == 0 or calendar_days_for(spread, settings) <= room_before
+    ):
         return
     unit = settings.time_unit
     alone = _alone_too_long(activities, settings, places, match, CALENDAR_DAYS)
     if alone is not None:
         units, sheet, cell, ident, what = alone
-        out.error("beyond-calendar",
-                  f"{what} of {units:,.6g} {unit} is longer than the whole calendar a "
-                  f"workbook can hold ({FIRST_DATE.isoformat()} to {LAST_DATE.isoformat()})",
-                  sheet, cell, ident,
-                  fix="Check the number and the time unit of the schedule.")
+        out.error(
+            "beyond-calendar",
+            f"{what} of {units:,.6g} {unit} is longer than the whole calendar a "
+            f"workbook can hold ({FIRST_DATE.isoformat()} to {LAST_DATE.isoformat()})",
+            sheet,
+            cell,
+            ident,
+            fix="Check the number and the time unit of the schedule.",
+        )
         return
     sheet, cell, where = place_of(settings, "start_date", places)
     after = calendar_days_for(latest, settings) > room_after
     if not after:
-        reach = (f"the low end of the finish's spread, {spread:,.4g} {unit} before the "
-                 f"start, would fall before {FIRST_DATE.isoformat()}")
+        reach = (
+            f"the low end of the finish's spread, {spread:,.4g} {unit} before the "
+            f"start, would fall before {FIRST_DATE.isoformat()}"
+        )
     elif latest == longest + spread:
-        reach = (f"all pessimistic durations and positive lags together ({longest:,.6g} "
-                 f"{unit}) and the spread of the finish ({spread:,.4g} {unit}) would reach "
-                 f"past {LAST_DATE.isoformat()}")
+        reach = (
+            f"all pessimistic durations and positive lags together ({longest:,.6g} "
+            f"{unit}) and the spread of the finish ({spread:,.4g} {unit}) would reach "
+            f"past {LAST_DATE.isoformat()}"
+        )
     else:
-        reach = (f"the {'due' if latest == due else 'target'} duration of {latest:,.6g} "
-                 f"{unit} would end after {LAST_DATE.isoformat()}")
-    out.error("beyond-calendar",
-              f"from the start date {start.isoformat()}{where} the schedule's dates do not "
-              f"fit in the calendar a workbook can hold: {reach}", sheet, cell,
-              fix="Check the start date (and its year), the durations and the time unit.")
+        reach = (
+            f"the {'due' if latest == due else 'target'} duration of {latest:,.6g} "
+            f"{unit} would end after {LAST_DATE.isoformat()}"
+        )
+    out.error(
+        "beyond-calendar",
+        f"from the start date {start.isoformat()}{where} the schedule's dates do not "
+        f"fit in the calendar a workbook can hold: {reach}",
+        sheet,
+        cell,
+        fix="Check the start date (and its year), the durations and the time unit.",
+    )

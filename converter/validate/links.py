@@ -18,14 +18,25 @@ from converter.validate.problems import Collector
 from converter.values import LARGEST_LAG, id_text, is_blank, normalise, parse_number, shown
 
 LINK_TYPE_WORDS = {
-    "fs": "FS", "finishtostart": "FS", "finishstart": "FS",
-    "ss": "SS", "starttostart": "SS", "startstart": "SS",
-    "ff": "FF", "finishtofinish": "FF", "finishfinish": "FF",
-    "sf": "SF", "starttofinish": "SF", "startfinish": "SF",
+    "fs": "FS",
+    "finishtostart": "FS",
+    "finishstart": "FS",
+    "ss": "SS",
+    "starttostart": "SS",
+    "startstart": "SS",
+    "ff": "FF",
+    "finishtofinish": "FF",
+    "finishfinish": "FF",
+    "sf": "SF",
+    "starttofinish": "SF",
+    "startfinish": "SF",
 }
 
-_SPEC = re.compile(r"^(?P<type>FS|SS|FF|SF)?(?P<lag>[+-](?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)"
-                   r"(?:[eE][+-]?[0-9]+)?)?$", re.IGNORECASE)
+_SPEC = re.compile(
+    r"^(?P<type>FS|SS|FF|SF)?(?P<lag>[+-](?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)"
+    r"(?:[eE][+-]?[0-9]+)?)?$",
+    re.IGNORECASE,
+)
 
 
 # --------------------------------------------------------------------------- notation
@@ -50,14 +61,18 @@ def parse_link_token(token: str) -> tuple[str, str, float] | str:
         return f'"{token}" has a bracket part but no activity ID before it'
     s = _SPEC.match(re.sub(r"\s+", "", spec).replace("\u2212", "-"))
     if not s or (s.group("type") is None and s.group("lag") is None and spec):
-        return (f'"{_short(token)}": cannot read [{_short(spec)}]; write the link type FS, SS, '
-                "FF or SF and/or a lag such as +2 or -1, e.g. A3[SS+2]")
+        return (
+            f'"{_short(token)}": cannot read [{_short(spec)}]; write the link type FS, SS, '
+            "FF or SF and/or a lag such as +2 or -1, e.g. A3[SS+2]"
+        )
     kind = (s.group("type") or "FS").upper()
     lag = float(s.group("lag")) if s.group("lag") else 0.0  # a plain number by _SPEC
     if not abs(lag) <= LARGEST_LAG:
         size = f"{lag:g}" if math.isfinite(lag) else "too large a number"
-        return (f'"{_short(token)}": the lag ({size}) is beyond {LARGEST_LAG:,.0f} time units '
-                "either way, the longest lag or lead pertbook computes with")
+        return (
+            f'"{_short(token)}": the lag ({size}) is beyond {LARGEST_LAG:,.0f} time units '
+            "either way, the longest lag or lead pertbook computes with"
+        )
     return id_text(ident), kind, lag
 
 
@@ -70,9 +85,9 @@ def _bracket(token: str) -> tuple[str, str] | None:
     if not token.endswith("]"):
         return None
     opening = token.rfind("[")
-    if opening < 0 or "]" in token[opening + 1:-1]:
+    if opening < 0 or "]" in token[opening + 1 : -1]:
         return None
-    return token[:opening].strip(), token[opening + 1:-1].strip()
+    return token[:opening].strip(), token[opening + 1 : -1].strip()
 
 
 def _short(text: str, most: int = 40) -> str:
@@ -107,16 +122,22 @@ class LinkBook:
     def add(self, pred: str, succ: str, kind: str, lag: float, sheet: str, cell: str) -> None:
         key = (pred, succ)
         if key in self._seen:
-            self.out.error("duplicate-link",
-                           f"the link {pred} -> {succ} is given twice (also at {self._seen[key]})",
-                           sheet, cell, succ, fix="Keep one of the two.")
+            self.out.error(
+                "duplicate-link",
+                f"the link {pred} -> {succ} is given twice (also at {self._seen[key]})",
+                sheet,
+                cell,
+                succ,
+                fix="Keep one of the two.",
+            )
             return
         self._seen[key] = f"{sheet}!{cell}"
         self.links.append(Link(pred, succ, kind, lag, sheet, cell))
 
 
-def read_predecessor_column(book: LinkBook, activities: list[Activity],
-                            cells: list[tuple[int, object]], match: TableMatch) -> None:
+def read_predecessor_column(
+    book: LinkBook, activities: list[Activity], cells: list[tuple[int, object]], match: TableMatch
+) -> None:
     """Links from the predecessor cell of each activity (``cells``: (row, value) each)."""
     sheet, cols = match.sheet.name, match.columns
     pc = cols["predecessors"]
@@ -132,15 +153,24 @@ def read_predecessor_column(book: LinkBook, activities: list[Activity],
                 continue
             pred, kind, lag = parsed
             if pred == act.id:
-                book.out.error("self-link", f"{act.id} names itself as a predecessor", sheet,
-                               cell, act.id,
-                               fix="Remove the activity's own ID from its predecessors.")
+                book.out.error(
+                    "self-link",
+                    f"{act.id} names itself as a predecessor",
+                    sheet,
+                    cell,
+                    act.id,
+                    fix="Remove the activity's own ID from its predecessors.",
+                )
             elif pred not in book.ids:
-                book.out.error("missing-link",
-                               f'predecessor "{pred}" is not an activity ID in column '
-                               f"{id_column}", sheet, cell, act.id,
-                               fix=f"{sheet}!{cell} names predecessor {pred}, which is not in "
-                                   f"the ID column.{_hint(pred, book.ids)}")
+                book.out.error(
+                    "missing-link",
+                    f'predecessor "{pred}" is not an activity ID in column {id_column}',
+                    sheet,
+                    cell,
+                    act.id,
+                    fix=f"{sheet}!{cell} names predecessor {pred}, which is not in "
+                    f"the ID column.{_hint(pred, book.ids)}",
+                )
             else:
                 book.add(pred, act.id, kind, lag, sheet, cell)
 
@@ -180,20 +210,35 @@ def _link_row(book: LinkBook, match: TableMatch, r: int, vals: dict):
     for ident, key in ((pred, "pred"), (succ, "succ")):
         where = cell_name(r, cols[key])
         if ident is None:
-            out.error("bad-link", "the link row has no "
-                      + ("predecessor" if key == "pred" else "successor"), sheet, where)
+            out.error(
+                "bad-link",
+                "the link row has no " + ("predecessor" if key == "pred" else "successor"),
+                sheet,
+                where,
+            )
             ok = False
         elif ident not in book.ids:
-            out.error("missing-link", f'"{ident}" is not an activity ID', sheet, where, ident,
-                      fix=f"{sheet}!{where} names {ident}, which is not in the activity "
-                          "sheet's ID column.")
+            out.error(
+                "missing-link",
+                f'"{ident}" is not an activity ID',
+                sheet,
+                where,
+                ident,
+                fix=f"{sheet}!{where} names {ident}, which is not in the activity "
+                "sheet's ID column.",
+            )
             ok = False
     kind = "FS"
     if "type" in cols and not is_blank(vals.get("type")):
         kind = LINK_TYPE_WORDS.get(normalise(vals["type"]))
         if kind is None:
-            out.error("bad-link", f"link type {shown(vals['type'])} is not one of "
-                      f"{', '.join(LINK_TYPES)}", sheet, cell_name(r, cols["type"]), succ)
+            out.error(
+                "bad-link",
+                f"link type {shown(vals['type'])} is not one of {', '.join(LINK_TYPES)}",
+                sheet,
+                cell_name(r, cols["type"]),
+                succ,
+            )
             ok = False
     lag = 0.0
     if "lag" in cols and not is_blank(vals.get("lag")):
@@ -205,13 +250,20 @@ def _link_row(book: LinkBook, match: TableMatch, r: int, vals: dict):
             ok = False
         else:
             if abs(lag) > LARGEST_LAG:
-                out.error("too-large", f"lag {lag:g} is beyond {LARGEST_LAG:,.0f} time units "
-                          "either way, the longest lag or lead pertbook computes with", sheet,
-                          lag_cell, succ, fix="Check the number and the time unit.")
+                out.error(
+                    "too-large",
+                    f"lag {lag:g} is beyond {LARGEST_LAG:,.0f} time units "
+                    "either way, the longest lag or lead pertbook computes with",
+                    sheet,
+                    lag_cell,
+                    succ,
+                    fix="Check the number and the time unit.",
+                )
                 ok = False
     if ok and pred == succ:
-        out.error("self-link", f"{pred} is linked to itself", sheet,
-                  cell_name(r, cols["pred"]), pred)
+        out.error(
+            "self-link", f"{pred} is linked to itself", sheet, cell_name(r, cols["pred"]), pred
+        )
         ok = False
     return (pred, succ, kind, lag) if ok else None
 
@@ -236,13 +288,19 @@ def check_cycles(activities: list[Activity], links: list[Link], out: Collector) 
         order = order[k:] + order[:k]
         text = " -> ".join(order + [order[0]])
         sheet, cell = cell_of[(order[-1], order[0])]
-        out.error("cycle", f"dependency cycle: {text}", sheet, cell, order[0],
-                  fix="Remove or reverse one of these links: an activity cannot wait for "
-                      "itself.")
+        out.error(
+            "cycle",
+            f"dependency cycle: {text}",
+            sheet,
+            cell,
+            order[0],
+            fix="Remove or reverse one of these links: an activity cannot wait for itself.",
+        )
 
 
-def warn_unlinked(activities: list[Activity], links: list[Link], match: TableMatch,
-                  out: Collector) -> None:
+def warn_unlinked(
+    activities: list[Activity], links: list[Link], match: TableMatch, out: Collector
+) -> None:
     """A warning for each activity with no predecessors and no successors (of several)."""
     if len(activities) < 2:
         return
@@ -250,6 +308,11 @@ def warn_unlinked(activities: list[Activity], links: list[Link], match: TableMat
     linked = {lk.pred for lk in links} | {lk.succ for lk in links}
     for a in activities:
         if a.id not in linked:
-            out.warn("no-links", "the activity has no predecessors and no successors",
-                     match.sheet.name, cell_name(a.row - 1, column), a.id,
-                     fix="Link it into the network, or check it belongs in this schedule.")
+            out.warn(
+                "no-links",
+                "the activity has no predecessors and no successors",
+                match.sheet.name,
+                cell_name(a.row - 1, column),
+                a.id,
+                fix="Link it into the network, or check it belongs in this schedule.",
+            )

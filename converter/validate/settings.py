@@ -61,11 +61,16 @@ class SettingsSheet:
             key = current = _SETTING_ALIASES.get(normalise(label))
             if key is None:
                 if normalise(label) not in _SETTING_HEADERS and not is_blank(value):
-                    self.problems.append(Problem(
-                        WARNING, "unknown-setting",
-                        f'setting "{label}" is not one pertbook knows; it was ignored',
-                        sheet.name, cell_name(r, 0),
-                        fix="See the README for the setting labels."))
+                    self.problems.append(
+                        Problem(
+                            WARNING,
+                            "unknown-setting",
+                            f'setting "{label}" is not one pertbook knows; it was ignored',
+                            sheet.name,
+                            cell_name(r, 0),
+                            fix="See the README for the setting labels.",
+                        )
+                    )
             elif is_blank(value):
                 continue
             elif key == "holidays":
@@ -79,11 +84,15 @@ class SettingsSheet:
 def _repeated(label: object, first: SheetValue, again: SheetValue) -> Problem:
     """A setting given on two rows: the later one is used, and the user is told so."""
     return Problem(
-        WARNING, "repeated-setting",
+        WARNING,
+        "repeated-setting",
         f'the setting "{str(label).strip()}" is given twice: {first.where} '
         f"({shown(first.value)}) and {again.where} ({shown(again.value)}); the later one, "
-        f"{again.where}, is used", again.sheet, again.cell,
-        fix="Delete the row you do not mean.")
+        f"{again.where}, is used",
+        again.sheet,
+        again.cell,
+        fix="Delete the row you do not mean.",
+    )
 
 
 def resolve_settings(
@@ -100,8 +109,9 @@ def resolve_settings(
     return settings, found.problems + problems, found.values
 
 
-def place_of(settings: Settings, key: str,
-             places: dict[str, SheetValue]) -> tuple[str | None, str | None, str]:
+def place_of(
+    settings: Settings, key: str, places: dict[str, SheetValue]
+) -> tuple[str | None, str | None, str]:
     """(sheet, cell, words) of the value a setting took.
 
     Its cell on the settings sheet (and no words: the problem names the cell), or no cell
@@ -119,8 +129,14 @@ def _due_before_start(settings: Settings, on_sheet: SheetValue | None) -> list[P
     if not isinstance(due, dt.date) or start is None or due >= start:
         return []
     sheet, cell, where = place_of(settings, "due", {"due": on_sheet} if on_sheet else {})
-    return [Problem(
-        WARNING, "due-before-start",
-        f"the due date {due.isoformat()}{where} is before the start date "
-        f"{start.isoformat()}: the chance of finishing by it is 0%", sheet, cell,
-        fix="Check the year of the due date and of the start date.")]
+    return [
+        Problem(
+            WARNING,
+            "due-before-start",
+            f"the due date {due.isoformat()}{where} is before the start date "
+            f"{start.isoformat()}: the chance of finishing by it is 0%",
+            sheet,
+            cell,
+            fix="Check the year of the due date and of the start date.",
+        )
+    ]

@@ -120,25 +120,27 @@ def _activities(a) -> list[dict]:
     sim, cpm, dates = a.simulation, a.cpm, a.activity_dates
     rows = []
     for i, ident in enumerate(a.ids):
-        rows.append({
-            "id": ident,
-            "name": a.schedule.activities[i].name,
-            "te": _num(a.te[i]),
-            "variance": _num(a.var[i]),
-            "es": _num(cpm.es[i]),
-            "ef": _num(cpm.ef[i]),
-            "ls": _num(cpm.ls[i]),
-            "lf": _num(cpm.lf[i]),
-            "total_float": _num(cpm.total_float[i]),
-            "free_float": _num(cpm.free_float[i]),
-            "critical": bool(cpm.critical[i]),
-            "criticality": _num(sim.criticality[i]) if sim is not None else None,
-            "sensitivity": _num(sim.sensitivity[i]) if sim is not None else None,
-            "early_start_date": _iso(dates.early_start[i]) if dates else None,
-            "early_finish_date": _iso(dates.early_finish[i]) if dates else None,
-            "late_start_date": _iso(dates.late_start[i]) if dates else None,
-            "late_finish_date": _iso(dates.late_finish[i]) if dates else None,
-        })
+        rows.append(
+            {
+                "id": ident,
+                "name": a.schedule.activities[i].name,
+                "te": _num(a.te[i]),
+                "variance": _num(a.var[i]),
+                "es": _num(cpm.es[i]),
+                "ef": _num(cpm.ef[i]),
+                "ls": _num(cpm.ls[i]),
+                "lf": _num(cpm.lf[i]),
+                "total_float": _num(cpm.total_float[i]),
+                "free_float": _num(cpm.free_float[i]),
+                "critical": bool(cpm.critical[i]),
+                "criticality": _num(sim.criticality[i]) if sim is not None else None,
+                "sensitivity": _num(sim.sensitivity[i]) if sim is not None else None,
+                "early_start_date": _iso(dates.early_start[i]) if dates else None,
+                "early_finish_date": _iso(dates.early_finish[i]) if dates else None,
+                "late_start_date": _iso(dates.late_start[i]) if dates else None,
+                "late_finish_date": _iso(dates.late_finish[i]) if dates else None,
+            }
+        )
     return rows
 
 

@@ -173,18 +173,29 @@ def test_handover_milestone_takes_the_day_the_work_before_it_ends():
     assert cal.start_date(16) == D(2027, 3, 25)  # work at offset 16 is done on day 17
     assert cal.start_date(16, finish=16) == D(2027, 3, 24)
     assert cal.start_dates([16, 0, 16], finishes=[16, 0, 17]) == [
-        D(2027, 3, 24), D(2027, 3, 1), D(2027, 3, 25)]
+        D(2027, 3, 24),
+        D(2027, 3, 1),
+        D(2027, 3, 25),
+    ]
     # numpy.busday_offset: working day 16 counted from 0 is offset 15.
-    want = np.busday_offset(np.datetime64("2027-03-01"), 15, roll="forward",
-                            holidays=np.array(hol, dtype="datetime64[D]"))
+    want = np.busday_offset(
+        np.datetime64("2027-03-01"),
+        15,
+        roll="forward",
+        holidays=np.array(hol, dtype="datetime64[D]"),
+    )
     assert cal.start_date(16, finish=16) == want.astype(dt.date)
 
 
-@pytest.mark.parametrize("cal", [
-    Calendar(D(2026, 12, 30), holidays=(D(2027, 1, 1), D(2027, 1, 6))),
-    Calendar(D(2025, 3, 1), unit="weeks"),
-    Calendar(D(2025, 3, 1), unit="calendar days"),
-], ids=["working days", "weeks", "calendar days"])
+@pytest.mark.parametrize(
+    "cal",
+    [
+        Calendar(D(2026, 12, 30), holidays=(D(2027, 1, 1), D(2027, 1, 6))),
+        Calendar(D(2025, 3, 1), unit="weeks"),
+        Calendar(D(2025, 3, 1), unit="calendar days"),
+    ],
+    ids=["working days", "weeks", "calendar days"],
+)
 def test_start_never_after_finish_and_milestones_start_where_they_finish(cal):
     # Reference: the rules themselves in numpy terms. For any length d >= 0 the start date
     # (given the finish) is not after the finish date; a zero length starts on its finish
@@ -387,8 +398,15 @@ def test_milestone_start_formula_recalculates_in_libreoffice(libreoffice, tmp_pa
         (Calendar(D(2025, 3, 1), unit="weeks", holidays=(D(2025, 3, 3),)), "weeks"),
         (Calendar(D(2025, 3, 1), unit="calendar days"), "cal"),
     ]
-    pairs = [(16.0, 16.0), (0.0, 0.0), (16.0, 17.0), (2.5, 2.5), (3.0, 3.0 + 1e-12),
-             (7.25, 9.0), (1.0, 1.0)]
+    pairs = [
+        (16.0, 16.0),
+        (0.0, 0.0),
+        (16.0, 17.0),
+        (2.5, 2.5),
+        (3.0, 3.0 + 1e-12),
+        (7.25, 9.0),
+        (1.0, 1.0),
+    ]
     path = tmp_path / "milestones.xlsx"
     wb = xlsxwriter.Workbook(str(path))
     date_format = wb.add_format({"num_format": "yyyy-mm-dd"})

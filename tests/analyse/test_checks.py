@@ -89,8 +89,10 @@ def test_missing_successor_counted_once():
     assert c.cited[0].source is DCMA and c.cited[0].where == "check 1 (logic)"
     assert "Defense Contract Management Agency" in DCMA.full
     assert "DCMA-EA PAM 200.1" in DCMA.full and "October 2012" in DCMA.full
-    assert c.source == "DCMA 2012, check 1 (logic); why: GAO 2015, best practice 2 " \
+    assert (
+        c.source == "DCMA 2012, check 1 (logic); why: GAO 2015, best practice 2 "
         "(sequencing all activities)"
+    )
 
 
 def test_missing_predecessor_counted_once():

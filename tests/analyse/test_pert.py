@@ -21,8 +21,18 @@ class TestExpectedTime:
         assert pert.expected_time(1, 1, 1) == 1.0
         assert pert.variance(1, 1) == 0.0
 
-    @pytest.mark.parametrize("a,m,b", [(1, 2, 6), (0, 3, 4), (2.5, 7, 30), (5, 5, 9), (3, 8, 8),
-                                       (2.0, 3.0, 9.0), (4.0, 4.2, 30.0)])
+    @pytest.mark.parametrize(
+        "a,m,b",
+        [
+            (1, 2, 6),
+            (0, 3, 4),
+            (2.5, 7, 30),
+            (5, 5, 9),
+            (3, 8, 8),
+            (2.0, 3.0, 9.0),
+            (4.0, 4.2, 30.0),
+        ],
+    )
     def test_pert_beta_moments(self, a, m, b):
         # scipy.stats.beta with the shapes the simulation samples with has mean
         # (a + 4m + b)/6 (Malcolm et al. 1959) and variance (mu - a)(b - mu)/7 (Vose 2008,
@@ -62,8 +72,7 @@ class TestNormal:
 
     # Quantiles of the standard normal, textbook tables: 80/90/95/99% -> 0.8416, 1.2816,
     # 1.6449, 2.3263.
-    @pytest.mark.parametrize("c,z", [(0.8, 0.8416), (0.9, 1.2816), (0.95, 1.6449),
-                                     (0.99, 2.3263)])
+    @pytest.mark.parametrize("c,z", [(0.8, 0.8416), (0.9, 1.2816), (0.95, 1.6449), (0.99, 2.3263)])
     def test_quantiles(self, c, z):
         assert round(pert.duration_at(c, 0.0, 1.0), 4) == z
 

@@ -84,8 +84,7 @@ def test_beta_cheng_rows_short_of_accepted_draws_are_completed():
     a, b = 1.3, 4.7
     big = a + b
     scale = math.sqrt((big - 2) / (2 * a * b - big))  # Cheng (1978), algorithm BB set-up
-    params = tuple(np.full((4, 1), v, dtype=np.float32) for v in (a, b, big, scale,
-                                                                  a + 1 / scale))
+    params = tuple(np.full((4, 1), v, dtype=np.float32) for v in (a, b, big, scale, a + 1 / scale))
     with np.errstate(divide="ignore"):
         x = sampling._cheng_accepted(np.random.default_rng(7), params, 4, 50_000, extra=0)
     assert x.shape == (4, 50_000)
@@ -178,8 +177,9 @@ def test_max_of_two_symmetric_pert_betas():
     o, m, p = 10.0, 20.0, 30.0
     dist = stats.beta(3.0, 3.0, loc=o, scale=p - o)
     exact = integrate.quad(lambda x: x * 2 * dist.cdf(x) * dist.pdf(x), o, p)[0]
-    r = sim.simulate(parallel(2), [0, o, o, 0], [0, m, m, 0], [0, p, p, 0],
-                     iterations=100_000, seed=4)
+    r = sim.simulate(
+        parallel(2), [0, o, o, 0], [0, m, m, 0], [0, p, p, 0], iterations=100_000, seed=4
+    )
     assert within(r.mean, exact, r.std_error_mean)
     clark = m + dist.std() / math.sqrt(math.pi)
     assert abs(clark - exact) < 0.01 * exact  # close, not equal
@@ -294,8 +294,9 @@ def test_correlation_with_more_group_members_than_draws():
 
 
 def test_full_correlation_gives_equal_ranks():
-    x = sim.induce_rank_correlation(np.random.default_rng(1), np.random.default_rng(2).random(
-        (3, 500)), 1.0)
+    x = sim.induce_rank_correlation(
+        np.random.default_rng(1), np.random.default_rng(2).random((3, 500)), 1.0
+    )
     assert stats.spearmanr(x[0], x[1]).statistic == pytest.approx(1.0)
     assert stats.spearmanr(x[0], x[2]).statistic == pytest.approx(1.0)
 
@@ -421,8 +422,9 @@ def random_typed_network(rng, n, typed=True):
 def test_due_percentiles_and_targets():
     o, m, p = [1.0, 2.0, 1.0], [3.0, 4.0, 2.0], [9.0, 8.0, 6.0]
     count = 10_000
-    r = sim.simulate(chain(3), o, m, p, iterations=count, seed=19, due=11.0,
-                     targets={0: 3.5, 1: 8.0})
+    r = sim.simulate(
+        chain(3), o, m, p, iterations=count, seed=19, due=11.0, targets={0: 3.5, 1: 8.0}
+    )
     y = r.durations
     p_due = np.mean(y <= 11.0)
     assert r.p_meet_due == pytest.approx(p_due)

@@ -70,7 +70,12 @@ def test_budget_limited_run_matches_the_unlimited_one(correlated, iterations, mb
         assert np.array_equal(a.durations, b.durations)
         assert np.array_equal(a.criticality, b.criticality)
         assert (a.mean, a.sd, a.p_meet_due, a.percentiles, a.target_p) == (
-            b.mean, b.sd, b.p_meet_due, b.percentiles, b.target_p)
+            b.mean,
+            b.sd,
+            b.p_meet_due,
+            b.percentiles,
+            b.target_p,
+        )
         # sensitivities: the full run's and the first-K one differ by sampling only; the
         # standard error of rho from K pairs is (1 - rho^2) sqrt(1.06 / (K - 3))
         # (Fieller, Hartley & Pearson 1957); 4.5 of them over 120 activities
@@ -78,16 +83,25 @@ def test_budget_limited_run_matches_the_unlimited_one(correlated, iterations, mb
         assert np.nanmax(np.abs(a.sensitivity - b.sensitivity) / se) < 4.5
     # the first-K sensitivities are Spearman's rho of the first K iterations: our ranks
     # on draw_samples, and scipy.stats.spearmanr on a few activities
-    draws = sim.draw_samples(o, m, p, iterations=iterations, seed=3, groups=kw.get("groups"),
-                             correlation=kw.get("correlation", 0.0))[:, :k]
+    draws = sim.draw_samples(
+        o,
+        m,
+        p,
+        iterations=iterations,
+        seed=3,
+        groups=kw.get("groups"),
+        correlation=kw.get("correlation", 0.0),
+    )[:, :k]
     assert np.array_equal(sim.spearman_rows(draws, part.durations[:k]), part.sensitivity)
     for i in (0, 7, 119):
         expected = stats.spearmanr(draws[i], part.durations[:k]).statistic
         assert part.sensitivity[i] == pytest.approx(expected, abs=1e-12)
 
 
-@pytest.mark.skipif("fork" not in multiprocessing.get_all_start_methods(),
-                    reason="worker processes need the fork start method")
+@pytest.mark.skipif(
+    "fork" not in multiprocessing.get_all_start_methods(),
+    reason="worker processes need the fork start method",
+)
 def test_budget_limited_run_in_worker_processes(monkeypatch):
     # small chunks (as in test_simulate's worker test), and no allowance for a worker's
     # interpreter, let two workers fit a small budget;
@@ -100,8 +114,7 @@ def test_budget_limited_run_in_worker_processes(monkeypatch):
     o, m, p = estimates(n, seed=16)
     plan = budget.plan_memory(n, iterations, 2, sim.chunk_size(n, iterations), memory_mb=64)
     assert plan.workers == 2 and plan.sampled
-    one = sim.simulate(net, o, m, p, iterations=iterations, seed=17, workers=1,
-                       memory_mb=100_000)
+    one = sim.simulate(net, o, m, p, iterations=iterations, seed=17, workers=1, memory_mb=100_000)
     two = sim.simulate(net, o, m, p, iterations=iterations, seed=17, workers=2, memory_mb=64)
     k = two.sensitivity_iterations
     assert k == plan.sample
@@ -170,11 +183,19 @@ def test_peak_memory_stays_within_the_budget():
     # test process from before the exec.
     n, iterations, mb = 40, 1_000_000, 150
     assert budget.run_bytes(n, iterations, iterations, 1, sim.chunk_size(n, iterations)) > (
-        2 * mb << 20)
+        2 * mb << 20
+    )
     code = _CHILD.format(root=str(ROOT), n=n, iterations=iterations, mb=mb)
     env = dict(os.environ, PYTHONPATH=str(ROOT))
-    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
-                         env=env, cwd=ROOT, timeout=600, check=True)
+    out = subprocess.run(
+        [sys.executable, "-c", code],
+        capture_output=True,
+        text=True,
+        env=env,
+        cwd=ROOT,
+        timeout=600,
+        check=True,
+    )
     seen = json.loads(out.stdout.strip().splitlines()[-1])
     assert 1_000 <= seen["kept"] < iterations
     assert (seen["peak_kb"] - seen["before_kb"]) / 1024 <= mb
@@ -210,8 +231,9 @@ def test_refusal_names_the_largest_iteration_count_that_fits():
 def test_simulate_refuses_before_allocating(monkeypatch):
     allocated = []
     real = runs.processes.mapped
-    monkeypatch.setattr(runs.processes, "mapped",
-                        lambda *a, **k: allocated.append(a) or real(*a, **k))
+    monkeypatch.setattr(
+        runs.processes, "mapped", lambda *a, **k: allocated.append(a) or real(*a, **k)
+    )
     net = layered(2_000, 10, seed=11)
     o, m, p = estimates(2_000, seed=12)
     with pytest.raises(sim.SimulationMemoryError):
@@ -227,8 +249,9 @@ def _schedule(n: int, iterations: int, source: str) -> Schedule:
 
 def test_memory_problem_names_the_settings_cell():
     # the error is a Problem (exit code 2 through the usual path) at the Iterations cell
-    problem = budget.memory_problem(_schedule(2_000, 10_000_000, "settings sheet (Settings!B7)"),
-                                    memory_mb=100)
+    problem = budget.memory_problem(
+        _schedule(2_000, 10_000_000, "settings sheet (Settings!B7)"), memory_mb=100
+    )
     largest = budget.largest_iterations(2_000, memory_mb=100)
     assert problem is not None and problem.severity == "error"
     assert (problem.code, problem.sheet, problem.cell) == ("simulation-memory", "Settings", "B7")

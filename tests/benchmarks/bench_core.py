@@ -41,14 +41,18 @@ def make_input(path: Path, n: int, links: int, seed: int = 1) -> None:
             count += 1
     wb = xlsxwriter.Workbook(str(path), {"constant_memory": True})
     ws = wb.add_worksheet("Activities")
-    ws.write_row(0, 0, ["ID", "Description", "Predecessors", "Optimistic", "Most likely",
-                        "Pessimistic"])
+    ws.write_row(
+        0, 0, ["ID", "Description", "Predecessors", "Optimistic", "Most likely", "Pessimistic"]
+    )
     for i in range(n):
         m = float(rng.integers(2, 20))
         o = m - float(rng.integers(0, 2))
         p = m + float(rng.integers(0, 10))
-        ws.write_row(i + 1, 0, [f"A{i}", f"Work package {i}",
-                                ", ".join(f"A{j}" for j in sorted(preds[i])), o, m, p])
+        ws.write_row(
+            i + 1,
+            0,
+            [f"A{i}", f"Work package {i}", ", ".join(f"A{j}" for j in sorted(preds[i])), o, m, p],
+        )
     wb.close()
 
 
@@ -68,16 +72,26 @@ def time_validate_schedule(path: Path) -> dict:
     t2 = time.perf_counter()
     idx = sched.index()
     acts = sched.activities
-    net = build_network(len(acts), [idx[lk.pred] for lk in sched.links],
-                        [idx[lk.succ] for lk in sched.links],
-                        [lk.code for lk in sched.links], [lk.lag for lk in sched.links])
-    te = expected_time([a.optimistic for a in acts], [a.most_likely for a in acts],
-                       [a.pessimistic for a in acts])
+    net = build_network(
+        len(acts),
+        [idx[lk.pred] for lk in sched.links],
+        [idx[lk.succ] for lk in sched.links],
+        [lk.code for lk in sched.links],
+        [lk.lag for lk in sched.links],
+    )
+    te = expected_time(
+        [a.optimistic for a in acts], [a.most_likely for a in acts], [a.pessimistic for a in acts]
+    )
     cpm = schedule(net, te)
     t3 = time.perf_counter()
-    return {"read_s": t1 - t0, "validate_s": t2 - t1, "schedule_s": t3 - t2,
-            "validate_and_schedule_s": t3 - t1, "finish": cpm.finish,
-            "links": len(sched.links)}
+    return {
+        "read_s": t1 - t0,
+        "validate_s": t2 - t1,
+        "schedule_s": t3 - t2,
+        "validate_and_schedule_s": t3 - t1,
+        "finish": cpm.finish,
+        "links": len(sched.links),
+    }
 
 
 CHILD = """
@@ -94,10 +108,10 @@ print(json.dumps({{"seconds": dt,
 
 
 def time_convert(path: Path, out: Path, simulate: bool, iterations: int = 10_000) -> dict:
-    code = CHILD.format(root=str(ROOT), path=str(path), out=str(out), sim=simulate,
-                        iters=iterations)
-    res = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
-                         check=True)
+    code = CHILD.format(
+        root=str(ROOT), path=str(path), out=str(out), sim=simulate, iters=iterations
+    )
+    res = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     return json.loads(res.stdout.strip().splitlines()[-1])
 
 
@@ -110,19 +124,23 @@ def main() -> None:
         src = Path(tmp) / "big.xlsx"
         make_input(src, args.activities, args.links)
         figures = time_validate_schedule(src)
-        print(f"input: {args.activities:,} activities, {figures['links']:,} links "
-              f"({src.stat().st_size / 1e6:.1f} MB xlsx)")
+        print(
+            f"input: {args.activities:,} activities, {figures['links']:,} links "
+            f"({src.stat().st_size / 1e6:.1f} MB xlsx)"
+        )
         print(f"read (calamine):           {figures['read_s']:.2f} s")
         print(f"validate:                  {figures['validate_s']:.2f} s")
         print(f"schedule (CPM passes):     {figures['schedule_s']:.3f} s")
-        print(f"validate + schedule:       {figures['validate_and_schedule_s']:.2f} s "
-              "(target < 1 s)")
+        print(
+            f"validate + schedule:       {figures['validate_and_schedule_s']:.2f} s (target < 1 s)"
+        )
         for sim in (False, True):
             r = time_convert(src, Path(tmp), sim)
-            label = "convert, with 10,000-iteration simulation" if sim else \
-                "convert, no simulation"
-            print(f"{label + ':':42s} {r['seconds']:.1f} s, peak {r['peak_mb']:.0f} MB "
-                  "(target < 15 s, < 1 GB without simulation)")
+            label = "convert, with 10,000-iteration simulation" if sim else "convert, no simulation"
+            print(
+                f"{label + ':':42s} {r['seconds']:.1f} s, peak {r['peak_mb']:.0f} MB "
+                "(target < 15 s, < 1 GB without simulation)"
+            )
 
 
 if __name__ == "__main__":

@@ -282,8 +282,9 @@ def main() -> None:
             res = case_budget(int(n), int(iters), None if mb == "default" else int(mb))
         elif kind == "large":
             n, links, iters, workers = rest
-            res = case_large(int(n), int(links), int(iters), None if workers == "auto" else
-                             int(workers))
+            res = case_large(
+                int(n), int(links), int(iters), None if workers == "auto" else int(workers)
+            )
         else:
             n, links, loop_iters, iters = rest
             res = case_loop(int(n), int(links), int(loop_iters), int(iters))

@@ -36,8 +36,7 @@ def sha(path: Path) -> str:
 
 
 def fill_inbox(inbox: Path, count: int) -> dict[str, str]:
-    samples = sorted(p for p in (REPO / "samples").iterdir()
-                     if p.suffix.lower() in SUFFIXES)
+    samples = sorted(p for p in (REPO / "samples").iterdir() if p.suffix.lower() in SUFFIXES)
     if not samples:
         raise SystemExit("no sample workbooks in samples/")
     dropped = {}
@@ -55,8 +54,9 @@ def verify(root: Path, dropped: dict[str, str]) -> list[str]:
     outbox = {p.name for p in (root / "outbox").iterdir()}
     expected = {f"{Path(n).stem}.analysis.xlsx" for n in dropped}
     if outbox != expected:
-        errors.append(f"outbox: {len(outbox - expected)} unexpected, "
-                      f"{len(expected - outbox)} missing")
+        errors.append(
+            f"outbox: {len(outbox - expected)} unexpected, {len(expected - outbox)} missing"
+        )
     archive = root / "archive"
     for name, digest in dropped.items():
         if not (archive / name).exists() or sha(archive / name) != digest:
@@ -80,16 +80,27 @@ def main(argv: list[str] | None = None) -> int:
     ap.add_argument("--workers", type=int, default=os.cpu_count() or 1)
     ap.add_argument("--watchers", type=int, default=1)
     ap.add_argument("--interval", type=float, default=1.0)
-    ap.add_argument("--iterations", type=int, default=None,
-                    help="Monte Carlo iterations (default: the converter's default)")
+    ap.add_argument(
+        "--iterations",
+        type=int,
+        default=None,
+        help="Monte Carlo iterations (default: the converter's default)",
+    )
     args = ap.parse_args(argv)
 
     with tempfile.TemporaryDirectory(prefix="pertbook-bench-") as tmp:
         root = Path(tmp) / "drop"
         (root / "inbox").mkdir(parents=True)
         dropped = fill_inbox(root / "inbox", args.files)
-        cmd = WATCH_CMD + [str(root), "--once", "--quiet", "--interval", str(args.interval),
-                           "--workers", str(args.workers)]
+        cmd = WATCH_CMD + [
+            str(root),
+            "--once",
+            "--quiet",
+            "--interval",
+            str(args.interval),
+            "--workers",
+            str(args.workers),
+        ]
         if args.iterations:
             cmd += ["--iterations", str(args.iterations)]
         start = time.perf_counter()
@@ -105,12 +116,18 @@ def main(argv: list[str] | None = None) -> int:
             errors.append(f"{converted} 'converted' log lines for {args.files} files")
 
     per_minute = args.files / seconds * 60
-    print(f"files: {args.files}  watchers: {args.watchers}  workers each: {args.workers}  "
-          f"CPUs: {os.cpu_count()}  poll interval: {args.interval:g} s")
-    print(f"cleared in {seconds:.1f} s  ->  {per_minute:.0f} files per minute "
-          f"({seconds / args.files:.2f} s per file)")
-    print(f"target: {args.files} files in under {TARGET_SECONDS:.0f} s: "
-          f"{'met' if seconds < TARGET_SECONDS else 'NOT met'}")
+    print(
+        f"files: {args.files}  watchers: {args.watchers}  workers each: {args.workers}  "
+        f"CPUs: {os.cpu_count()}  poll interval: {args.interval:g} s"
+    )
+    print(
+        f"cleared in {seconds:.1f} s  ->  {per_minute:.0f} files per minute "
+        f"({seconds / args.files:.2f} s per file)"
+    )
+    print(
+        f"target: {args.files} files in under {TARGET_SECONDS:.0f} s: "
+        f"{'met' if seconds < TARGET_SECONDS else 'NOT met'}"
+    )
     print("each file converted exactly once: " + ("yes" if not errors else "NO"))
     for e in errors:
         print("  " + e)

@@ -182,10 +182,22 @@ def convert_when_told(path, options=None, **kw):
 
 def watch_command(root: Path, converter: str, *extra: str) -> list[str]:
     """Command line of a watcher process converting with ``converter`` (a name here)."""
-    code = ("import sys; sys.path.insert(0, sys.argv[1]); import drop_support; "
-            "sys.exit(drop_support.main(sys.argv[2:]))")
-    return [sys.executable, "-c", code, str(HERE), converter, str(root), "--quiet",
-            "--interval", "0.05", *extra]
+    code = (
+        "import sys; sys.path.insert(0, sys.argv[1]); import drop_support; "
+        "sys.exit(drop_support.main(sys.argv[2:]))"
+    )
+    return [
+        sys.executable,
+        "-c",
+        code,
+        str(HERE),
+        converter,
+        str(root),
+        "--quiet",
+        "--interval",
+        "0.05",
+        *extra,
+    ]
 
 
 def main(argv: list[str]) -> int:

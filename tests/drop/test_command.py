@@ -19,8 +19,20 @@ from converter.drop import add_watch_arguments, run_watch
 from converter.drop.command import watcher_from_args
 from converter.options import options_from_args
 
-WATCH_FLAGS = ("--interval", "--once", "--workers", "--inbox", "--outbox", "--archive",
-               "--failed", "--log", "--once-wait", "--max-backoff", "--stop-wait", "--quiet")
+WATCH_FLAGS = (
+    "--interval",
+    "--once",
+    "--workers",
+    "--inbox",
+    "--outbox",
+    "--archive",
+    "--failed",
+    "--log",
+    "--once-wait",
+    "--max-backoff",
+    "--stop-wait",
+    "--quiet",
+)
 
 
 def watch_parser() -> argparse.ArgumentParser:
@@ -41,7 +53,11 @@ def test_only_the_watchers_own_options_and_their_defaults():
     args = parser.parse_args(["F"])
     assert (args.folder, args.interval, args.once, args.workers) == ("F", 5.0, False, None)
     assert (args.inbox, args.outbox, args.archive, args.failed) == (
-        "inbox", "outbox", "archive", "failed")
+        "inbox",
+        "outbox",
+        "archive",
+        "failed",
+    )
     assert (args.log, args.once_wait, args.max_backoff, args.quiet) == (None, 60.0, 60.0, False)
     assert args.stop_wait == 60.0
     for conversion_option in ("--due", "--json", "--iterations", "--seed"):
@@ -65,13 +81,41 @@ def test_help_shows_every_default():
 
 
 def test_cli_watch_builds_convert_options_and_the_watcher():
-    args = cli.build_parser().parse_args([
-        "watch", "F", "--due", "2025-03-31", "--json", "--iterations", "500", "--seed", "7",
-        "--distribution", "triangular", "--correlation", "0.25", "--paths", "4",
-        "--workers", "3", "--inbox", "in", "--log", "none", "--quiet", "--once-wait", "2"])
+    args = cli.build_parser().parse_args(
+        [
+            "watch",
+            "F",
+            "--due",
+            "2025-03-31",
+            "--json",
+            "--iterations",
+            "500",
+            "--seed",
+            "7",
+            "--distribution",
+            "triangular",
+            "--correlation",
+            "0.25",
+            "--paths",
+            "4",
+            "--workers",
+            "3",
+            "--inbox",
+            "in",
+            "--log",
+            "none",
+            "--quiet",
+            "--once-wait",
+            "2",
+        ]
+    )
     options = options_from_args(args)
     assert (options.due, options.json, options.iterations, options.seed) == (
-        dt.date(2025, 3, 31), True, 500, 7)  # the due parser reads the ISO date
+        dt.date(2025, 3, 31),
+        True,
+        500,
+        7,
+    )  # the due parser reads the ISO date
     assert (options.distribution, options.correlation, options.paths) == ("triangular", 0.25, 4)
     w = watcher_from_args(args, options)
     assert w.workers == 3 and w.log_path is None and w.echo is False and w.once_wait == 2.0
@@ -81,10 +125,10 @@ def test_cli_watch_builds_convert_options_and_the_watcher():
     assert w.options.iterations == 500
     # the watcher's simulation memory (default 1024 MB) shared by the 3 workers
     assert options.simulation_memory_mb is None and w.options.simulation_memory_mb == 341
-    given = cli.build_parser().parse_args(["watch", "F", "--workers", "2",
-                                           "--simulation-memory", "3000"])
-    assert watcher_from_args(given, options_from_args(given)).options.simulation_memory_mb \
-        == 1500
+    given = cli.build_parser().parse_args(
+        ["watch", "F", "--workers", "2", "--simulation-memory", "3000"]
+    )
+    assert watcher_from_args(given, options_from_args(given)).options.simulation_memory_mb == 1500
     defaults = options_from_args(cli.build_parser().parse_args(["watch", "F"]))
     assert defaults == ConvertOptions()
 

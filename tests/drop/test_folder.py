@@ -20,8 +20,14 @@ from converter.drop import folder as df
 
 def test_classify_names():
     # common practice: office owner/lock files, partial downloads, hidden files
-    for name in ("~$plan.xlsx", ".~lock.plan.ods#", "plan.xlsx.tmp", "a.CRDOWNLOAD",
-                 "a.csv.part", ".plan.csv"):
+    for name in (
+        "~$plan.xlsx",
+        ".~lock.plan.ods#",
+        "plan.xlsx.tmp",
+        "a.CRDOWNLOAD",
+        "a.csv.part",
+        ".plan.csv",
+    ):
         assert df.classify(name) == df.SKIP, name
     for name in ("plan.xlsx", "PLAN.XLSM", "old.xls", "lo.ods", "list.csv"):
         assert df.classify(name) == df.TAKE, name
@@ -73,8 +79,11 @@ def test_settle_rolls_back_without_plan_and_forward_with_one(tmp_path):
     job.mkdir()
     (job / "b.csv").write_bytes(b"input b")
     (job / df.RESULT_XLSX).write_bytes(b"result b")
-    df.write_plan(job, "converted", [[df.RESULT_XLSX, "outbox", "b", ".analysis.xlsx"],
-                                     ["b.csv", "archive", "b", ".csv"]])
+    df.write_plan(
+        job,
+        "converted",
+        [[df.RESULT_XLSX, "outbox", "b", ".analysis.xlsx"], ["b.csv", "archive", "b", ".csv"]],
+    )
     os.rename(job / df.RESULT_XLSX, layout.outbox / "b.analysis.xlsx")
     # ...and one between the hard link and the unlink of the input's move
     os.link(job / "b.csv", layout.archive / "b.csv")
@@ -111,6 +120,8 @@ def test_dead_watcher_is_adopted_live_one_is_not(tmp_path):
 
 def test_free_stem_asks_only_the_given_folder_and_counts_up():
     taken = {"plan.xlsx", "plan-20250314-101502.xlsx", "plan-20250314-101502-2.xlsx"}
-    assert df.free_stem("plan", [".xlsx"], taken.__contains__, "20250314-101502") \
+    assert (
+        df.free_stem("plan", [".xlsx"], taken.__contains__, "20250314-101502")
         == "plan-20250314-101502-3"
+    )
     assert df.free_stem("plan", [".csv"], taken.__contains__, "20250314-101502") == "plan"

@@ -48,9 +48,14 @@ def watch_cli(root: Path, *extra: str, umask: int | None = None) -> subprocess.P
     """``pertbook watch ROOT`` in a child process (few iterations, quick polls)."""
     env = dict(os.environ, PYTHONPATH=str(REPO) + os.pathsep + os.environ.get("PYTHONPATH", ""))
     kw = {} if umask is None else {"umask": umask}
-    return subprocess.Popen([*CLI_WATCH, str(root), "--interval", "0.05", "--quiet",
-                             "--iterations", str(ITER), *extra], cwd=REPO, env=env,
-                            stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, **kw)
+    return subprocess.Popen(
+        [*CLI_WATCH, str(root), "--interval", "0.05", "--quiet", "--iterations", str(ITER), *extra],
+        cwd=REPO,
+        env=env,
+        stdout=subprocess.DEVNULL,
+        stderr=subprocess.PIPE,
+        **kw,
+    )
 
 
 def finish(proc: subprocess.Popen) -> tuple[int, str]:
@@ -106,12 +111,16 @@ def test_sigterm_stops_a_watcher_with_a_pipe_in_the_inbox(tmp_path):
     (inbox / "first.csv").write_bytes(schedule_csv(5))
     proc = watch_cli(root, "--workers", "0")
     try:
-        wait_for(lambda: (root / "archive" / "first.csv").exists() or proc.poll() is not None,
-                 "the first file")
+        wait_for(
+            lambda: (root / "archive" / "first.csv").exists() or proc.poll() is not None,
+            "the first file",
+        )
         # a second file needs two more looks at the inbox, with the pipe still there
         (inbox / "second.csv").write_bytes(schedule_csv(4))
-        wait_for(lambda: (root / "archive" / "second.csv").exists() or proc.poll() is not None,
-                 "the second file")
+        wait_for(
+            lambda: (root / "archive" / "second.csv").exists() or proc.poll() is not None,
+            "the second file",
+        )
         assert proc.poll() is None
         proc.send_signal(signal.SIGTERM)
     finally:
@@ -148,9 +157,12 @@ def test_sigterm_stop_is_bounded_when_the_file_in_hand_never_finishes(tmp_path, 
     (root / "inbox" / "held.csv").write_bytes(data)
     env = dict(os.environ, **{ds.SIGNAL_DIR: str(signals)})
     proc = subprocess.Popen(
-        ds.watch_command(root, "convert_when_told", "--workers", workers, "--stop-wait",
-                         "0.5"),
-        cwd=REPO, env=env, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
+        ds.watch_command(root, "convert_when_told", "--workers", workers, "--stop-wait", "0.5"),
+        cwd=REPO,
+        env=env,
+        stdout=subprocess.DEVNULL,
+        stderr=subprocess.PIPE,
+    )
     pids: tuple[int, ...] = ()
     try:
         wait_for(lambda: (signals / "pids").exists() or proc.poll() is not None, "the file")
@@ -242,7 +254,8 @@ def test_drop_folder_outputs_get_the_ordinary_mode(tmp_path, umask):
     code, err = finish(watch_cli(root, "--once", "--workers", "1", "--json", umask=umask))
     assert code == 2, err
     made = [root / "outbox" / n for n in ("good.analysis.xlsx", "good.analysis.json")]
-    made += [root / "failed" / n for n in ("bad.problems.txt", "bad.problems.xlsx",
-                                           "bad.problems.json")]
+    made += [
+        root / "failed" / n for n in ("bad.problems.txt", "bad.problems.xlsx", "bad.problems.json")
+    ]
     for path in made:
         assert stat.S_IMODE(path.stat().st_mode) == 0o666 & ~umask, path.name

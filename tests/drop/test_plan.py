@@ -32,8 +32,15 @@ from converter.model import Problem
 from converter.write.problems import fault_problem
 
 STAMP = "20250314-101502"
-ERROR = Problem("error", "unknown-predecessor", "C4 names predecessor Q7", "Activities", "C4",
-                "A3", fix="Add Q7 to the ID column.")
+ERROR = Problem(
+    "error",
+    "unknown-predecessor",
+    "C4 names predecessor Q7",
+    "Activities",
+    "C4",
+    "A3",
+    fix="Add Q7 to the ID column.",
+)
 WARNING = Problem("warning", "odd", "B9 looks like a formula", "Activities", "B9")
 
 
@@ -46,8 +53,12 @@ NOTHING = taken_in()
 
 
 def ok_result(*problems: Problem) -> ConvertResult:
-    return ConvertResult(Path("plan.csv"), ok=True, problems=list(problems),
-                         headline={"expected_duration": 41.333333, "sd": 3.5, "p80": None})
+    return ConvertResult(
+        Path("plan.csv"),
+        ok=True,
+        problems=list(problems),
+        headline={"expected_duration": 41.333333, "sd": 3.5, "p80": None},
+    )
 
 
 def bad_result(*problems: Problem) -> ConvertResult:
@@ -59,11 +70,12 @@ def where(plan) -> list[tuple[str, str, str]]:
 
 
 def test_converted_result_to_outbox_input_to_archive():
-    plan = plan_job("plan.csv", Report("done", ok_result()), JobFiles(True, False), NOTHING,
-                    STAMP)
+    plan = plan_job("plan.csv", Report("done", ok_result()), JobFiles(True, False), NOTHING, STAMP)
     assert plan.outcome == CONVERTED
-    assert where(plan) == [(df.RESULT_XLSX, "outbox", "plan.analysis.xlsx"),
-                           ("plan.csv", "archive", "plan.csv")]
+    assert where(plan) == [
+        (df.RESULT_XLSX, "outbox", "plan.analysis.xlsx"),
+        ("plan.csv", "archive", "plan.csv"),
+    ]
     assert plan.note == "expected_duration=41.33 sd=3.5"  # None figures left out
     assert plan.problems == () and plan.error is None
     assert plan.input_move("plan.csv") == Move("plan.csv", "archive", "plan", ".csv")
@@ -72,9 +84,11 @@ def test_converted_result_to_outbox_input_to_archive():
 def test_converted_with_json_and_warnings():
     result = ok_result(WARNING, WARNING)
     plan = plan_job("plan.xlsx", Report("done", result), JobFiles(True, True), NOTHING, STAMP)
-    assert where(plan) == [(df.RESULT_JSON, "outbox", "plan.analysis.json"),
-                           (df.RESULT_XLSX, "outbox", "plan.analysis.xlsx"),
-                           ("plan.xlsx", "archive", "plan.xlsx")]
+    assert where(plan) == [
+        (df.RESULT_JSON, "outbox", "plan.analysis.json"),
+        (df.RESULT_XLSX, "outbox", "plan.analysis.xlsx"),
+        ("plan.xlsx", "archive", "plan.xlsx"),
+    ]
     assert plan.note.endswith("(2 warnings)")
 
 
@@ -82,8 +96,10 @@ def test_name_clashes_are_stamped_then_counted_per_folder():
     # README: "dropping plan.xlsx a second time gives plan-20250314-101502.analysis.xlsx"
     taken = taken_in(outbox={"plan.analysis.xlsx"}, archive={"plan.csv", f"plan-{STAMP}.csv"})
     plan = plan_job("plan.csv", Report("done", ok_result()), JobFiles(True, False), taken, STAMP)
-    assert where(plan) == [(df.RESULT_XLSX, "outbox", f"plan-{STAMP}.analysis.xlsx"),
-                           ("plan.csv", "archive", f"plan-{STAMP}-2.csv")]
+    assert where(plan) == [
+        (df.RESULT_XLSX, "outbox", f"plan-{STAMP}.analysis.xlsx"),
+        ("plan.csv", "archive", f"plan-{STAMP}-2.csv"),
+    ]
 
 
 def test_result_and_json_keep_one_stem_when_only_the_json_name_is_taken():
@@ -98,17 +114,20 @@ def test_invalid_input_with_its_report_to_failed():
     result = bad_result(WARNING, ERROR, ERROR)
     plan = plan_job("plan.csv", Report("done", result), JobFiles(False, False), NOTHING, STAMP)
     assert plan.outcome == INVALID
-    assert where(plan) == [(df.PROBLEMS_TXT, "failed", "plan.problems.txt"),
-                           (df.PROBLEMS_XLSX, "failed", "plan.problems.xlsx"),
-                           ("plan.csv", "failed", "plan.csv")]  # the input last
+    assert where(plan) == [
+        (df.PROBLEMS_TXT, "failed", "plan.problems.txt"),
+        (df.PROBLEMS_XLSX, "failed", "plan.problems.xlsx"),
+        ("plan.csv", "failed", "plan.csv"),
+    ]  # the input last
     assert plan.problems == (WARNING, ERROR, ERROR) and plan.details is None
     assert plan.note == f"2 errors; first: {ERROR}"
 
 
 def test_invalid_with_json_and_a_clash_in_failed():
     taken = taken_in(failed={"plan.problems.json"})
-    plan = plan_job("plan.csv", Report("done", bad_result(ERROR)), JobFiles(False, True),
-                    taken, STAMP)
+    plan = plan_job(
+        "plan.csv", Report("done", bad_result(ERROR)), JobFiles(False, True), taken, STAMP
+    )
     assert where(plan)[0] == (df.RESULT_JSON, "failed", f"plan-{STAMP}.problems.json")
     assert {m.stem for m in plan.moves} == {f"plan-{STAMP}"}
     assert plan.note == f"1 error; first: {ERROR}"
@@ -116,8 +135,7 @@ def test_invalid_with_json_and_a_clash_in_failed():
 
 def test_fault_carries_the_traceback_and_its_last_line():
     text = "Traceback (most recent call last):\n  ...\nRuntimeError: fell over\n"
-    plan = plan_job("plan.csv", Report("fault", text=text), JobFiles(False, False), NOTHING,
-                    STAMP)
+    plan = plan_job("plan.csv", Report("fault", text=text), JobFiles(False, False), NOTHING, STAMP)
     assert plan.outcome == FAULT
     assert plan.note == "RuntimeError: fell over"
     assert plan.problems == (fault_problem("RuntimeError: fell over"),)
@@ -126,8 +144,7 @@ def test_fault_carries_the_traceback_and_its_last_line():
 
 
 def test_success_without_a_workbook_is_a_fault():
-    plan = plan_job("plan.csv", Report("done", ok_result()), JobFiles(False, True), NOTHING,
-                    STAMP)
+    plan = plan_job("plan.csv", Report("done", ok_result()), JobFiles(False, True), NOTHING, STAMP)
     assert plan.outcome == FAULT and plan.note == NO_WORKBOOK
     assert where(plan)[0] == (df.RESULT_JSON, "failed", "plan.problems.json")
 
@@ -148,8 +165,10 @@ def test_plain_fault_plan_when_the_report_cannot_be_written():
     taken = taken_in(failed={"plan.csv"})
     plan = plain_fault_plan("plan.csv", "Traceback...\nValueError: bad cell\n", taken, STAMP)
     assert plan.outcome == FAULT and plan.note == "ValueError: bad cell"
-    assert where(plan) == [(df.PROBLEMS_TXT, "failed", f"plan-{STAMP}.problems.txt"),
-                           ("plan.csv", "failed", f"plan-{STAMP}.csv")]
+    assert where(plan) == [
+        (df.PROBLEMS_TXT, "failed", f"plan-{STAMP}.problems.txt"),
+        ("plan.csv", "failed", f"plan-{STAMP}.csv"),
+    ]
 
 
 def test_long_names_fit_the_limit_stamped_or_not():
@@ -172,8 +191,9 @@ def test_long_names_fit_the_limit_stamped_or_not():
     assert fits(again) and not outbox(again) & outbox(done)
     assert all(m.stem.endswith(f"-{STAMP}") for m in again.moves)  # the stamp kept whole
 
-    bad = plan_job(name, Report("done", bad_result(ERROR)), JobFiles(False, False), NOTHING,
-                   STAMP, 48)
+    bad = plan_job(
+        name, Report("done", bad_result(ERROR)), JobFiles(False, False), NOTHING, STAMP, 48
+    )
     assert fits(bad)
     assert bad.input_move(name).stem == "p" * 40  # only its reports are shortened
     reports = {m.stem for m in bad.moves if m.source != name}

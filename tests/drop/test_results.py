@@ -25,9 +25,15 @@ from converter.write.problems import problems_text, write_problems_xlsx
 
 def test_problems_report_text_and_workbook(tmp_path):
     problems = [
-        Problem("error", "unknown-predecessor", "C4 names predecessor Q7, which is not in "
-                "the ID column", "Activities", "C4", "A3",
-                fix="Add Q7 to the ID column, or remove it from A3's predecessors."),
+        Problem(
+            "error",
+            "unknown-predecessor",
+            "C4 names predecessor Q7, which is not in the ID column",
+            "Activities",
+            "C4",
+            "A3",
+            fix="Add Q7 to the ID column, or remove it from A3's predecessors.",
+        ),
         Problem("warning", "odd", "=SUM(A1) looks like a formula", "Activities", "B9"),
     ]
     text = problems_text("plan.xlsx", problems)

@@ -75,9 +75,14 @@ def test_lifecycle_valid_invalid_skipped_and_duplicates(tmp_path):
     schedule_xlsx(inbox / "twin.xlsx")
     dropped["twin.xlsx"] = (inbox / "twin.xlsx").read_bytes()
     skipped = {  # office lock/temp files, hidden files and other types stay where they are
-        "~$plan.xlsx": b"owner", ".~lock.plan.xlsx#": b"lock", "plan.xlsx.tmp": b"t",
-        "big.csv.crdownload": b"d", "big.csv.part": b"p", ".hidden.csv": HEADER.encode(),
-        "notes.txt": b"not a schedule", "report.PDF": b"%PDF",
+        "~$plan.xlsx": b"owner",
+        ".~lock.plan.xlsx#": b"lock",
+        "plan.xlsx.tmp": b"t",
+        "big.csv.crdownload": b"d",
+        "big.csv.part": b"p",
+        ".hidden.csv": HEADER.encode(),
+        "notes.txt": b"not a schedule",
+        "report.PDF": b"%PDF",
     }
     for name, data in skipped.items():
         (inbox / name).write_bytes(data)
@@ -101,8 +106,9 @@ def test_lifecycle_valid_invalid_skipped_and_duplicates(tmp_path):
     assert (outbox / "plan.analysis.xlsx").read_bytes() == old_result
     assert (archive / "plan.csv").read_bytes() == old_input
     # each dropped file is in exactly one place, byte for byte
-    everywhere = [p for part in (inbox, archive, failed, outbox) for p in part.iterdir()
-                  if p.is_file()]
+    everywhere = [
+        p for part in (inbox, archive, failed, outbox) for p in part.iterdir() if p.is_file()
+    ]
     for name, data in dropped.items():
         copies = [p for p in everywhere if sha(p) == sha(data)]
         assert len(copies) == 1, (name, copies)
@@ -156,8 +162,19 @@ def test_cli_watch_once_exit_codes_and_options(tmp_path):
     root = tmp_path / "drop"
     (root / "inbox").mkdir(parents=True)
     (root / "inbox" / "a.csv").write_bytes(schedule_csv(5))
-    args = ["watch", str(root), "--once", "--interval", "0.05", "--workers", "0", "--quiet",
-            "--iterations", str(ITER), "--json"]
+    args = [
+        "watch",
+        str(root),
+        "--once",
+        "--interval",
+        "0.05",
+        "--workers",
+        "0",
+        "--quiet",
+        "--iterations",
+        str(ITER),
+        "--json",
+    ]
     assert cli.main(args) == 0
     assert names(root / "outbox") == {"a.analysis.xlsx", "a.analysis.json"}
     # the JSON names where the input now is, not the watcher's working folder
@@ -165,8 +182,12 @@ def test_cli_watch_once_exit_codes_and_options(tmp_path):
     assert data["input"]["file"] == "archive/a.csv"
     (root / "inbox" / "b.csv").write_bytes(schedule_csv(5, bad=True))
     assert cli.main(args) == 2
-    assert names(root / "failed") == {"b.csv", "b.problems.txt", "b.problems.xlsx",
-                                      "b.problems.json"}
+    assert names(root / "failed") == {
+        "b.csv",
+        "b.problems.txt",
+        "b.problems.xlsx",
+        "b.problems.json",
+    }
 
 
 def test_file_still_being_written_is_taken_only_when_complete(tmp_path):
@@ -183,7 +204,7 @@ def test_file_still_being_written_is_taken_only_when_complete(tmp_path):
         with open(target, "ab") as fh:
             for i in range(step, len(data), step):
                 time.sleep(0.05)
-                fh.write(data[i:i + step])
+                fh.write(data[i : i + step])
                 fh.flush()
 
     writer = threading.Thread(target=grow)
@@ -204,15 +225,20 @@ def test_file_still_being_written_is_taken_only_when_complete(tmp_path):
 def test_injected_fault_and_crash_go_to_failed_and_the_next_file_converts(tmp_path):
     root = tmp_path / "drop"
     (root / "inbox").mkdir(parents=True)
-    files = {"boom.csv": schedule_csv(5), "crash.csv": schedule_csv(6), "fine.csv":
-             schedule_csv(7), "fine2.csv": schedule_csv(8)}
+    files = {
+        "boom.csv": schedule_csv(5),
+        "crash.csv": schedule_csv(6),
+        "fine.csv": schedule_csv(7),
+        "fine2.csv": schedule_csv(8),
+    }
     for name, data in files.items():
         (root / "inbox" / name).write_bytes(data)
     code = watcher(root, once=True, workers=2, convert_fn=ds.convert_with_faults).run()
     assert code == 1  # faults are the tool's own failures
     failed = root / "failed"
-    assert names(failed) == {f"{s}{x}" for s in ("boom", "crash")
-                             for x in (".csv", ".problems.txt", ".problems.xlsx")}
+    assert names(failed) == {
+        f"{s}{x}" for s in ("boom", "crash") for x in (".csv", ".problems.txt", ".problems.xlsx")
+    }
     assert sha(failed / "boom.csv") == sha(files["boom.csv"])
     assert sha(failed / "crash.csv") == sha(files["crash.csv"])
     boom = (failed / "boom.problems.txt").read_text(encoding="utf-8")
@@ -282,8 +308,13 @@ def test_outbox_lost_after_converting_result_is_placed_when_back(tmp_path):
     w = watcher(root, convert_fn=ds.convert_then_break_outbox, max_backoff=0.2)
     thread, out = _run_in_thread(w)
     try:
-        wait_for(lambda: "cannot be placed yet" in log_text(root)
-                 and log_text(root).count("the outbox is not a folder") >= 2, "2 retries")
+        wait_for(
+            lambda: (
+                "cannot be placed yet" in log_text(root)
+                and log_text(root).count("the outbox is not a folder") >= 2
+            ),
+            "2 retries",
+        )
         assert not (root / "archive" / "late.csv").exists()
         ds.BREAK_OUTBOX["outbox"] = None
         outbox.unlink()
@@ -332,8 +363,9 @@ def _spawn(root: Path, *extra: str, log: str | None = None) -> subprocess.Popen:
     args = [str(root), "--interval", "0.05", "--iterations", str(ITER), "--quiet", *extra]
     if log:
         args += ["--log", log]
-    return subprocess.Popen(CLI_WATCH + args, cwd=REPO, stdout=subprocess.DEVNULL,
-                            stderr=subprocess.PIPE)
+    return subprocess.Popen(
+        CLI_WATCH + args, cwd=REPO, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE
+    )
 
 
 def test_two_watchers_share_a_folder_each_file_converted_once(tmp_path):
@@ -380,8 +412,13 @@ def _watch_held_file(tmp_path, before: int = 0, after: int = 0, workers: int = 1
 
 def _watch_process(root: Path, signals: Path, *extra: str) -> subprocess.Popen:
     env = dict(os.environ, **{ds.SIGNAL_DIR: str(signals)})
-    return subprocess.Popen(ds.watch_command(root, "convert_when_told", *extra), cwd=REPO,
-                            env=env, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
+    return subprocess.Popen(
+        ds.watch_command(root, "convert_when_told", *extra),
+        cwd=REPO,
+        env=env,
+        stdout=subprocess.DEVNULL,
+        stderr=subprocess.PIPE,
+    )
 
 
 def _pids_in_hand(signals: Path, proc: subprocess.Popen) -> tuple[int, int]:

@@ -53,19 +53,17 @@ def test_worker_options_are_a_copy_with_one_simulation_process_in_a_pool():
     assert worker_options(given, 1).simulation_workers is None  # alone: its own choice
     assert worker_options(ConvertOptions(simulation_workers=3), 0).simulation_workers == 3
     # the default budget (1024 MB) shared among the 4 conversions that may run at once
-    assert worker_options(None, 4) == ConvertOptions(simulation_workers=1,
-                                                     simulation_memory_mb=256)
+    assert worker_options(None, 4) == ConvertOptions(simulation_workers=1, simulation_memory_mb=256)
 
 
 def test_each_conversion_gets_its_share_of_the_watchers_memory_budget():
     # the total divided by the conversions that may run at once (the issue: one dropped
     # file must not take most of the watcher's memory); never below the smallest budget
-    assert worker_options(ConvertOptions(simulation_memory_mb=3000), 3).simulation_memory_mb \
-        == 1000
-    assert worker_options(ConvertOptions(simulation_memory_mb=3000), 1).simulation_memory_mb \
-        == 3000
-    assert worker_options(ConvertOptions(simulation_memory_mb=3000), 0).simulation_memory_mb \
-        == 3000  # workers=0: one conversion at a time, in the watcher itself
+    assert worker_options(ConvertOptions(simulation_memory_mb=3000), 3).simulation_memory_mb == 1000
+    assert worker_options(ConvertOptions(simulation_memory_mb=3000), 1).simulation_memory_mb == 3000
+    assert (
+        worker_options(ConvertOptions(simulation_memory_mb=3000), 0).simulation_memory_mb == 3000
+    )  # workers=0: one conversion at a time, in the watcher itself
     assert worker_options(ConvertOptions(simulation_memory_mb=64), 8).simulation_memory_mb == 32
 
 

@@ -23,10 +23,15 @@ REPO = HERE.parents[1]
 
 def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.split("\n")[0])
-    parser.add_argument("--code", type=Path, default=REPO,
-                        help="folder holding the converter package to run (default: this tree)")
-    parser.add_argument("--check", action="store_true",
-                        help="only report differences from the committed files")
+    parser.add_argument(
+        "--code",
+        type=Path,
+        default=REPO,
+        help="folder holding the converter package to run (default: this tree)",
+    )
+    parser.add_argument(
+        "--check", action="store_true", help="only report differences from the committed files"
+    )
     args = parser.parse_args(argv)
     sys.path[:0] = [str(args.code.resolve()), str(REPO / "tests" / "support")]
     import golden
@@ -48,8 +53,10 @@ def main(argv: list[str] | None = None) -> int:
         old = golden.read_golden(stem) if (golden.GOLDEN / stem).is_dir() else {}
         changed = sorted(f for f in set(first) | set(old) if first.get(f) != old.get(f))
         size = sum(len(t.encode("utf-8")) for t in first.values())
-        print(f"{name}: {len(first)} files, {size / 1024:.0f} KiB, "
-              f"{len(changed)} changed{': ' + ', '.join(changed) if changed else ''}")
+        print(
+            f"{name}: {len(first)} files, {size / 1024:.0f} KiB, "
+            f"{len(changed)} changed{': ' + ', '.join(changed) if changed else ''}"
+        )
         differ += len(changed)
         if args.check:
             continue

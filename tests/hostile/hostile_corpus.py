@@ -37,8 +37,9 @@ BASE = [
 BASE_TE = {"T1": 19 / 6, "T2": 13 / 6, "T3": 7 / 6, "T4": 13 / 6}
 
 
-def rows_with(*extra: list[object], header: list[str] | None = None,
-              base: list[list[object]] | None = None) -> list[list[object]]:
+def rows_with(
+    *extra: list[object], header: list[str] | None = None, base: list[list[object]] | None = None
+) -> list[list[object]]:
     """The base rows (or ``base``) with ``extra`` rows appended (sheet rows 6, 7, ...)."""
     rows = [list(r) for r in (base or BASE)]
     if header is not None:
@@ -46,8 +47,9 @@ def rows_with(*extra: list[object], header: list[str] | None = None,
     return rows + [list(r) for r in extra]
 
 
-def replaced(row: int, column: int, value: object,
-             base: list[list[object]] | None = None) -> list[list[object]]:
+def replaced(
+    row: int, column: int, value: object, base: list[list[object]] | None = None
+) -> list[list[object]]:
     """The base rows with the cell at sheet ``row`` (1-based) and ``column`` (0 = A)
     replaced."""
     rows = [list(r) for r in (base or BASE)]
@@ -55,8 +57,14 @@ def replaced(row: int, column: int, value: object,
     return rows
 
 
-def write_csv(path: Path, rows: list[list[object]], *, delimiter: str = ",",
-              encoding: str = "utf-8", terminator: str = "\r\n") -> Path:
+def write_csv(
+    path: Path,
+    rows: list[list[object]],
+    *,
+    delimiter: str = ",",
+    encoding: str = "utf-8",
+    terminator: str = "\r\n",
+) -> Path:
     """Rows as CSV text (RFC 4180 quoting, by the standard library's csv module)."""
     out = io.StringIO()
     writer = csv.writer(out, delimiter=delimiter, lineterminator=terminator)
@@ -114,8 +122,13 @@ def all_cases() -> list[Case]:
     import hostile_text
     import hostile_values
 
-    cases = (hostile_issue.CASES + hostile_structure.CASES + hostile_text.CASES
-             + hostile_values.CASES + hostile_csv.CASES)
+    cases = (
+        hostile_issue.CASES
+        + hostile_structure.CASES
+        + hostile_text.CASES
+        + hostile_values.CASES
+        + hostile_csv.CASES
+    )
     names = [c.name for c in cases]
     duplicates = {n for n in names if names.count(n) > 1}
     assert not duplicates, duplicates

@@ -35,6 +35,7 @@ READ = {"T1": {"te": BASE_TE["T1"]}, "T4": {"te": BASE_TE["T4"]}}
 def csv_of(rows, **kw):
     def make(path: Path) -> Path:
         return write_csv(path, rows, **kw)
+
     return make
 
 
@@ -42,6 +43,7 @@ def text(data: str, encoding: str = "utf-8", prefix: bytes = b""):
     def make(path: Path) -> Path:
         path.write_bytes(prefix + data.encode(encoding))
         return path
+
     return make
 
 
@@ -54,8 +56,11 @@ CAFE = "Caf\u00e9 \u2013 \u20ac5"  # é, en dash, euro sign: all in Windows-1252
 SEPARATORS = {"T1": "a\x85b", "T2": "a\u2029b", "T3": "a\u2028b"}
 #: FileMaker writes a line break inside a field as a vertical tab (ASCII 11) in its CSV
 #: exports (FileMaker Pro help, "Exporting data", from memory).
-NOTES = {"T1": "Dig trench\x0bcheck permits\x0bcall utilities",
-         "T2": "Lay pipe\x0bpressure test", "T3": "Backfill\x0bcompact\x0bsurvey"}
+NOTES = {
+    "T1": "Dig trench\x0bcheck permits\x0bcall utilities",
+    "T2": "Lay pipe\x0bpressure test",
+    "T3": "Backfill\x0bcompact\x0bsurvey",
+}
 READER = "h-read (converter/read)"
 
 
@@ -75,6 +80,7 @@ def link_to(target: str):
     def make(path: Path) -> Path:
         path.symlink_to(target)
         return path
+
     return make
 
 
@@ -108,94 +114,208 @@ def link_loop(path: Path) -> Path:
 
 
 CSV = [
-    valid("issue-semicolons-with-commas-inside", "plan.csv",
-          csv_of(replaced(3, 1, "Lay pipe, test, backfill"), delimiter=";"),
-          {"T2": {"name": "Lay pipe, test, backfill"}}),
-    valid("csv-tab-with-commas-and-semicolons", "plan.csv",
-          csv_of(replaced(3, 1, "a, b; c"), delimiter="\t"), {"T2": {"name": "a, b; c"}}),
+    valid(
+        "issue-semicolons-with-commas-inside",
+        "plan.csv",
+        csv_of(replaced(3, 1, "Lay pipe, test, backfill"), delimiter=";"),
+        {"T2": {"name": "Lay pipe, test, backfill"}},
+    ),
+    valid(
+        "csv-tab-with-commas-and-semicolons",
+        "plan.csv",
+        csv_of(replaced(3, 1, "a, b; c"), delimiter="\t"),
+        {"T2": {"name": "a, b; c"}},
+    ),
     valid("csv-vertical-bar", "plan.csv", csv_of(BASE, delimiter="|"), READ),
     valid("csv-excel-separator-hint", "plan.csv", text("sep=;\n" + lines(BASE, ";")), READ),
-    valid("csv-quoted-crlf-in-cell", "plan.csv", csv_of(replaced(3, 1, "Lay\r\npipe")),
-          {"T2": {"name": "Lay\r\npipe"}, "T3": {"te": BASE_TE["T3"]}}),
-    valid("csv-doubled-quotes", "plan.csv", csv_of(replaced(3, 1, 'say "hi", then "go"')),
-          {"T2": {"name": 'say "hi", then "go"'}}),
-    valid("csv-line-separators-stay-in-cells", "plan.csv", csv_of(described(SEPARATORS)),
-          {k: {"name": v} for k, v in SEPARATORS.items()}),
-    valid("csv-utf16-big-endian-bom", "plan.csv",
-          text(lines(replaced(3, 1, CAFE)), "utf-16-be", codecs.BOM_UTF16_BE),
-          {"T2": {"name": CAFE}}),
-    valid("csv-utf16-little-endian-no-bom", "plan.csv",
-          text(lines(replaced(3, 1, CAFE)), "utf-16-le"), {"T2": {"name": CAFE}}),
-    valid("csv-utf8-bom", "plan.csv", text(lines(replaced(3, 1, CAFE)), "utf-8-sig"),
-          {"T2": {"name": CAFE}}),
-    valid("csv-windows-1252", "plan.csv", text(lines(replaced(3, 1, CAFE)), "cp1252"),
-          {"T2": {"name": CAFE}}, watch=True),
+    valid(
+        "csv-quoted-crlf-in-cell",
+        "plan.csv",
+        csv_of(replaced(3, 1, "Lay\r\npipe")),
+        {"T2": {"name": "Lay\r\npipe"}, "T3": {"te": BASE_TE["T3"]}},
+    ),
+    valid(
+        "csv-doubled-quotes",
+        "plan.csv",
+        csv_of(replaced(3, 1, 'say "hi", then "go"')),
+        {"T2": {"name": 'say "hi", then "go"'}},
+    ),
+    valid(
+        "csv-line-separators-stay-in-cells",
+        "plan.csv",
+        csv_of(described(SEPARATORS)),
+        {k: {"name": v} for k, v in SEPARATORS.items()},
+    ),
+    valid(
+        "csv-utf16-big-endian-bom",
+        "plan.csv",
+        text(lines(replaced(3, 1, CAFE)), "utf-16-be", codecs.BOM_UTF16_BE),
+        {"T2": {"name": CAFE}},
+    ),
+    valid(
+        "csv-utf16-little-endian-no-bom",
+        "plan.csv",
+        text(lines(replaced(3, 1, CAFE)), "utf-16-le"),
+        {"T2": {"name": CAFE}},
+    ),
+    valid(
+        "csv-utf8-bom",
+        "plan.csv",
+        text(lines(replaced(3, 1, CAFE)), "utf-8-sig"),
+        {"T2": {"name": CAFE}},
+    ),
+    valid(
+        "csv-windows-1252",
+        "plan.csv",
+        text(lines(replaced(3, 1, CAFE)), "cp1252"),
+        {"T2": {"name": CAFE}},
+        watch=True,
+    ),
     invalid("csv-utf32-bom", "plan.csv", text(lines(BASE), "utf-32"), "plan.csv"),
-    valid("csv-fixed-duration-short-row", "plan.csv",
-          text(lines(BASE[:3]) + "T3,Backfill,T2,,1\n" + lines(BASE[4:])),
-          {"T3": {"te": 1.0}}, places=("T3",)),
-    invalid("csv-truncated-row", "plan.csv",
-            text(lines(BASE[:3]) + "T3,Backfill\n" + lines(BASE[4:])), "plan.csv!E4", "T3"),
-    valid("csv-long-rows", "plan.csv",
-          text("".join(r.rstrip("\n") + ",extra,more,\n" for r in lines(BASE).splitlines(True))),
-          READ),
-    valid("csv-title-lines", "plan.csv",
-          text("Project: Water main\nIssued,2025-01-06\n\n" + lines(BASE)), READ),
-    invalid("csv-header-on-row-31", "plan.csv", text("note\n" * 30 + lines(BASE)),
-            "plan.csv", "30"),
+    valid(
+        "csv-fixed-duration-short-row",
+        "plan.csv",
+        text(lines(BASE[:3]) + "T3,Backfill,T2,,1\n" + lines(BASE[4:])),
+        {"T3": {"te": 1.0}},
+        places=("T3",),
+    ),
+    invalid(
+        "csv-truncated-row",
+        "plan.csv",
+        text(lines(BASE[:3]) + "T3,Backfill\n" + lines(BASE[4:])),
+        "plan.csv!E4",
+        "T3",
+    ),
+    valid(
+        "csv-long-rows",
+        "plan.csv",
+        text("".join(r.rstrip("\n") + ",extra,more,\n" for r in lines(BASE).splitlines(True))),
+        READ,
+    ),
+    valid(
+        "csv-title-lines",
+        "plan.csv",
+        text("Project: Water main\nIssued,2025-01-06\n\n" + lines(BASE)),
+        READ,
+    ),
+    invalid(
+        "csv-header-on-row-31", "plan.csv", text("note\n" * 30 + lines(BASE)), "plan.csv", "30"
+    ),
     valid("csv-cr-only-line-ends", "plan.csv", text(lines(BASE, end="\r")), READ),
-    valid("csv-mixed-line-ends", "plan.csv",
-          text("".join(r.rstrip("\n") + e for r, e in
-                       zip(lines(BASE).splitlines(True), ["\r\n", "\n", "\r", "\r\n", "\n"]))),
-          READ),
+    valid(
+        "csv-mixed-line-ends",
+        "plan.csv",
+        text(
+            "".join(
+                r.rstrip("\n") + e
+                for r, e in zip(lines(BASE).splitlines(True), ["\r\n", "\n", "\r", "\r\n", "\n"])
+            )
+        ),
+        READ,
+    ),
     valid("csv-blank-lines-between", "plan.csv", text(lines(BASE, end="\n\n\n")), READ),
     valid("csv-trailing-delimiters", "plan.csv", text(lines(BASE, end=",,,\n")), READ),
     invalid("csv-header-only", "plan.csv", text(lines(BASE[:1])), "plan.csv"),
     invalid("csv-whitespace-only", "plan.csv", text(" \t\r\n  \n"), "plan.csv"),
     invalid("csv-bom-only", "plan.csv", text("", "utf-8-sig"), "plan.csv"),
-    valid("csv-most-likely-twice", "plan.csv",
-          csv_of(rows_with(header=HEADER + ["Most likely"])), READ,
-          places=("E1", "G1", "Most likely")),
-    valid("csv-excel-text-formula-id", "plan.csv",
-          csv_of(rows_with(['="0012"', "kept", "T4", 1, 1, 1])),
-          {'="0012"': {"name": "kept"}}, texts=('="0012"',)),
-    valid("csv-40000-char-cell", "plan.csv", csv_of(replaced(3, 1, "w" * 40_000)),
-          {"T2": {"name": "w" * 40_000}}),
-    invalid("csv-one-megabyte-cell", "plan.csv", csv_of(replaced(3, 1, "w" * (1 << 20))),
-            "plan.csv", "field limit"),
-    invalid("csv-decimal-comma-in-semicolon-file", "plan.csv",
-            csv_of(replaced(3, 4, "1,5"), delimiter=";"), "plan.csv!E3", "T2", "1,5"),
-    valid("csv-vertical-tab-line-breaks", "plan.csv", csv_of(described(NOTES)),
-          {k: {"name": v} for k, v in NOTES.items()}),
-    invalid("csv-2000-columns", "plan.csv",
-            csv_of([r + [f"c{k}" for k in range(2000)] for r in BASE]), "plan.csv", "1,000",
-            defect="a CSV past the 1,000-column limit is reported as 'required column(s) "
-            "missing' (the comma is skipped as delimiter when it hits the limit), not as the "
-            f"limit; {READER}"),
+    valid(
+        "csv-most-likely-twice",
+        "plan.csv",
+        csv_of(rows_with(header=HEADER + ["Most likely"])),
+        READ,
+        places=("E1", "G1", "Most likely"),
+    ),
+    valid(
+        "csv-excel-text-formula-id",
+        "plan.csv",
+        csv_of(rows_with(['="0012"', "kept", "T4", 1, 1, 1])),
+        {'="0012"': {"name": "kept"}},
+        texts=('="0012"',),
+    ),
+    valid(
+        "csv-40000-char-cell",
+        "plan.csv",
+        csv_of(replaced(3, 1, "w" * 40_000)),
+        {"T2": {"name": "w" * 40_000}},
+    ),
+    invalid(
+        "csv-one-megabyte-cell",
+        "plan.csv",
+        csv_of(replaced(3, 1, "w" * (1 << 20))),
+        "plan.csv",
+        "field limit",
+    ),
+    invalid(
+        "csv-decimal-comma-in-semicolon-file",
+        "plan.csv",
+        csv_of(replaced(3, 4, "1,5"), delimiter=";"),
+        "plan.csv!E3",
+        "T2",
+        "1,5",
+    ),
+    valid(
+        "csv-vertical-tab-line-breaks",
+        "plan.csv",
+        csv_of(described(NOTES)),
+        {k: {"name": v} for k, v in NOTES.items()},
+    ),
+    invalid(
+        "csv-2000-columns",
+        "plan.csv",
+        csv_of([r + [f"c{k}" for k in range(2000)] for r in BASE]),
+        "plan.csv",
+        "1,000",
+        defect="a CSV past the 1,000-column limit is reported as 'required column(s) "
+        "missing' (the comma is skipped as delimiter when it hits the limit), not as the "
+        f"limit; {READER}",
+    ),
 ]
 
 FILES = [
-    invalid("issue-fifo-named-csv", "plan.csv", fifo, "plan.csv", "named pipe",
-            regular=False, watch=True),
-    invalid("issue-link-to-dev-zero", "plan.xlsx", link_to("/dev/zero"), "plan.xlsx",
-            regular=False, watch=True),
-    invalid("file-fifo-named-xlsx", "plan.xlsx", fifo, "plan.xlsx", "named pipe",
-            regular=False),
-    invalid("file-link-to-fifo", "plan.csv", link_to_fifo, "plan.csv", "named pipe",
-            regular=False),
-    invalid("file-link-to-dev-urandom", "plan.csv", link_to("/dev/urandom"), "plan.csv",
-            regular=False),
-    invalid("file-link-to-dev-null", "plan.xlsx", link_to("/dev/null"), "plan.xlsx",
-            regular=False),
-    invalid("file-folder-named-xlsx", "plan.xlsx", folder, "plan.xlsx", "folder",
-            regular=False, watch=True),
+    invalid(
+        "issue-fifo-named-csv",
+        "plan.csv",
+        fifo,
+        "plan.csv",
+        "named pipe",
+        regular=False,
+        watch=True,
+    ),
+    invalid(
+        "issue-link-to-dev-zero",
+        "plan.xlsx",
+        link_to("/dev/zero"),
+        "plan.xlsx",
+        regular=False,
+        watch=True,
+    ),
+    invalid("file-fifo-named-xlsx", "plan.xlsx", fifo, "plan.xlsx", "named pipe", regular=False),
+    invalid("file-link-to-fifo", "plan.csv", link_to_fifo, "plan.csv", "named pipe", regular=False),
+    invalid(
+        "file-link-to-dev-urandom", "plan.csv", link_to("/dev/urandom"), "plan.csv", regular=False
+    ),
+    invalid("file-link-to-dev-null", "plan.xlsx", link_to("/dev/null"), "plan.xlsx", regular=False),
+    invalid(
+        "file-folder-named-xlsx",
+        "plan.xlsx",
+        folder,
+        "plan.xlsx",
+        "folder",
+        regular=False,
+        watch=True,
+    ),
     invalid("file-socket", "plan.csv", socket_file, "plan.csv", "socket", regular=False),
-    invalid("file-dangling-link", "plan.csv", link_to(".gone.csv"), "plan.csv",
-            regular=False),
-    invalid("file-link-loop", "plan.csv", link_loop, "plan.csv", regular=False,
-            defect="convert on a symbolic link loop ends in a traceback (RuntimeError 'Symlink "
-            "loop' from Path.resolve in cli.InputIndex) before any input is converted; "
-            "converter/cli.py (output names)"),
+    invalid("file-dangling-link", "plan.csv", link_to(".gone.csv"), "plan.csv", regular=False),
+    invalid(
+        "file-link-loop",
+        "plan.csv",
+        link_loop,
+        "plan.csv",
+        regular=False,
+        defect="convert on a symbolic link loop ends in a traceback (RuntimeError 'Symlink "
+        "loop' from Path.resolve in cli.InputIndex) before any input is converted; "
+        "converter/cli.py (output names)",
+    ),
     valid("file-link-to-regular-file", "plan.xlsx", link_to_good, READ),
 ]
 
@@ -203,12 +323,16 @@ NAMES = [
     valid("issue-253-character-name", "N" * 248 + ".xlsx", base_xlsx, READ, watch=True),
     valid("name-255-bytes", "M" * 250 + ".xlsx", base_xlsx, READ),
     valid("name-multibyte-near-limit", "\u00fc" * 125 + ".csv", csv_of(BASE), READ),
-    valid("name-quotes-and-symbols", "plan \"final\" (2) & co; $(x) `y`.xlsx", base_xlsx,
-          READ),
-    valid("name-not-utf8", "plan-\udcff\udcfe.csv", csv_of(BASE), READ,
-          defect="a file name that is not UTF-8 (bytes ff fe) gives 'internal error: "
-          "UnicodeEncodeError ... surrogates not allowed' when the workbook is written "
-          "(xlsxwriter shared strings); converter/write"),
+    valid("name-quotes-and-symbols", 'plan "final" (2) & co; $(x) `y`.xlsx', base_xlsx, READ),
+    valid(
+        "name-not-utf8",
+        "plan-\udcff\udcfe.csv",
+        csv_of(BASE),
+        READ,
+        defect="a file name that is not UTF-8 (bytes ff fe) gives 'internal error: "
+        "UnicodeEncodeError ... surrogates not allowed' when the workbook is written "
+        "(xlsxwriter shared strings); converter/write",
+    ),
     valid("name-leading-dash", "-rf --help.csv", csv_of(BASE), READ),
     valid("name-decomposed-accent", "Cafe\u0301 plan.xlsx", base_xlsx, READ),
     valid("name-right-to-left-override", "plan\u202excod.csv", csv_of(BASE), READ),

@@ -96,11 +96,22 @@ def write_zip(path: Path, entries: list[Entry], prefix: bytes = b"") -> Path:
         fields = (20, e.flags | 0x800, e.method, 0, 0x21, crc, len(packed), size, len(name))
         offset = len(out)
         out += struct.pack("<4sHHHHHIIIHH", b"PK\x03\x04", *fields, 0) + name + packed
-        central += struct.pack("<4sHHHHHHIIIHHHHHII", b"PK\x01\x02", 20, *fields, 0, 0, 0,
-                               0, 0, offset) + name
+        central += (
+            struct.pack("<4sHHHHHHIIIHHHHHII", b"PK\x01\x02", 20, *fields, 0, 0, 0, 0, 0, offset)
+            + name
+        )
     out += central
-    out += struct.pack("<4sHHHHIIH", b"PK\x05\x06", 0, 0, len(entries), len(entries),
-                       len(central), len(out) - len(central), 0)
+    out += struct.pack(
+        "<4sHHHHIIH",
+        b"PK\x05\x06",
+        0,
+        0,
+        len(entries),
+        len(entries),
+        len(central),
+        len(out) - len(central),
+        0,
+    )
     path.write_bytes(bytes(out))
     return path
 
@@ -133,11 +144,13 @@ def xml_text(text: str) -> str:
     out = []
     for i, ch in enumerate(text):
         code = ord(ch)
-        if ch == "_" and text[i + 1:i + 2] == "x" and len(text) >= i + 7 \
-                and text[i + 6] == "_":
+        if ch == "_" and text[i + 1 : i + 2] == "x" and len(text) >= i + 7 and text[i + 6] == "_":
             out.append("_x005F_")
-        elif (code < 32 and ch not in "\t\n\r") or code in (0xFFFE, 0xFFFF) \
-                or 0xD800 <= code <= 0xDFFF:
+        elif (
+            (code < 32 and ch not in "\t\n\r")
+            or code in (0xFFFE, 0xFFFF)
+            or 0xD800 <= code <= 0xDFFF
+        ):
             out.append(f"_x{code:04X}_")
         else:
             out.append(ch)
@@ -185,67 +198,92 @@ def cell_xml(ref: str, value: object, shared: list[str] | None) -> str:
     return f'<c r="{ref}" t="inlineStr"><is><t xml:space="preserve">{xml_text(text)}</t></is></c>'
 
 
-def sheet_xml(rows: list[list[object]], shared: list[str] | None = None,
-              first_row: int = 1, dimension: str | None = None) -> str:
+def sheet_xml(
+    rows: list[list[object]],
+    shared: list[str] | None = None,
+    first_row: int = 1,
+    dimension: str | None = None,
+) -> str:
     body = []
     for r, row in enumerate(rows, start=first_row):
-        cells = "".join(cell_xml(f"{column_name(c)}{r}", v, shared)
-                        for c, v in enumerate(row) if v is not None)
+        cells = "".join(
+            cell_xml(f"{column_name(c)}{r}", v, shared) for c, v in enumerate(row) if v is not None
+        )
         if cells:
             body.append(f'<row r="{r}">{cells}</row>')
     dim = f'<dimension ref="{dimension}"/>' if dimension else ""
-    return (f'<?xml version="1.0" encoding="UTF-8" standalone="yes"?>\n<worksheet xmlns='
-            f'"{MAIN_NS}">{dim}<sheetData>{"".join(body)}</sheetData></worksheet>')
+    return (
+        f'<?xml version="1.0" encoding="UTF-8" standalone="yes"?>\n<worksheet xmlns='
+        f'"{MAIN_NS}">{dim}<sheetData>{"".join(body)}</sheetData></worksheet>'
+    )
 
 
-STYLES = (f'<?xml version="1.0" encoding="UTF-8"?><styleSheet xmlns="{MAIN_NS}">'
-          '<fonts count="1"><font><sz val="11"/><name val="Calibri"/></font></fonts>'
-          '<fills count="1"><fill><patternFill patternType="none"/></fill></fills>'
-          '<borders count="1"><border/></borders>'
-          '<cellStyleXfs count="1"><xf numFmtId="0"/></cellStyleXfs>'
-          '<cellXfs count="4"><xf numFmtId="0"/><xf numFmtId="14" applyNumberFormat="1"/>'
-          '<xf numFmtId="22" applyNumberFormat="1"/><xf numFmtId="20" applyNumberFormat="1"/>'
-          "</cellXfs></styleSheet>")
+STYLES = (
+    f'<?xml version="1.0" encoding="UTF-8"?><styleSheet xmlns="{MAIN_NS}">'
+    '<fonts count="1"><font><sz val="11"/><name val="Calibri"/></font></fonts>'
+    '<fills count="1"><fill><patternFill patternType="none"/></fill></fills>'
+    '<borders count="1"><border/></borders>'
+    '<cellStyleXfs count="1"><xf numFmtId="0"/></cellStyleXfs>'
+    '<cellXfs count="4"><xf numFmtId="0"/><xf numFmtId="14" applyNumberFormat="1"/>'
+    '<xf numFmtId="22" applyNumberFormat="1"/><xf numFmtId="20" applyNumberFormat="1"/>'
+    "</cellXfs></styleSheet>"
+)
 
 
-def shared_strings_xml(strings: list[str], count: int | None = None,
-                       unique: int | None = None) -> str:
+def shared_strings_xml(
+    strings: list[str], count: int | None = None, unique: int | None = None
+) -> str:
     items = "".join(f'<si><t xml:space="preserve">{xml_text(s)}</t></si>' for s in strings)
-    return (f'<?xml version="1.0" encoding="UTF-8"?><sst xmlns="{MAIN_NS}" count="'
-            f'{len(strings) if count is None else count}" uniqueCount="'
-            f'{len(strings) if unique is None else unique}">{items}</sst>')
+    return (
+        f'<?xml version="1.0" encoding="UTF-8"?><sst xmlns="{MAIN_NS}" count="'
+        f'{len(strings) if count is None else count}" uniqueCount="'
+        f'{len(strings) if unique is None else unique}">{items}</sst>'
+    )
 
 
-def xlsx_parts(sheets: dict[str, list[list[object]] | str], *, shared: bool = False,
-               macro: bool = False) -> dict[str, bytes]:
+def xlsx_parts(
+    sheets: dict[str, list[list[object]] | str], *, shared: bool = False, macro: bool = False
+) -> dict[str, bytes]:
     """The parts of a workbook, by name, in the order they are written. A sheet given as
     a ``str`` is that worksheet XML as it is."""
     strings: list[str] | None = [] if shared else None
     parts: dict[str, bytes] = {}
     n = len(sheets)
-    overrides = "".join(f'<Override PartName="/xl/worksheets/sheet{k}.xml" ContentType='
-                        f'"{SHEET_TYPE}"/>' for k in range(1, n + 1))
+    overrides = "".join(
+        f'<Override PartName="/xl/worksheets/sheet{k}.xml" ContentType="{SHEET_TYPE}"/>'
+        for k in range(1, n + 1)
+    )
     book_type = MACRO_BOOK_TYPE if macro else BOOK_TYPE
     parts["[Content_Types].xml"] = (
         '<?xml version="1.0" encoding="UTF-8"?><Types xmlns="http://schemas.openxmlformats'
         '.org/package/2006/content-types"><Default Extension="rels" ContentType="application'
         '/vnd.openxmlformats-package.relationships+xml"/><Default Extension="xml" '
         f'ContentType="application/xml"/><Override PartName="/xl/workbook.xml" ContentType='
-        f'"{book_type}"/>{overrides}</Types>').encode()
+        f'"{book_type}"/>{overrides}</Types>'
+    ).encode()
     parts["_rels/.rels"] = (
         f'<Relationships xmlns="{PKG_REL_NS}"><Relationship Id="rId1" Type="{REL_NS}/'
-        'officeDocument" Target="xl/workbook.xml"/></Relationships>').encode()
-    entries = "".join(f'<sheet name="{escape(name, {chr(34): "&quot;"})}" sheetId="{k}" '
-                      f'r:id="rId{k}"/>' for k, name in enumerate(sheets, start=1))
-    parts["xl/workbook.xml"] = (f'<workbook xmlns="{MAIN_NS}" xmlns:r="{REL_NS}"><sheets>'
-                                f"{entries}</sheets></workbook>").encode()
-    targets = "".join(f'<Relationship Id="rId{k}" Type="{REL_NS}/worksheet" '
-                      f'Target="worksheets/sheet{k}.xml"/>' for k in range(1, n + 1))
-    targets += (f'<Relationship Id="rId900" Type="{REL_NS}/styles" Target="styles.xml"/>'
-                f'<Relationship Id="rId901" Type="{REL_NS}/sharedStrings" '
-                'Target="sharedStrings.xml"/>')
+        'officeDocument" Target="xl/workbook.xml"/></Relationships>'
+    ).encode()
+    entries = "".join(
+        f'<sheet name="{escape(name, {chr(34): "&quot;"})}" sheetId="{k}" r:id="rId{k}"/>'
+        for k, name in enumerate(sheets, start=1)
+    )
+    parts["xl/workbook.xml"] = (
+        f'<workbook xmlns="{MAIN_NS}" xmlns:r="{REL_NS}"><sheets>{entries}</sheets></workbook>'
+    ).encode()
+    targets = "".join(
+        f'<Relationship Id="rId{k}" Type="{REL_NS}/worksheet" Target="worksheets/sheet{k}.xml"/>'
+        for k in range(1, n + 1)
+    )
+    targets += (
+        f'<Relationship Id="rId900" Type="{REL_NS}/styles" Target="styles.xml"/>'
+        f'<Relationship Id="rId901" Type="{REL_NS}/sharedStrings" '
+        'Target="sharedStrings.xml"/>'
+    )
     parts["xl/_rels/workbook.xml.rels"] = (
-        f'<Relationships xmlns="{PKG_REL_NS}">{targets}</Relationships>').encode()
+        f'<Relationships xmlns="{PKG_REL_NS}">{targets}</Relationships>'
+    ).encode()
     parts["xl/styles.xml"] = STYLES.encode()
     for k, rows in enumerate(sheets.values(), start=1):
         xml = rows if isinstance(rows, str) else sheet_xml(rows, strings)
@@ -254,9 +292,14 @@ def xlsx_parts(sheets: dict[str, list[list[object]] | str], *, shared: bool = Fa
     return parts
 
 
-def write_xlsx(path: Path, sheets: dict[str, list[list[object]] | str], *,
-               shared: bool = False, macro: bool = False,
-               change: dict[str, bytes | None] | None = None) -> Path:
+def write_xlsx(
+    path: Path,
+    sheets: dict[str, list[list[object]] | str],
+    *,
+    shared: bool = False,
+    macro: bool = False,
+    change: dict[str, bytes | None] | None = None,
+) -> Path:
     """A workbook of the given sheets; ``change`` replaces parts (``None`` leaves one out,
     a new name adds it)."""
     parts = xlsx_parts(sheets, shared=shared, macro=macro)
@@ -269,9 +312,11 @@ def write_xlsx(path: Path, sheets: dict[str, list[list[object]] | str], *,
 
 
 # --------------------------------------------------------------------------- ods
-_ODS_NS = ('xmlns:office="urn:oasis:names:tc:opendocument:xmlns:office:1.0" '
-           'xmlns:table="urn:oasis:names:tc:opendocument:xmlns:table:1.0" '
-           'xmlns:text="urn:oasis:names:tc:opendocument:xmlns:text:1.0"')
+_ODS_NS = (
+    'xmlns:office="urn:oasis:names:tc:opendocument:xmlns:office:1.0" '
+    'xmlns:table="urn:oasis:names:tc:opendocument:xmlns:table:1.0" '
+    'xmlns:text="urn:oasis:names:tc:opendocument:xmlns:text:1.0"'
+)
 
 
 def ods_cell(value: object, repeat: int = 1) -> str:
@@ -279,49 +324,71 @@ def ods_cell(value: object, repeat: int = 1) -> str:
     if value is None:
         return f"<table:table-cell{rep}/>"
     if isinstance(value, (int, float)) and not isinstance(value, bool):
-        return (f'<table:table-cell{rep} office:value-type="float" office:value="{value!r}">'
-                f"<text:p>{value!r}</text:p></table:table-cell>")
+        return (
+            f'<table:table-cell{rep} office:value-type="float" office:value="{value!r}">'
+            f"<text:p>{value!r}</text:p></table:table-cell>"
+        )
     if isinstance(value, dt.date):
-        return (f'<table:table-cell{rep} office:value-type="date" office:date-value='
-                f'"{value.isoformat()}"><text:p>{value.isoformat()}</text:p></table:table-cell>')
-    return (f'<table:table-cell{rep} office:value-type="string"><text:p>'
-            f"{escape(str(value))}</text:p></table:table-cell>")
+        return (
+            f'<table:table-cell{rep} office:value-type="date" office:date-value='
+            f'"{value.isoformat()}"><text:p>{value.isoformat()}</text:p></table:table-cell>'
+        )
+    return (
+        f'<table:table-cell{rep} office:value-type="string"><text:p>'
+        f"{escape(str(value))}</text:p></table:table-cell>"
+    )
 
 
 def ods_rows(rows: list[list[object]]) -> str:
-    return "".join("<table:table-row>" + "".join(ods_cell(v) for v in row)
-                   + "</table:table-row>" for row in rows)
+    return "".join(
+        "<table:table-row>" + "".join(ods_cell(v) for v in row) + "</table:table-row>"
+        for row in rows
+    )
 
 
-def write_ods(path: Path, tables: dict[str, list[list[object]] | str],
-              mimetype: bytes = b"application/vnd.oasis.opendocument.spreadsheet",
-              content: bytes | None = None) -> Path:
+def write_ods(
+    path: Path,
+    tables: dict[str, list[list[object]] | str],
+    mimetype: bytes = b"application/vnd.oasis.opendocument.spreadsheet",
+    content: bytes | None = None,
+) -> Path:
     """An OpenDocument spreadsheet; a table given as ``str`` is its rows' XML as it is."""
-    body = "".join(f'<table:table table:name="{escape(name)}">'
-                   f'{rows if isinstance(rows, str) else ods_rows(rows)}</table:table>'
-                   for name, rows in tables.items())
+    body = "".join(
+        f'<table:table table:name="{escape(name)}">'
+        f"{rows if isinstance(rows, str) else ods_rows(rows)}</table:table>"
+        for name, rows in tables.items()
+    )
     if content is None:
-        content = (f'<?xml version="1.0" encoding="UTF-8"?><office:document-content {_ODS_NS}'
-                   ' office:version="1.2"><office:body><office:spreadsheet>'
-                   f"{body}</office:spreadsheet></office:body></office:document-content>"
-                   ).encode()
-    manifest = (b'<?xml version="1.0" encoding="UTF-8"?><manifest:manifest xmlns:manifest="urn:'
-                b'oasis:names:tc:opendocument:xmlns:manifest:1.0" manifest:version="1.2">'
-                b'<manifest:file-entry manifest:full-path="/" manifest:media-type="application/'
-                b'vnd.oasis.opendocument.spreadsheet"/><manifest:file-entry manifest:full-path='
-                b'"content.xml" manifest:media-type="text/xml"/></manifest:manifest>')
-    return write_zip(path, [Entry("mimetype", mimetype, method=0),
-                            Entry("META-INF/manifest.xml", manifest),
-                            Entry("content.xml", content)])
+        content = (
+            f'<?xml version="1.0" encoding="UTF-8"?><office:document-content {_ODS_NS}'
+            ' office:version="1.2"><office:body><office:spreadsheet>'
+            f"{body}</office:spreadsheet></office:body></office:document-content>"
+        ).encode()
+    manifest = (
+        b'<?xml version="1.0" encoding="UTF-8"?><manifest:manifest xmlns:manifest="urn:'
+        b'oasis:names:tc:opendocument:xmlns:manifest:1.0" manifest:version="1.2">'
+        b'<manifest:file-entry manifest:full-path="/" manifest:media-type="application/'
+        b'vnd.oasis.opendocument.spreadsheet"/><manifest:file-entry manifest:full-path='
+        b'"content.xml" manifest:media-type="text/xml"/></manifest:manifest>'
+    )
+    return write_zip(
+        path,
+        [
+            Entry("mimetype", mimetype, method=0),
+            Entry("META-INF/manifest.xml", manifest),
+            Entry("content.xml", content),
+        ],
+    )
 
 
 # --------------------------------------------------------------------------- OLE
-def _dir_entry(name: str, kind: int, start: int, size: int, child: int = 0xFFFFFFFF,
-               right: int = 0xFFFFFFFF) -> bytes:
+def _dir_entry(
+    name: str, kind: int, start: int, size: int, child: int = 0xFFFFFFFF, right: int = 0xFFFFFFFF
+) -> bytes:
     """A 128-byte directory entry ([MS-CFB] 2.6.1); black, no left sibling."""
     raw = name.encode("utf-16-le") + b"\x00\x00"
     out = bytearray(128)
-    out[:len(raw)] = raw
+    out[: len(raw)] = raw
     struct.pack_into("<HBBIII", out, 64, len(raw), kind, 1, 0xFFFFFFFF, right, child)
     struct.pack_into("<II", out, 116, start, size)
     return bytes(out)
@@ -349,8 +416,7 @@ def write_compound(path: Path, streams: dict[str, bytes]) -> Path:
     header = bytearray(512)
     header[:8] = b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1"
     struct.pack_into("<HHHHH", header, 0x18, 0x3E, 3, 0xFFFE, 9, 6)
-    struct.pack_into("<IIIIIIIII", header, 0x2C, 1, 1, 0, 4096, 0xFFFFFFFE, 0, 0xFFFFFFFE,
-                     0, 0)
+    struct.pack_into("<IIIIIIIII", header, 0x2C, 1, 1, 0, 4096, 0xFFFFFFFE, 0, 0xFFFFFFFE, 0, 0)
     struct.pack_into("<109I", header, 0x4C, 0, *([0xFFFFFFFF] * 108))
     fat_sector = struct.pack("<128I", *(fat + [0xFFFFFFFF] * (128 - len(fat))))
     entries = [_dir_entry("Root Entry", 5, 0xFFFFFFFE, 0, child=1 if order else 0xFFFFFFFF)]

@@ -84,15 +84,31 @@ def run_measured(args: list[str], work: Path, *, umask: int, tag: str) -> Run:
     undecodable bytes of odd file names kept as surrogate escapes)."""
     argv = [sys.executable, "-m", "converter", *args]
     out, err = work / f".{tag}.out", work / f".{tag}.err"
-    spec = {"argv": argv, "out": str(out), "err": str(err), "cwd": str(work),
-            "env": child_env(), "umask": umask, "cap": ADDRESS_CAP, "timeout": HANG_GUARD}
+    spec = {
+        "argv": argv,
+        "out": str(out),
+        "err": str(err),
+        "cwd": str(work),
+        "env": child_env(),
+        "umask": umask,
+        "cap": ADDRESS_CAP,
+        "timeout": HANG_GUARD,
+    }
     started = time.perf_counter()
-    done = subprocess.run([sys.executable, "-c", INTERMEDIATE, json.dumps(spec)],
-                          capture_output=True, check=True)
+    done = subprocess.run(
+        [sys.executable, "-c", INTERMEDIATE, json.dumps(spec)], capture_output=True, check=True
+    )
     report = json.loads(done.stdout)
     decode = lambda p: p.read_bytes().decode("utf-8", "surrogateescape")  # noqa: E731
-    run = Run(argv, report["code"], decode(out), decode(err), report["peak_kb"] / 1024,
-              report["hung"], time.perf_counter() - started)
+    run = Run(
+        argv,
+        report["code"],
+        decode(out),
+        decode(err),
+        report["peak_kb"] / 1024,
+        report["hung"],
+        time.perf_counter() - started,
+    )
     out.unlink()
     err.unlink()
     return run
@@ -131,7 +147,7 @@ def _said(lines: list[str], name: str, *words: str) -> bool:
     """Whether a line says ``NAME: <one of words>...`` (the name as given, or shown
     otherwise when the command had this one input)."""
     for line in lines:
-        rest = line[len(name) + 2:] if line.startswith(name + ": ") else line
+        rest = line[len(name) + 2 :] if line.startswith(name + ": ") else line
         if rest.startswith(words) or any(f": {w}" in line for w in words):
             return True
     return False
@@ -165,8 +181,20 @@ _DEFINED = re.compile(r"<definedName\b[^>]*>(.*?)</definedName>", re.S)
 _TEXT = re.compile(r"<t\b[^>]*>(.*?)</t>", re.S)
 _ESCAPE = re.compile(r"_x([0-9A-Fa-f]{4})_")
 #: Words no formula of pertbook's own uses; in a formula they can only come from input.
-FOREIGN = ("cmd", "|", "HYPERLINK", "DDE", "WEBSERVICE", "IMPORTXML", "EXEC(", "CALL(",
-           "REGISTER", "example.invalid", "calc", "notepad")
+FOREIGN = (
+    "cmd",
+    "|",
+    "HYPERLINK",
+    "DDE",
+    "WEBSERVICE",
+    "IMPORTXML",
+    "EXEC(",
+    "CALL(",
+    "REGISTER",
+    "example.invalid",
+    "calc",
+    "notepad",
+)
 
 
 def xml_text(raw: str) -> str:
@@ -204,10 +232,16 @@ def formula_problems(path: Path, texts: tuple[str, ...]) -> list[str]:
     no formula of pertbook's own holds or an input text, a link to outside the file, an
     input text not kept as text."""
     found = workbook_text(path)
-    bad = [f"formula {f!r}" for f in found.formulas
-           if any(w.lower() in f.lower() for w in FOREIGN)
-           or any(t and t.lstrip("=+-@\t\r ") and t.lstrip("=+-@\t\r ") in f for t in texts)]
+    bad = [
+        f"formula {f!r}"
+        for f in found.formulas
+        if any(w.lower() in f.lower() for w in FOREIGN)
+        or any(t and t.lstrip("=+-@\t\r ") and t.lstrip("=+-@\t\r ") in f for t in texts)
+    ]
     bad += [f"external link {t!r}" for t in found.external]
-    bad += [f"input text {t!r} is not a text in the workbook" for t in texts
-            if not any(t.strip() in s for s in found.strings)]
+    bad += [
+        f"input text {t!r} is not a text in the workbook"
+        for t in texts
+        if not any(t.strip() in s for s in found.strings)
+    ]
     return bad

@@ -55,17 +55,36 @@ def prepare(root: Path, cases: list[Case]) -> WatchSet:
 
 
 def run(ws: WatchSet, umask: int) -> WatchSet:
-    ws.run = run_measured(["watch", str(ws.root), "--once", "--interval", "0.1",
-                           "--workers", "1", "--once-wait", "10", "--no-simulation",
-                           "--json", "--quiet"], ws.root.parent, umask=umask, tag="watch")
+    ws.run = run_measured(
+        [
+            "watch",
+            str(ws.root),
+            "--once",
+            "--interval",
+            "0.1",
+            "--workers",
+            "1",
+            "--once-wait",
+            "10",
+            "--no-simulation",
+            "--json",
+            "--quiet",
+        ],
+        ws.root.parent,
+        umask=umask,
+        tag="watch",
+    )
     return ws
 
 
 def _placed(folder: Path, path: Path, digest: str) -> list[Path]:
     """Files in ``folder`` named like ``path`` (its stem starts theirs) with its bytes."""
     stem = path.stem[:100]
-    return [p for p in folder.iterdir() if p.name.startswith(stem) and p.suffix == path.suffix
-            and _digest(p) == digest]
+    return [
+        p
+        for p in folder.iterdir()
+        if p.name.startswith(stem) and p.suffix == path.suffix and _digest(p) == digest
+    ]
 
 
 def _results_of(folder: Path, path: Path, suffix: str) -> list[Path]:

@@ -99,7 +99,7 @@ def digest(path: Path) -> str | None:
 
 
 def chunks(cases: list[Case], size: int) -> list[list[Case]]:
-    return [cases[k:k + size] for k in range(0, len(cases), size)]
+    return [cases[k : k + size] for k in range(0, len(cases), size)]
 
 
 def plan_jobs(corpus: Corpus) -> list[Job]:
@@ -115,12 +115,23 @@ def plan_jobs(corpus: Corpus) -> list[Job]:
         for part in chunks(cases, BATCH):
             files = [str(corpus.paths[c.name]) for c in part]
             sim = [] if "--iterations" in options else ["--no-simulation"]
-            jobs.append(Job("convert", part, ["convert", "--json", *sim, *options, *files],
-                            resource, bool(defect), bool(alone)))
+            jobs.append(
+                Job(
+                    "convert",
+                    part,
+                    ["convert", "--json", *sim, *options, *files],
+                    resource,
+                    bool(defect),
+                    bool(alone),
+                )
+            )
     for resource in (True, False):
         for quarantine in (False, True):
-            cases = [c for c in RUNNABLE if c.resource == resource
-                     and (c.defect is not None) == quarantine]
+            cases = [
+                c
+                for c in RUNNABLE
+                if c.resource == resource and (c.defect is not None) == quarantine
+            ]
             for part in chunks(cases, 160):
                 files = [str(corpus.paths[c.name]) for c in part]
                 jobs.append(Job("check", part, ["check", *files], resource, quarantine))
@@ -155,11 +166,16 @@ def corpus(tmp_path_factory) -> Corpus:
     corpus.jobs = done
     corpus.after = {c.name: digest(paths[c.name]) for c in RUNNABLE}
     corpus.seconds = time.perf_counter() - started
-    print(f"\nhostile corpus: {len(CASES)} cases, {len(done)} commands + 1 watcher, "
-          f"{corpus.seconds:.1f} s; peaks (MB): "
-          + ", ".join(f"{j.kind}{'/r' if j.resource else ''}x{len(j.cases)} "
-                      f"{j.run.peak_mb:.0f} MB {j.run.seconds:.1f} s" for j in done)
-          + f"; watch {corpus.watch.run.peak_mb:.0f} MB {corpus.watch.run.seconds:.1f} s")
+    print(
+        f"\nhostile corpus: {len(CASES)} cases, {len(done)} commands + 1 watcher, "
+        f"{corpus.seconds:.1f} s; peaks (MB): "
+        + ", ".join(
+            f"{j.kind}{'/r' if j.resource else ''}x{len(j.cases)} "
+            f"{j.run.peak_mb:.0f} MB {j.run.seconds:.1f} s"
+            for j in done
+        )
+        + f"; watch {corpus.watch.run.peak_mb:.0f} MB {corpus.watch.run.seconds:.1f} s"
+    )
     for job in sorted(done, key=lambda j: -j.run.seconds)[:3]:
         print(f"slowest: {job.kind} {job.run.seconds:.1f} s: {[c.name for c in job.cases]}")
     return corpus
@@ -179,13 +195,17 @@ def case_params() -> list:
 
 def control_characters(text: str) -> list[str]:
     """C0 and C1 control characters and DEL in ``text`` (line breaks and tabs allowed)."""
-    return sorted({repr(ch) for ch in text
-                   if (ord(ch) < 32 and ch not in "\t\n\r") or 0x7F <= ord(ch) <= 0x9F})
+    return sorted(
+        {
+            repr(ch)
+            for ch in text
+            if (ord(ch) < 32 and ch not in "\t\n\r") or 0x7F <= ord(ch) <= 0x9F
+        }
+    )
 
 
 def new_files(folder: Path, case: Case) -> list[Path]:
-    return sorted(p for p in folder.iterdir() if p.name != case.file
-                  and not p.name.startswith("."))
+    return sorted(p for p in folder.iterdir() if p.name != case.file and not p.name.startswith("."))
 
 
 @pytest.mark.parametrize("case", case_params())
@@ -262,4 +282,3 @@ def test_corpus_is_large_and_varied():
     assert {".xlsx", ".xlsm", ".xls", ".ods", ".csv"} <= suffixes
     assert any(c.exit == 0 for c in CASES) and any(c.exit == 2 for c in CASES)
     assert 5 <= sum(c.watch for c in CASES) <= 12  # the drop-folder subset stays small
-

@@ -21,40 +21,60 @@ REL_NS = "http://schemas.openxmlformats.org/officeDocument/2006/relationships"
 PKG_REL_NS = "http://schemas.openxmlformats.org/package/2006/relationships"
 
 
-def xlsx(path: Path, sheets: dict[str, str], shared: str | None = None,
-         extra: dict[str, bytes] | None = None) -> Path:
+def xlsx(
+    path: Path,
+    sheets: dict[str, str],
+    shared: str | None = None,
+    extra: dict[str, bytes] | None = None,
+) -> Path:
     """A package whose worksheets hold the given ``<sheetData>`` contents (XML text)."""
     overrides = "".join(
         f'<Override PartName="/xl/worksheets/sheet{k}.xml" ContentType="application/'
         f'vnd.openxmlformats-officedocument.spreadsheetml.worksheet+xml"/>'
-        for k in range(1, len(sheets) + 1))
-    types = ('<?xml version="1.0" encoding="UTF-8"?><Types xmlns="http://schemas.openxmlformats'
-             '.org/package/2006/content-types"><Default Extension="rels" ContentType="application'
-             '/vnd.openxmlformats-package.relationships+xml"/><Default Extension="xml" '
-             'ContentType="application/xml"/><Override PartName="/xl/workbook.xml" ContentType='
-             '"application/vnd.openxmlformats-officedocument.spreadsheetml.sheet.main+xml"/>'
-             + overrides + "</Types>")
-    rels = (f'<Relationships xmlns="{PKG_REL_NS}"><Relationship Id="rId1" Type="{REL_NS}/'
-            'officeDocument" Target="xl/workbook.xml"/></Relationships>')
-    entries = "".join(f'<sheet name="{name}" sheetId="{k}" r:id="rId{k}"/>'
-                      for k, name in enumerate(sheets, start=1))
-    workbook = (f'<workbook xmlns="{MAIN_NS}" xmlns:r="{REL_NS}"><sheets>{entries}</sheets>'
-                "</workbook>")
-    targets = "".join(f'<Relationship Id="rId{k}" Type="{REL_NS}/worksheet" '
-                      f'Target="worksheets/sheet{k}.xml"/>' for k in range(1, len(sheets) + 1))
+        for k in range(1, len(sheets) + 1)
+    )
+    types = (
+        '<?xml version="1.0" encoding="UTF-8"?><Types xmlns="http://schemas.openxmlformats'
+        '.org/package/2006/content-types"><Default Extension="rels" ContentType="application'
+        '/vnd.openxmlformats-package.relationships+xml"/><Default Extension="xml" '
+        'ContentType="application/xml"/><Override PartName="/xl/workbook.xml" ContentType='
+        '"application/vnd.openxmlformats-officedocument.spreadsheetml.sheet.main+xml"/>'
+        + overrides
+        + "</Types>"
+    )
+    rels = (
+        f'<Relationships xmlns="{PKG_REL_NS}"><Relationship Id="rId1" Type="{REL_NS}/'
+        'officeDocument" Target="xl/workbook.xml"/></Relationships>'
+    )
+    entries = "".join(
+        f'<sheet name="{name}" sheetId="{k}" r:id="rId{k}"/>'
+        for k, name in enumerate(sheets, start=1)
+    )
+    workbook = (
+        f'<workbook xmlns="{MAIN_NS}" xmlns:r="{REL_NS}"><sheets>{entries}</sheets></workbook>'
+    )
+    targets = "".join(
+        f'<Relationship Id="rId{k}" Type="{REL_NS}/worksheet" Target="worksheets/sheet{k}.xml"/>'
+        for k in range(1, len(sheets) + 1)
+    )
     if shared is not None:
-        targets += (f'<Relationship Id="rId99" Type="{REL_NS}/sharedStrings" '
-                    'Target="sharedStrings.xml"/>')
+        targets += (
+            f'<Relationship Id="rId99" Type="{REL_NS}/sharedStrings" Target="sharedStrings.xml"/>'
+        )
     with zipfile.ZipFile(path, "w", zipfile.ZIP_DEFLATED) as z:
         z.writestr("[Content_Types].xml", types)
         z.writestr("_rels/.rels", rels)
         z.writestr("xl/workbook.xml", workbook)
-        z.writestr("xl/_rels/workbook.xml.rels",
-                   f'<Relationships xmlns="{PKG_REL_NS}">{targets}</Relationships>')
+        z.writestr(
+            "xl/_rels/workbook.xml.rels",
+            f'<Relationships xmlns="{PKG_REL_NS}">{targets}</Relationships>',
+        )
         for k, data in enumerate(sheets.values(), start=1):
-            z.writestr(f"xl/worksheets/sheet{k}.xml",
-                       f'<?xml version="1.0" encoding="UTF-8"?><worksheet xmlns="{MAIN_NS}">'
-                       f"<sheetData>{data}</sheetData></worksheet>")
+            z.writestr(
+                f"xl/worksheets/sheet{k}.xml",
+                f'<?xml version="1.0" encoding="UTF-8"?><worksheet xmlns="{MAIN_NS}">'
+                f"<sheetData>{data}</sheetData></worksheet>",
+            )
         if shared is not None:
             z.writestr("xl/sharedStrings.xml", shared)
         for name, data in (extra or {}).items():
@@ -85,13 +105,13 @@ def lie_about_size(path: Path, part: str, declared: int) -> Path:
     local = data.find(b"PK\x03\x04")  # the first local header
     while local >= 0:
         n, m = struct.unpack_from("<HH", data, local + 26)
-        if bytes(data[local + 30:local + 30 + n]) == name:
+        if bytes(data[local + 30 : local + 30 + n]) == name:
             struct.pack_into("<I", data, local + 22, declared)
         local = data.find(b"PK\x03\x04", local + 30 + n + m)
     central = data.find(b"PK\x01\x02")
     while central >= 0:
         n = struct.unpack_from("<H", data, central + 28)[0]
-        if bytes(data[central + 46:central + 46 + n]) == name:
+        if bytes(data[central + 46 : central + 46 + n]) == name:
             struct.pack_into("<I", data, central + 24, declared)
         central = data.find(b"PK\x01\x02", central + 46)
     path.write_bytes(bytes(data))
@@ -101,8 +121,11 @@ def lie_about_size(path: Path, part: str, declared: int) -> Path:
 def deflate_bomb(path: Path, unpacked: int) -> Path:
     """A package whose one worksheet unpacks to ``unpacked`` bytes of blanks after a header
     (about 1 KB packed per MB unpacked)."""
-    head = (f'<?xml version="1.0" encoding="UTF-8"?><worksheet xmlns="{MAIN_NS}"><sheetData>'
-            + header_row(["ID", "Most likely"]) + "</sheetData>")
+    head = (
+        f'<?xml version="1.0" encoding="UTF-8"?><worksheet xmlns="{MAIN_NS}"><sheetData>'
+        + header_row(["ID", "Most likely"])
+        + "</sheetData>"
+    )
     squeeze = zlib.compressobj(9, zlib.DEFLATED, -15)
     packed = [squeeze.compress(head.encode())]
     block = b" " * (1 << 20)
@@ -129,7 +152,7 @@ def deflate_bomb(path: Path, unpacked: int) -> Path:
         while at >= 0:
             n = struct.unpack_from("<H", data, at + (26 if sig == b"PK\x03\x04" else 28))[0]
             start = at + (30 if sig == b"PK\x03\x04" else 46)
-            if bytes(data[start:start + n]) == b"xl/worksheets/sheet1.xml":
+            if bytes(data[start : start + n]) == b"xl/worksheets/sheet1.xml":
                 struct.pack_into("<H", data, at + method_at, 8)
                 struct.pack_into("<I", data, at + size_at, size & 0xFFFFFFFF)
             at = data.find(sig, at + 4)
@@ -139,23 +162,31 @@ def deflate_bomb(path: Path, unpacked: int) -> Path:
 
 def ods(path: Path, tables: dict[str, str]) -> Path:
     """An OpenDocument spreadsheet whose tables hold the given rows (XML text)."""
-    body = "".join(f'<table:table table:name="{name}">{rows}</table:table>'
-                   for name, rows in tables.items())
-    content = ('<?xml version="1.0" encoding="UTF-8"?><office:document-content '
-               'xmlns:office="urn:oasis:names:tc:opendocument:xmlns:office:1.0" '
-               'xmlns:table="urn:oasis:names:tc:opendocument:xmlns:table:1.0" '
-               'xmlns:text="urn:oasis:names:tc:opendocument:xmlns:text:1.0" '
-               'xmlns:calcext="urn:org:documentfoundation:names:experimental:calc:xmlns:'
-               'calcext:1.0" office:version="1.2"><office:body><office:spreadsheet>'
-               f"{body}</office:spreadsheet></office:body></office:document-content>")
-    manifest = ('<?xml version="1.0" encoding="UTF-8"?><manifest:manifest xmlns:manifest="urn:'
-                'oasis:names:tc:opendocument:xmlns:manifest:1.0" manifest:version="1.2">'
-                '<manifest:file-entry manifest:full-path="/" manifest:media-type="application/'
-                'vnd.oasis.opendocument.spreadsheet"/><manifest:file-entry manifest:full-path='
-                '"content.xml" manifest:media-type="text/xml"/></manifest:manifest>')
+    body = "".join(
+        f'<table:table table:name="{name}">{rows}</table:table>' for name, rows in tables.items()
+    )
+    content = (
+        '<?xml version="1.0" encoding="UTF-8"?><office:document-content '
+        'xmlns:office="urn:oasis:names:tc:opendocument:xmlns:office:1.0" '
+        'xmlns:table="urn:oasis:names:tc:opendocument:xmlns:table:1.0" '
+        'xmlns:text="urn:oasis:names:tc:opendocument:xmlns:text:1.0" '
+        'xmlns:calcext="urn:org:documentfoundation:names:experimental:calc:xmlns:'
+        'calcext:1.0" office:version="1.2"><office:body><office:spreadsheet>'
+        f"{body}</office:spreadsheet></office:body></office:document-content>"
+    )
+    manifest = (
+        '<?xml version="1.0" encoding="UTF-8"?><manifest:manifest xmlns:manifest="urn:'
+        'oasis:names:tc:opendocument:xmlns:manifest:1.0" manifest:version="1.2">'
+        '<manifest:file-entry manifest:full-path="/" manifest:media-type="application/'
+        'vnd.oasis.opendocument.spreadsheet"/><manifest:file-entry manifest:full-path='
+        '"content.xml" manifest:media-type="text/xml"/></manifest:manifest>'
+    )
     with zipfile.ZipFile(path, "w") as z:
-        z.writestr("mimetype", "application/vnd.oasis.opendocument.spreadsheet",
-                   compress_type=zipfile.ZIP_STORED)
+        z.writestr(
+            "mimetype",
+            "application/vnd.oasis.opendocument.spreadsheet",
+            compress_type=zipfile.ZIP_STORED,
+        )
         z.writestr("META-INF/manifest.xml", manifest, compress_type=zipfile.ZIP_DEFLATED)
         z.writestr("content.xml", content, compress_type=zipfile.ZIP_DEFLATED)
     return path
@@ -163,8 +194,10 @@ def ods(path: Path, tables: dict[str, str]) -> Path:
 
 def ods_cell(value: str, repeat: int = 1) -> str:
     rep = f' table:number-columns-repeated="{repeat}"' if repeat > 1 else ""
-    return (f'<table:table-cell office:value-type="string"{rep}><text:p>{value}</text:p>'
-            "</table:table-cell>")
+    return (
+        f'<table:table-cell office:value-type="string"{rep}><text:p>{value}</text:p>'
+        "</table:table-cell>"
+    )
 
 
 def compound_file(path: Path, streams: dict[str, bytes]) -> Path:
@@ -196,11 +229,17 @@ def compound_file(path: Path, streams: dict[str, bytes]) -> Path:
     difat = [0] + [0xFFFFFFFF] * 108
     struct.pack_into("<109I", header, 0x4C, *difat)
 
-    def entry(name: str, kind: int, start: int, size: int, child: int = 0xFFFFFFFF,
-              right: int = 0xFFFFFFFF) -> bytes:
+    def entry(
+        name: str,
+        kind: int,
+        start: int,
+        size: int,
+        child: int = 0xFFFFFFFF,
+        right: int = 0xFFFFFFFF,
+    ) -> bytes:
         raw = bytearray(128)
         encoded = name.encode("utf-16-le") + b"\x00\x00"
-        raw[0:len(encoded)] = encoded
+        raw[0 : len(encoded)] = encoded
         struct.pack_into("<HBB", raw, 0x40, len(encoded), kind, 1)
         struct.pack_into("<III", raw, 0x44, 0xFFFFFFFF, right, child)
         struct.pack_into("<IQ", raw, 0x74, start, size)
@@ -232,7 +271,7 @@ def biff_records(stream: bytes) -> list[tuple[int, bytes]]:
     out, pos = [], 0
     while pos + 4 <= len(stream):
         kind, length = struct.unpack_from("<HH", stream, pos)
-        out.append((kind, stream[pos + 4:pos + 4 + length]))
+        out.append((kind, stream[pos + 4 : pos + 4 + length]))
         pos += 4 + length
     return out
 

@@ -60,8 +60,14 @@ print(json.dumps({{
 def read_in_child(path: Path, **env: str) -> dict:
     """Read ``path`` in a fresh interpreter; its report (measured figures included)."""
     environ = dict(os.environ, PYTHONPATH=str(REPO), **env)
-    proc = subprocess.run([sys.executable, "-c", CHILD.format(cap=CAP_BYTES), str(path)],
-                          capture_output=True, text=True, env=environ, timeout=300, check=False)
+    proc = subprocess.run(
+        [sys.executable, "-c", CHILD.format(cap=CAP_BYTES), str(path)],
+        capture_output=True,
+        text=True,
+        env=environ,
+        timeout=300,
+        check=False,
+    )
     assert proc.returncode == 0, proc.stderr[-2000:]  # no abort, no panic, no traceback
     report = json.loads(proc.stdout)
     print(f"{path.name}: peak {report['peak_mb']:.0f} MB, {report['seconds']:.3f} s")
@@ -80,14 +86,19 @@ HEADER = crafted.header_row(["ID", "Optimistic", "Most likely", "Pessimistic"])
 
 
 # --------------------------------------------------------------------------- xlsx
-@pytest.mark.parametrize(("ref", "limit"), [
-    ("XFD1048576", f"limit of {MAX_ROWS:,} rows"),       # the last cell of a sheet
-    ("ZZZZZ99999999", f"limit of {MAX_ROWS:,} rows"),    # beyond any spreadsheet's grid
-    ("XFD12000", f"limit of {MAX_COLUMNS:,} columns"),   # 16,384 columns, few rows
-])
+@pytest.mark.parametrize(
+    ("ref", "limit"),
+    [
+        ("XFD1048576", f"limit of {MAX_ROWS:,} rows"),  # the last cell of a sheet
+        ("ZZZZZ99999999", f"limit of {MAX_ROWS:,} rows"),  # beyond any spreadsheet's grid
+        ("XFD12000", f"limit of {MAX_COLUMNS:,} columns"),  # 16,384 columns, few rows
+    ],
+)
 def test_stray_far_cell_is_refused_naming_the_cell_and_the_limit(tmp_path, ref, limit):
-    path = crafted.xlsx(tmp_path / "stray.xlsx",
-                        {"Plan": HEADER + f'<row r="2">{crafted.number_cell(ref, 1)}</row>'})
+    path = crafted.xlsx(
+        tmp_path / "stray.xlsx",
+        {"Plan": HEADER + f'<row r="2">{crafted.number_cell(ref, 1)}</row>'},
+    )
     assert path.stat().st_size < 2048
     sheet, cell, message = refused(read_in_child(path))[1:]
     assert (sheet, cell) == ("Plan", ref)
@@ -96,8 +107,10 @@ def test_stray_far_cell_is_refused_naming_the_cell_and_the_limit(tmp_path, ref, 
 
 def test_formatting_only_far_cell_reads_the_used_block(tmp_path):
     # <c r=".." s="1"/> has no value (ECMA-376 18.3.1.4): the library skips it, so may we
-    path = crafted.xlsx(tmp_path / "styled.xlsx",
-                        {"Plan": HEADER + '<row r="1048576"><c r="XFD1048576" s="1"/></row>'})
+    path = crafted.xlsx(
+        tmp_path / "styled.xlsx",
+        {"Plan": HEADER + '<row r="1048576"><c r="XFD1048576" s="1"/></row>'},
+    )
     report = read_in_child(path)
     assert report["read"] and report["sheets"] == [["Plan", 1]]
 
@@ -113,8 +126,7 @@ def test_rows_without_references_count_too(tmp_path):
 def test_a_cell_hidden_behind_a_quoted_angle_bracket_is_still_seen(tmp_path):
     # ">" is allowed inside an attribute value (XML 1.0, 3.1); the scan must not stop there
     cell = '<c x=">" r="XFD1048576"><v>1</v></c>'
-    path = crafted.xlsx(tmp_path / "quoted.xlsx",
-                        {"Plan": HEADER + f'<row r="2">{cell}</row>'})
+    path = crafted.xlsx(tmp_path / "quoted.xlsx", {"Plan": HEADER + f'<row r="2">{cell}</row>'})
     assert refused(read_in_child(path))[2] == "XFD1048576"
 
 
@@ -141,41 +153,55 @@ def test_lying_unpacked_size_is_caught_while_unpacking(tmp_path):
 
 
 def test_shared_string_table_claiming_billions_is_refused(tmp_path):
-    shared = ('<sst xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main" '
-              'count="4000000000" uniqueCount="4000000000"><si><t>ID</t></si></sst>')
-    path = crafted.xlsx(tmp_path / "sst.xlsx",
-                        {"Plan": '<row r="1"><c r="A1" t="s"><v>0</v></c></row>'}, shared)
+    shared = (
+        '<sst xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main" '
+        'count="4000000000" uniqueCount="4000000000"><si><t>ID</t></si></sst>'
+    )
+    path = crafted.xlsx(
+        tmp_path / "sst.xlsx", {"Plan": '<row r="1"><c r="A1" t="s"><v>0</v></c></row>'}, shared
+    )
     assert "4,000,000,000 entries" in refused(read_in_child(path))[3]
 
 
 def test_too_many_parts_is_refused_before_listing_them(tmp_path):
-    path = crafted.xlsx(tmp_path / "parts.xlsx", {"Plan": HEADER},
-                        extra={f"xl/media/p{k}.bin": b"" for k in range(30)})
+    path = crafted.xlsx(
+        tmp_path / "parts.xlsx",
+        {"Plan": HEADER},
+        extra={f"xl/media/p{k}.bin": b"" for k in range(30)},
+    )
     report = read_in_child(path, PERTBOOK_MAX_PARTS="20")  # the limit set from outside
     assert "35 parts" in refused(report)[3]  # 30 + the package's 5 parts, by hand
 
 
 # --------------------------------------------------------------------------- ods
-ODS_HEAD = "<table:table-row>" + crafted.ods_cell("ID") + crafted.ods_cell("M") + \
-    "</table:table-row>"
+ODS_HEAD = (
+    "<table:table-row>" + crafted.ods_cell("ID") + crafted.ods_cell("M") + "</table:table-row>"
+)
 
 
 def test_ods_with_repeated_empty_tail_reads(tmp_path):
     # LibreOffice ends a sheet like this: a million empty rows, 16,384 empty cells each
-    tail = ('<table:table-row table:number-rows-repeated="1048575"><table:table-cell '
-            'table:number-columns-repeated="16384"/></table:table-row>')
+    tail = (
+        '<table:table-row table:number-rows-repeated="1048575"><table:table-cell '
+        'table:number-columns-repeated="16384"/></table:table-row>'
+    )
     report = read_in_child(crafted.ods(tmp_path / "tail.ods", {"Plan": ODS_HEAD + tail}))
     assert report["read"] and report["sheets"] == [["Plan", 1]]
 
 
-@pytest.mark.parametrize(("rows", "cols", "cell"), [
-    (1_048_575, 1, "A1048576"),     # a filled row repeated a million times
-    (1, 16_384, "XFD2"),            # a filled cell repeated across the sheet
-    (100_000, 16_384, "XFD100001"),  # both: 1.6 billion cells in 900 bytes
-])
+@pytest.mark.parametrize(
+    ("rows", "cols", "cell"),
+    [
+        (1_048_575, 1, "A1048576"),  # a filled row repeated a million times
+        (1, 16_384, "XFD2"),  # a filled cell repeated across the sheet
+        (100_000, 16_384, "XFD100001"),  # both: 1.6 billion cells in 900 bytes
+    ],
+)
 def test_ods_repeated_filled_cells_are_refused(tmp_path, rows, cols, cell):
-    body = (f'<table:table-row table:number-rows-repeated="{rows}">'
-            f'{crafted.ods_cell("x", cols)}</table:table-row>')
+    body = (
+        f'<table:table-row table:number-rows-repeated="{rows}">'
+        f"{crafted.ods_cell('x', cols)}</table:table-row>"
+    )
     path = crafted.ods(tmp_path / "repeat.ods", {"Plan": ODS_HEAD + body})
     assert refused(read_in_child(path))[1:3] == ["Plan", cell]
 
@@ -191,10 +217,16 @@ def test_xls_far_cell_is_refused(tmp_path):
 def test_xls_dimensions_record_that_lies_is_refused(tmp_path):
     # the library lays out an .xls sheet from its DIMENSIONS record ([MS-XLS] 2.4.90)
     records = crafted.biff_records(crafted.xls_stream([["ID", "M"], ["A", 2]]))
-    patched = [(k, (b"\x00" * 4 + b"\xff\xff\xff\xff" + b"\x00\x00\xff\xff" + b[12:])
-                if k == 0x0200 else b) for k, b in records]
-    path = crafted.compound_file(tmp_path / "dims.xls",
-                                 {"Workbook": crafted.biff_join(patched)})
+    patched = [
+        (
+            k,
+            (b"\x00" * 4 + b"\xff\xff\xff\xff" + b"\x00\x00\xff\xff" + b[12:])
+            if k == 0x0200
+            else b,
+        )
+        for k, b in records
+    ]
+    path = crafted.compound_file(tmp_path / "dims.xls", {"Workbook": crafted.biff_join(patched)})
     message = refused(read_in_child(path))[3]
     assert "declares its cells reach" in message and "4,294,967,295 rows" in message
 
@@ -216,8 +248,10 @@ def test_csv_over_the_row_limit_is_refused(tmp_path):
 
 # --------------------------------------------------------------------------- command line
 def test_check_and_convert_refuse_a_stray_cell_with_exit_2(tmp_path):
-    path = crafted.xlsx(tmp_path / "stray.xlsx",
-                        {"Plan": HEADER + '<row r="2"><c r="XFD1048576"><v>1</v></c></row>'})
+    path = crafted.xlsx(
+        tmp_path / "stray.xlsx",
+        {"Plan": HEADER + '<row r="2"><c r="XFD1048576"><v>1</v></c></row>'},
+    )
     before = path.read_bytes()
     for command in (["check", path], ["convert", path, "--outdir", tmp_path / "out"]):
         proc = run_cli(*command)

@@ -34,8 +34,7 @@ def test_words_pandas_reads_as_blank_are_read_as_text(tmp_path):
 def test_text_nan_in_an_estimate_is_reported_with_its_cell(tmp_path):
     rows = [HEADER, ["A", "a", None, 1, "NaN", 3]]
     _, problems = load(write_xlsx(tmp_path / "nan.xlsx", {"Activities": rows}))
-    assert [(p.code, p.cell) for p in problems if p.severity == "error"] == \
-        [("not-a-number", "E2")]
+    assert [(p.code, p.cell) for p in problems if p.severity == "error"] == [("not-a-number", "E2")]
 
 
 def test_numeric_text_is_not_turned_into_a_number(tmp_path):
@@ -48,27 +47,38 @@ def test_numeric_text_is_not_turned_into_a_number(tmp_path):
 
 def test_xlsx_error_cells_are_error_values_naming_their_cells(tmp_path):
     head = crafted.header_row(HEADER)
-    row2 = ('<row r="2">' + crafted.text_cell("A2", "A") + crafted.text_cell("B2", "Dig")
-            + '<c r="D2" t="e"><f>1/0</f><v>#DIV/0!</v></c>' + crafted.number_cell("E2", 2)
-            + '<c r="F2" t="e"><v>#N/A</v></c></row>')
+    row2 = (
+        '<row r="2">'
+        + crafted.text_cell("A2", "A")
+        + crafted.text_cell("B2", "Dig")
+        + '<c r="D2" t="e"><f>1/0</f><v>#DIV/0!</v></c>'
+        + crafted.number_cell("E2", 2)
+        + '<c r="F2" t="e"><v>#N/A</v></c></row>'
+    )
     path = crafted.xlsx(tmp_path / "errors.xlsx", {"Activities": head + row2})
     result = read_input(path)
     row = result.raw.sheets[0].rows[1]
     assert row[3] == CellError("#DIV/0!") and row[5] == CellError("#N/A")
     found = [(p.code, p.sheet, p.cell, p.activity) for p in result.problems]
-    assert found == [("error-value", "Activities", "D2", "A"),
-                     ("error-value", "Activities", "F2", "A")]
+    assert found == [
+        ("error-value", "Activities", "D2", "A"),
+        ("error-value", "Activities", "F2", "A"),
+    ]
     assert "#DIV/0!" in result.problems[0].message
     schedule, problems = load(path)
-    assert schedule is None and {p.cell for p in problems if p.severity == "error"} >= \
-        {"D2", "F2"}
+    assert schedule is None and {p.cell for p in problems if p.severity == "error"} >= {"D2", "F2"}
 
 
 def test_error_cells_outside_the_columns_read_are_left_alone(tmp_path):
     head = crafted.header_row(HEADER + ["Notes"])
-    row2 = ('<row r="2">' + crafted.text_cell("A2", "A") + crafted.number_cell("D2", 1)
-            + crafted.number_cell("E2", 2) + crafted.number_cell("F2", 3)
-            + '<c r="G2" t="e"><v>#REF!</v></c></row>')
+    row2 = (
+        '<row r="2">'
+        + crafted.text_cell("A2", "A")
+        + crafted.number_cell("D2", 1)
+        + crafted.number_cell("E2", 2)
+        + crafted.number_cell("F2", 3)
+        + '<c r="G2" t="e"><v>#REF!</v></c></row>'
+    )
     path = crafted.xlsx(tmp_path / "notes.xlsx", {"Activities": head + row2})
     assert read_input(path).problems == []
 
@@ -90,13 +100,23 @@ def test_xls_error_cell_is_an_error_value(tmp_path):
 
 
 def test_ods_error_cell_is_an_error_value(tmp_path):
-    error = ('<table:table-cell table:formula="of:=1/0" office:value-type="string" '
-             'office:string-value="" calcext:value-type="error"><text:p>#DIV/0!</text:p>'
-             "</table:table-cell>")
-    rows = ("<table:table-row>" + "".join(crafted.ods_cell(h) for h in HEADER)
-            + "</table:table-row><table:table-row>" + crafted.ods_cell("A")
-            + crafted.ods_cell("a") + "<table:table-cell/>" + error
-            + crafted.ods_cell("2") + crafted.ods_cell("3") + "</table:table-row>")
+    error = (
+        '<table:table-cell table:formula="of:=1/0" office:value-type="string" '
+        'office:string-value="" calcext:value-type="error"><text:p>#DIV/0!</text:p>'
+        "</table:table-cell>"
+    )
+    rows = (
+        "<table:table-row>"
+        + "".join(crafted.ods_cell(h) for h in HEADER)
+        + "</table:table-row><table:table-row>"
+        + crafted.ods_cell("A")
+        + crafted.ods_cell("a")
+        + "<table:table-cell/>"
+        + error
+        + crafted.ods_cell("2")
+        + crafted.ods_cell("3")
+        + "</table:table-row>"
+    )
     result = read_input(crafted.ods(tmp_path / "errors.ods", {"Activities": rows}))
     assert [(p.code, p.cell) for p in result.problems] == [("error-value", "D2")]
     assert result.raw.sheets[0].rows[1][3] == CellError("#DIV/0!")
@@ -115,9 +135,11 @@ def test_error_in_a_setting_is_named(tmp_path):
 
 # --------------------------------------------------------------------------- header search
 def test_header_below_the_rows_searched_says_so(tmp_path):
-    rows = [["Project X schedule"]] + [[f"note {k}"] for k in range(32)] + [HEADER,
-                                                                           ["A", "a", None,
-                                                                            1, 2, 3]]
+    rows = (
+        [["Project X schedule"]]
+        + [[f"note {k}"] for k in range(32)]
+        + [HEADER, ["A", "a", None, 1, 2, 3]]
+    )
     path = write_xlsx(tmp_path / "low.xlsx", {"Plan": rows})
     problems = read_input(path).problems
     (p,) = [p for p in problems if p.code == "header-too-low"]
@@ -135,15 +157,21 @@ def test_only_sheet_named_settings_is_read_as_the_activity_list(tmp_path):
 
 
 def test_search_summary_says_why_each_sheet_was_passed_over(tmp_path):
-    path = write_xlsx(tmp_path / "two.xlsx", {
-        "Cover": [["Depot"], ["issue 3"]],
-        "Settings": [["ID", "Description"], ["Start date", "2025-01-06"]]})
+    path = write_xlsx(
+        tmp_path / "two.xlsx",
+        {
+            "Cover": [["Depot"], ["issue 3"]],
+            "Settings": [["ID", "Description"], ["Start date", "2025-01-06"]],
+        },
+    )
     raw = read_input(path).raw
     summary = raw.search_summary()
     assert "Searched the first 30 rows of each sheet" in summary
     assert "Cover: passed over, no row names two or more activity columns." in summary
-    assert ("Settings: passed over as the settings sheet, by its name (its row 1 names "
-            "activity columns).") in summary
+    assert (
+        "Settings: passed over as the settings sheet, by its name (its row 1 names "
+        "activity columns)."
+    ) in summary
 
 
 def test_two_most_likely_columns_are_a_warning_naming_both(tmp_path):

@@ -32,8 +32,9 @@ def test_workbook_renamed_csv_is_named_for_what_it_is(tmp_path):
     shutil.copy(good_xlsx(tmp_path / "plan.xlsx"), path)
     p = only_problem(path)
     assert p.code == "unreadable"
-    assert p.message == ("plan.csv is not a CSV file: by its content it is an Excel workbook "
-                         "(.xlsx)")
+    assert p.message == (
+        "plan.csv is not a CSV file: by its content it is an Excel workbook (.xlsx)"
+    )
     assert "real type" in p.fix
 
 
@@ -49,9 +50,10 @@ ENCRYPTION_INFO = b"\x04\x00\x04\x00\x40\x00\x00\x00"  # version 4.4 (agile), th
 
 
 def test_encrypted_workbook_says_save_a_copy_without_a_password(tmp_path):
-    path = crafted.compound_file(tmp_path / "secret.xlsx", {
-        "EncryptionInfo": ENCRYPTION_INFO + b"<encryption/>",
-        "EncryptedPackage": b"\x00" * 5000})
+    path = crafted.compound_file(
+        tmp_path / "secret.xlsx",
+        {"EncryptionInfo": ENCRYPTION_INFO + b"<encryption/>", "EncryptedPackage": b"\x00" * 5000},
+    )
     p = only_problem(path)
     assert p.code == "encrypted"
     assert "is an encrypted workbook (protected by a password" in p.message
@@ -63,8 +65,10 @@ def test_encrypted_workbook_says_save_a_copy_without_a_password(tmp_path):
 
 @pytest.mark.parametrize("suffix", [".csv", ".xls", ".ods"])
 def test_encrypted_workbook_is_told_whatever_its_name(tmp_path, suffix):
-    path = crafted.compound_file(tmp_path / f"secret{suffix}", {
-        "EncryptionInfo": ENCRYPTION_INFO, "EncryptedPackage": b"\x00" * 5000})
+    path = crafted.compound_file(
+        tmp_path / f"secret{suffix}",
+        {"EncryptionInfo": ENCRYPTION_INFO, "EncryptedPackage": b"\x00" * 5000},
+    )
     assert only_problem(path).code == "encrypted"
 
 
@@ -78,8 +82,9 @@ def test_encrypted_xls_with_a_filepass_record(tmp_path):
 
 def test_xls_written_by_an_independent_writer_reads_through_the_crafted_container(tmp_path):
     # the container builder itself: xlwt's BIFF stream in crafted.compound_file reads back
-    path = crafted.compound_file(tmp_path / "plain.xls",
-                                 {"Workbook": crafted.xls_stream(GOOD_ROWS)})
+    path = crafted.compound_file(
+        tmp_path / "plain.xls", {"Workbook": crafted.xls_stream(GOOD_ROWS)}
+    )
     schedule, problems = load(path)
     assert schedule is not None, [str(p) for p in problems]
     assert [a.id for a in schedule.activities] == ["A", "B", "C", "D"]
@@ -90,18 +95,26 @@ def test_xlsx_named_xls_is_read_by_its_content_with_a_note(tmp_path):
     shutil.copy(good_xlsx(tmp_path / "plan.xlsx"), path)
     schedule, problems = load(path)
     assert schedule is not None and not problems
-    assert "plan.xls is an Excel workbook (.xlsx) by its content; it was read as one." \
+    assert (
+        "plan.xls is an Excel workbook (.xlsx) by its content; it was read as one."
         in schedule.notes
+    )
 
 
-@pytest.mark.parametrize(("name", "content", "words"), [
-    ("page.xls", b"<html><body><table><tr><td>ID</td></tr></table></body></html>",
-     "a web page (HTML)"),
-    ("report.xlsx", b"%PDF-1.7\n%\xe2\xe3\xcf\xd3\n", "a PDF document"),
-    ("letter.xlsx", None, "a word-processor document (.docx)"),
-    ("noise.ods", bytes(range(256)) * 8, "not a workbook of any kind pertbook reads"),
-    ("zero.xlsx", b"", "empty (0 bytes)"),
-])
+@pytest.mark.parametrize(
+    ("name", "content", "words"),
+    [
+        (
+            "page.xls",
+            b"<html><body><table><tr><td>ID</td></tr></table></body></html>",
+            "a web page (HTML)",
+        ),
+        ("report.xlsx", b"%PDF-1.7\n%\xe2\xe3\xcf\xd3\n", "a PDF document"),
+        ("letter.xlsx", None, "a word-processor document (.docx)"),
+        ("noise.ods", bytes(range(256)) * 8, "not a workbook of any kind pertbook reads"),
+        ("zero.xlsx", b"", "empty (0 bytes)"),
+    ],
+)
 def test_other_contents_are_named(tmp_path, name, content, words):
     path = tmp_path / name
     if content is None:  # a zip whose parts are a word-processor document's

@@ -17,11 +17,13 @@ from converter.read.csv_text import decode
 from converter.read.sheets import read_input
 
 HEADER = ["ID", "Description", "Predecessors", "Optimistic", "Most likely", "Pessimistic"]
-ROWS = [HEADER,
-        ["A", "Survey, set out and peg", "", "1", "2", "3"],
-        ["B", "Dig, cart away", "A", "2", "3", "5"],
-        ["C", "Pour; cure", "A", "1", "1", "2"],
-        ["D", "Frame, clad, roof", "B, C", "3", "5", "8"]]
+ROWS = [
+    HEADER,
+    ["A", "Survey, set out and peg", "", "1", "2", "3"],
+    ["B", "Dig, cart away", "A", "2", "3", "5"],
+    ["C", "Pour; cure", "A", "1", "1", "2"],
+    ["D", "Frame, clad, roof", "B, C", "3", "5", "8"],
+]
 
 
 def as_csv(rows, delimiter=",") -> str:
@@ -31,8 +33,9 @@ def as_csv(rows, delimiter=",") -> str:
     return out.getvalue()
 
 
-@pytest.mark.parametrize(("delimiter", "word"), [(";", "semicolon"), ("\t", "tab"),
-                                                 ("|", "vertical bar")])
+@pytest.mark.parametrize(
+    ("delimiter", "word"), [(";", "semicolon"), ("\t", "tab"), ("|", "vertical bar")]
+)
 def test_delimiter_is_the_one_that_yields_the_headers(tmp_path, delimiter, word):
     # descriptions full of commas: counting characters would pick the comma
     path = tmp_path / "plan.csv"
@@ -52,7 +55,7 @@ def test_comma_file_has_no_delimiter_note(tmp_path):
 
 def test_line_break_inside_a_quoted_cell_stays_in_the_cell(tmp_path):
     rows = [r[:] for r in ROWS]
-    rows[4][2] = "B\nC"        # two predecessors on two lines of one cell
+    rows[4][2] = "B\nC"  # two predecessors on two lines of one cell
     rows[2][1] = "Dig\r\ncart away"
     path = tmp_path / "plan.csv"
     path.write_text(as_csv(rows), encoding="utf-8", newline="")
@@ -76,13 +79,16 @@ def test_unicode_line_separators_do_not_split_rows(tmp_path, separator):
     assert len(sheet.rows) == 5 and sheet.rows[1][1] == f"Survey{separator}set out"
 
 
-@pytest.mark.parametrize(("encoding", "bom", "name"), [
-    ("utf-16", b"", "UTF-16"),             # Python writes the BOM for "utf-16"
-    ("utf-16-le", b"", "UTF-16 LE without BOM"),
-    ("utf-16-be", b"", "UTF-16 BE without BOM"),
-    ("utf-8", b"\xef\xbb\xbf", "UTF-8 with BOM"),
-    ("cp1252", b"", "Windows-1252"),
-])
+@pytest.mark.parametrize(
+    ("encoding", "bom", "name"),
+    [
+        ("utf-16", b"", "UTF-16"),  # Python writes the BOM for "utf-16"
+        ("utf-16-le", b"", "UTF-16 LE without BOM"),
+        ("utf-16-be", b"", "UTF-16 BE without BOM"),
+        ("utf-8", b"\xef\xbb\xbf", "UTF-8 with BOM"),
+        ("cp1252", b"", "Windows-1252"),
+    ],
+)
 def test_encoding_is_detected_and_named(tmp_path, encoding, bom, name):
     rows = [r[:] for r in ROWS]
     rows[1][1] = "Relevé, géomètre"  # letters outside ASCII, in every one of these codecs

@@ -28,8 +28,7 @@ ITERATIONS = 2000
 START = dt.date(2026, 9, 7)
 DUE = dt.date(2026, 11, 27)
 
-HEADER = ["ID", "Description", "Predecessors", "Optimistic", "Most likely", "Pessimistic",
-          "Target"]
+HEADER = ["ID", "Description", "Predecessors", "Optimistic", "Most likely", "Pessimistic", "Target"]
 ROWS: list[list[object]] = [
     HEADER,
     ["P01", "Agree scope with the client", None, 1, 2, 3, None],
@@ -105,8 +104,7 @@ def write_ods(path: Path, sheets: dict[str, list[list[object]]]) -> Path:
     with pd.ExcelWriter(path, engine="odf") as writer:
         for name, rows in sheets.items():
             width = max(len(r) for r in rows)
-            frame = pd.DataFrame([list(r) + [None] * (width - len(r)) for r in rows],
-                                 dtype=object)
+            frame = pd.DataFrame([list(r) + [None] * (width - len(r)) for r in rows], dtype=object)
             frame.to_excel(writer, sheet_name=name, header=False, index=False)
     return path
 
@@ -134,8 +132,19 @@ def make_input(fmt: str, folder: Path) -> tuple[Path, dict]:
 FORMATS = ["xlsx", "xlsm", "xls", "ods", "csv"]
 #: JSON sections that must not depend on the file format (everything but the input's
 #: name, hash and the problems list, whose places name the sheet).
-SAME = ("time_unit", "activity_count", "start_date", "calendar", "project", "activities",
-        "links", "paths", "simulation", "targets", "checks")
+SAME = (
+    "time_unit",
+    "activity_count",
+    "start_date",
+    "calendar",
+    "project",
+    "activities",
+    "links",
+    "paths",
+    "simulation",
+    "targets",
+    "checks",
+)
 
 
 @pytest.fixture(scope="module")
@@ -150,8 +159,11 @@ def converted(tmp_path_factory):
             folder = root / fmt
             folder.mkdir()
             path, extra = make_input(fmt, folder)
-            result = convert(path, ConvertOptions(json=True, seed=SEED, iterations=ITERATIONS,
-                                                  **extra), outdir=folder / "out")
+            result = convert(
+                path,
+                ConvertOptions(json=True, seed=SEED, iterations=ITERATIONS, **extra),
+                outdir=folder / "out",
+            )
             assert result.ok, [str(p) for p in result.problems]
             out[fmt] = json.loads(result.json_path.read_text(encoding="utf-8"))
         return out[fmt]
@@ -191,15 +203,31 @@ def test_every_format_gives_the_same_numbers(converted, fmt):
     assert got["simulation"]["seed"] == SEED and got["simulation"]["iterations"] == ITERATIONS
     # spot the figures the issue names, in case a section above was empty in both
     for a, b in zip(got["activities"], want["activities"]):
-        for k in ("te", "es", "ef", "ls", "lf", "total_float", "free_float",
-                  "early_start_date", "early_finish_date", "late_start_date",
-                  "late_finish_date", "criticality", "sensitivity"):
+        for k in (
+            "te",
+            "es",
+            "ef",
+            "ls",
+            "lf",
+            "total_float",
+            "free_float",
+            "early_start_date",
+            "early_finish_date",
+            "late_start_date",
+            "late_finish_date",
+            "criticality",
+            "sensitivity",
+        ):
             assert a[k] == b[k] and a[k] is not None, (fmt, a["id"], k)
 
 
 # --------------------------------------------------------------------------- sheet choice
-COVER = [["Plant room replacement"], ["Prepared for the estates team"], [],
-         ["The activity list is on the 'Project plan' sheet."]]
+COVER = [
+    ["Plant room replacement"],
+    ["Prepared for the estates team"],
+    [],
+    ["The activity list is on the 'Project plan' sheet."],
+]
 DECOY = [["ID", "Task", "Owner"], ["R1", "Book crane", "Sam"], ["R2", "Order skips", "Ali"]]
 PLAN = [["Plant room replacement: three-point estimates (working days)"], []] + ROWS
 
@@ -221,8 +249,9 @@ def test_activity_sheet_found_by_its_headers_when_not_first(tmp_path, fmt):
     assert len(notes) == 1 and "Project plan" in notes[0] and "of 4 sheets" in notes[0], notes
     assert "headers" in notes[0]
     assert any("Settings" in n for n in schedule.notes)
-    result = convert(path, ConvertOptions(json=True, seed=SEED, iterations=200),
-                     outdir=tmp_path / "out")
+    result = convert(
+        path, ConvertOptions(json=True, seed=SEED, iterations=200), outdir=tmp_path / "out"
+    )
     assert result.ok and result.sheet == "Project plan"
     summary = openpyxl.load_workbook(result.workbook)["Summary"]
     row = next(r for r in summary.iter_rows() if r[0].value == "Activity sheet")
@@ -232,8 +261,9 @@ def test_activity_sheet_found_by_its_headers_when_not_first(tmp_path, fmt):
     data = json.loads(result.json_path.read_text(encoding="utf-8"))
     single = tmp_path / "single.xlsx"
     write_xlsx(single, {"Activities": ROWS, "Settings": SETTINGS})
-    base = convert(single, ConvertOptions(json=True, seed=SEED, iterations=200),
-                   outdir=tmp_path / "single-out")
+    base = convert(
+        single, ConvertOptions(json=True, seed=SEED, iterations=200), outdir=tmp_path / "single-out"
+    )
     base_data = json.loads(base.json_path.read_text(encoding="utf-8"))
     for key in ("project", "activities", "paths", "simulation"):
         assert data[key] == base_data[key], key
@@ -248,8 +278,10 @@ def test_sample_with_numeric_ids_and_a_title_row_converts_alike(tmp_path, fmt):
 
     sample = Path(__file__).resolve().parents[2] / "samples" / "warehouse-fitout.xlsx"
     book = openpyxl.load_workbook(sample, data_only=True)
-    sheets = {ws.title: [list(r) for r in ws.iter_rows(values_only=True)
-                         if any(v is not None for v in r)] for ws in book.worksheets}
+    sheets = {
+        ws.title: [list(r) for r in ws.iter_rows(values_only=True) if any(v is not None for v in r)]
+        for ws in book.worksheets
+    }
     book.close()
     assert isinstance(sheets["Activities"][3][0], int)  # numeric IDs in the sample
     options = {"json": True, "seed": SEED, "iterations": 500}

@@ -49,10 +49,13 @@ def test_valid_input_hashed_once_and_the_hash_reaches_json_and_workbook(tmp_path
     assert loaded.sha256 == want and loaded.schedule.sha256 == want
 
 
-@pytest.mark.parametrize("name, content", [
-    ("notes.txt", b"not a schedule"),        # a type pertbook does not read
-    ("noise.xlsx", b"\x00\x01 not a zip"),   # a damaged workbook
-])
+@pytest.mark.parametrize(
+    "name, content",
+    [
+        ("notes.txt", b"not a schedule"),  # a type pertbook does not read
+        ("noise.xlsx", b"\x00\x01 not a zip"),  # a damaged workbook
+    ],
+)
 def test_invalid_input_hashed_once_by_the_reader(tmp_path, hash_calls, name, content):
     path = tmp_path / name
     path.write_bytes(content)
@@ -63,8 +66,9 @@ def test_invalid_input_hashed_once_by_the_reader(tmp_path, hash_calls, name, con
 
 
 def test_missing_input_has_no_hash(tmp_path, hash_calls):
-    result = convert(tmp_path / "absent.xlsx", ConvertOptions(json=True, simulate=False),
-                     outdir=tmp_path)
+    result = convert(
+        tmp_path / "absent.xlsx", ConvertOptions(json=True, simulate=False), outdir=tmp_path
+    )
     assert hash_calls == [] and _json(result)["input"]["sha256"] is None
 
 

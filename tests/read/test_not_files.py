@@ -26,9 +26,14 @@ print(json.dumps([[p.code, p.message] for p in r.problems] + [r.sha256]))
 
 
 def read_guarded(path: Path, child: str = CHILD) -> list:
-    proc = subprocess.run([sys.executable, "-c", child, str(path)], capture_output=True,
-                          text=True, timeout=120, check=False,
-                          env=dict(os.environ, PYTHONPATH=str(REPO)))
+    proc = subprocess.run(
+        [sys.executable, "-c", child, str(path)],
+        capture_output=True,
+        text=True,
+        timeout=120,
+        check=False,
+        env=dict(os.environ, PYTHONPATH=str(REPO)),
+    )
     assert proc.returncode == 0, proc.stderr
     return json.loads(proc.stdout)
 
@@ -52,8 +57,7 @@ def test_fifo_swapped_in_after_the_check_does_not_block(tmp_path):
     # (O_NONBLOCK) and the fstat of the open descriptor catch it
     fifo = tmp_path / "plan.csv"
     os.mkfifo(fifo)
-    child = ("import sys, converter.read.source as s\n"
-             "s.check_regular = lambda path: None\n" + CHILD)
+    child = "import sys, converter.read.source as s\ns.check_regular = lambda path: None\n" + CHILD
     (code, message), _ = read_guarded(fifo, child)
     assert code == "not-a-file" and "named pipe (FIFO)" in message
 

@@ -81,7 +81,8 @@ def _inline(node: minidom.Node) -> str:
 
 def _is_leaf(node: minidom.Node) -> bool:
     return node.nodeType != node.ELEMENT_NODE or all(
-        k.nodeType != k.ELEMENT_NODE for k in _children(node))
+        k.nodeType != k.ELEMENT_NODE for k in _children(node)
+    )
 
 
 def _lines(node: minidom.Element, depth: int, out: list[str]) -> None:
@@ -127,14 +128,17 @@ def sheet_titles(z: zipfile.ZipFile) -> dict[str, str]:
     """Worksheet part name -> sheet title, from xl/workbook.xml and its relationships."""
     rel_ns = "http://schemas.openxmlformats.org/officeDocument/2006/relationships"
     rels = minidom.parseString(z.read("xl/_rels/workbook.xml.rels"))
-    target = {r.getAttribute("Id"): r.getAttribute("Target")
-              for r in rels.getElementsByTagName("Relationship")}
+    target = {
+        r.getAttribute("Id"): r.getAttribute("Target")
+        for r in rels.getElementsByTagName("Relationship")
+    }
     book = minidom.parseString(z.read("xl/workbook.xml"))
     out = {}
     for sheet in book.getElementsByTagName("sheet"):
         where = target[sheet.getAttributeNS(rel_ns, "id")]
         out[where.lstrip("/") if where.startswith("/") else f"xl/{where}"] = sheet.getAttribute(
-            "name")
+            "name"
+        )
     return out
 
 
@@ -153,7 +157,8 @@ def workbook_parts(xlsx: Path) -> dict[str, str]:
             else:
                 parts[name] = f"{len(data)} bytes, sha256 {hashlib.sha256(data).hexdigest()}\n"
     parts[MANIFEST] = "".join(
-        f"{n}  (sheet {titles[n]!r})\n" if n in titles else f"{n}\n" for n in parts)
+        f"{n}  (sheet {titles[n]!r})\n" if n in titles else f"{n}\n" for n in parts
+    )
     return parts
 
 
@@ -162,8 +167,10 @@ def normalise_json(text: str, outdir: Path) -> str:
 
     def clean(value: object) -> object:
         if isinstance(value, str):
-            for folder, token in ((Path(outdir).resolve(), "<outdir>"),
-                                  (SAMPLES.resolve(), "<samples>")):
+            for folder, token in (
+                (Path(outdir).resolve(), "<outdir>"),
+                (SAMPLES.resolve(), "<samples>"),
+            ):
                 value = value.replace(str(folder), token)
             return value
         if isinstance(value, list):
@@ -201,21 +208,33 @@ def convert_sample(sample: Path, outdir: Path) -> dict[str, str]:
         raise RuntimeError(f"pertbook convert {sample.name} exited {code}: {said.getvalue()}")
     stem = sample.name.rsplit(".", 1)[0]
     json_text = (outdir / f"{stem}.analysis.json").read_text(encoding="utf-8")
-    return expected_files(stem, workbook_parts(outdir / f"{stem}.analysis.xlsx"),
-                          normalise_json(json_text, outdir))
+    return expected_files(
+        stem, workbook_parts(outdir / f"{stem}.analysis.xlsx"), normalise_json(json_text, outdir)
+    )
 
 
 def read_golden(stem: str) -> dict[str, str]:
     """The committed golden files of one sample (relative path -> text)."""
     root = GOLDEN / stem
-    return {p.relative_to(root).as_posix(): p.read_text(encoding="utf-8")
-            for p in sorted(root.rglob("*")) if p.is_file()}
+    return {
+        p.relative_to(root).as_posix(): p.read_text(encoding="utf-8")
+        for p in sorted(root.rglob("*"))
+        if p.is_file()
+    }
 
 
 def diff_text(expected: str, got: str, name: str, limit: int = 60) -> str:
     """A unified diff of one part, cut to its first ``limit`` lines, with the total."""
-    lines = list(difflib.unified_diff(expected.splitlines(), got.splitlines(),
-                                      f"golden/{name}", f"produced/{name}", lineterm="", n=2))
+    lines = list(
+        difflib.unified_diff(
+            expected.splitlines(),
+            got.splitlines(),
+            f"golden/{name}",
+            f"produced/{name}",
+            lineterm="",
+            n=2,
+        )
+    )
     changed = sum(1 for x in lines if x[:1] in "+-" and x[:3] not in ("+++", "---"))
     shown = "\n".join(lines[:limit])
     more = f"\n... ({len(lines) - limit} more diff lines)" if len(lines) > limit else ""

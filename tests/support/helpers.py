@@ -74,7 +74,11 @@ def run_cli(*args: object, cwd: Path | None = None) -> subprocess.CompletedProce
     env["PYTHONPATH"] = str(REPO) + os.pathsep + env.get("PYTHONPATH", "")
     return subprocess.run(
         [sys.executable, "-m", "converter", *map(str, args)],
-        capture_output=True, text=True, cwd=cwd, env=env, check=False,
+        capture_output=True,
+        text=True,
+        cwd=cwd,
+        env=env,
+        check=False,
     )
 
 
@@ -94,14 +98,24 @@ def _text(path: Path) -> Path:
 
 
 def _cycle(path: Path) -> Path:
-    return write_xlsx(path, {"Activities": [
-        HEADER, ["K2", None, "K4", 1, 2, 3], ["K3", None, "K2", 1, 2, 3],
-        ["K4", None, "K3", 1, 2, 3]]})
+    return write_xlsx(
+        path,
+        {
+            "Activities": [
+                HEADER,
+                ["K2", None, "K4", 1, 2, 3],
+                ["K3", None, "K2", 1, 2, 3],
+                ["K4", None, "K3", 1, 2, 3],
+            ]
+        },
+    )
 
 
 def _missing_column(path: Path) -> Path:
-    return write_xlsx(path, {"Activities": [
-        ["ID", "Predecessors", "Optimistic", "Pessimistic"], ["A", None, 1, 3]]})
+    return write_xlsx(
+        path,
+        {"Activities": [["ID", "Predecessors", "Optimistic", "Pessimistic"], ["A", None, 1, 3]]},
+    )
 
 
 def _empty(path: Path) -> Path:
@@ -109,30 +123,43 @@ def _empty(path: Path) -> Path:
 
 
 def _bad_setting(path: Path) -> Path:
-    return write_xlsx(path, {"Activities": GOOD_ROWS,
-                             "Settings": [["Setting", "Value"], ["Start date", "soon"]]})
+    return write_xlsx(
+        path, {"Activities": GOOD_ROWS, "Settings": [["Setting", "Value"], ["Start date", "soon"]]}
+    )
 
 
 #: name -> (file name, builder, the places (``Sheet!Cell``, or the file name) worked out by
 #: hand from the rows written). Each is invalid input: exit code 2, never a traceback.
 BAD_INPUTS: dict[str, tuple[str, Callable[[Path], Path], set[str]]] = {
-    "duplicate-id": ("dup.xlsx", lambda p: _bad_rows(p, ["A", "again", None, 1, 2, 3]),
-                     {"Activities!A3"}),
-    "blank-id": ("blank.xlsx", lambda p: _bad_rows(p, [None, "no id", "A", 1, 2, 3]),
-                 {"Activities!A3"}),
-    "missing-link": ("link.xlsx", lambda p: _bad_rows(p, ["B", "b", "Q7", 1, 2, 3]),
-                     {"Activities!C3"}),
-    "self-link": ("self.xlsx", lambda p: _bad_rows(p, ["B", "b", "B", 1, 2, 3]),
-                  {"Activities!C3"}),
+    "duplicate-id": (
+        "dup.xlsx",
+        lambda p: _bad_rows(p, ["A", "again", None, 1, 2, 3]),
+        {"Activities!A3"},
+    ),
+    "blank-id": (
+        "blank.xlsx",
+        lambda p: _bad_rows(p, [None, "no id", "A", 1, 2, 3]),
+        {"Activities!A3"},
+    ),
+    "missing-link": (
+        "link.xlsx",
+        lambda p: _bad_rows(p, ["B", "b", "Q7", 1, 2, 3]),
+        {"Activities!C3"},
+    ),
+    "self-link": ("self.xlsx", lambda p: _bad_rows(p, ["B", "b", "B", 1, 2, 3]), {"Activities!C3"}),
     "cycle": ("cycle.xlsx", _cycle, {"Activities!C2"}),
-    "not-a-number": ("nan.xlsx", lambda p: _bad_rows(p, ["B", "b", "A", 1, "two", 3]),
-                     {"Activities!E3"}),
-    "negative": ("neg.xlsx", lambda p: _bad_rows(p, ["B", "b", "A", -1, 2, 3]),
-                 {"Activities!D3"}),
-    "order": ("order.xlsx", lambda p: _bad_rows(p, ["B", "b", "A", 5, 2, 9]),
-              {"Activities!E3"}),
-    "bad-bracket": ("bracket.xlsx", lambda p: _bad_rows(p, ["B", "b", "A[XX]", 1, 2, 3]),
-                    {"Activities!C3"}),
+    "not-a-number": (
+        "nan.xlsx",
+        lambda p: _bad_rows(p, ["B", "b", "A", 1, "two", 3]),
+        {"Activities!E3"},
+    ),
+    "negative": ("neg.xlsx", lambda p: _bad_rows(p, ["B", "b", "A", -1, 2, 3]), {"Activities!D3"}),
+    "order": ("order.xlsx", lambda p: _bad_rows(p, ["B", "b", "A", 5, 2, 9]), {"Activities!E3"}),
+    "bad-bracket": (
+        "bracket.xlsx",
+        lambda p: _bad_rows(p, ["B", "b", "A[XX]", 1, 2, 3]),
+        {"Activities!C3"},
+    ),
     "missing-column": ("cols.xlsx", _missing_column, {"Activities!A1"}),
     "empty": ("empty.xlsx", _empty, {"Sheet1!A1"}),
     "random-bytes": ("noise.xlsx", _random_bytes, {"noise.xlsx"}),

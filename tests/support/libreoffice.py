@@ -48,8 +48,7 @@ XLSX_FILTER = "Calc MS Excel 2007 XML"
 DEFAULT_TIMEOUT = 240.0  # seconds for one call (a first start with a fresh profile is slow)
 START_TIMEOUT = 120.0  # seconds for a listening LibreOffice to accept connections
 CLIENT = Path(__file__).resolve().with_name("uno_convert.py")
-_OPTIONS = ["--headless", "--invisible", "--nologo", "--nodefault", "--nolockcheck",
-            "--norestore"]
+_OPTIONS = ["--headless", "--invisible", "--nologo", "--nodefault", "--nolockcheck", "--norestore"]
 _BUNDLED_PYTHON = ("python", "python.exe", "python.bin", "../Resources/python")
 
 
@@ -130,8 +129,14 @@ class LibreOffice:
     ...     copy = office.recalculate(Path("book.xlsx"), Path("out"))
     """
 
-    def __init__(self, soffice: str, *, recalc_mode: int = RECALC_ALWAYS,
-                 timeout: float = DEFAULT_TIMEOUT, backend: str = "auto") -> None:
+    def __init__(
+        self,
+        soffice: str,
+        *,
+        recalc_mode: int = RECALC_ALWAYS,
+        timeout: float = DEFAULT_TIMEOUT,
+        backend: str = "auto",
+    ) -> None:
         self.soffice = soffice
         self.recalc_mode = recalc_mode
         self.timeout = timeout
@@ -144,7 +149,8 @@ class LibreOffice:
         self._profile = self._work / "profile"
         (self._profile / "user").mkdir(parents=True)
         (self._profile / "user" / "registrymodifications.xcu").write_text(
-            PROFILE_TEMPLATE.format(mode=recalc_mode), encoding="utf-8")
+            PROFILE_TEMPLATE.format(mode=recalc_mode), encoding="utf-8"
+        )
         self._pipe = f"pertbook_{os.getpid()}_{uuid.uuid4().hex[:12]}"
         self._server: subprocess.Popen | None = None
         self._lock = threading.Lock()
@@ -177,8 +183,12 @@ class LibreOffice:
         try:
             self._server = subprocess.Popen(
                 [*self._command(), accept],
-                stdin=subprocess.DEVNULL, stdout=log, stderr=log, env=self._env(),
-                start_new_session=True)
+                stdin=subprocess.DEVNULL,
+                stdout=log,
+                stderr=log,
+                env=self._env(),
+                start_new_session=True,
+            )
         finally:
             log.close()
         self._running[0] = self._server
@@ -222,8 +232,11 @@ class LibreOffice:
             if src not in errors and (not target.is_file() or target.stat().st_size == 0):
                 errors[src] = "no file written"
         if errors:
-            raise RecalcError("; ".join(f"LibreOffice failed to convert {s.name}: {why}"
-                                        for s, why in errors.items()))
+            raise RecalcError(
+                "; ".join(
+                    f"LibreOffice failed to convert {s.name}: {why}" for s, why in errors.items()
+                )
+            )
         return targets
 
     def _run_uno(self, jobs: list[tuple[Path, Path]]) -> dict[Path, str]:
@@ -233,9 +246,11 @@ class LibreOffice:
             if fresh:
                 self._stop_server()
                 self._start_server()
-            request = {"connect": f"pipe,name={self._pipe}",
-                       "wait": START_TIMEOUT if fresh else 5.0,
-                       "jobs": [[str(s), str(t)] for s, t in jobs]}
+            request = {
+                "connect": f"pipe,name={self._pipe}",
+                "wait": START_TIMEOUT if fresh else 5.0,
+                "jobs": [[str(s), str(t)] for s, t in jobs],
+            }
             rc, lines, text = self._client(request)
             if rc == 3 and attempt == 1:  # office unreachable: it died; start a new one
                 self._stop_server()
@@ -256,36 +271,55 @@ class LibreOffice:
         return f"; LibreOffice said: {text}" if text else ""
 
     def _client(self, request: dict) -> tuple[int, list[dict], str]:
-        proc = subprocess.Popen([self.python, str(CLIENT)], stdin=subprocess.PIPE,
-                                stdout=subprocess.PIPE, stderr=subprocess.PIPE,
-                                env=self._env(), start_new_session=True)
+        proc = subprocess.Popen(
+            [self.python, str(CLIENT)],
+            stdin=subprocess.PIPE,
+            stdout=subprocess.PIPE,
+            stderr=subprocess.PIPE,
+            env=self._env(),
+            start_new_session=True,
+        )
         try:
             out, err = proc.communicate(json.dumps(request).encode(), timeout=self.timeout)
         except subprocess.TimeoutExpired as exc:
             kill_group(proc)
             self._stop_server()
             names = ", ".join(Path(s).name for s, _ in request["jobs"])
-            raise RecalcError(f"LibreOffice did not finish converting {names} "
-                              f"within {self.timeout:g} s") from exc
-        lines = [json.loads(x) for x in out.decode("utf-8", "replace").splitlines()
-                 if x.startswith("{")]
+            raise RecalcError(
+                f"LibreOffice did not finish converting {names} within {self.timeout:g} s"
+            ) from exc
+        lines = [
+            json.loads(x) for x in out.decode("utf-8", "replace").splitlines() if x.startswith("{")
+        ]
         return proc.returncode, lines, err.decode("utf-8", "replace").strip()
 
     def _run_convert_to(self, sources: list[Path], targets: list[Path]) -> dict[Path, str]:
         """One ``soffice --convert-to`` for all ``sources``, then move each copy to its target."""
         staging = Path(tempfile.mkdtemp(prefix="out-", dir=self._work))
-        cmd = [*self._command(), "--convert-to", f"xlsx:{XLSX_FILTER}", "--outdir",
-               str(staging), *map(str, sources)]
-        proc = subprocess.Popen(cmd, stdout=subprocess.PIPE, stderr=subprocess.PIPE,
-                                env=self._env(), start_new_session=True)
+        cmd = [
+            *self._command(),
+            "--convert-to",
+            f"xlsx:{XLSX_FILTER}",
+            "--outdir",
+            str(staging),
+            *map(str, sources),
+        ]
+        proc = subprocess.Popen(
+            cmd,
+            stdout=subprocess.PIPE,
+            stderr=subprocess.PIPE,
+            env=self._env(),
+            start_new_session=True,
+        )
         self.starts += 1
         try:
             out, err = proc.communicate(timeout=self.timeout)
         except subprocess.TimeoutExpired as exc:
             kill_group(proc)
             names = ", ".join(s.name for s in sources)
-            raise RecalcError(f"LibreOffice did not finish converting {names} "
-                              f"within {self.timeout:g} s") from exc
+            raise RecalcError(
+                f"LibreOffice did not finish converting {names} within {self.timeout:g} s"
+            ) from exc
         text = (out + err).decode("utf-8", "replace").strip()
         errors: dict[Path, str] = {}
         for src, target in zip(sources, targets, strict=True):

@@ -40,8 +40,17 @@ from libreoffice import (
 from openpyxl.utils.datetime import to_excel
 from openpyxl.worksheet.formula import ArrayFormula
 
-__all__ = ["PROFILE_XCU", "RECALC_ALWAYS", "LibreOffice", "RecalcError", "RecalcReport",
-           "compare_recalculated", "recalculate", "soffice_path", "use_shared"]
+__all__ = [
+    "PROFILE_XCU",
+    "RECALC_ALWAYS",
+    "LibreOffice",
+    "RecalcError",
+    "RecalcReport",
+    "compare_recalculated",
+    "recalculate",
+    "soffice_path",
+    "use_shared",
+]
 
 #: The private profile's registry: recalculate every formula whenever a document loads.
 PROFILE_XCU = PROFILE_TEMPLATE.format(mode=RECALC_ALWAYS)

@@ -54,32 +54,87 @@ NO_PREDECESSOR_HEADER = ["ID", "Description", "Optimistic", "Most likely", "Pess
 
 # (name, rows after A, settings, links, options, the error (code, sheet, cell, activity))
 CRASHES = [
-    ("o-m-p-1e308", ["B", "b", "A", 1e308, 1e308, 1e308], None, None, {},
-     {("too-large", "Activities", c, "B") for c in ("D3", "E3", "F3")}),
-    ("p-1e155", ["B", "b", "A", 1, 2, 1e155], None, None, {},
-     {("too-large", "Activities", "F3", "B")}),
-    ("lag-400-digits", ["B", "b", "A[+" + "9" * 400 + "]", 1, 2, 3], None, None, {},
-     {("bad-link", "Activities", "C3", "B")}),
-    ("lag-1e8-in-brackets", ["B", "b", "A[SS-1e8]", 1, 2, 3], None, None, {},
-     {("bad-link", "Activities", "C3", "B")}),
-    ("start-9999-12-31", ["B", "b", "A", 1, 2, 3], start(dt.date(9999, 12, 31)), None, {},
-     {("beyond-calendar", "Settings", "B1", None)}),
-    ("start-9999-12-20-command-line", ["B", "b", "A", 1, 2, 3], None, None,
-     {"start_date": "9999-12-20"}, {("beyond-calendar", None, None, None)}),
-    ("3e6-days-from-2025", ["B", "b", "A", 3e6, 3e6, 3e6], start(dt.date(2025, 1, 6)), None,
-     {}, {("beyond-calendar", "Activities", "F3", "B")}),
-    ("start-before-1900-03-01", ["B", "b", "A", 1, 2, 3], start(dt.date(1900, 2, 28)), None,
-     {}, {("bad-setting", "Settings", "B1", None)}),
-    ("due-duration-beyond-the-calendar", ["B", "b", "A", 1, 2, 3],
-     start(dt.date(9000, 1, 3)) + [["Due", 1e6]], None, {},
-     {("beyond-calendar", "Settings", "B1", None)}),
+    (
+        "o-m-p-1e308",
+        ["B", "b", "A", 1e308, 1e308, 1e308],
+        None,
+        None,
+        {},
+        {("too-large", "Activities", c, "B") for c in ("D3", "E3", "F3")},
+    ),
+    (
+        "p-1e155",
+        ["B", "b", "A", 1, 2, 1e155],
+        None,
+        None,
+        {},
+        {("too-large", "Activities", "F3", "B")},
+    ),
+    (
+        "lag-400-digits",
+        ["B", "b", "A[+" + "9" * 400 + "]", 1, 2, 3],
+        None,
+        None,
+        {},
+        {("bad-link", "Activities", "C3", "B")},
+    ),
+    (
+        "lag-1e8-in-brackets",
+        ["B", "b", "A[SS-1e8]", 1, 2, 3],
+        None,
+        None,
+        {},
+        {("bad-link", "Activities", "C3", "B")},
+    ),
+    (
+        "start-9999-12-31",
+        ["B", "b", "A", 1, 2, 3],
+        start(dt.date(9999, 12, 31)),
+        None,
+        {},
+        {("beyond-calendar", "Settings", "B1", None)},
+    ),
+    (
+        "start-9999-12-20-command-line",
+        ["B", "b", "A", 1, 2, 3],
+        None,
+        None,
+        {"start_date": "9999-12-20"},
+        {("beyond-calendar", None, None, None)},
+    ),
+    (
+        "3e6-days-from-2025",
+        ["B", "b", "A", 3e6, 3e6, 3e6],
+        start(dt.date(2025, 1, 6)),
+        None,
+        {},
+        {("beyond-calendar", "Activities", "F3", "B")},
+    ),
+    (
+        "start-before-1900-03-01",
+        ["B", "b", "A", 1, 2, 3],
+        start(dt.date(1900, 2, 28)),
+        None,
+        {},
+        {("bad-setting", "Settings", "B1", None)},
+    ),
+    (
+        "due-duration-beyond-the-calendar",
+        ["B", "b", "A", 1, 2, 3],
+        start(dt.date(9000, 1, 3)) + [["Due", 1e6]],
+        None,
+        {},
+        {("beyond-calendar", "Settings", "B1", None)},
+    ),
 ]
 
 
-@pytest.mark.parametrize("name, row, settings, links, options, want", CRASHES,
-                         ids=[c[0] for c in CRASHES])
-def test_check_and_convert_agree_and_name_the_cell(tmp_path, name, row, settings, links,
-                                                   options, want):
+@pytest.mark.parametrize(
+    "name, row, settings, links, options, want", CRASHES, ids=[c[0] for c in CRASHES]
+)
+def test_check_and_convert_agree_and_name_the_cell(
+    tmp_path, name, row, settings, links, options, want
+):
     path = two_rows(tmp_path / f"{name}.xlsx", row, settings, links)
     opts = ConvertOptions(simulate=False, **options)
     checked = check(path, opts)
@@ -91,9 +146,13 @@ def test_check_and_convert_agree_and_name_the_cell(tmp_path, name, row, settings
 
 def test_links_sheet_lag_of_1e308_names_its_cell(tmp_path):
     links = [["Predecessor", "Successor", "Type", "Lag"], ["A", "B", "FS", 1e308]]  # D2
-    path = write_xlsx(tmp_path / "l.xlsx", {
-        "Activities": [NO_PREDECESSOR_HEADER, ["A", "a", 1, 2, 3], ["B", "b", 1, 2, 3]],
-        "Links": links})
+    path = write_xlsx(
+        tmp_path / "l.xlsx",
+        {
+            "Activities": [NO_PREDECESSOR_HEADER, ["A", "a", 1, 2, 3], ["B", "b", 1, 2, 3]],
+            "Links": links,
+        },
+    )
     checked = check(path, ConvertOptions(simulate=False))
     assert checked.exit_code == 2
     assert errors(checked.problems) == {("too-large", "Links", "D2", "B")}
@@ -103,23 +162,28 @@ def test_schedules_at_the_edges_of_the_calendar_convert(tmp_path):
     # Just inside the limits: a small schedule late in 9999 and one starting 1900-03-01
     # with fixed durations (no spread, so no date before the start is shown). Every date
     # written lies in the calendar, and the analysis raises no warning.
-    late = two_rows(tmp_path / "late.xlsx", ["B", "b", "A", 1, 2, 3],
-                    start(dt.date(9999, 11, 1)))
-    early = write_xlsx(tmp_path / "early.xlsx", {
-        "Activities": [HEADER, ["A", "a", None, 1, 1, 1], ["B", "b", "A", 2, 2, 2]],
-        "Settings": start(dt.date(1900, 3, 1))})
+    late = two_rows(tmp_path / "late.xlsx", ["B", "b", "A", 1, 2, 3], start(dt.date(9999, 11, 1)))
+    early = write_xlsx(
+        tmp_path / "early.xlsx",
+        {
+            "Activities": [HEADER, ["A", "a", None, 1, 1, 1], ["B", "b", "A", 2, 2, 2]],
+            "Settings": start(dt.date(1900, 3, 1)),
+        },
+    )
     for path in (late, early):
         with warnings.catch_warnings():
             warnings.simplefilter("error")
-            result = convert(path, ConvertOptions(iterations=500, json=True),
-                             outdir=tmp_path / "out")
+            result = convert(
+                path, ConvertOptions(iterations=500, json=True), outdir=tmp_path / "out"
+            )
         assert result.exit_code == 0, result.problems
     # the early schedule: 3 working days from Thu 1900-03-01 (hand count: Thu 1, Fri 2,
     # Mon 5) end on 1900-03-05.
     assert result.headline["finish_date"] == "1900-03-05"
     # the early schedule with a spread has P1 dates before its start: refused, naming it
-    spread = two_rows(tmp_path / "spread.xlsx", ["B", "b", "A", 1, 2, 3],
-                      start(dt.date(1900, 3, 1)))
+    spread = two_rows(
+        tmp_path / "spread.xlsx", ["B", "b", "A", 1, 2, 3], start(dt.date(1900, 3, 1))
+    )
     assert errors(check(spread).problems) == {("beyond-calendar", "Settings", "B1", None)}
 
 
@@ -150,18 +214,30 @@ EXTREME_BUT_VALID = {
 def test_what_validation_accepts_analyses_without_a_warning(tmp_path, name):
     # Numpy's RuntimeWarnings (overflow, invalid value) must never reach stderr: every
     # warning is made an error here, so any one would fail the conversion.
-    path = write_xlsx(tmp_path / f"{name}.xlsx",
-                      {"Activities": [HEADER, *EXTREME_BUT_VALID[name]]})
+    path = write_xlsx(tmp_path / f"{name}.xlsx", {"Activities": [HEADER, *EXTREME_BUT_VALID[name]]})
     with warnings.catch_warnings():
         warnings.simplefilter("error")
-        result = convert(path, ConvertOptions(iterations=2000, json=True),
-                         outdir=tmp_path / "out")
+        result = convert(path, ConvertOptions(iterations=2000, json=True), outdir=tmp_path / "out")
     assert result.exit_code == 0, result.problems
 
 
 # --------------------------------------------------------------------------- numbers
-@pytest.mark.parametrize("text", ["1_0", "inf", "-Infinity", "1,5", "1 000", "0x10",
-                                  "\uff11\uff12", "\u0661\u0662", "1e", "--1", "5 days"])
+@pytest.mark.parametrize(
+    "text",
+    [
+        "1_0",
+        "inf",
+        "-Infinity",
+        "1,5",
+        "1 000",
+        "0x10",
+        "\uff11\uff12",
+        "\u0661\u0662",
+        "1e",
+        "--1",
+        "5 days",
+    ],
+)
 def test_estimates_must_be_plain_numbers(tmp_path, text):
     # Python's float() reads "1_0" as 10, "inf", and digits of other scripts (Python
     # documentation, "float"); a cell must hold a plain decimal number. ("nan" is read
@@ -173,8 +249,10 @@ def test_estimates_must_be_plain_numbers(tmp_path, text):
     assert f'"{text}"' in p.message
 
 
-@pytest.mark.parametrize("text, value", [("2.5", 2.5), (" 3 ", 3.0), ("1e1", 10.0),
-                                         (".5", 0.5), ("+4", 4.0), ("4.", 4.0)])
+@pytest.mark.parametrize(
+    "text, value",
+    [("2.5", 2.5), (" 3 ", 3.0), ("1e1", 10.0), (".5", 0.5), ("+4", 4.0), ("4.", 4.0)],
+)
 def test_plain_numbers_in_text_are_read(tmp_path, text, value):
     path = write_csv(tmp_path / "n.csv", [HEADER, ["A", "a", None, text, 15, 16]])
     schedule, problems = run(path)
@@ -182,11 +260,21 @@ def test_plain_numbers_in_text_are_read(tmp_path, text, value):
     assert schedule.activities[0].optimistic == value
 
 
-@pytest.mark.parametrize("option, text", [
-    ("due", "nan"), ("due", float("nan")), ("due", "1_0"), ("due", "inf"),
-    ("iterations", "1_000"), ("seed", "1_2"), ("correlation", "2_5%"),
-    ("confidence", "5_0, 80"), ("paths", "nan"), ("due", "20250303"),
-])
+@pytest.mark.parametrize(
+    "option, text",
+    [
+        ("due", "nan"),
+        ("due", float("nan")),
+        ("due", "1_0"),
+        ("due", "inf"),
+        ("iterations", "1_000"),
+        ("seed", "1_2"),
+        ("correlation", "2_5%"),
+        ("confidence", "5_0, 80"),
+        ("paths", "nan"),
+        ("due", "20250303"),
+    ],
+)
 def test_options_take_only_plain_numbers(tmp_path, option, text):
     path = two_rows(tmp_path / "o.xlsx", ["B", "b", "A", 1, 2, 3])
     _, problems = run(path, **{option: text})
@@ -195,9 +283,13 @@ def test_options_take_only_plain_numbers(tmp_path, option, text):
 
 def test_lags_take_only_plain_numbers(tmp_path):
     links = [["Predecessor", "Successor", "Lag"], ["A", "B", "1_0"]]  # C2
-    path = write_xlsx(tmp_path / "l.xlsx", {
-        "Activities": [NO_PREDECESSOR_HEADER, ["A", "a", 1, 2, 3], ["B", "b", 1, 2, 3]],
-        "Links": links})
+    path = write_xlsx(
+        tmp_path / "l.xlsx",
+        {
+            "Activities": [NO_PREDECESSOR_HEADER, ["A", "a", 1, 2, 3], ["B", "b", 1, 2, 3]],
+            "Links": links,
+        },
+    )
     _, problems = run(path)
     assert errors(problems) == {("bad-link", "Links", "C2", "B")}
     path = two_rows(tmp_path / "t.xlsx", ["B", "b", "A[+1_0]", 1, 2, 3])
@@ -215,11 +307,14 @@ def test_lag_with_exponent_and_unicode_minus_is_read(tmp_path):
 
 
 # --------------------------------------------------------------------------- dates shown
-@pytest.mark.parametrize("value, typed, kind", [
-    (dt.date(2024, 3, 1), "2024-03-01", "date"),
-    (dt.datetime(2024, 3, 1, 10, 30), "2024-03-01 10:30", "date"),
-    (dt.time(10, 30), "10:30", "time"),
-])
+@pytest.mark.parametrize(
+    "value, typed, kind",
+    [
+        (dt.date(2024, 3, 1), "2024-03-01", "date"),
+        (dt.datetime(2024, 3, 1, 10, 30), "2024-03-01 10:30", "date"),
+        (dt.time(10, 30), "10:30", "time"),
+    ],
+)
 def test_date_in_a_duration_cell_is_shown_as_typed(tmp_path, value, typed, kind):
     path = two_rows(tmp_path / "d.xlsx", ["B", "b", "A", value, 20, 30])
     _, problems = run(path)
@@ -233,36 +328,65 @@ def test_date_in_a_duration_cell_is_shown_as_typed(tmp_path, value, typed, kind)
 def test_id_1_point_0_is_one_id_in_every_place(tmp_path):
     # The ID column holds the number 1.0 (shown as 1); the predecessor cells hold the
     # text "1.0", the number 1 and the bracket notation "1.0[+2]".
-    rows = [HEADER, [1.0, "a", None, 1, 2, 3], ["B", "b", "1.0", 1, 2, 3],
-            ["C", "c", 1, 1, 2, 3], ["D", "d", "1.0[+2]", 1, 2, 3]]
+    rows = [
+        HEADER,
+        [1.0, "a", None, 1, 2, 3],
+        ["B", "b", "1.0", 1, 2, 3],
+        ["C", "c", 1, 1, 2, 3],
+        ["D", "d", "1.0[+2]", 1, 2, 3],
+    ]
     schedule, problems = run(write_xlsx(tmp_path / "i.xlsx", {"Activities": rows}))
     assert not errors(problems), problems
     assert [a.id for a in schedule.activities] == ["1", "B", "C", "D"]
     assert sorted((lk.pred, lk.succ, lk.lag) for lk in schedule.links) == [
-        ("1", "B", 0.0), ("1", "C", 0.0), ("1", "D", 2.0)]
+        ("1", "B", 0.0),
+        ("1", "C", 0.0),
+        ("1", "D", 2.0),
+    ]
 
 
 def test_id_1_point_0_in_a_csv_and_on_a_links_sheet(tmp_path):
-    rows = [HEADER, ["1.0", "a", None, 1, 2, 3], ["2", "b", "1", 1, 2, 3],
-            ["3", "c", "2.0, 1.00", 1, 2, 3]]
+    rows = [
+        HEADER,
+        ["1.0", "a", None, 1, 2, 3],
+        ["2", "b", "1", 1, 2, 3],
+        ["3", "c", "2.0, 1.00", 1, 2, 3],
+    ]
     schedule, problems = run(write_csv(tmp_path / "i.csv", rows))
     assert not errors(problems), problems
     assert sorted((lk.pred, lk.succ) for lk in schedule.links) == [
-        ("1", "2"), ("1", "3"), ("2", "3")]
+        ("1", "2"),
+        ("1", "3"),
+        ("2", "3"),
+    ]
     links = [["Predecessor", "Successor"], ["1.0", 2.0]]
-    path = write_xlsx(tmp_path / "l.xlsx", {
-        "Activities": [NO_PREDECESSOR_HEADER, [1, "a", 1, 2, 3], ["2", "b", 1, 2, 3]],
-        "Links": links})
+    path = write_xlsx(
+        tmp_path / "l.xlsx",
+        {
+            "Activities": [NO_PREDECESSOR_HEADER, [1, "a", 1, 2, 3], ["2", "b", 1, 2, 3]],
+            "Links": links,
+        },
+    )
     schedule, problems = run(path)
     assert not errors(problems), problems
     assert [(lk.pred, lk.succ) for lk in schedule.links] == [("1", "2")]
 
 
-@pytest.mark.parametrize("predecessor", ["2024-01-02 10:30:00", "2024-01-02T10:30:00",
-                                         "2024-01-02 10:30", dt.datetime(2024, 1, 2, 10, 30)])
+@pytest.mark.parametrize(
+    "predecessor",
+    [
+        "2024-01-02 10:30:00",
+        "2024-01-02T10:30:00",
+        "2024-01-02 10:30",
+        dt.datetime(2024, 1, 2, 10, 30),
+    ],
+)
 def test_date_time_id_is_one_id_in_every_place(tmp_path, predecessor):
-    rows = [HEADER, [dt.datetime(2024, 1, 2, 10, 30), "a", None, 1, 2, 3],
-            ["B", "b", predecessor, 1, 2, 3]]
+    rows = [
+        HEADER,
+        [dt.datetime(2024, 1, 2, 10, 30), "a", None, 1, 2, 3],
+        ["B", "b", predecessor, 1, 2, 3],
+    ]
     schedule, problems = run(write_xlsx(tmp_path / "i.xlsx", {"Activities": rows}))
     assert not errors(problems), problems
     assert schedule.activities[0].id == "2024-01-02 10:30"
@@ -271,10 +395,17 @@ def test_date_time_id_is_one_id_in_every_place(tmp_path, predecessor):
 
 def test_date_id_on_a_links_sheet(tmp_path):
     links = [["Predecessor", "Successor"], [dt.date(2024, 1, 2), "B"]]
-    path = write_xlsx(tmp_path / "l.xlsx", {
-        "Activities": [NO_PREDECESSOR_HEADER, ["2024-01-02", "a", 1, 2, 3],
-                       ["B", "b", 1, 2, 3]],
-        "Links": links})
+    path = write_xlsx(
+        tmp_path / "l.xlsx",
+        {
+            "Activities": [
+                NO_PREDECESSOR_HEADER,
+                ["2024-01-02", "a", 1, 2, 3],
+                ["B", "b", 1, 2, 3],
+            ],
+            "Links": links,
+        },
+    )
     schedule, problems = run(path)
     assert not errors(problems), problems
     assert [(lk.pred, lk.succ) for lk in schedule.links] == [("2024-01-02", "B")]
@@ -309,17 +440,26 @@ def test_due_date_before_the_start_warns_naming_the_date(tmp_path):
 
 def test_target_date_before_the_start_warns_naming_the_cell(tmp_path):
     header = [*HEADER, "Target"]
-    path = two_rows(tmp_path / "t.xlsx", ["B", "b", "A", 1, 2, 3, dt.date(2024, 1, 1)],
-                    start(dt.date(2025, 1, 6)), header=header)
+    path = two_rows(
+        tmp_path / "t.xlsx",
+        ["B", "b", "A", 1, 2, 3, dt.date(2024, 1, 1)],
+        start(dt.date(2025, 1, 6)),
+        header=header,
+    )
     schedule, problems = run(path)
     assert schedule is not None
     assert warnings_of(problems) == {("target-before-start", "Activities", "G3", "B")}
 
 
-@pytest.mark.parametrize("label, value", [
-    ("Start date", "1899-12-31"), ("Holidays", dt.date(1800, 1, 1)),
-    ("Start date", "2025-03-03 and more"), ("Due", "2025-02-30"),
-])
+@pytest.mark.parametrize(
+    "label, value",
+    [
+        ("Start date", "1899-12-31"),
+        ("Holidays", dt.date(1800, 1, 1)),
+        ("Start date", "2025-03-03 and more"),
+        ("Due", "2025-02-30"),
+    ],
+)
 def test_dates_out_of_range_or_malformed_name_their_cell(tmp_path, label, value):
     path = two_rows(tmp_path / "s.xlsx", ["B", "b", "A", 1, 2, 3], [[label, value]])  # B1
     _, problems = run(path)
@@ -331,8 +471,7 @@ def test_an_extreme_confidence_level_widens_the_room_needed(tmp_path):
     # row of the finish table lies about 2.33 sd below the mean, about 9 years before the
     # 1950 start: fine. A confidence level of 1e-300 lies 37 sd below the mean
     # (scipy.stats.norm.ppf(1e-300) = -37.05), about 142 years before 1950: refused.
-    path = two_rows(tmp_path / "c.xlsx", ["B", "b", "A", 0, 1, 6000],
-                    start(dt.date(1950, 1, 2)))
+    path = two_rows(tmp_path / "c.xlsx", ["B", "b", "A", 0, 1, 6000], start(dt.date(1950, 1, 2)))
     schedule, problems = run(path)
     assert schedule is not None, problems
     _, problems = run(path, confidence=(1e-300, 0.5))

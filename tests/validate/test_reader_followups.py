@@ -32,9 +32,18 @@ def _with_error(path, ref: str, code: str = "#N/A", settings=None):
     return path
 
 
-@pytest.mark.parametrize("ref", ["Activities!D3", "Activities!E2", "Activities!F3",
-                                 "Activities!C3", "Activities!G2", "Activities!H2",
-                                 "Settings!B2"])
+@pytest.mark.parametrize(
+    "ref",
+    [
+        "Activities!D3",
+        "Activities!E2",
+        "Activities!F3",
+        "Activities!C3",
+        "Activities!G2",
+        "Activities!H2",
+        "Settings!B2",
+    ],
+)
 def test_an_error_cell_is_one_problem_the_readers(tmp_path, ref):
     settings = [["Setting", "Value"], ["Iterations", 500]]
     _, problems = load(_with_error(tmp_path / "e.xlsx", ref, "#DIV/0!", settings))
@@ -43,9 +52,13 @@ def test_an_error_cell_is_one_problem_the_readers(tmp_path, ref):
 
 
 def test_missing_column_says_what_was_searched(tmp_path):
-    path = write_xlsx(tmp_path / "two.xlsx", {
-        "Cover": [["Depot"], ["issue 3"]],
-        "Plan": [["ID", "Predecessors", "Optimistic", "Pessimistic"], ["A", None, 1, 3]]})
+    path = write_xlsx(
+        tmp_path / "two.xlsx",
+        {
+            "Cover": [["Depot"], ["issue 3"]],
+            "Plan": [["ID", "Predecessors", "Optimistic", "Pessimistic"], ["A", None, 1, 3]],
+        },
+    )
     _, problems = load(path)
     (p,) = [p for p in problems if p.code == "missing-column"]
     assert (p.sheet, p.cell) == ("Plan", "A1")

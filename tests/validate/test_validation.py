@@ -42,19 +42,19 @@ def two_rows(path, row, header=HEADER, sheet="Activities"):
 # --------------------------------------------------------------------------- one pass
 def test_every_problem_is_reported_in_one_pass(tmp_path):
     rows = [
-        HEADER,                                     # row 1
-        ["A", "first", None, 1, 2, 3],              # row 2
-        ["A", "again", None, 1, 2, 3],              # row 3: duplicate ID -> A3
-        [None, "no id", "A", 1, 2, 3],              # row 4: blank ID -> A4
-        ["B", "b", "Z", 1, 2, 3],                   # row 5: missing predecessor -> C5
-        ["C", "c", "C", 1, 2, 3],                   # row 6: self-link -> C6
-        ["D", "d", "A", "x", 2, 3],                 # row 7: O not a number -> D7
-        ["E", "e", "A", -1, 2, 3],                  # row 8: O negative -> D8
-        ["F", "f", "A", 3, 2, 1],                   # row 9: M < O -> E9, P < M -> F9
-        ["K2", "k", "K4", 1, 2, 3],                 # row 10: cycle closes in C10
-        ["K3", "k", "K2", 1, 2, 3],                 # row 11
-        ["K4", "k", "K3", 1, 2, 3],                 # row 12
-        ["G", "g", "A[XX]", 1, 2, 3],               # row 13: bad bracket -> C13
+        HEADER,  # row 1
+        ["A", "first", None, 1, 2, 3],  # row 2
+        ["A", "again", None, 1, 2, 3],  # row 3: duplicate ID -> A3
+        [None, "no id", "A", 1, 2, 3],  # row 4: blank ID -> A4
+        ["B", "b", "Z", 1, 2, 3],  # row 5: missing predecessor -> C5
+        ["C", "c", "C", 1, 2, 3],  # row 6: self-link -> C6
+        ["D", "d", "A", "x", 2, 3],  # row 7: O not a number -> D7
+        ["E", "e", "A", -1, 2, 3],  # row 8: O negative -> D8
+        ["F", "f", "A", 3, 2, 1],  # row 9: M < O -> E9, P < M -> F9
+        ["K2", "k", "K4", 1, 2, 3],  # row 10: cycle closes in C10
+        ["K3", "k", "K2", 1, 2, 3],  # row 11
+        ["K4", "k", "K3", 1, 2, 3],  # row 12
+        ["G", "g", "A[XX]", 1, 2, 3],  # row 13: bad bracket -> C13
     ]
     settings = [["Setting", "Value"], ["Start date", "next Monday"]]  # -> Settings!B2
     path = write_xlsx(tmp_path / "many.xlsx", {"Activities": rows, "Settings": settings})
@@ -95,8 +95,9 @@ SINGLE = [
 ]
 
 
-@pytest.mark.parametrize(("code", "row", "cell", "activity"), SINGLE,
-                         ids=[f"{c[0]}-{c[2]}" for c in SINGLE])
+@pytest.mark.parametrize(
+    ("code", "row", "cell", "activity"), SINGLE, ids=[f"{c[0]}-{c[2]}" for c in SINGLE]
+)
 def test_single_problem_names_its_cell(tmp_path, code, row, cell, activity):
     schedule, problems = run(two_rows(tmp_path / "one.xlsx", row))
     assert schedule is None
@@ -106,17 +107,20 @@ def test_single_problem_names_its_cell(tmp_path, code, row, cell, activity):
 def test_missing_link_message_names_the_id_and_column(tmp_path):
     _, problems = run(two_rows(tmp_path / "q.xlsx", ["B", "b", "A, Q7", 1, 2, 3]))
     (p,) = [p for p in problems if p.severity == ERROR]
-    assert str(p) == ('error: Activities!C3: predecessor "Q7" is not an activity ID in '
-                      'column A [activity B]')
+    assert str(p) == (
+        'error: Activities!C3: predecessor "Q7" is not an activity ID in column A [activity B]'
+    )
 
 
 def test_problems_in_rows_after_a_bad_row_are_still_found(tmp_path):
     rows = [HEADER, ["A", None, None, "x", 2, 3]] + [
-        [f"N{k}", None, "A", 1, 2, -1] for k in range(1, 6)  # rows 3..7, P negative -> F
+        [f"N{k}", None, "A", 1, 2, -1]
+        for k in range(1, 6)  # rows 3..7, P negative -> F
     ]
     _, problems = run(write_xlsx(tmp_path / "rows.xlsx", {"Activities": rows}))
     assert errors(problems) == {("not-a-number", "Activities", "D2", "A")} | {
-        ("negative-estimate", "Activities", f"F{k + 2}", f"N{k}") for k in range(1, 6)}
+        ("negative-estimate", "Activities", f"F{k + 2}", f"N{k}") for k in range(1, 6)
+    }
 
 
 def test_duplicate_id_row_still_has_its_estimates_checked(tmp_path):
@@ -140,9 +144,9 @@ def test_blank_id_row_still_has_its_estimates_checked(tmp_path):
 def test_cycle_is_printed_in_link_order_from_the_first_listed_activity(tmp_path):
     rows = [
         HEADER,
-        ["K4", None, "K3", 1, 2, 3],   # row 2: closing link K3 -> K4 is in C2
-        ["K2", None, "K4", 1, 2, 3],   # row 3
-        ["K3", None, "K2", 1, 2, 3],   # row 4
+        ["K4", None, "K3", 1, 2, 3],  # row 2: closing link K3 -> K4 is in C2
+        ["K2", None, "K4", 1, 2, 3],  # row 3
+        ["K3", None, "K2", 1, 2, 3],  # row 4
     ]
     _, problems = run(write_xlsx(tmp_path / "c.xlsx", {"Activities": rows}))
     (p,) = [p for p in problems if p.severity == ERROR]
@@ -157,12 +161,12 @@ def test_cycle_is_printed_in_link_order_from_the_first_listed_activity(tmp_path)
 def test_two_separate_cycles_are_both_reported(tmp_path):
     rows = [
         HEADER,
-        ["S", None, None, 1, 2, 3],    # row 2
+        ["S", None, None, 1, 2, 3],  # row 2
         ["X", None, "S, Y", 1, 2, 3],  # row 3: Y -> X closes X -> Y -> X in C3
-        ["Y", None, "X", 1, 2, 3],     # row 4
-        ["P", None, "R", 1, 2, 3],     # row 5: R -> P closes P -> Q -> R -> P in C5
-        ["Q", None, "P", 1, 2, 3],     # row 6
-        ["R", None, "Q", 1, 2, 3],     # row 7
+        ["Y", None, "X", 1, 2, 3],  # row 4
+        ["P", None, "R", 1, 2, 3],  # row 5: R -> P closes P -> Q -> R -> P in C5
+        ["Q", None, "P", 1, 2, 3],  # row 6
+        ["R", None, "Q", 1, 2, 3],  # row 7
     ]
     _, problems = run(write_xlsx(tmp_path / "cc.xlsx", {"Activities": rows}))
     cycles = sorted((p.cell, p.activity, p.message) for p in problems if p.code == "cycle")
@@ -173,9 +177,12 @@ def test_two_separate_cycles_are_both_reported(tmp_path):
 
 # --------------------------------------------------------------------------- columns / files
 def test_missing_required_column_says_which_and_lists_headers(tmp_path):
-    rows = [["Plan for the new depot"], [],                     # title, blank
-            ["ID", "Task", "Predecessors", "Optimistic", "Pessimistic"],  # header row 3
-            ["A", "a", None, 1, 3]]
+    rows = [
+        ["Plan for the new depot"],
+        [],  # title, blank
+        ["ID", "Task", "Predecessors", "Optimistic", "Pessimistic"],  # header row 3
+        ["A", "a", None, 1, 3],
+    ]
     schedule, problems = run(write_xlsx(tmp_path / "m.xlsx", {"Tasks": rows}))
     assert schedule is None
     (p,) = problems
@@ -208,11 +215,14 @@ def test_header_without_rows_is_empty(tmp_path):
 
 
 def test_empty_table_reported_alongside_a_settings_problem(tmp_path):
-    path = write_xlsx(tmp_path / "h.xlsx", {"Activities": [HEADER],
-                                            "Settings": [["Start date", "soon"]]})
+    path = write_xlsx(
+        tmp_path / "h.xlsx", {"Activities": [HEADER], "Settings": [["Start date", "soon"]]}
+    )
     _, problems = run(path)
-    assert errors(problems) == {("empty", "Activities", "A2", None),
-                                ("bad-setting", "Settings", "B1", None)}
+    assert errors(problems) == {
+        ("empty", "Activities", "A2", None),
+        ("bad-setting", "Settings", "B1", None),
+    }
 
 
 def test_empty_csv_is_an_empty_sheet(tmp_path):
@@ -222,13 +232,16 @@ def test_empty_csv_is_an_empty_sheet(tmp_path):
     assert [p.code for p in problems] == ["empty"]
 
 
-@pytest.mark.parametrize(("name", "content", "code"), [
-    ("noise.xlsx", bytes((i * 131 + 7) % 256 for i in range(4096)), "unreadable"),
-    ("zero.xlsx", b"", "unreadable"),
-    ("really-csv.xlsx", b"ID,O,M,P\nA,1,2,3\n", "unreadable"),
-    ("notes.txt", b"ID,O,M,P\nA,1,2,3\n", "unreadable"),
-    ("noise.ods", bytes(range(256)) * 8, "unreadable"),
-])
+@pytest.mark.parametrize(
+    ("name", "content", "code"),
+    [
+        ("noise.xlsx", bytes((i * 131 + 7) % 256 for i in range(4096)), "unreadable"),
+        ("zero.xlsx", b"", "unreadable"),
+        ("really-csv.xlsx", b"ID,O,M,P\nA,1,2,3\n", "unreadable"),
+        ("notes.txt", b"ID,O,M,P\nA,1,2,3\n", "unreadable"),
+        ("noise.ods", bytes(range(256)) * 8, "unreadable"),
+    ],
+)
 def test_unreadable_file_is_a_problem_naming_the_file(tmp_path, name, content, code):
     path = tmp_path / name
     path.write_bytes(content)
@@ -257,10 +270,10 @@ def test_folder_is_not_a_file(tmp_path):
 def test_deterministic_row_and_unlinked_activity_are_warnings(tmp_path):
     rows = [
         HEADER,
-        ["A", "a", None, 1, 2, 3],        # row 2
-        ["B", "b", "A", None, 4, None],   # row 3: only M -> fixed duration (E3)
-        ["C", "c", None, 1, 2, 3],        # row 4: no links at all (C4)
-        ["D", "d", "A", 5, 5, 5],         # row 5: O = M = P given (E5)
+        ["A", "a", None, 1, 2, 3],  # row 2
+        ["B", "b", "A", None, 4, None],  # row 3: only M -> fixed duration (E3)
+        ["C", "c", None, 1, 2, 3],  # row 4: no links at all (C4)
+        ["D", "d", "A", 5, 5, 5],  # row 5: O = M = P given (E5)
     ]
     schedule, problems = run(write_xlsx(tmp_path / "w.xlsx", {"Activities": rows}))
     assert schedule is not None  # warnings do not block
@@ -286,8 +299,12 @@ SPELLINGS = {
     4: ("most likely", "likely", "m", "mode"),
     5: ("pessimistic", "p", "b", "max", "worst"),
 }
-SPELLING_CASES = [(col, s, style) for col, names in SPELLINGS.items() for s in names
-                  for style in ("upper-spaced", "title")]
+SPELLING_CASES = [
+    (col, s, style)
+    for col, names in SPELLINGS.items()
+    for s in names
+    for style in ("upper-spaced", "title")
+]
 
 
 def _styled(text: str, style: str) -> str:
@@ -296,37 +313,46 @@ def _styled(text: str, style: str) -> str:
     return text.title()
 
 
-@pytest.mark.parametrize(("col", "spelling", "style"), SPELLING_CASES,
-                         ids=[f"{s}-{st}" for _, s, st in SPELLING_CASES])
+@pytest.mark.parametrize(
+    ("col", "spelling", "style"), SPELLING_CASES, ids=[f"{s}-{st}" for _, s, st in SPELLING_CASES]
+)
 def test_header_spellings(tmp_path, col, spelling, style):
     header = list(HEADER)
     header[col] = _styled(spelling, style)
     rows = [header, ["A", "Dig", None, 1, 2, 4], ["B", "Fill", "A", 2, 3, 7]]
     schedule, problems = run(write_xlsx(tmp_path / "h.xlsx", {"Sheet1": rows}))
     assert not errors(problems), problems
-    assert [(a.id, a.name, a.optimistic, a.most_likely, a.pessimistic)
-            for a in schedule.activities] == [("A", "Dig", 1, 2, 4), ("B", "Fill", 2, 3, 7)]
+    assert [
+        (a.id, a.name, a.optimistic, a.most_likely, a.pessimistic) for a in schedule.activities
+    ] == [("A", "Dig", 1, 2, 4), ("B", "Fill", 2, 3, 7)]
     assert [(lk.pred, lk.succ) for lk in schedule.links] == [("A", "B")]
 
 
 def test_header_below_title_and_blank_rows(tmp_path):
     rows = [
-        ["Depot fit-out: activity list"],       # row 1: title
-        [],                                     # row 2
-        ["Issued 3 March"],                     # row 3
-        [],                                     # row 4
+        ["Depot fit-out: activity list"],  # row 1: title
+        [],  # row 2
+        ["Issued 3 March"],  # row 3
+        [],  # row 4
         ["ID", "Predecessors", "O", "M", "P"],  # row 5: header
-        ["A", None, 1, 2, 3],                   # row 6
-        [],                                     # row 7: blank, skipped
-        ["B", "A", 1, "lots", 3],               # row 8: M in column D -> D8
+        ["A", None, 1, 2, 3],  # row 6
+        [],  # row 7: blank, skipped
+        ["B", "A", 1, "lots", 3],  # row 8: M in column D -> D8
     ]
     _, problems = run(write_xlsx(tmp_path / "t.xlsx", {"Plan": rows}))
     assert errors(problems) == {("not-a-number", "Plan", "D8", "B")}
 
 
 def test_header_below_title_reads_activities_and_rows(tmp_path):
-    rows = [["Depot"], [], ["ID", "Predecessors", "O", "M", "P"], ["A", None, 1, 2, 3], [],
-            [], ["B", "A", 1, 2, 3]]
+    rows = [
+        ["Depot"],
+        [],
+        ["ID", "Predecessors", "O", "M", "P"],
+        ["A", None, 1, 2, 3],
+        [],
+        [],
+        ["B", "A", 1, 2, 3],
+    ]
     schedule, problems = run(write_xlsx(tmp_path / "t.xlsx", {"Plan": rows}))
     assert not errors(problems)
     assert [(a.id, a.row) for a in schedule.activities] == [("A", 4), ("B", 7)]
@@ -335,16 +361,22 @@ def test_header_below_title_reads_activities_and_rows(tmp_path):
 
 def test_csv_input_with_title_row_exported_by_a_spreadsheet(tmp_path):
     # A spreadsheet's CSV export pads the title row with delimiters.
-    rows = [["Boiler shutdown", "", "", "", ""], [], ["ID", "Predecessors", "O", "M", "P"],
-            ["A", "", "1", "2", "3"], ["B", "A", "2", "3", "x"]]   # P of B: row 5, col E
+    rows = [
+        ["Boiler shutdown", "", "", "", ""],
+        [],
+        ["ID", "Predecessors", "O", "M", "P"],
+        ["A", "", "1", "2", "3"],
+        ["B", "A", "2", "3", "x"],
+    ]  # P of B: row 5, col E
     _, problems = run(write_csv(tmp_path / "b.csv", rows))
     assert errors(problems) == {("not-a-number", "b.csv", "E5", "B")}
 
 
 def test_csv_with_plain_title_line(tmp_path):
     path = tmp_path / "t.csv"
-    path.write_text("Boiler shutdown\n\nID,Predecessors,O,M,P\nA,,1,2,3\nB,A,1,2,3\n",
-                    encoding="utf-8")
+    path.write_text(
+        "Boiler shutdown\n\nID,Predecessors,O,M,P\nA,,1,2,3\nB,A,1,2,3\n", encoding="utf-8"
+    )
     schedule, problems = run(path)
     assert not errors(problems), problems
     assert [a.id for a in schedule.activities] == ["A", "B"]
@@ -370,16 +402,22 @@ def test_predecessor_separators(tmp_path, cell):
 
 
 def test_numeric_id_cells_are_text(tmp_path):
-    rows = [HEADER,
-            [3, None, None, 1, 2, 3],        # numeric 3 -> "3"
-            [4.0, None, 3, 1, 2, 3],         # numeric 4.0 -> "4"; predecessor cell numeric 3
-            [5, None, "3; 4", 1, 2, 3],      # text predecessors
-            [6, None, 4.0, 1, 2, 3]]         # predecessor cell numeric 4.0
+    rows = [
+        HEADER,
+        [3, None, None, 1, 2, 3],  # numeric 3 -> "3"
+        [4.0, None, 3, 1, 2, 3],  # numeric 4.0 -> "4"; predecessor cell numeric 3
+        [5, None, "3; 4", 1, 2, 3],  # text predecessors
+        [6, None, 4.0, 1, 2, 3],
+    ]  # predecessor cell numeric 4.0
     schedule, problems = run(write_xlsx(tmp_path / "n.xlsx", {"Activities": rows}))
     assert not errors(problems), problems
     assert [a.id for a in schedule.activities] == ["3", "4", "5", "6"]
     assert sorted((lk.pred, lk.succ) for lk in schedule.links) == [
-        ("3", "4"), ("3", "5"), ("4", "5"), ("4", "6")]
+        ("3", "4"),
+        ("3", "5"),
+        ("4", "5"),
+        ("4", "6"),
+    ]
 
 
 def test_numeric_3_and_3_point_0_are_the_same_id(tmp_path):
@@ -389,8 +427,15 @@ def test_numeric_3_and_3_point_0_are_the_same_id(tmp_path):
 
 
 def test_blank_rows_are_skipped(tmp_path):
-    rows = [HEADER, [], ["A", None, None, 1, 2, 3], [None, None, None, None, None, None], [],
-            ["B", None, "A", 1, 2, 3], []]
+    rows = [
+        HEADER,
+        [],
+        ["A", None, None, 1, 2, 3],
+        [None, None, None, None, None, None],
+        [],
+        ["B", None, "A", 1, 2, 3],
+        [],
+    ]
     schedule, problems = run(write_xlsx(tmp_path / "b.xlsx", {"Activities": rows}))
     assert problems == []
     assert [(a.id, a.row) for a in schedule.activities] == [("A", 3), ("B", 6)]
@@ -417,9 +462,11 @@ def test_sheet_named_for_activities_is_preferred(tmp_path, named):
 
 
 def test_sheet_found_by_headers_among_several(tmp_path):
-    sheets = {"Read me": [["This file holds the depot plan."], ["Ask Sam."]],
-              "Contacts": [["Name", "Phone"], ["Sam", "123"]],
-              "Data": SIMPLE}
+    sheets = {
+        "Read me": [["This file holds the depot plan."], ["Ask Sam."]],
+        "Contacts": [["Name", "Phone"], ["Sam", "123"]],
+        "Data": SIMPLE,
+    }
     schedule, problems = run(write_xlsx(tmp_path / "many.xlsx", sheets))
     assert not errors(problems)
     assert schedule.sheet == "Data"
@@ -453,8 +500,12 @@ LINK_CASES = [
 
 @pytest.mark.parametrize(("token", "expected"), LINK_CASES, ids=[c[0] for c in LINK_CASES])
 def test_typed_link_notation(tmp_path, token, expected):
-    rows = [HEADER, ["A", None, None, 1, 2, 3], ["A-1+B", None, None, 1, 2, 3],
-            ["X", None, token, 1, 2, 3]]  # X's predecessors: C4
+    rows = [
+        HEADER,
+        ["A", None, None, 1, 2, 3],
+        ["A-1+B", None, None, 1, 2, 3],
+        ["X", None, token, 1, 2, 3],
+    ]  # X's predecessors: C4
     schedule, problems = run(write_xlsx(tmp_path / "l.xlsx", {"Activities": rows}))
     assert not errors(problems), problems
     links = [(lk.pred, lk.type, lk.lag, lk.cell) for lk in schedule.links if lk.succ == "X"]
@@ -462,11 +513,19 @@ def test_typed_link_notation(tmp_path, token, expected):
 
 
 def test_several_typed_links_in_one_cell(tmp_path):
-    rows = [HEADER, ["A", None, None, 1, 2, 3], ["A-1+B", None, None, 1, 2, 3],
-            ["C", None, "A", 1, 2, 3], ["X", None, "A[SS+3], A-1+B[FF-1]; C[+2]", 1, 2, 3]]
+    rows = [
+        HEADER,
+        ["A", None, None, 1, 2, 3],
+        ["A-1+B", None, None, 1, 2, 3],
+        ["C", None, "A", 1, 2, 3],
+        ["X", None, "A[SS+3], A-1+B[FF-1]; C[+2]", 1, 2, 3],
+    ]
     schedule, _ = run(write_xlsx(tmp_path / "l.xlsx", {"Activities": rows}))
     assert sorted((lk.pred, lk.type, lk.lag) for lk in schedule.links if lk.succ == "X") == [
-        ("A", "SS", 3.0), ("A-1+B", "FF", -1.0), ("C", "FS", 2.0)]
+        ("A", "SS", 3.0),
+        ("A-1+B", "FF", -1.0),
+        ("C", "FS", 2.0),
+    ]
 
 
 @pytest.mark.parametrize("token", ["A[XX]", "A[SS+]", "A[+two]", "[SS]", "A[FS*2]"])
@@ -476,34 +535,42 @@ def test_bad_bracket_is_a_problem_with_its_cell(tmp_path, token):
 
 
 def test_links_sheet_with_aliases(tmp_path):
-    acts = [["ID", "O", "M", "P"], ["A", 1, 2, 3], ["B", 1, 2, 3], ["C", 1, 2, 3],
-            ["D", 1, 2, 3]]
-    links = [["From", "To", "Relation", "Lead-lag"],
-             ["A", "B", "SS", 2],                  # row 2
-             ["B", "C", None, None],               # row 3: FS, no lag
-             ["C", "D", "FF", -1]]                 # row 4
-    schedule, problems = run(write_xlsx(tmp_path / "k.xlsx",
-                                        {"Activities": acts, "Links": links}))
+    acts = [["ID", "O", "M", "P"], ["A", 1, 2, 3], ["B", 1, 2, 3], ["C", 1, 2, 3], ["D", 1, 2, 3]]
+    links = [
+        ["From", "To", "Relation", "Lead-lag"],
+        ["A", "B", "SS", 2],  # row 2
+        ["B", "C", None, None],  # row 3: FS, no lag
+        ["C", "D", "FF", -1],
+    ]  # row 4
+    schedule, problems = run(write_xlsx(tmp_path / "k.xlsx", {"Activities": acts, "Links": links}))
     assert not errors(problems), problems
     assert [(lk.pred, lk.succ, lk.type, lk.lag, lk.sheet, lk.cell) for lk in schedule.links] == [
         ("A", "B", "SS", 2.0, "Links", "A2"),
         ("B", "C", "FS", 0.0, "Links", "A3"),
-        ("C", "D", "FF", -1.0, "Links", "A4")]
+        ("C", "D", "FF", -1.0, "Links", "A4"),
+    ]
     assert "Links sheet: Links." in schedule.notes
 
 
 def test_links_sheet_with_standard_headers_and_its_problems(tmp_path):
-    acts = [["ID", "Predecessors", "O", "M", "P"], ["A", None, 1, 2, 3], ["B", "A", 1, 2, 3],
-            ["C", None, 1, 2, 3]]
-    links = [["Predecessor", "Successor", "Type", "Lag"],
-             ["A", "B", "FS", 0],       # row 2: also inline in Activities!B3 -> given twice
-             ["B", "C", "SS", 1],       # row 3: good
-             ["B", "Q", None, None],    # row 4: Q unknown -> B4
-             ["C", "C", None, None],    # row 5: self-link -> A5
-             ["A", "C", "XX", None],    # row 6: bad type -> C6
-             ["A", "C", "SS", "soon"]]  # row 7: bad lag -> D7
-    schedule, problems = run(write_xlsx(tmp_path / "k.xlsx",
-                                        {"Activities": acts, "Relationships": links}))
+    acts = [
+        ["ID", "Predecessors", "O", "M", "P"],
+        ["A", None, 1, 2, 3],
+        ["B", "A", 1, 2, 3],
+        ["C", None, 1, 2, 3],
+    ]
+    links = [
+        ["Predecessor", "Successor", "Type", "Lag"],
+        ["A", "B", "FS", 0],  # row 2: also inline in Activities!B3 -> given twice
+        ["B", "C", "SS", 1],  # row 3: good
+        ["B", "Q", None, None],  # row 4: Q unknown -> B4
+        ["C", "C", None, None],  # row 5: self-link -> A5
+        ["A", "C", "XX", None],  # row 6: bad type -> C6
+        ["A", "C", "SS", "soon"],
+    ]  # row 7: bad lag -> D7
+    schedule, problems = run(
+        write_xlsx(tmp_path / "k.xlsx", {"Activities": acts, "Relationships": links})
+    )
     assert schedule is None
     assert errors(problems) == {
         ("duplicate-link", "Relationships", "A2", "B"),
@@ -521,11 +588,13 @@ ACTS = [["ID", "Predecessors", "O", "M", "P"], ["A", None, 1, 2, 3], ["B", "A", 
 
 
 def test_settings_problems_name_their_cells(tmp_path):
-    settings = [["Setting", "Value"],
-                ["Start date", "next monday"],          # B2
-                ["Working days", "Mon, Tue, Funday"],   # B3
-                ["Confidence levels", "0.5, 1.5"],      # B4
-                ["Due", dt.date(2025, 3, 1)]]           # B5: a date, and no valid start
+    settings = [
+        ["Setting", "Value"],
+        ["Start date", "next monday"],  # B2
+        ["Working days", "Mon, Tue, Funday"],  # B3
+        ["Confidence levels", "0.5, 1.5"],  # B4
+        ["Due", dt.date(2025, 3, 1)],
+    ]  # B5: a date, and no valid start
     path = write_xlsx(tmp_path / "s.xlsx", {"Activities": ACTS, "Settings": settings})
     schedule, problems = run(path)
     assert schedule is None
@@ -543,10 +612,21 @@ def test_settings_problems_name_their_cells(tmp_path):
 # A bare number above 1 is a percentage, one up to 1 a fraction (the project's issue:
 # "50,80,90,95" must work as the help's default "50,80,90,95%" reads); a level must lie
 # strictly between 0% and 100%, and a list mixing the two kinds is ambiguous.
-@pytest.mark.parametrize("value, named", [
-    (0, "0"), (1, "1"), (100, "100"), (150, "150"), (-0.2, "-0.2"), (-20, "-20"),
-    ("100%", "100%"), ("80%, 0%", "0%"), ("high", "high"), ("0.5, 80", "80"),
-])
+@pytest.mark.parametrize(
+    "value, named",
+    [
+        (0, "0"),
+        (1, "1"),
+        (100, "100"),
+        (150, "150"),
+        (-0.2, "-0.2"),
+        (-20, "-20"),
+        ("100%", "100%"),
+        ("80%, 0%", "0%"),
+        ("high", "high"),
+        ("0.5, 80", "80"),
+    ],
+)
 def test_confidence_outside_zero_one(tmp_path, value, named):
     settings = [["Confidence", value]]  # B1
     path = write_xlsx(tmp_path / "s.xlsx", {"Activities": ACTS, "Settings": settings})
@@ -556,14 +636,17 @@ def test_confidence_outside_zero_one(tmp_path, value, named):
     assert named in p.message and "Traceback" not in p.message
 
 
-@pytest.mark.parametrize("value, levels", [
-    ("50,80,90,95", (0.5, 0.8, 0.9, 0.95)),
-    ("50%, 80%", (0.5, 0.8)),
-    (0.8, (0.8,)),            # a fraction, e.g. a cell formatted as a percentage
-    (80, (0.8,)),             # a percentage
-    ("95; 50", (0.5, 0.95)),  # sorted
-    (1.5, (0.015,)),          # above 1: 1.5%
-])
+@pytest.mark.parametrize(
+    "value, levels",
+    [
+        ("50,80,90,95", (0.5, 0.8, 0.9, 0.95)),
+        ("50%, 80%", (0.5, 0.8)),
+        (0.8, (0.8,)),  # a fraction, e.g. a cell formatted as a percentage
+        (80, (0.8,)),  # a percentage
+        ("95; 50", (0.5, 0.95)),  # sorted
+        (1.5, (0.015,)),  # above 1: 1.5%
+    ],
+)
 def test_confidence_levels_as_percent_or_fraction(tmp_path, value, levels):
     settings = [["Confidence levels", value]]  # B1
     path = write_xlsx(tmp_path / "s.xlsx", {"Activities": ACTS, "Settings": settings})
@@ -586,20 +669,30 @@ def test_due_date_needs_a_start_date(tmp_path):
 
 
 def test_command_line_overrides_settings_sheet(tmp_path):
-    settings = [["Setting", "Value"], ["Start date", dt.date(2025, 3, 3)], ["Due", 30],
-                ["Seed", 5], ["Working days", "Mon-Thu"]]  # B2..B5
+    settings = [
+        ["Setting", "Value"],
+        ["Start date", dt.date(2025, 3, 3)],
+        ["Due", 30],
+        ["Seed", 5],
+        ["Working days", "Mon-Thu"],
+    ]  # B2..B5
     path = write_xlsx(tmp_path / "s.xlsx", {"Activities": ACTS, "Settings": settings})
     schedule, _ = run(path)
     s = schedule.settings
-    assert (s.start_date, s.due, s.seed, s.working_days) == (dt.date(2025, 3, 3), 30, 5,
-                                                             (0, 1, 2, 3))
+    assert (s.start_date, s.due, s.seed, s.working_days) == (
+        dt.date(2025, 3, 3),
+        30,
+        5,
+        (0, 1, 2, 3),
+    )
     assert s.sources["start_date"] == "settings sheet (Settings!B2)"
     assert s.sources["due"] == "settings sheet (Settings!B3)"
     schedule, _ = run(path, due="20", seed=7, start_date="2025-04-01")
     s = schedule.settings
     assert (s.start_date, s.due, s.seed) == (dt.date(2025, 4, 1), 20, 7)
     assert {k: s.sources[k] for k in ("start_date", "due", "seed")} == dict.fromkeys(
-        ("start_date", "due", "seed"), "command line")
+        ("start_date", "due", "seed"), "command line"
+    )
     assert s.sources["working_days"] == "settings sheet (Settings!B5)"  # not overridden
 
 
@@ -615,7 +708,11 @@ def test_good_input_has_no_problems(tmp_path):
     schedule, problems = run(good_xlsx(tmp_path / "good.xlsx"))
     assert problems == []
     assert [(lk.pred, lk.succ) for lk in schedule.links] == [
-        ("A", "B"), ("A", "C"), ("B", "D"), ("C", "D")]
+        ("A", "B"),
+        ("A", "C"),
+        ("B", "D"),
+        ("C", "D"),
+    ]
 
 
 def test_sheet_of_fixed_durations_needs_no_spread_columns(tmp_path):
@@ -625,9 +722,12 @@ def test_sheet_of_fixed_durations_needs_no_spread_columns(tmp_path):
     schedule, problems = run(write_xlsx(tmp_path / "fixed.xlsx", {"Activities": rows}))
     assert schedule is not None
     assert [(p.severity, p.code, p.cell) for p in problems] == [
-        ("warning", "fixed-durations", "C1")]
+        ("warning", "fixed-durations", "C1")
+    ]
     assert [(a.optimistic, a.most_likely, a.pessimistic) for a in schedule.activities] == [
-        (5, 5, 5), (3, 3, 3)]
+        (5, 5, 5),
+        (3, 3, 3),
+    ]
 
 
 def test_one_spread_column_without_the_other_is_missing(tmp_path):

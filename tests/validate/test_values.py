@@ -30,16 +30,38 @@ D = dt.date
 
 
 # --------------------------------------------------------------------------- numbers
-@pytest.mark.parametrize("text", ["0", "-0", "2.5", "+4", "4.", ".5", "1e3", "1E-3", "-2.5e+2",
-                                  " 7 ", "007", "1" * 300])
+@pytest.mark.parametrize(
+    "text", ["0", "-0", "2.5", "+4", "4.", ".5", "1e3", "1E-3", "-2.5e+2", " 7 ", "007", "1" * 300]
+)
 def test_plain_numbers_read_as_python_float_does(text):
     # Reference: Python's float() on the same text.
     assert parse_number(text) == float(text)
 
 
-@pytest.mark.parametrize("text", ["1_0", "nan", "NaN", "inf", "-Infinity", "1,5", "1 000",
-                                  "0x10", "\uff11", "\u0661\u0662", "1e", "e3", "--1", ".", "",
-                                  "+", "1.2.3", "5 days", "1e3.5"])
+@pytest.mark.parametrize(
+    "text",
+    [
+        "1_0",
+        "nan",
+        "NaN",
+        "inf",
+        "-Infinity",
+        "1,5",
+        "1 000",
+        "0x10",
+        "\uff11",
+        "\u0661\u0662",
+        "1e",
+        "e3",
+        "--1",
+        ".",
+        "",
+        "+",
+        "1.2.3",
+        "5 days",
+        "1e3.5",
+    ],
+)
 def test_everything_else_is_not_a_plain_number(text):
     # Python's float() accepts several of these ("1_0", "nan", "inf", "\uff11"); we do not.
     with pytest.raises(ValueError, match="not a plain number"):
@@ -67,25 +89,37 @@ def test_percent_only_where_allowed():
         parse_number("2_5%", percent=True)
 
 
-@pytest.mark.parametrize("value, kind", [(True, "true/false"), (D(2024, 3, 1), "date"),
-                                         (dt.datetime(2024, 3, 1, 9), "date"),
-                                         (dt.time(9, 30), "time"),
-                                         (dt.timedelta(hours=2), "time")])
+@pytest.mark.parametrize(
+    "value, kind",
+    [
+        (True, "true/false"),
+        (D(2024, 3, 1), "date"),
+        (dt.datetime(2024, 3, 1, 9), "date"),
+        (dt.time(9, 30), "time"),
+        (dt.timedelta(hours=2), "time"),
+    ],
+)
 def test_non_numbers_say_what_they_are(value, kind):
     with pytest.raises(ValueError, match=f"is a {kind}"):
         parse_number(value)
 
 
 # --------------------------------------------------------------------------- shown
-@pytest.mark.parametrize("value, text", [
-    (D(2024, 3, 1), "2024-03-01"),
-    (dt.datetime(2024, 3, 1), "2024-03-01"),
-    (dt.datetime(2024, 3, 1, 10, 30), "2024-03-01 10:30"),
-    (dt.datetime(2024, 3, 1, 10, 30, 5), "2024-03-01 10:30:05"),
-    (dt.time(7, 5), "07:05"),
-    (3.0, "3"), (2.5, "2.5"), (1e155, "1e+155"), (True, "TRUE"),
-    ("abc", '"abc"'),
-])
+@pytest.mark.parametrize(
+    "value, text",
+    [
+        (D(2024, 3, 1), "2024-03-01"),
+        (dt.datetime(2024, 3, 1), "2024-03-01"),
+        (dt.datetime(2024, 3, 1, 10, 30), "2024-03-01 10:30"),
+        (dt.datetime(2024, 3, 1, 10, 30, 5), "2024-03-01 10:30:05"),
+        (dt.time(7, 5), "07:05"),
+        (3.0, "3"),
+        (2.5, "2.5"),
+        (1e155, "1e+155"),
+        (True, "TRUE"),
+        ("abc", '"abc"'),
+    ],
+)
 def test_values_are_shown_as_typed(value, text):
     assert shown(value) == text
 
@@ -96,12 +130,20 @@ def test_long_text_is_cut_short_in_messages():
 
 
 # --------------------------------------------------------------------------- dates
-@pytest.mark.parametrize("text, date", [
-    ("2025-03-03", D(2025, 3, 3)), (" 2025-03-03 ", D(2025, 3, 3)),
-    ("2025-03-03 09:30", D(2025, 3, 3)), ("2025-03-03T09:30:00", D(2025, 3, 3)),
-    ("20250303", None), ("2025-03-03x", None), ("2025-W10-1", None), ("2025-02-30", None),
-    ("next monday", None),
-])
+@pytest.mark.parametrize(
+    "text, date",
+    [
+        ("2025-03-03", D(2025, 3, 3)),
+        (" 2025-03-03 ", D(2025, 3, 3)),
+        ("2025-03-03 09:30", D(2025, 3, 3)),
+        ("2025-03-03T09:30:00", D(2025, 3, 3)),
+        ("20250303", None),
+        ("2025-03-03x", None),
+        ("2025-W10-1", None),
+        ("2025-02-30", None),
+        ("next monday", None),
+    ],
+)
 def test_dates_in_text(text, date):
     # Python's date.fromisoformat (3.11) also reads "20250303" and "2025-W10-1"; only the
     # YYYY-MM-DD form (with an optional time of day) is a date here.
@@ -121,26 +163,37 @@ def test_date_limits_and_nan_due():
 
 
 # --------------------------------------------------------------------------- IDs
-@pytest.mark.parametrize("a, b", [
-    (1.0, "1.0"), (1, "1.00"), (3.0, 3), ("0.0", 0.0),
-    (dt.datetime(2024, 1, 2, 10, 30), "2024-01-02T10:30:00"),
-    (dt.datetime(2024, 1, 2, 10, 30), "2024-01-02 10:30:00"),
-    (D(2024, 1, 2), "2024-01-02"), (D(2024, 1, 2), dt.datetime(2024, 1, 2)),
-    (dt.time(9, 30), "9:30"), (dt.time(9, 30), "09:30:00"),
-])
+@pytest.mark.parametrize(
+    "a, b",
+    [
+        (1.0, "1.0"),
+        (1, "1.00"),
+        (3.0, 3),
+        ("0.0", 0.0),
+        (dt.datetime(2024, 1, 2, 10, 30), "2024-01-02T10:30:00"),
+        (dt.datetime(2024, 1, 2, 10, 30), "2024-01-02 10:30:00"),
+        (D(2024, 1, 2), "2024-01-02"),
+        (D(2024, 1, 2), dt.datetime(2024, 1, 2)),
+        (dt.time(9, 30), "9:30"),
+        (dt.time(9, 30), "09:30:00"),
+    ],
+)
 def test_the_same_id_typed_differently_is_one_id(a, b):
     assert id_text(a) == id_text(b)
 
 
-@pytest.mark.parametrize("a, b", [("1.10", "1.1"), ("01", "1"), ("A1", "a1"), ("1e2", 100.0),
-                                  ("2024-01-02", "2024-01-03")])
+@pytest.mark.parametrize(
+    "a, b",
+    [("1.10", "1.1"), ("01", "1"), ("A1", "a1"), ("1e2", 100.0), ("2024-01-02", "2024-01-03")],
+)
 def test_different_ids_stay_different(a, b):
     assert id_text(a) != id_text(b)
 
 
 # --------------------------------------------------------------------------- the bound
-@pytest.mark.parametrize("working_days", [(0, 1, 2, 3, 4), (0, 1, 2, 3, 4, 5), (2,),
-                                          (6, 0, 1, 2, 3)])
+@pytest.mark.parametrize(
+    "working_days", [(0, 1, 2, 3, 4), (0, 1, 2, 3, 4, 5), (2,), (6, 0, 1, 2, 3)]
+)
 @pytest.mark.parametrize("unit", ["working days", "weeks", "calendar days"])
 def test_calendar_days_bound_against_numpy(working_days, unit):
     # Reference: numpy.busday_offset gives the working day n (from 0) after the start;
@@ -149,8 +202,7 @@ def test_calendar_days_bound_against_numpy(working_days, unit):
     start = D(2025, 3, 1)
     mask = "".join("1" if i in working_days else "0" for i in range(7))
     holidays = tuple(start + dt.timedelta(days=k) for k in range(0, 60, 3))
-    s = Settings(start_date=start, time_unit=unit, working_days=working_days,
-                 holidays=holidays)
+    s = Settings(start_date=start, time_unit=unit, working_days=working_days, holidays=holidays)
     per_unit = len(working_days) if unit == "weeks" else 1
     for x in np.concatenate([np.linspace(0, 400, 97), [0.5, 1, 7, 1e-9]]):
         days = calendar_days_for(float(x), s)
@@ -158,8 +210,13 @@ def test_calendar_days_bound_against_numpy(working_days, unit):
             assert math.ceil(x) <= days
             continue
         steps = math.ceil(round(x * per_unit, 9))
-        last = np.busday_offset(np.datetime64(start), steps, roll="forward", weekmask=mask,
-                                holidays=np.array(holidays, dtype="datetime64[D]"))
+        last = np.busday_offset(
+            np.datetime64(start),
+            steps,
+            roll="forward",
+            weekmask=mask,
+            holidays=np.array(holidays, dtype="datetime64[D]"),
+        )
         assert (last.astype(dt.date) - start).days <= days, x
 
 
@@ -167,8 +224,12 @@ def test_spread_allowance_against_scipy():
     # Reference: scipy.stats.norm.ppf. The fixed tables reach P1..P99 (z = 2.33) plus one
     # rounding step; any confidence level asked for is covered, however extreme.
     assert TABLE_SPREAD >= norm.ppf(0.99) * (1 + 2 / 25) + 1e-9
-    for levels in [(0.5, 0.8, 0.9, 0.95), (1e-300,), (float(np.nextafter(1.0, 0.0)),),
-                   (5e-324, 0.5)]:
+    for levels in [
+        (0.5, 0.8, 0.9, 0.95),
+        (1e-300,),
+        (float(np.nextafter(1.0, 0.0)),),
+        (5e-324, 0.5),
+    ]:
         want = max(TABLE_SPREAD, *(abs(norm.ppf(c)) for c in levels))
         assert spread_allowance(levels) == pytest.approx(want, rel=1e-12)
 

@@ -34,8 +34,12 @@ from golden import (
 )
 
 STEMS = [name.rsplit(".", 1)[0] for name in SAMPLE_FILES]
-GOLDEN_FILES = [(stem, p.relative_to(GOLDEN / stem).as_posix())
-                for stem in STEMS for p in sorted((GOLDEN / stem).rglob("*")) if p.is_file()]
+GOLDEN_FILES = [
+    (stem, p.relative_to(GOLDEN / stem).as_posix())
+    for stem in STEMS
+    for p in sorted((GOLDEN / stem).rglob("*"))
+    if p.is_file()
+]
 REGENERATE = "If the change is deliberate: python tests/golden/regenerate.py, review git diff."
 
 
@@ -61,9 +65,15 @@ def produced(tmp_path_factory):
 def test_every_sample_has_golden_files():
     for stem in STEMS:
         files = {rel for s, rel in GOLDEN_FILES if s == stem}
-        assert {JSON_NAME, MANIFEST, "xlsx/xl/workbook.xml", "xlsx/xl/sharedStrings.xml",
-                "xlsx/xl/styles.xml", "xlsx/xl/worksheets/sheet1.xml",
-                "xlsx/xl/charts/chart1.xml"} <= files, stem
+        assert {
+            JSON_NAME,
+            MANIFEST,
+            "xlsx/xl/workbook.xml",
+            "xlsx/xl/sharedStrings.xml",
+            "xlsx/xl/styles.xml",
+            "xlsx/xl/worksheets/sheet1.xml",
+            "xlsx/xl/charts/chart1.xml",
+        } <= files, stem
 
 
 @pytest.mark.parametrize(("stem", "rel"), GOLDEN_FILES, ids=[f"{s}:{r}" for s, r in GOLDEN_FILES])
@@ -96,7 +106,8 @@ def test_pretty_printing_keeps_the_document(produced, stem):
         for part in z.namelist():
             data = z.read(part)
             assert canonicalize(data.decode("utf-8"), strip_text=True) == canonicalize(
-                pretty_xml(data), strip_text=True), part
+                pretty_xml(data), strip_text=True
+            ), part
 
 
 def test_a_changed_figure_fails_with_a_readable_diff(produced):
@@ -106,7 +117,7 @@ def test_a_changed_figure_fails_with_a_readable_diff(produced):
     expected = produced(stem)[rel]
     line = next(x for x in expected.splitlines() if "<f>" in x and "<v>" in x)
     start = line.index("<v>") + 3
-    altered_line = line[:start] + "12345.678" + line[line.index("</v>", start):]
+    altered_line = line[:start] + "12345.678" + line[line.index("</v>", start) :]
     altered = expected.replace(line, altered_line, 1)
     report = diff_text(expected, altered, f"{stem}/{rel}")
     assert report.startswith(f"{stem}/{rel}: 2 changed lines")

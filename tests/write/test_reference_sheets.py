@@ -31,8 +31,16 @@ def converted(tmp_path_factory):
     for c in range(CHAINS):
         for k in range(3):
             pred = f"C{c:02d}-{k - 1}" if k else None
-            rows.append([f"C{c:02d}-{k}", f"Step {k} of chain {c} with a long description "
-                         "that wraps in its column", pred, 1, 2, 4])
+            rows.append(
+                [
+                    f"C{c:02d}-{k}",
+                    f"Step {k} of chain {c} with a long description that wraps in its column",
+                    pred,
+                    1,
+                    2,
+                    4,
+                ]
+            )
     source = write_xlsx(root / "chains.xlsx", {"Activities": rows})
     result = convert(source, ConvertOptions(json=True, simulate=False), outdir=root)
     assert result.ok, [str(p) for p in result.problems]
@@ -65,8 +73,11 @@ def test_long_offender_lists_are_cut_in_the_table_and_given_in_full_below(conver
     ws = wb["Health check"]
     name_col, off_col = _column(ws, "Check"), _column(ws, "Offending activities or links")
     by_name = {c["name"]: c for c in data["checks"]}
-    table = {ws.cell(r, name_col).value: ws.cell(r, off_col).value
-             for r in range(5, ws.max_row + 1) if ws.cell(r, name_col).value in by_name}
+    table = {
+        ws.cell(r, name_col).value: ws.cell(r, off_col).value
+        for r in range(5, ws.max_row + 1)
+        if ws.cell(r, name_col).value in by_name
+    }
     long = [n for n, c in by_name.items() if c["count"] > SHOWN]
     assert {"more than one start activity", "more than one end activity"} <= set(long)
     for name in long:

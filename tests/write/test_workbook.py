@@ -57,8 +57,12 @@ SHEET_NAME_LIMIT = 31
 # --------------------------------------------------------------------------- generated inputs
 def settings_rows(start, unit, days, holidays, due) -> list[list[object]]:
     """A Settings sheet: labels in column A, values in B; holidays on blank-labelled rows."""
-    rows: list[list[object]] = [["Setting", "Value"], ["Start date", start],
-                                ["Time unit", unit], ["Working days", days]]
+    rows: list[list[object]] = [
+        ["Setting", "Value"],
+        ["Start date", start],
+        ["Time unit", unit],
+        ["Working days", days],
+    ]
     for k, h in enumerate(holidays):
         rows.append(["Holidays" if k == 0 else None, h])
     rows.append(["Due date", due])
@@ -72,45 +76,51 @@ TYPED_HOLIDAYS = [D(2026, 8, 3), D(2026, 8, 28), D(2026, 8, 31)]  # Mon, Fri, Mo
 
 def typed_input(path: Path) -> Path:
     """Every link type with lags and leads, a Saturday start, holidays and two targets."""
-    rows = [HEADER + ["Target"],
-            ["T01", "Mobilise crew", None, 1, 2, 3, None],
-            ["T02", "Detailed design", "T01", 3, 5, 9, None],
-            ["T03", "Procure long-lead items", "T02[SS+2]", 8, 10, 15, None],
-            ["T04", "Fabricate frames", "T02[FF+1]", 4, 6, 11, None],
-            ["T05", "Install base plates", "T03, T04[-1]", 2, 3, 5, D(2026, 9, 4)],
-            ["T06", "Commission drives", "T05[SF+4]", 2, 4, 7, None],
-            ["T07", "Write manuals", "T02[SS], T05[FF-2]", 3, 4, 8, 25],
-            ["T08", "Train operators", "T06[+2], T07", 1, 2, 4, None],
-            ["T09", "Handover", "T08, T06[FF]", 1, 1, 2, None],
-            ["T10", "Sign-off (milestone)", "T09", 0, 0, 0, None]]
-    settings = settings_rows(TYPED_START, "working days", "Mon-Fri", TYPED_HOLIDAYS,
-                             D(2026, 10, 9))
+    rows = [
+        HEADER + ["Target"],
+        ["T01", "Mobilise crew", None, 1, 2, 3, None],
+        ["T02", "Detailed design", "T01", 3, 5, 9, None],
+        ["T03", "Procure long-lead items", "T02[SS+2]", 8, 10, 15, None],
+        ["T04", "Fabricate frames", "T02[FF+1]", 4, 6, 11, None],
+        ["T05", "Install base plates", "T03, T04[-1]", 2, 3, 5, D(2026, 9, 4)],
+        ["T06", "Commission drives", "T05[SF+4]", 2, 4, 7, None],
+        ["T07", "Write manuals", "T02[SS], T05[FF-2]", 3, 4, 8, 25],
+        ["T08", "Train operators", "T06[+2], T07", 1, 2, 4, None],
+        ["T09", "Handover", "T08, T06[FF]", 1, 1, 2, None],
+        ["T10", "Sign-off (milestone)", "T09", 0, 0, 0, None],
+    ]
+    settings = settings_rows(TYPED_START, "working days", "Mon-Fri", TYPED_HOLIDAYS, D(2026, 10, 9))
     return write_xlsx(path, {"Activities": rows, "Settings": settings})
 
 
 def weeks_input(path: Path) -> Path:
     """Estimates in working weeks of a Monday-to-Saturday calendar."""
-    rows = [HEADER,
-            ["W1", "Brief and survey", None, 0.5, 1, 2],
-            ["W2", "Groundworks", "W1", 1, 2, 4],
-            ["W3", "Drainage", "W1[SS+0.5]", 1, 1.5, 3],
-            ["W4", "Slab", "W2, W3[FF+0.2]", 0.2, 0.4, 1],
-            ["W5", "Frame", "W4[-0.4]", 1, 2, 3],
-            ["W6", "Envelope", "W5[SS+1]", 2, 3, 5],
-            ["W7", "Services", "W5, W6[SF+1]", 1, 2, 3.5]]
-    settings = settings_rows(D(2026, 3, 4), "weeks", "Mon-Sat", [D(2026, 4, 3), D(2026, 4, 6)],
-                             D(2026, 5, 29))
+    rows = [
+        HEADER,
+        ["W1", "Brief and survey", None, 0.5, 1, 2],
+        ["W2", "Groundworks", "W1", 1, 2, 4],
+        ["W3", "Drainage", "W1[SS+0.5]", 1, 1.5, 3],
+        ["W4", "Slab", "W2, W3[FF+0.2]", 0.2, 0.4, 1],
+        ["W5", "Frame", "W4[-0.4]", 1, 2, 3],
+        ["W6", "Envelope", "W5[SS+1]", 2, 3, 5],
+        ["W7", "Services", "W5, W6[SF+1]", 1, 2, 3.5],
+    ]
+    settings = settings_rows(
+        D(2026, 3, 4), "weeks", "Mon-Sat", [D(2026, 4, 3), D(2026, 4, 6)], D(2026, 5, 29)
+    )
     return write_xlsx(path, {"Activities": rows, "Settings": settings})
 
 
 def calendar_days_input(path: Path) -> Path:
     """Elapsed calendar days from a Saturday (weekends and holidays do not matter)."""
-    rows = [HEADER,
-            ["C1", "Cure concrete", None, 5, 7, 10],
-            ["C2", "Dry out screed", "C1[+2]", 10, 14, 21],
-            ["C3", "Acclimatise timber", "C1[SS+3]", 7, 7, 10],
-            ["C4", "Lay floor", "C2, C3[FF-1]", 2, 3, 5],
-            ["C5", "Seal floor", "C4[SF+2]", 1, 1.5, 2]]
+    rows = [
+        HEADER,
+        ["C1", "Cure concrete", None, 5, 7, 10],
+        ["C2", "Dry out screed", "C1[+2]", 10, 14, 21],
+        ["C3", "Acclimatise timber", "C1[SS+3]", 7, 7, 10],
+        ["C4", "Lay floor", "C2, C3[FF-1]", 2, 3, 5],
+        ["C5", "Seal floor", "C4[SF+2]", 1, 1.5, 2],
+    ]
     settings = settings_rows(D(2026, 11, 7), "calendar days", "Mon-Fri", [D(2026, 12, 25)], 40)
     return write_xlsx(path, {"Activities": rows, "Settings": settings})
 
@@ -119,24 +129,29 @@ def edge_input(path: Path) -> Path:
     """The start date is itself a holiday, holidays fall before the start and on a weekend,
     leads push early starts below zero (clipped at the start), milestones at both ends, a
     date target and a due date before the expected finish."""
-    rows = [HEADER + ["Target"],
-            ["M0", "Start milestone", None, 0, 0, 0, None],
-            ["E1", "Strip out", "M0", 2, 3, 4, None],
-            ["E2", "Temporary supply", "E1[SF-5]", 1, 2, 3, None],
-            ["E3", "Isolate", "E1[SS-1]", 1, 1, 1, D(2026, 4, 2)],
-            ["E4", "Reconnect", "E2, E3[FF-3]", 2.5, 3.5, 6, None],
-            ["E5", "Finish milestone", "E4", 0, 0, 0, 3]]
-    settings = settings_rows(D(2026, 4, 1), "working days", "Mon-Fri",
-                             [D(2026, 3, 20), D(2026, 4, 1), D(2026, 4, 4), D(2026, 4, 8)],
-                             D(2026, 4, 3))
+    rows = [
+        HEADER + ["Target"],
+        ["M0", "Start milestone", None, 0, 0, 0, None],
+        ["E1", "Strip out", "M0", 2, 3, 4, None],
+        ["E2", "Temporary supply", "E1[SF-5]", 1, 2, 3, None],
+        ["E3", "Isolate", "E1[SS-1]", 1, 1, 1, D(2026, 4, 2)],
+        ["E4", "Reconnect", "E2, E3[FF-3]", 2.5, 3.5, 6, None],
+        ["E5", "Finish milestone", "E4", 0, 0, 0, 3],
+    ]
+    settings = settings_rows(
+        D(2026, 4, 1),
+        "working days",
+        "Mon-Fri",
+        [D(2026, 3, 20), D(2026, 4, 1), D(2026, 4, 4), D(2026, 4, 8)],
+        D(2026, 4, 3),
+    )
     return write_xlsx(path, {"Activities": rows, "Settings": settings})
 
 
 def zero_spread_input(path: Path) -> Path:
     """No spread at all (sd 0: z is "n/a"), in weeks of a Sunday-to-Thursday calendar."""
     rows = [HEADER, ["A", "Fixed task", None, 2, 2, 2], ["B", "Fixed follow-on", "A", 3, 3, 3]]
-    settings = settings_rows(D(2026, 4, 1), "weeks", "Sun-Thu", [D(2026, 4, 9)],
-                             D(2026, 5, 1))
+    settings = settings_rows(D(2026, 4, 1), "weeks", "Sun-Thu", [D(2026, 4, 9)], D(2026, 5, 1))
     return write_xlsx(path, {"Activities": rows, "Settings": settings})
 
 
@@ -146,11 +161,13 @@ RISKY_DUE = 13.5
 
 
 def riskier_input(path: Path) -> Path:
-    rows = [HEADER,
-            ["S", "Start work", None, 1, 1, 1],
-            ["A", "Steady task", "S", 10, 11, 12],
-            ["B", "Uncertain task", "S", 1, 8, 30],
-            ["E", "Finish work", "A, B", 1, 1, 1]]
+    rows = [
+        HEADER,
+        ["S", "Start work", None, 1, 1, 1],
+        ["A", "Steady task", "S", 10, 11, 12],
+        ["B", "Uncertain task", "S", 1, 8, 30],
+        ["E", "Finish work", "A, B", 1, 1, 1],
+    ]
     return write_xlsx(path, {"Activities": rows})
 
 
@@ -334,16 +351,17 @@ def test_recalculated_dates_match_json_and_a_hand_worked_start(made, recalculate
     by_id = {a["id"]: a for a in c.data["activities"]}
     assert by_id["T01"]["early_start_date"] == "2026-08-04"
     for ident, r in rows.items():
-        for head, key in (("Early start date", "early_start_date"),
-                          ("Early finish date", "early_finish_date"),
-                          ("Late start date", "late_start_date"),
-                          ("Late finish date", "late_finish_date")):
+        for head, key in (
+            ("Early start date", "early_start_date"),
+            ("Early finish date", "early_finish_date"),
+            ("Late start date", "late_start_date"),
+            ("Late finish date", "late_finish_date"),
+        ):
             got = ws.cell(r, cols[head]).value
             assert got.date().isoformat() == by_id[ident][key], (ident, head)
     # no activity date falls on a weekend or a holiday of the calendar
     for a in c.data["activities"]:
-        for key in ("early_start_date", "early_finish_date", "late_start_date",
-                    "late_finish_date"):
+        for key in ("early_start_date", "early_finish_date", "late_start_date", "late_finish_date"):
             d = D.fromisoformat(a[key])
             assert d.weekday() < 5 and d not in TYPED_HOLIDAYS, (a["id"], key, d)
 
@@ -399,7 +417,7 @@ def check_package(xlsx: Path) -> None:
             if n.endswith("/"):
                 continue
             ET.fromstring(z.read(n))  # every part is well-formed XML
-            assert ("/" + n in overrides or n.rsplit(".", 1)[-1].lower() in defaults), n
+            assert "/" + n in overrides or n.rsplit(".", 1)[-1].lower() in defaults, n
         for n in names:
             if n.endswith(".rels"):
                 for rel in ET.fromstring(z.read(n)):
@@ -443,8 +461,11 @@ def test_defined_names_exist_and_hold_the_json_figures(made, key):
         assert name_value(cached, "ProjectStart").date().isoformat() == cal["start"]
     if cal and cal["holidays"]:
         sheet, area = name_target(wb, "Holidays")
-        days = [cell.value.date().isoformat() for row in cached[sheet][area.replace("$", "")]
-                for cell in row]
+        days = [
+            cell.value.date().isoformat()
+            for row in cached[sheet][area.replace("$", "")]
+            for cell in row
+        ]
         assert days == cal["holidays"]
 
 
@@ -456,8 +477,9 @@ def test_summary_z_and_probability_read_with_names(made, key):
     p_cell = label_cell(ws, "Chance of meeting the due date")
     for cell in (z_cell, p_cell):
         f = cell.value
-        assert f.startswith("=") and "DueDuration" in f and "ProjectMean" in f \
-            and "ProjectSD" in f, f
+        assert (
+            f.startswith("=") and "DueDuration" in f and "ProjectMean" in f and "ProjectSD" in f
+        ), f
         assert not refs(f), f"reads cells, not names: {f}"
     assert "NORM.S.DIST" in p_cell.value
     z = cached[z_cell.coordinate].value
@@ -523,8 +545,9 @@ def test_forward_and_backward_pass_formulas_name_the_linked_rows(made):
         assert all(row == r for _, row in refs(te)), te
         assert shape_of(te) == "=(O+4*M+P)/6", te
         ef = ws.cell(r, cols["Early finish"]).value
-        assert sorted(refs(ef)) == sorted([(cols["Early start"], r),
-                                           (cols["Expected time TE"], r)]), ef
+        assert sorted(refs(ef)) == sorted(
+            [(cols["Early start"], r), (cols["Expected time TE"], r)]
+        ), ef
 
 
 @pytest.mark.parametrize("key", ["warehouse", "clinic", "typed", "weeks"])
@@ -545,14 +568,21 @@ def test_cached_activity_values_match_an_independent_cpm(made, key):
     te = np.array([value(i, "Expected time TE") for i in ids], dtype=float)
     for ident in ids:
         o, m, p = (value(ident, h) for h in ("Optimistic", "Most likely", "Pessimistic"))
-        assert math.isclose(value(ident, "Expected time TE"), (o + 4 * m + p) / 6,
-                            rel_tol=1e-12, abs_tol=1e-12), ident
-        assert math.isclose(value(ident, "Variance"), ((p - o) / 6) ** 2,
-                            rel_tol=1e-12, abs_tol=1e-12), ident
+        assert math.isclose(
+            value(ident, "Expected time TE"), (o + 4 * m + p) / 6, rel_tol=1e-12, abs_tol=1e-12
+        ), ident
+        assert math.isclose(
+            value(ident, "Variance"), ((p - o) / 6) ** 2, rel_tol=1e-12, abs_tol=1e-12
+        ), ident
     links = c.data["links"]  # the links as read from the input (IDs, type, lag)
     es, ls, finish = reference_cpm(
-        len(ids), [index[lk["from"]] for lk in links], [index[lk["to"]] for lk in links],
-        [LINK_CODES[lk["type"]] for lk in links], [lk["lag"] for lk in links], te)
+        len(ids),
+        [index[lk["from"]] for lk in links],
+        [index[lk["to"]] for lk in links],
+        [LINK_CODES[lk["type"]] for lk in links],
+        [lk["lag"] for lk in links],
+        te,
+    )
     close = lambda a, b: math.isclose(a, b, rel_tol=1e-9, abs_tol=1e-9)  # noqa: E731
     for i, ident in enumerate(ids):
         assert close(value(ident, "Early start"), es[i]), (ident, "ES")
@@ -605,20 +635,33 @@ def charts_by_sheet(xlsx: Path) -> dict[str, list[dict]]:
                 for chart in _rels(z, drawing).values():
                     root = ET.fromstring(z.read(chart))
                     plot = root.find(f"{C}chart/{C}plotArea")
-                    kinds = [e.tag[len(C):] for e in plot if e.tag.endswith("Chart")]
+                    kinds = [e.tag[len(C) :] for e in plot if e.tag.endswith("Chart")]
                     title = root.find(f"{C}chart/{C}title")
                     text = "".join(t.text or "" for t in title.iter(A + "t")) if title else ""
-                    out.setdefault(sheet.get("name"), []).append({
-                        "part": chart, "kinds": kinds, "title": text,
-                        "bar_dir": [e.get("val") for e in plot.iter(C + "barDir")],
-                        "grouping": [e.get("val") for e in plot.iter(C + "grouping")],
-                        "values": [f.text for tag in ("val", "yVal") for v in plot.iter(C + tag)
-                                   for f in v.iter(C + "f")],
-                        "series": {_series_name(ser): [f.text for tag in ("val", "yVal")
-                                                       for v in ser.iter(C + tag)
-                                                       for f in v.iter(C + "f")]
-                                   for ser in plot.iter(C + "ser")},
-                    })
+                    out.setdefault(sheet.get("name"), []).append(
+                        {
+                            "part": chart,
+                            "kinds": kinds,
+                            "title": text,
+                            "bar_dir": [e.get("val") for e in plot.iter(C + "barDir")],
+                            "grouping": [e.get("val") for e in plot.iter(C + "grouping")],
+                            "values": [
+                                f.text
+                                for tag in ("val", "yVal")
+                                for v in plot.iter(C + tag)
+                                for f in v.iter(C + "f")
+                            ],
+                            "series": {
+                                _series_name(ser): [
+                                    f.text
+                                    for tag in ("val", "yVal")
+                                    for v in ser.iter(C + tag)
+                                    for f in v.iter(C + "f")
+                                ]
+                                for ser in plot.iter(C + "ser")
+                            },
+                        }
+                    )
     return out
 
 
@@ -658,8 +701,10 @@ def test_charts_present_with_data(made):
                 vals = range_numbers(cached, ref)
                 # numbers; a date cell (the timeline's start dates) is a serial number too,
                 # which openpyxl reads as a datetime
-                assert vals and all(isinstance(v, (int, float, dt.datetime)) for v in vals), \
-                    (ch["title"], ref)
+                assert vals and all(isinstance(v, (int, float, dt.datetime)) for v in vals), (
+                    ch["title"],
+                    ref,
+                )
     # the histogram's counts add up to the iterations
     counts = range_numbers(cached, histogram[0]["series"]["Iterations"][0])
     assert sum(counts) == c.data["simulation"]["iterations"] == ITERATIONS
@@ -715,8 +760,9 @@ def test_different_seed_different_simulated_figures(tmp_path):
     assert (s1["seed"], s2["seed"]) == (1, 2)
     assert s1["mean"] != s2["mean"] and s1["sd"] != s2["sd"]
     assert s1["percentiles"] != s2["percentiles"]
-    assert [a["sensitivity"] for a in one.data["activities"]] != \
-        [a["sensitivity"] for a in two.data["activities"]]
+    assert [a["sensitivity"] for a in one.data["activities"]] != [
+        a["sensitivity"] for a in two.data["activities"]
+    ]
     # the analytic side does not depend on the seed
     assert one.data["project"] == two.data["project"]
     assert one.data["paths"] == two.data["paths"]
@@ -728,8 +774,9 @@ def test_large_schedule_timeline_charts_only_some_and_says_so(made):
     assert c.data["activity_count"] == BIG_N
     ws = c.wb()["Timeline"]
     note = ws["A2"].value
-    charted = [ws.cell(r, 1).value for r in range(5, ws.max_row + 1)
-               if ws.cell(r, 1).value is not None]
+    charted = [
+        ws.cell(r, 1).value for r in range(5, ws.max_row + 1) if ws.cell(r, 1).value is not None
+    ]
     cached = c.wb(data_only=True)["Timeline"]
     charted_ids = [cached.cell(r, 1).value for r in range(5, 5 + len(charted))]
     assert 0 < len(charted) < BIG_N
@@ -751,8 +798,11 @@ def test_large_schedule_timeline_charts_only_some_and_says_so(made):
 def test_small_schedule_timeline_charts_every_activity(made):
     c = made("clinic")
     cached = c.wb(data_only=True)["Timeline"]
-    ids = [cached.cell(r, 1).value for r in range(5, cached.max_row + 1)
-           if cached.cell(r, 1).value is not None]
+    ids = [
+        cached.cell(r, 1).value
+        for r in range(5, cached.max_row + 1)
+        if cached.cell(r, 1).value is not None
+    ]
     assert sorted(ids) == sorted(a["id"] for a in c.data["activities"])
     assert "only the" not in (cached["A2"].value or "")
 
@@ -778,8 +828,9 @@ def test_simulation_sheet_states_the_run_and_merge_bias_formula(made, key):
     assert math.isclose(cached.cell(mean_row, 2).value, sim["mean"], rel_tol=1e-12)
     got = cached[bias.coordinate].value
     assert math.isclose(got, sim["merge_bias"], rel_tol=1e-9, abs_tol=1e-12)
-    assert math.isclose(got, sim["mean"] - c.data["project"]["expected_duration"],
-                        rel_tol=1e-9, abs_tol=1e-12)
+    assert math.isclose(
+        got, sim["mean"] - c.data["project"]["expected_duration"], rel_tol=1e-9, abs_tol=1e-12
+    )
 
 
 def _rerun_reproduce_command(c: Converted, outdir: Path) -> dict:
@@ -798,14 +849,17 @@ def test_reproduce_command_reproduces_the_simulation(made, tmp_path, capsys, key
     assert again["simulation"] == c.data["simulation"]
 
 
-@pytest.mark.parametrize("sample, options", [
-    ("clinic-it-rollout.xlsx", {"due": 80.0}),  # calendar schedule, due as a duration
-    ("clinic-it-rollout.xlsx", {"due": "2027-06-30"}),  # calendar schedule, due as a date
-    ("boiler-shutdown.csv", {"start_date": "2027-05-03", "due": "2027-05-20"}),
-    ("warehouse-fitout.xlsx", {"due": 45.123456}),  # no calendar: digits lost
-], ids=["due-number-calendar", "due-date", "csv-start-and-due", "due-digits"])
-def test_reproduce_command_keeps_command_line_settings(tmp_path, capsys, sample,
-                                                      options):
+@pytest.mark.parametrize(
+    "sample, options",
+    [
+        ("clinic-it-rollout.xlsx", {"due": 80.0}),  # calendar schedule, due as a duration
+        ("clinic-it-rollout.xlsx", {"due": "2027-06-30"}),  # calendar schedule, due as a date
+        ("boiler-shutdown.csv", {"start_date": "2027-05-03", "due": "2027-05-20"}),
+        ("warehouse-fitout.xlsx", {"due": 45.123456}),  # no calendar: digits lost
+    ],
+    ids=["due-number-calendar", "due-date", "csv-start-and-due", "due-digits"],
+)
+def test_reproduce_command_keeps_command_line_settings(tmp_path, capsys, sample, options):
     c = run_convert(SAMPLES / sample, tmp_path / "one", **options)
     again = _rerun_reproduce_command(c, tmp_path / "two")
     assert again["project"]["due"] == c.data["project"]["due"]
@@ -841,8 +895,7 @@ def test_path_lengths_recalculate_to_the_json_path_means(made, recalculated, key
         assert used == {rows[0], rows[-1]}, (f, rows)
         assert [ws.cell(r, 3).value for r in rows] == path["activities"]
         assert math.isclose(lo.cell(row, 2).value, path["mean"], rel_tol=1e-9)
-        assert math.isclose(lo.cell(row, 3).value, path["variance"], rel_tol=1e-9,
-                            abs_tol=1e-12)
+        assert math.isclose(lo.cell(row, 3).value, path["variance"], rel_tol=1e-9, abs_tol=1e-12)
 
 
 def test_shorter_but_wider_path_is_flagged_riskier(made):
@@ -875,8 +928,11 @@ def test_no_path_flagged_when_the_critical_path_is_also_the_riskiest(made):
     c = made("warehouse-due45")
     due = c.data["project"]["due"]
     p_crit = norm.cdf((due - c.data["paths"][0]["mean"]) / c.data["paths"][0]["sd"])
-    want = [k + 1 for k, p in enumerate(c.data["paths"]) if k and p["sd"] > 0
-            and norm.cdf((due - p["mean"]) / p["sd"]) < p_crit - 1e-12]
+    want = [
+        k + 1
+        for k, p in enumerate(c.data["paths"])
+        if k and p["sd"] > 0 and norm.cdf((due - p["mean"]) / p["sd"]) < p_crit - 1e-12
+    ]
     summary = c.wb()["Summary"]
     labels = [row[0].value for row in summary.iter_rows(min_col=1, max_col=1)]
     if want:
@@ -916,8 +972,7 @@ def test_edge_calendar_and_zero_spread_by_hand(made):
     zero = made("zero-spread")
     project = zero.data["project"]
     assert project["sd"] == 0 and project["z"] is None
-    assert project["p_meet_due"] == (1.0 if project["due"] >= project["expected_duration"]
-                                     else 0.0)
+    assert project["p_meet_due"] == (1.0 if project["due"] >= project["expected_duration"] else 0.0)
     summary = zero.wb(data_only=True)["Summary"]
     assert label_cell(summary, "z =").value == "n/a"
 
@@ -943,8 +998,12 @@ def test_very_wide_merge_uses_a_conditional_formula_that_recalculates(tmp_path, 
     ws = openpyxl.load_workbook(result.workbook)["Activities"]
     es = ws.cell(5 + n, 9).value  # FAN*IN?'s early start (row 5 + 900, column I)
     assert es.startswith("=MAX(0,_xlfn.MAXIFS(Links!"), es
-    assert all(len(c.value) <= 8192 for row in ws.iter_rows() for c in row
-               if isinstance(c.value, str) and c.value.startswith("="))
+    assert all(
+        len(c.value) <= 8192
+        for row in ws.iter_rows()
+        for c in row
+        if isinstance(c.value, str) and c.value.startswith("=")
+    )
     copy = libreoffice.recalculate(result.workbook, tmp_path / "re")
     report = compare_recalculated(result.workbook, copy)
     assert report.compared > 5000

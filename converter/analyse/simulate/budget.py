@@ -68,8 +68,7 @@ class SimulationMemoryError(ValueError):
     schedule itself is too large for the budget); ``needed_mb`` what the run would need.
     """
 
-    def __init__(self, message: str, *, largest_iterations: int, needed_mb: int,
-                 budget_mb: int):
+    def __init__(self, message: str, *, largest_iterations: int, needed_mb: int, budget_mb: int):
         super().__init__(message)
         self.largest_iterations = largest_iterations
         self.needed_mb = needed_mb
@@ -109,8 +108,9 @@ def chunk_bytes(n: int, cols: int, group: int = 0) -> int:
     return 12 * n * cols + 56 * n * cols_pass + 64 * group * cols
 
 
-def run_bytes(n: int, iterations: int, sample: int, workers: int, cols: int,
-              group: int = 0, runs: int = 1) -> int:
+def run_bytes(
+    n: int, iterations: int, sample: int, workers: int, cols: int, group: int = 0, runs: int = 1
+) -> int:
     """Estimated peak memory of a run (bytes), see the module docstring.
 
     Parameters
@@ -149,8 +149,7 @@ def _largest_sample(n, iterations, workers, cols, group, runs, budget) -> int:
     return max(0, min(iterations, (budget - base) // per))
 
 
-def largest_iterations(n: int, group: int = 0, runs: int = 1,
-                       memory_mb: int | None = None) -> int:
+def largest_iterations(n: int, group: int = 0, runs: int = 1, memory_mb: int | None = None) -> int:
     """The largest iteration count a run of ``n`` activities can have within the budget.
 
     In one process, the sensitivities from :data:`MIN_SENSITIVITY_ITERATIONS` iterations
@@ -184,8 +183,15 @@ def budget_bytes(memory_mb: int | None) -> int:
     return mb * _MB
 
 
-def plan_memory(n: int, iterations: int, workers: int, cols: int, group: int = 0,
-                runs: int = 1, memory_mb: int | None = None) -> MemoryPlan:
+def plan_memory(
+    n: int,
+    iterations: int,
+    workers: int,
+    cols: int,
+    group: int = 0,
+    runs: int = 1,
+    memory_mb: int | None = None,
+) -> MemoryPlan:
     """Worker processes and kept iterations for a run within the budget.
 
     Every iteration is kept when that fits with ``workers`` processes or fewer (the
@@ -217,19 +223,23 @@ def plan_memory(n: int, iterations: int, workers: int, cols: int, group: int = 0
         count, sample = 1, single
     if sample < min(iterations, MIN_SENSITIVITY_ITERATIONS):
         largest = largest_iterations(n, group, runs, memory_mb)
-        need = run_bytes(*args, min(iterations, MIN_SENSITIVITY_ITERATIONS), 1, cols,
-                         group, runs)
+        need = run_bytes(*args, min(iterations, MIN_SENSITIVITY_ITERATIONS), 1, cols, group, runs)
         raise SimulationMemoryError(
             refusal_text(n, iterations, largest, -(-need // _MB), budget // _MB),
-            largest_iterations=largest, needed_mb=-(-need // _MB), budget_mb=budget // _MB)
+            largest_iterations=largest,
+            needed_mb=-(-need // _MB),
+            budget_mb=budget // _MB,
+        )
     needed = run_bytes(*args, sample, count, cols, group, runs)
     return MemoryPlan(iterations, int(sample), count, budget, needed)
 
 
 def refusal_text(n: int, iterations: int, largest: int, needed_mb: int, budget_mb: int) -> str:
     """Why a run was refused, and the largest iteration count that fits."""
-    head = (f"the simulation of {n:,} activities x {iterations:,} iterations needs about "
-            f"{needed_mb:,} MB, more than its memory budget of {budget_mb:,} MB")
+    head = (
+        f"the simulation of {n:,} activities x {iterations:,} iterations needs about "
+        f"{needed_mb:,} MB, more than its memory budget of {budget_mb:,} MB"
+    )
     if largest >= 2:
         return f"{head}; at most {largest:,} iterations fit"
     return f"{head}; no iteration count fits this many activities"
@@ -271,8 +281,15 @@ def memory_problem(schedule, memory_mb: int | None = None) -> Problem | None:
     group = max((v for v in members.values() if v > 1), default=0)
     correlated = float(s.correlation) > 0.0 and group > 0
     try:
-        plan_memory(n, iterations, 1, chunk_size(n, iterations), group if correlated else 0,
-                    2 if correlated else 1, memory_mb)
+        plan_memory(
+            n,
+            iterations,
+            1,
+            chunk_size(n, iterations),
+            group if correlated else 0,
+            2 if correlated else 1,
+            memory_mb,
+        )
     except SimulationMemoryError as exc:
         return refusal_problem(exc, s.source_of("iterations"))
     return None
@@ -286,12 +303,16 @@ def refusal_problem(exc: SimulationMemoryError, source: str = "default") -> Prob
     """
     sheet = cell = None
     if source.startswith("settings sheet (") and "!" in source:
-        sheet, cell = source[len("settings sheet ("):-1].rsplit("!", 1)
+        sheet, cell = source[len("settings sheet (") : -1].rsplit("!", 1)
     if exc.largest_iterations >= 2:
         where = "--iterations" if source == "command line" else "Iterations"
-        fix = (f"Set {where} to {exc.largest_iterations:,} or fewer, or raise the simulation "
-               f"memory budget (now {exc.budget_mb:,} MB) to about {exc.needed_mb:,} MB.")
+        fix = (
+            f"Set {where} to {exc.largest_iterations:,} or fewer, or raise the simulation "
+            f"memory budget (now {exc.budget_mb:,} MB) to about {exc.needed_mb:,} MB."
+        )
     else:
-        fix = (f"Raise the simulation memory budget to about {exc.needed_mb:,} MB, or turn "
-               "the simulation off (--no-simulation).")
+        fix = (
+            f"Raise the simulation memory budget to about {exc.needed_mb:,} MB, or turn "
+            "the simulation off (--no-simulation)."
+        )
     return Problem(ERROR, "simulation-memory", str(exc), sheet=sheet, cell=cell, fix=fix)

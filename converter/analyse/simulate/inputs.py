@@ -32,8 +32,7 @@ class Inputs:
 
     def chunks(self) -> list[tuple[int, int]]:
         return [
-            (a, min(a + self.chunk, self.iterations))
-            for a in range(0, self.iterations, self.chunk)
+            (a, min(a + self.chunk, self.iterations)) for a in range(0, self.iterations, self.chunk)
         ]
 
 
@@ -62,8 +61,14 @@ def prepare(o, m, p, distribution, distributions, groups, iterations, seed) -> I
     codes = kind_codes([d if d is not None else distribution for d in distributions], n)
     iterations = int(iterations)
     return Inputs(
-        o=o, m=m, p=p, codes=codes, groups=_group_members(groups, o < p),
-        iterations=iterations, seed=int(seed), chunk=chunk_size(n, iterations),
+        o=o,
+        m=m,
+        p=p,
+        codes=codes,
+        groups=_group_members(groups, o < p),
+        iterations=iterations,
+        seed=int(seed),
+        chunk=chunk_size(n, iterations),
     )
 
 

@@ -115,9 +115,7 @@ def spearman_block(x: np.ndarray, centred_y: np.ndarray, syy: float) -> np.ndarr
     return out
 
 
-def spearman_rows(
-    samples: np.ndarray, y: np.ndarray, rows: np.ndarray | None = None
-) -> np.ndarray:
+def spearman_rows(samples: np.ndarray, y: np.ndarray, rows: np.ndarray | None = None) -> np.ndarray:
     """Spearman rank correlation of each row of ``samples`` with ``y``.
 
     Spearman's rho is Pearson's correlation of the average ranks (ties share the mean

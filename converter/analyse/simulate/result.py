@@ -11,7 +11,19 @@ from converter.analyse.simulate.budget import sensitivity_std_error
 
 #: Percentile keys reported in :attr:`SimulationResult.percentiles`.
 PERCENTILE_KEYS: tuple[float, ...] = (
-    0.01, 0.05, 0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7, 0.8, 0.9, 0.95, 0.99,
+    0.01,
+    0.05,
+    0.1,
+    0.2,
+    0.3,
+    0.4,
+    0.5,
+    0.6,
+    0.7,
+    0.8,
+    0.9,
+    0.95,
+    0.99,
 )
 
 
@@ -74,11 +86,20 @@ class Counts:
             self.hits[i] += h
 
 
-
-def summarise(project: np.ndarray, counts: Counts, sensitivity: np.ndarray, *, iterations,
-              seed, distribution, correlation, due, pert_mean,
-              sensitivity_iterations: int = 0, memory_budget_mb: int = 0
-              ) -> SimulationResult:
+def summarise(
+    project: np.ndarray,
+    counts: Counts,
+    sensitivity: np.ndarray,
+    *,
+    iterations,
+    seed,
+    distribution,
+    correlation,
+    due,
+    pert_mean,
+    sensitivity_iterations: int = 0,
+    memory_budget_mb: int = 0,
+) -> SimulationResult:
     """The result of a run from its project durations, counts and sensitivities."""
     y = project
     count = y.size

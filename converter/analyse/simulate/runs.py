@@ -63,8 +63,7 @@ from converter.analyse.simulate.result import (
 from converter.analyse.simulate.sampling import sample_durations
 from converter.model import DEFAULT_ITERATIONS, DEFAULT_SEED, DISTRIBUTIONS
 
-__all__ = ["PERCENTILE_KEYS", "SimulationResult", "draw_samples", "simulate",
-           "simulate_durations"]
+__all__ = ["PERCENTILE_KEYS", "SimulationResult", "draw_samples", "simulate", "simulate_durations"]
 
 
 def _rng(seed: int, stream: int, chunk: int) -> np.random.Generator:
@@ -83,14 +82,21 @@ def _correlate_chunk(inp: Inputs, j: int, d: np.ndarray, rho: float) -> None:
 
 
 def draw_samples(
-    optimistic, most_likely, pessimistic, *, distribution: str = "pert",
+    optimistic,
+    most_likely,
+    pessimistic,
+    *,
+    distribution: str = "pert",
     distributions: Sequence[str | None] | None = None,
-    groups: Sequence[str | None] | None = None, correlation: float = 0.0,
-    iterations: int = DEFAULT_ITERATIONS, seed: int = DEFAULT_SEED,
+    groups: Sequence[str | None] | None = None,
+    correlation: float = 0.0,
+    iterations: int = DEFAULT_ITERATIONS,
+    seed: int = DEFAULT_SEED,
 ) -> np.ndarray:
     """The ``(n, iterations)`` float32 durations :func:`simulate` uses for these inputs."""
-    inp = prepare(optimistic, most_likely, pessimistic, distribution, distributions, groups,
-                   iterations, seed)
+    inp = prepare(
+        optimistic, most_likely, pessimistic, distribution, distributions, groups, iterations, seed
+    )
     check_correlation(correlation)
     store = np.empty((inp.n, inp.iterations), dtype=np.float32)
     for j, (a, b) in enumerate(inp.chunks()):
@@ -130,9 +136,11 @@ class _Passes:
         if self._work is None or self._work[0].shape[1] < cols:
             n = self.n
             self._work = None
-            self._work = (processes.mapped((2 * n, cols), float),
-                          processes.mapped((2 * n, cols), float),
-                          processes.mapped((n, cols), bool))
+            self._work = (
+                processes.mapped((2 * n, cols), float),
+                processes.mapped((2 * n, cols), float),
+                processes.mapped((n, cols), bool),
+            )
         return tuple(w[:, :cols] for w in self._work)
 
     def run(self, d: np.ndarray) -> tuple[np.ndarray, np.ndarray, dict[int, int]]:
@@ -152,8 +160,9 @@ class _Passes:
             critical += self._block(d[:, c0:c1], nonneg, finish[c0:c1], hits)
         return finish, critical, hits
 
-    def _block(self, d: np.ndarray, nonneg: bool, finish: np.ndarray,
-               hits: dict[int, int]) -> np.ndarray:
+    def _block(
+        self, d: np.ndarray, nonneg: bool, finish: np.ndarray, hits: dict[int, int]
+    ) -> np.ndarray:
         """Both passes on the columns of ``d``: their finish into ``finish``, target hits
         added to ``hits``; returns the critical count per activity."""
         n, cols = d.shape
@@ -259,9 +268,15 @@ def _run_parallel(workers, job: _Job, correlate: bool, tick) -> tuple[Counts, np
 
 
 def simulate_durations(
-    net: Network, durations: np.ndarray, *, due: float | None = None,
-    targets: dict[int, float] | None = None, pert_mean: float = math.nan,
-    seed: int = 0, distribution: str = "given", correlation: float = 0.0,
+    net: Network,
+    durations: np.ndarray,
+    *,
+    due: float | None = None,
+    targets: dict[int, float] | None = None,
+    pert_mean: float = math.nan,
+    seed: int = 0,
+    distribution: str = "given",
+    correlation: float = 0.0,
     progress: Callable[[int, int], None] | None = None,
 ) -> SimulationResult:
     """Analyse a given ``(n, iterations)`` matrix of durations as a simulation would.
@@ -286,9 +301,17 @@ def simulate_durations(
         if progress is not None:
             progress(b, iterations)
     sensitivity = spearman_rows(durations, project)
-    return summarise(project, counts, sensitivity, iterations=iterations, seed=seed,
-                    distribution=distribution, correlation=correlation, due=due,
-                    pert_mean=pert_mean)
+    return summarise(
+        project,
+        counts,
+        sensitivity,
+        iterations=iterations,
+        seed=seed,
+        distribution=distribution,
+        correlation=correlation,
+        due=due,
+        pert_mean=pert_mean,
+    )
 
 
 def _run_name(inp: Inputs, default: str) -> str:
@@ -319,12 +342,22 @@ def _durations(job: _Job, last: bool) -> np.ndarray:
 
 
 def simulate(
-    net: Network, optimistic, most_likely, pessimistic, *, distribution: str = "pert",
+    net: Network,
+    optimistic,
+    most_likely,
+    pessimistic,
+    *,
+    distribution: str = "pert",
     distributions: Sequence[str | None] | None = None,
-    groups: Sequence[str | None] | None = None, correlation: float = 0.0,
-    iterations: int = DEFAULT_ITERATIONS, seed: int = DEFAULT_SEED, due: float | None = None,
-    targets: dict[int, float] | None = None, pert_mean: float = math.nan,
-    progress: Callable[[int, int], None] | None = None, workers: int | None = None,
+    groups: Sequence[str | None] | None = None,
+    correlation: float = 0.0,
+    iterations: int = DEFAULT_ITERATIONS,
+    seed: int = DEFAULT_SEED,
+    due: float | None = None,
+    targets: dict[int, float] | None = None,
+    pert_mean: float = math.nan,
+    progress: Callable[[int, int], None] | None = None,
+    workers: int | None = None,
     memory_mb: int | None = None,
 ) -> SimulationResult:
     """Monte Carlo simulation of the network's project duration (see module docstring).
@@ -392,8 +425,9 @@ def simulate(
     >>> float(r.criticality[0]), bool(r.criticality[2] > 0.8), r.mean > 6.0
     (1.0, True, True)
     """
-    inp = prepare(optimistic, most_likely, pessimistic, distribution, distributions, groups,
-                   iterations, seed)
+    inp = prepare(
+        optimistic, most_likely, pessimistic, distribution, distributions, groups, iterations, seed
+    )
     check_correlation(correlation)
     if inp.n != net.n:
         raise ValueError("one estimate per network activity is needed")
@@ -408,17 +442,22 @@ def simulate(
 
     count = processes.worker_count(workers, inp.n * inp.iterations, len(inp.chunks()))
     group = max((g.size for g in inp.groups), default=0) if correlated else 0
-    plan = plan_memory(inp.n, inp.iterations, count, inp.chunk, group, 1 + correlated,
-                       memory_mb)
+    plan = plan_memory(inp.n, inp.iterations, count, inp.chunk, group, 1 + correlated, memory_mb)
     try:
         results = _run(net, inp, plan, targets, float(correlation), tick)
     except (MemoryError, OSError) as exc:
         if isinstance(exc, OSError) and exc.errno != errno.ENOMEM:
             raise
         raise _out_of_memory(inp, plan) from None
-    common = dict(iterations=inp.iterations, seed=inp.seed, due=due, pert_mean=pert_mean,
-                  distribution=_run_name(inp, distribution),
-                  sensitivity_iterations=plan.sample, memory_budget_mb=plan.budget >> 20)
+    common = dict(
+        iterations=inp.iterations,
+        seed=inp.seed,
+        due=due,
+        pert_mean=pert_mean,
+        distribution=_run_name(inp, distribution),
+        sensitivity_iterations=plan.sample,
+        memory_budget_mb=plan.budget >> 20,
+    )
     first = summarise(*results[0], correlation=0.0, **common)
     if not correlated:
         return first
@@ -444,4 +483,7 @@ def _out_of_memory(inp: Inputs, plan: MemoryPlan) -> SimulationMemoryError:
     return SimulationMemoryError(
         f"the machine ran out of memory for the simulation of {inp.n:,} activities x "
         f"{inp.iterations:,} iterations (its budget is {mb:,} MB; less is free)",
-        largest_iterations=0, needed_mb=-(-plan.needed // (1 << 20)), budget_mb=mb)
+        largest_iterations=0,
+        needed_mb=-(-plan.needed // (1 << 20)),
+        budget_mb=mb,
+    )

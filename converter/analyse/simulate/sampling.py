@@ -38,8 +38,9 @@ def kind_codes(kinds, n: int) -> np.ndarray:
         if any(isinstance(k, str) and k not in KIND_CODES for k in kinds):
             bad = next(k for k in kinds if isinstance(k, str) and k not in KIND_CODES)
             raise ValueError(f"unknown distribution {bad!r} (use one of {DISTRIBUTIONS})")
-        out = np.array([KIND_CODES[k] if isinstance(k, str) else int(k) for k in kinds],
-                       dtype=np.int8)
+        out = np.array(
+            [KIND_CODES[k] if isinstance(k, str) else int(k) for k in kinds], dtype=np.int8
+        )
     if out.size != n:
         raise ValueError("one distribution per activity is needed")
     if out.size and (out.min() < 0 or out.max() > UNIFORM):
@@ -167,8 +168,16 @@ def beta_cheng(rng: np.random.Generator, alpha, beta, size: int) -> np.ndarray:
     alpha = np.asarray(alpha, dtype=float).reshape(-1)
     beta = np.asarray(beta, dtype=float).reshape(-1)
     out = np.empty((alpha.size, size))
-    _beta_into(rng, alpha, beta, np.zeros(alpha.size), np.ones(alpha.size), size, out,
-               np.arange(alpha.size))
+    _beta_into(
+        rng,
+        alpha,
+        beta,
+        np.zeros(alpha.size),
+        np.ones(alpha.size),
+        size,
+        out,
+        np.arange(alpha.size),
+    )
     return out
 
 

@@ -53,7 +53,6 @@ class _PreparedFormulaSheet(xlsxwriter.worksheet.Worksheet):
             formula = formula[:-1]
         return formula
 
-
     def _write_string(self, row, col, string, cell_format=None):
         """Also give a row holding larger text (a title) room for one line of it, unless
         the sheet sets that row's height itself (later, or already)."""
@@ -82,18 +81,24 @@ def write_workbook(analysis, path: str | Path) -> None:
             "nan_inf_to_errors": True,
             # one font everywhere, not the theme's (scheme "none"): see rows.FONT_NAME;
             # every value at the top of its row, beside the first line of a tall neighbour
-            "default_format_properties": {"font_name": FONT_NAME, "font_size": DEFAULT_FONT_SIZE,
-                                          "font_scheme": "none", "valign": "top"},
+            "default_format_properties": {
+                "font_name": FONT_NAME,
+                "font_size": DEFAULT_FONT_SIZE,
+                "font_scheme": "none",
+                "valign": "top",
+            },
             "default_row_height": DEFAULT_ROW_PIXELS,  # one line of that font
         },
     )
-    wb.set_properties({
-        "title": f"Schedule risk analysis of {Path(analysis.schedule.input_file).name}",
-        "subject": "CPM / PERT / Monte Carlo schedule risk analysis",
-        "author": "pertbook",
-        "created": DOCUMENT_DATE,
-        "comments": f"Input SHA-256 {analysis.schedule.sha256}",
-    })
+    wb.set_properties(
+        {
+            "title": f"Schedule risk analysis of {Path(analysis.schedule.input_file).name}",
+            "subject": "CPM / PERT / Monte Carlo schedule risk analysis",
+            "author": "pertbook",
+            "created": DOCUMENT_DATE,
+            "comments": f"Input SHA-256 {analysis.schedule.sha256}",
+        }
+    )
     wb.set_calc_mode("auto")
     fmt = Formats(wb)
     lay = Layout(

@@ -18,12 +18,25 @@ from converter.write.workbook.rows import DEFAULT_ROW_HEIGHT, fit_row, merged_wi
 from converter.write.workbook.styles import TABLE_HEAD_SIZE, TITLE_ROW
 
 HEADERS = {
-    "id": "ID", "name": "Description", "pred": "Predecessors (as given)",
-    "o": "Optimistic", "m": "Most likely", "p": "Pessimistic",
-    "te": "Expected time TE", "var": "Variance", "es": "Early start", "ef": "Early finish",
-    "ls": "Late start", "lf": "Late finish", "tf": "Total float", "ff": "Free float",
-    "crit": "Critical", "es_date": "Early start date", "ef_date": "Early finish date",
-    "ls_date": "Late start date", "lf_date": "Late finish date",
+    "id": "ID",
+    "name": "Description",
+    "pred": "Predecessors (as given)",
+    "o": "Optimistic",
+    "m": "Most likely",
+    "p": "Pessimistic",
+    "te": "Expected time TE",
+    "var": "Variance",
+    "es": "Early start",
+    "ef": "Early finish",
+    "ls": "Late start",
+    "lf": "Late finish",
+    "tf": "Total float",
+    "ff": "Free float",
+    "crit": "Critical",
+    "es_date": "Early start date",
+    "ef_date": "Early finish date",
+    "ls_date": "Late start date",
+    "lf_date": "Late finish date",
     "criticality": "Criticality index (simulated)",
     "sensitivity": "Sensitivity (simulated rank correlation)",
 }
@@ -50,13 +63,27 @@ def incoming_outgoing(net) -> tuple[list[list[int]], list[list[int]]]:
 
 
 #: Column widths in characters; every other column is a number 8.5 wide.
-WIDTHS = {"id": 9.0, "name": 26.0, "pred": 12.0, "o": 9.5, "m": 9.5, "p": 9.5, "crit": 8.0,
-          "es_date": 10.5, "ef_date": 10.5, "ls_date": 10.5, "lf_date": 10.5,
-          "criticality": 10.0, "sensitivity": 11.0}
+WIDTHS = {
+    "id": 9.0,
+    "name": 26.0,
+    "pred": 12.0,
+    "o": 9.5,
+    "m": 9.5,
+    "p": 9.5,
+    "crit": 8.0,
+    "es_date": 10.5,
+    "ef_date": 10.5,
+    "ls_date": 10.5,
+    "lf_date": 10.5,
+    "criticality": 10.0,
+    "sensitivity": 11.0,
+}
 NUMBER_WIDTH = 8.5
-INTRO = ("Shaded columns are the estimates as read; every other figure is a formula. Early "
-         "start = MAX over what the incoming links allow; late finish = MIN over what the "
-         "outgoing links allow (see the Links sheet).")
+INTRO = (
+    "Shaded columns are the estimates as read; every other figure is a formula. Early "
+    "start = MAX over what the incoming links allow; late finish = MIN over what the "
+    "outgoing links allow (see the Links sheet)."
+)
 
 
 def _table_head(ws, fmt, lay: Layout) -> None:
@@ -72,7 +99,7 @@ def _table_head(ws, fmt, lay: Layout) -> None:
     ws.merge_range(1, 0, 1, c["name"], "The passes and float, as formulas", fmt.subtitle)
     last = c["lf"]
     ws.merge_range(1, c["pred"], 2, last, INTRO, fmt.subtitle_wrap)
-    need = row_height([(INTRO, merged_width(_width(k) for k in list(c)[c["pred"]:last + 1]))])
+    need = row_height([(INTRO, merged_width(_width(k) for k in list(c)[c["pred"] : last + 1]))])
     ws.set_row(2, max(DEFAULT_ROW_HEIGHT, need - DEFAULT_ROW_HEIGHT))
     heads = []
     for key, col in c.items():
@@ -107,46 +134,85 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
         ws.write_string(r, c["id"], act.id, fmt.wrap)
         ws.write_string(r, c["name"], act.name, fmt.wrap)
         ws.write_string(r, c["pred"], raw_preds[i], fmt.wrap)
-        fit_row(ws, r, [(act.id, WIDTHS["id"]), (act.name, WIDTHS["name"]),
-                        (raw_preds[i], WIDTHS["pred"])])
+        fit_row(
+            ws,
+            r,
+            [(act.id, WIDTHS["id"]), (act.name, WIDTHS["name"]), (raw_preds[i], WIDTHS["pred"])],
+        )
         ws.write_number(r, c["o"], act.optimistic, fmt.input_num)
         ws.write_number(r, c["m"], act.most_likely, fmt.input_num)
         ws.write_number(r, c["p"], act.pessimistic, fmt.input_num)
         o, m, p = lay.cell(i, "o"), lay.cell(i, "m"), lay.cell(i, "p")
         ws.write_formula(r, c["te"], f.expected_time(o, m, p), fmt.num, float(a.te[i]))
         ws.write_formula(r, c["var"], f.pert_variance(o, p), fmt.num4, float(a.var[i]))
-        pushes = [lay.cell(net.pred[k], "ef") if _plain(kinds[k], lags[k])
-                  else lay.link_cell(k, "push") for k in incoming[i]]
+        pushes = [
+            lay.cell(net.pred[k], "ef") if _plain(kinds[k], lags[k]) else lay.link_cell(k, "push")
+            for k in incoming[i]
+        ]
         es_formula = f.early_start(pushes)
         if not f.fits(es_formula):
-            es_formula = f.over_links("MAX", "0", f.MAXIFS, lay.link_column("push"),
-                                      lay.link_column("to"), lay.cell(i, "id"))
+            es_formula = f.over_links(
+                "MAX",
+                "0",
+                f.MAXIFS,
+                lay.link_column("push"),
+                lay.link_column("to"),
+                lay.cell(i, "id"),
+            )
         ws.write_formula(r, c["es"], es_formula, fmt.num, float(cpm.es[i]))
-        ws.write_formula(r, c["ef"], f.plus(lay.cell(i, "es"), lay.cell(i, "te")), fmt.num,
-                         float(cpm.ef[i]))
-        pulls = [lay.cell(net.succ[k], "ls") if _plain(kinds[k], lags[k])
-                 else lay.link_cell(k, "pull") for k in outgoing[i]]
+        ws.write_formula(
+            r, c["ef"], f.plus(lay.cell(i, "es"), lay.cell(i, "te")), fmt.num, float(cpm.ef[i])
+        )
+        pulls = [
+            lay.cell(net.succ[k], "ls") if _plain(kinds[k], lags[k]) else lay.link_cell(k, "pull")
+            for k in outgoing[i]
+        ]
         lf_formula = f.late_finish(pulls)
         if not f.fits(lf_formula):
-            lf_formula = f.over_links("MIN", "ProjectFinish", f.MINIFS, lay.link_column("pull"),
-                                      lay.link_column("from"), lay.cell(i, "id"))
+            lf_formula = f.over_links(
+                "MIN",
+                "ProjectFinish",
+                f.MINIFS,
+                lay.link_column("pull"),
+                lay.link_column("from"),
+                lay.cell(i, "id"),
+            )
         ws.write_formula(r, c["lf"], lf_formula, fmt.num, float(cpm.lf[i]))
-        ws.write_formula(r, c["ls"], f.minus(lay.cell(i, "lf"), lay.cell(i, "te")), fmt.num,
-                         float(cpm.ls[i]))
-        ws.write_formula(r, c["tf"], f.minus(lay.cell(i, "ls"), lay.cell(i, "es")), fmt.num,
-                         float(cpm.total_float[i]))
-        slacks = [f"{lay.cell(net.succ[k], 'es')}-{lay.cell(i, 'ef')}"
-                  if _plain(kinds[k], lags[k]) else lay.link_cell(k, "slack")
-                  for k in outgoing[i]]
+        ws.write_formula(
+            r, c["ls"], f.minus(lay.cell(i, "lf"), lay.cell(i, "te")), fmt.num, float(cpm.ls[i])
+        )
+        ws.write_formula(
+            r,
+            c["tf"],
+            f.minus(lay.cell(i, "ls"), lay.cell(i, "es")),
+            fmt.num,
+            float(cpm.total_float[i]),
+        )
+        slacks = [
+            f"{lay.cell(net.succ[k], 'es')}-{lay.cell(i, 'ef')}"
+            if _plain(kinds[k], lags[k])
+            else lay.link_cell(k, "slack")
+            for k in outgoing[i]
+        ]
         ff_formula = f.free_float(lay.cell(i, "ef"), slacks)
         if not f.fits(ff_formula):
-            ff_formula = f.over_links("MIN", f"ProjectFinish-{lay.cell(i, 'ef')}", f.MINIFS,
-                                      lay.link_column("slack"), lay.link_column("from"),
-                                      lay.cell(i, "id"))
+            ff_formula = f.over_links(
+                "MIN",
+                f"ProjectFinish-{lay.cell(i, 'ef')}",
+                f.MINIFS,
+                lay.link_column("slack"),
+                lay.link_column("from"),
+                lay.cell(i, "id"),
+            )
         ws.write_formula(r, c["ff"], ff_formula, fmt.num, float(cpm.free_float[i]))
         crit = "Yes" if cpm.critical[i] else "No"
-        ws.write_formula(r, c["crit"], f.is_critical(lay.cell(i, "tf")),
-                         fmt.critical if cpm.critical[i] else fmt.center, crit)
+        ws.write_formula(
+            r,
+            c["crit"],
+            f.is_critical(lay.cell(i, "tf")),
+            fmt.critical if cpm.critical[i] else fmt.center,
+            crit,
+        )
         if dates is not None:
             _write_dates(ws, fmt, lay, c, r, i, cal, dates, holidays)
         if sim is not None:
@@ -174,12 +240,22 @@ def _predecessor_text(a) -> list[str]:
     return [", ".join(x) for x in out]
 
 
-LINK_HEADERS = ["From", "To", "Type", "Lag (+) / lead (-)", "Driven start of successor",
-                "Slack on this link", "Latest finish allowed to predecessor", "Driving link"]
+LINK_HEADERS = [
+    "From",
+    "To",
+    "Type",
+    "Lag (+) / lead (-)",
+    "Driven start of successor",
+    "Slack on this link",
+    "Latest finish allowed to predecessor",
+    "Driving link",
+]
 LINK_WIDTHS = [10.0, 10.0, 7.0, 10.0, 14.0, 14.0, 14.0, 10.0]
-LINK_INTRO = ("FS: successor starts after predecessor finishes + lag. SS: starts after "
-              "predecessor starts + lag. FF: finishes after predecessor finishes + lag. SF: "
-              "finishes after predecessor starts + lag. A negative lag is a lead.")
+LINK_INTRO = (
+    "FS: successor starts after predecessor finishes + lag. SS: starts after "
+    "predecessor starts + lag. FF: finishes after predecessor finishes + lag. SF: "
+    "finishes after predecessor starts + lag. A negative lag is a lead."
+)
 
 
 def write_links(wb, fmt, a, lay: Layout) -> None:
@@ -192,8 +268,10 @@ def write_links(wb, fmt, a, lay: Layout) -> None:
         style = fmt.th if col < 3 else fmt.th_center
         ws.write_string(FIRST - 1, col, h, style)
         ws.set_column(col, col, width)
-    ws.set_row(FIRST - 1, row_height([(h, w, TABLE_HEAD_SIZE, True)
-                                      for h, w in zip(LINK_HEADERS, LINK_WIDTHS)]))
+    ws.set_row(
+        FIRST - 1,
+        row_height([(h, w, TABLE_HEAD_SIZE, True) for h, w in zip(LINK_HEADERS, LINK_WIDTHS)]),
+    )
     ws.freeze_panes(FIRST, 2)
     net, cpm = a.net, a.cpm
     ids = a.ids
@@ -205,16 +283,30 @@ def write_links(wb, fmt, a, lay: Layout) -> None:
         ws.write_string(r, 2, LINK_TYPES[kind])
         ws.write_number(r, 3, float(net.lag[k]), fmt.input_num)
         lag = f.ref(r, 3)
-        ws.write_formula(r, 4, f.link_push(kind, lay.cell(p, "es", True), lay.cell(p, "ef", True),
-                                           lag, lay.cell(s, "te", True)),
-                         fmt.num, float(a.link_push[k]))
-        ws.write_formula(r, 5, f.minus(lay.cell(s, "es", True), f.ref(r, 4)), fmt.num,
-                         float(cpm.link_slack[k]))
-        ws.write_formula(r, 6, f.link_pull(kind, lay.cell(s, "ls", True), lay.cell(s, "lf", True),
-                                           lag, lay.cell(p, "te", True)),
-                         fmt.num, float(a.link_pull[k]))
-        ws.write_formula(r, 7, f.is_critical(f.ref(r, 5)), fmt.center,
-                         "Yes" if a.link_driving[k] else "No")
+        ws.write_formula(
+            r,
+            4,
+            f.link_push(
+                kind, lay.cell(p, "es", True), lay.cell(p, "ef", True), lag, lay.cell(s, "te", True)
+            ),
+            fmt.num,
+            float(a.link_push[k]),
+        )
+        ws.write_formula(
+            r, 5, f.minus(lay.cell(s, "es", True), f.ref(r, 4)), fmt.num, float(cpm.link_slack[k])
+        )
+        ws.write_formula(
+            r,
+            6,
+            f.link_pull(
+                kind, lay.cell(s, "ls", True), lay.cell(s, "lf", True), lag, lay.cell(p, "te", True)
+            ),
+            fmt.num,
+            float(a.link_pull[k]),
+        )
+        ws.write_formula(
+            r, 7, f.is_critical(f.ref(r, 5)), fmt.center, "Yes" if a.link_driving[k] else "No"
+        )
     if net.link_count:
         ws.autofilter(FIRST - 1, 0, FIRST + net.link_count - 1, len(LINK_HEADERS) - 1)
     else:
@@ -226,16 +318,29 @@ def _write_dates(ws, fmt, lay: Layout, c, r: int, i: int, cal, dates, holidays) 
     """The four date columns of one activity; a start never falls after its finish (a
     milestone takes its finish date)."""
     for key, when, formula in (
-        ("es_date", dates.early_start,
-         cal.start_date_formula(lay.cell(i, "es"), "ProjectStart", holidays,
-                                finish_ref=lay.cell(i, "ef"))),
-        ("ef_date", dates.early_finish,
-         cal.finish_date_formula(lay.cell(i, "ef"), "ProjectStart", holidays)),
-        ("ls_date", dates.late_start,
-         cal.start_date_formula(lay.cell(i, "ls"), "ProjectStart", holidays,
-                                finish_ref=lay.cell(i, "lf"))),
-        ("lf_date", dates.late_finish,
-         cal.finish_date_formula(lay.cell(i, "lf"), "ProjectStart", holidays)),
+        (
+            "es_date",
+            dates.early_start,
+            cal.start_date_formula(
+                lay.cell(i, "es"), "ProjectStart", holidays, finish_ref=lay.cell(i, "ef")
+            ),
+        ),
+        (
+            "ef_date",
+            dates.early_finish,
+            cal.finish_date_formula(lay.cell(i, "ef"), "ProjectStart", holidays),
+        ),
+        (
+            "ls_date",
+            dates.late_start,
+            cal.start_date_formula(
+                lay.cell(i, "ls"), "ProjectStart", holidays, finish_ref=lay.cell(i, "lf")
+            ),
+        ),
+        (
+            "lf_date",
+            dates.late_finish,
+            cal.finish_date_formula(lay.cell(i, "lf"), "ProjectStart", holidays),
+        ),
     ):
         ws.write_formula(r, c[key], "=" + formula, fmt.date, serial(when[i]))
-

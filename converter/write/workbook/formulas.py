@@ -127,12 +127,12 @@ def link_pull(kind: int, succ_ls: str, succ_lf: str, lag: str, pred_te: str) -> 
 
 
 def share_passes(count: str, out_of: str, most_percent: float) -> str:
-    """"pass" when count <= most_percent % of out_of (in whole numbers: exactly it passes)."""
+    """ "pass" when count <= most_percent % of out_of (in whole numbers: exactly it passes)."""
     return f'=IF({count}*100<={number(most_percent)}*{out_of},"pass","FAIL")'
 
 
 def count_passes(count: str, most: float) -> str:
-    """"pass" when count <= most."""
+    """ "pass" when count <= most."""
     return f'=IF({count}<={number(most)},"pass","FAIL")'
 
 
@@ -162,8 +162,7 @@ def path_variance(coef: str, var: str) -> str:
     return f"=SUMPRODUCT({coef},{coef},{var})"
 
 
-def over_links(outer: str, first: str, conditional: str, values: str, keys: str,
-               key: str) -> str:
+def over_links(outer: str, first: str, conditional: str, values: str, keys: str, key: str) -> str:
     """The same MAX/MIN as a conditional aggregate over the Links table, for an activity
     with so many links that the plain formula would pass the length limit. The ID is
     matched exactly: ``=`` in front, and the wildcards ``* ? ~`` escaped."""

@@ -66,8 +66,9 @@ def _count_formula(c: Check, a, lay: Layout) -> str | None:
         return f'=COUNTA({col})-COUNTIF({col},"FS")'
     if c.above is not None and c.key in _VALUE_COLUMN:
         above = c.above
-        return f.count_above(lay.column(_VALUE_COLUMN[c.key]), above.days, above.tolerance,
-                             above.days_per_unit)
+        return f.count_above(
+            lay.column(_VALUE_COLUMN[c.key]), above.days, above.tolerance, above.days_per_unit
+        )
     return None
 
 
@@ -93,10 +94,12 @@ def write_health(wb, fmt, a, lay: Layout) -> None:
     last = len(COLUMNS) - 1
     ws.write_string(0, 0, "Schedule health check: can the logic be trusted?", fmt.title)
     failed = sum(1 for c in a.checks if not c.passed)
-    note = (f"{failed} of {len(a.checks)} checks failed. Counts of link types, lags, long "
-            "floats and long durations are COUNTIF formulas over the Activities and Links "
-            "sheets; the others are counted by pertbook, with each offender listed so it can "
-            "be looked up.")
+    note = (
+        f"{failed} of {len(a.checks)} checks failed. Counts of link types, lags, long "
+        "floats and long durations are COUNTIF formulas over the Activities and Links "
+        "sheets; the others are counted by pertbook, with each offender listed so it can "
+        "be looked up."
+    )
     ws.merge_range(1, 0, 1, last, note, fmt.subtitle_wrap)
     ws.set_row(1, rows.row_height([(note, rows.merged_width(WIDTH.values()))], minimum=15.0))
     for key, head, _ in COLUMNS:
@@ -134,8 +137,7 @@ def _check_row(ws, fmt, a, lay: Layout, r: int, c: Check) -> None:
     if c.out_of is not None and (c.limit.share_of is not None or c.percent is not None):
         ws.write_number(r, COL["out_of"], c.out_of, fmt.int_top)
     if c.percent is not None:
-        ws.write_formula(r, COL["percent"], f"={count}/{out_of}", fmt.prob_top,
-                         c.percent / 100.0)
+        ws.write_formula(r, COL["percent"], f"={count}/{out_of}", fmt.prob_top, c.percent / 100.0)
     verdict = "pass" if c.passed else "FAIL"
     style = fmt.good_top if c.passed else fmt.flag_top
     if c.limit.share_of is not None:
@@ -176,12 +178,16 @@ def _full_lists(ws, fmt, checks: list[Check], r: int) -> tuple[int, list[tuple[i
         lines = rows.wrap_lines(text, width)
         first = r
         for start in range(0, len(lines), LINES_PER_ROW):
-            chunk = " ".join(lines[start:start + LINES_PER_ROW])
+            chunk = " ".join(lines[start : start + LINES_PER_ROW])
             ws.write_string(r, 0, f"{c.name} ({c.count})" if r == first else "", fmt.label_top)
             ws.merge_range(r, 1, r, last, chunk, fmt.wrap)
-            ws.set_row(r, rows.row_height([(chunk, width),
-                                           (f"{c.name} ({c.count})", WIDTH["check"], 11.0,
-                                            True)], minimum=15.0))
+            ws.set_row(
+                r,
+                rows.row_height(
+                    [(chunk, width), (f"{c.name} ({c.count})", WIDTH["check"], 11.0, True)],
+                    minimum=15.0,
+                ),
+            )
             r += 1
         blocks.append((first, min(r - 1, first + 1)))
     return r, blocks
@@ -200,8 +206,11 @@ def _sources(ws, fmt, checks: list[Check], r: int) -> tuple[int, tuple[int, int]
     for source in (s for s in SOURCES if s in cited):
         ws.write_string(r, 0, source.short, fmt.label_top)
         ws.merge_range(r, 1, r, last, source.full, fmt.wrap)
-        ws.set_row(r, rows.row_height([(source.full, width),
-                                       (source.short, WIDTH["check"], 11.0, True)],
-                                      minimum=15.0))
+        ws.set_row(
+            r,
+            rows.row_height(
+                [(source.full, width), (source.short, WIDTH["check"], 11.0, True)], minimum=15.0
+            ),
+        )
         r += 1
     return r, (first, r - 1)

@@ -34,8 +34,23 @@ class Layout:
     cols: dict[str, int] = field(default_factory=dict)
 
     def __post_init__(self) -> None:
-        names = ["id", "name", "pred", "o", "m", "p", "te", "var", "es", "ef", "ls", "lf",
-                 "tf", "ff", "crit"]
+        names = [
+            "id",
+            "name",
+            "pred",
+            "o",
+            "m",
+            "p",
+            "te",
+            "var",
+            "es",
+            "ef",
+            "ls",
+            "lf",
+            "tf",
+            "ff",
+            "crit",
+        ]
         if self.dates:
             names += ["es_date", "ef_date", "ls_date", "lf_date"]
         if self.simulated:
@@ -58,8 +73,16 @@ class Layout:
         return span(FIRST, self.last_row, self.cols[key], ACTIVITIES if sheet else None)
 
     # links table ---------------------------------------------------------------
-    LINK_COLS = {"from": 0, "to": 1, "type": 2, "lag": 3, "push": 4, "slack": 5, "pull": 6,
-                 "driving": 7}
+    LINK_COLS = {
+        "from": 0,
+        "to": 1,
+        "type": 2,
+        "lag": 3,
+        "push": 4,
+        "slack": 5,
+        "pull": 6,
+        "driving": 7,
+    }
 
     def link_cell(self, k: int, key: str, sheet: bool = True) -> str:
         return ref(FIRST + k, self.LINK_COLS[key], LINKS if sheet else None)

@@ -9,18 +9,36 @@ from converter.write.workbook.layout import FIRST, PATHS, Layout
 from converter.write.workbook.rows import fit_row, merged_width, row_height
 from converter.write.workbook.styles import TABLE_HEAD_SIZE, TITLE_ROW
 
-SUMMARY_HEADERS = ["Path", "Expected length", "Variance", "Standard deviation", "z",
-                   "Chance of meeting the due date", "Riskier than the critical path?",
-                   "Activities", "Route"]
-STEP_HEADERS = ["Path", "Step", "Activity", "Entered by link", "Coefficient of its duration",
-                "Expected time TE", "Variance", "Lag on the link in"]
+SUMMARY_HEADERS = [
+    "Path",
+    "Expected length",
+    "Variance",
+    "Standard deviation",
+    "z",
+    "Chance of meeting the due date",
+    "Riskier than the critical path?",
+    "Activities",
+    "Route",
+]
+STEP_HEADERS = [
+    "Path",
+    "Step",
+    "Activity",
+    "Entered by link",
+    "Coefficient of its duration",
+    "Expected time TE",
+    "Variance",
+    "Lag on the link in",
+]
 WIDTHS = [7.0, 10.0, 10.0, 10.0, 9.0, 11.0, 17.0, 10.0, 48.0]
 #: How each head sits: over a centred count, a number, or text.
 SUMMARY_ALIGN = "crrrrcccl"
 STEP_ALIGN = "ccllrrrr"
-INTRO = ("Ranked by expected length, ties by larger variance. Length = SUMPRODUCT(coefficients, "
-         "TE) + lags over the path's steps below; a duration counts +1 normally, 0 or -1 where "
-         "start-to-start or finish-to-finish links skip it.")
+INTRO = (
+    "Ranked by expected length, ties by larger variance. Length = SUMPRODUCT(coefficients, "
+    "TE) + lags over the path's steps below; a duration counts +1 normally, 0 or -1 where "
+    "start-to-start or finish-to-finish links skip it."
+)
 
 
 def _heads(ws, fmt, row: int, heads: list[str], align: str) -> None:
@@ -32,8 +50,9 @@ def _heads(ws, fmt, row: int, heads: list[str], align: str) -> None:
 
 def write_paths(wb, fmt, a, lay: Layout) -> None:
     ws = wb.add_worksheet(PATHS)
-    ws.write_string(0, 0, f"The {len(a.paths)} longest paths (of {a.path_count:,} in the network)",
-                    fmt.title)
+    ws.write_string(
+        0, 0, f"The {len(a.paths)} longest paths (of {a.path_count:,} in the network)", fmt.title
+    )
     ws.set_row(0, TITLE_ROW)
     ws.merge_range(1, 0, 1, len(WIDTHS) - 1, INTRO, fmt.subtitle_wrap)
     ws.set_row(1, row_height([(INTRO, merged_width(WIDTHS))]))
@@ -61,12 +80,12 @@ def write_paths(wb, fmt, a, lay: Layout) -> None:
             else:
                 link = path.links[step - 1]
                 ws.write_string(r, 3, LINK_TYPES[int(index_of_link.kind[link])])
-                ws.write_formula(r, 7, "=" + lay.link_cell(link, "lag"), fmt.num,
-                                 float(a.net.lag[link]))
+                ws.write_formula(
+                    r, 7, "=" + lay.link_cell(link, "lag"), fmt.num, float(a.net.lag[link])
+                )
             ws.write_number(r, 4, coef, fmt.int)
             ws.write_formula(r, 5, "=" + lay.cell(act, "te", True), fmt.num, float(a.te[act]))
-            ws.write_formula(r, 6, "=" + lay.cell(act, "var", True), fmt.num4,
-                             float(a.var[act]))
+            ws.write_formula(r, 6, "=" + lay.cell(act, "var", True), fmt.num4, float(a.var[act]))
             r += 1
         last = r - 1
         row = FIRST + n
@@ -76,16 +95,27 @@ def write_paths(wb, fmt, a, lay: Layout) -> None:
         ws.write_formula(row, 2, f.path_variance(coef, var), fmt.num4, path.variance)
         ws.write_formula(row, 3, f"=SQRT({f.ref(row, 2)})", fmt.num, path.sd)
         if a.due is not None:
-            ws.write_formula(row, 4, f.z_score("DueDuration", f.ref(row, 1), f.ref(row, 3)),
-                             fmt.num4, pr.z if pr.z is not None else "n/a")
-            ws.write_formula(row, 5, f.p_meet("DueDuration", f.ref(row, 1), f.ref(row, 3)),
-                             fmt.prob, pr.p_meet_due)
+            ws.write_formula(
+                row,
+                4,
+                f.z_score("DueDuration", f.ref(row, 1), f.ref(row, 3)),
+                fmt.num4,
+                pr.z if pr.z is not None else "n/a",
+            )
+            ws.write_formula(
+                row,
+                5,
+                f.p_meet("DueDuration", f.ref(row, 1), f.ref(row, 3)),
+                fmt.prob,
+                pr.p_meet_due,
+            )
             if n == 0:
                 ws.write_string(row, 6, "critical path", fmt.wrap_center)
             else:
-                flag = ("YES: lower chance than the critical path" if n in riskier else "no")
-                ws.write_string(row, 6, flag,
-                                fmt.wrap_flag_center if n in riskier else fmt.wrap_center)
+                flag = "YES: lower chance than the critical path" if n in riskier else "no"
+                ws.write_string(
+                    row, 6, flag, fmt.wrap_flag_center if n in riskier else fmt.wrap_center
+                )
         else:  # over the z, chance and riskier columns
             ws.merge_range(row, 4, row, 6, "no due date", fmt.center)
         ws.write_number(row, 7, len(path.activities), fmt.int_center)
@@ -94,13 +124,18 @@ def write_paths(wb, fmt, a, lay: Layout) -> None:
         flag_text = "YES: lower chance than the critical path" if n in riskier else ""
         fit_row(ws, row, [(route, WIDTHS[8]), (flag_text, WIDTHS[6] - 1.0, 10.0, True)])
     if a.tied_longest > 1:
-        tie = (f"{a.tied_longest} paths tie for the longest expected length; path 1 is the one "
-               "with the largest variance (the cautious choice), and its variance is the "
-               "project variance.")
+        tie = (
+            f"{a.tied_longest} paths tie for the longest expected length; path 1 is the one "
+            "with the largest variance (the cautious choice), and its variance is the "
+            "project variance."
+        )
         ws.merge_range(FIRST + k, 0, FIRST + k, len(WIDTHS) - 1, tie, fmt.wrap_flag)
         ws.set_row(FIRST + k, row_height([(tie, merged_width(WIDTHS) - 1.0, 10.0, True)]))
     ws.freeze_panes(FIRST, 1)
     # the steps' title and head stay with their first rows; a path may run on to the next
     # page, under the repeated head
-    pages.set_up(ws, header_rows=(step_top - 1, step_top - 1),
-                 keep=[(step_top - 2, min(step_top + 2, r - 1))])
+    pages.set_up(
+        ws,
+        header_rows=(step_top - 1, step_top - 1),
+        keep=[(step_top - 2, min(step_top + 2, r - 1))],
+    )

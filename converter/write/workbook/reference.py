@@ -22,8 +22,13 @@ def write_settings(wb, fmt, a, lay: Layout) -> None:
     ws = wb.add_worksheet(SETTINGS)
     st = a.schedule.settings
     ws.write_string(0, 0, "Settings used and where each came from", fmt.title)
-    ws.write_string(1, 0, "Order of precedence: command line, then the input's settings sheet, "
-                    "then pertbook's defaults.", fmt.subtitle)
+    ws.write_string(
+        1,
+        0,
+        "Order of precedence: command line, then the input's settings sheet, "
+        "then pertbook's defaults.",
+        fmt.subtitle,
+    )
     for col, h in enumerate(["Setting", "Value", "Came from"]):
         ws.write_string(3, col, h, fmt.header)
     ws.set_column(0, 0, 22)
@@ -38,8 +43,11 @@ def write_settings(wb, fmt, a, lay: Layout) -> None:
         ("seed", "Seed", st.seed),
         ("distribution", "Distribution", st.distribution),
         ("correlation", "Correlation", st.correlation),
-        ("confidence_levels", "Confidence levels",
-         ", ".join(f"{c:.0%}" for c in st.confidence_levels)),
+        (
+            "confidence_levels",
+            "Confidence levels",
+            ", ".join(f"{c:.0%}" for c in st.confidence_levels),
+        ),
         ("paths", "Paths listed", st.paths),
     ]
     r = 4
@@ -59,8 +67,7 @@ def write_settings(wb, fmt, a, lay: Layout) -> None:
     if a.calendar is not None:
         ws.write_string(r, 0, "Weekend code", fmt.label)
         ws.write_string(r, 1, a.calendar.weekend_code, fmt.left)
-        ws.write_string(r, 2, "WORKDAY.INTL weekend string: Monday first, 1 = not worked",
-                        fmt.left)
+        ws.write_string(r, 2, "WORKDAY.INTL weekend string: Monday first, 1 = not worked", fmt.left)
         r += 1
     r += 1
     holidays_head = r
@@ -80,59 +87,102 @@ def write_settings(wb, fmt, a, lay: Layout) -> None:
 
 METHOD_TEXT = [
     ("How the figures are computed", None),
-    ("Expected time", "TE = (O + 4M + P) / 6 for each activity, from its optimistic (O), most "
-     "likely (M) and pessimistic (P) estimates. Source: Malcolm, Roseboom, Clark & Fazar, "
-     "Operations Research 7(5), 1959."),
-    ("Variance", "((P - O) / 6)^2 per activity (same source): the spread is taken as one sixth of "
-     "the range."),
-    ("Link types", ", ".join(LINK_TYPES) + " (finish-to-start, start-to-start, finish-to-finish, "
-     "start-to-finish). In the predecessors cell: A3 (FS), A3[+2] (lag 2), A3[-1] (lead 1), "
-     "A3[SS], A3[SS+3], A3[FF-1]."),
-    ("Forward pass", "Early start (ES) = the largest start allowed by the incoming links, and "
-     "never before 0 (the project start). FS: after the predecessor's finish + lag; SS: after its "
-     "start + lag; FF: so that the finish comes after the predecessor's finish + lag; SF: so that "
-     "the finish comes after the predecessor's start + lag. Early finish EF = ES + TE. Durations "
-     "are fixed: an activity is not stretched or split."),
-    ("Backward pass", "Late finish (LF) = the smallest finish allowed by the outgoing links, and "
-     "never after the project finish (the largest EF). Late start LS = LF - TE."),
-    ("Float", "Total float = LS - ES. Free float = the least slack over the activity's outgoing "
-     "links, and to the project finish. Critical = total float zero "
-     f"({f.TOLERANCE_WORDS})."),
-    ("Project mean and variance", "The expected finish is the longest path on TE. Its variance is "
-     "the sum of the variances of the activities on that path (an activity skipped by SS/FF "
-     "links counts with its coefficient squared). Where several paths tie for longest, the one "
-     "with the largest variance is used: the cautious choice."),
-    ("Probability", "The project duration is taken as normal with that mean and variance (central "
-     "limit theorem): z = (due - mean) / sd and P = NORM.S.DIST(z). The duration met at "
-     "confidence c is mean + NORM.S.INV(c) x sd. With sd 0 the chance is 1 or 0."),
-    ("Near-critical paths", "The K longest paths are found by a k-best dynamic programme over the "
-     "network (Bellman & Kalaba 1960), not by listing every path. The chance that all listed "
-     "paths meet the due date lies between the product of their chances (a lower bound because "
-     "paths that share independent activities are positively associated: Esary, Proschan & "
-     "Walkup 1967) and the smallest of them."),
-    ("Monte Carlo simulation", "Each iteration samples every duration (PERT-beta with alpha = 1 + "
-     "4(M-O)/(P-O), beta = 1 + 4(P-M)/(P-O) on [O, P] by default; or triangular, or uniform), "
-     "runs the forward and backward pass and records the finish and which activities were "
-     "critical. Criticality index = share of iterations in which an activity was critical. "
-     "Sensitivity = Spearman rank correlation of its duration with the project duration. "
-     "Correlation within a group is induced on ranks (Iman & Conover 1982)."),
-    ("Why simulation differs", "Merge bias: where paths merge, the finish is the latest of several "
-     "uncertain paths; the mean of a maximum is above the largest mean, so the single-path PERT "
-     "figure is optimistic (MacCrimmon & Ryavec 1964). The spread differs too: the PERT-beta's "
-     "variance is (mu - O)(P - mu) / 7, which the rounder ((P - O) / 6)^2 only approximates, "
-     "and the finish's spread is shaped by every path, not the critical one alone."),
-    ("Calendar", "With a start date, time 0 is the start of the first working day on or after it. "
-     "A start at offset t falls on working day INT(t) + 1; a finish at offset t is at the END of "
-     "working day ROUNDUP(t) (a finish at 0 is on day 1). A start never falls after its finish: "
-     "a milestone (zero duration) starts and finishes on the same date, the working day on "
-     "which the work before it is finished (the first working day for a milestone at the "
-     "start). Dates are WORKDAY.INTL formulas with "
-     "the weekend code and the holiday list on the Settings used sheet. Weeks count as working "
-     "weeks; calendar days ignore weekends and holidays."),
-    ("Assumptions", "Activity durations are independent unless grouped for correlation; the "
-     "three-point estimates describe beta-shaped durations; the project duration is normal in "
-     "the analytic view; the single-path view underestimates the finish when parallel paths "
-     "merge; the logic (links) is complete and correct; resources are unlimited."),
+    (
+        "Expected time",
+        "TE = (O + 4M + P) / 6 for each activity, from its optimistic (O), most "
+        "likely (M) and pessimistic (P) estimates. Source: Malcolm, Roseboom, Clark & Fazar, "
+        "Operations Research 7(5), 1959.",
+    ),
+    (
+        "Variance",
+        "((P - O) / 6)^2 per activity (same source): the spread is taken as one sixth of "
+        "the range.",
+    ),
+    (
+        "Link types",
+        ", ".join(LINK_TYPES) + " (finish-to-start, start-to-start, finish-to-finish, "
+        "start-to-finish). In the predecessors cell: A3 (FS), A3[+2] (lag 2), A3[-1] (lead 1), "
+        "A3[SS], A3[SS+3], A3[FF-1].",
+    ),
+    (
+        "Forward pass",
+        "Early start (ES) = the largest start allowed by the incoming links, and "
+        "never before 0 (the project start). FS: after the predecessor's finish + lag; SS: "
+        "after its "
+        "start + lag; FF: so that the finish comes after the predecessor's finish + lag; SF: "
+        "so that "
+        "the finish comes after the predecessor's start + lag. Early finish EF = ES + TE. "
+        "Durations "
+        "are fixed: an activity is not stretched or split.",
+    ),
+    (
+        "Backward pass",
+        "Late finish (LF) = the smallest finish allowed by the outgoing links, and "
+        "never after the project finish (the largest EF). Late start LS = LF - TE.",
+    ),
+    (
+        "Float",
+        "Total float = LS - ES. Free float = the least slack over the activity's outgoing "
+        "links, and to the project finish. Critical = total float zero "
+        f"({f.TOLERANCE_WORDS}).",
+    ),
+    (
+        "Project mean and variance",
+        "The expected finish is the longest path on TE. Its variance is "
+        "the sum of the variances of the activities on that path (an activity skipped by SS/FF "
+        "links counts with its coefficient squared). Where several paths tie for longest, the one "
+        "with the largest variance is used: the cautious choice.",
+    ),
+    (
+        "Probability",
+        "The project duration is taken as normal with that mean and variance (central "
+        "limit theorem): z = (due - mean) / sd and P = NORM.S.DIST(z). The duration met at "
+        "confidence c is mean + NORM.S.INV(c) x sd. With sd 0 the chance is 1 or 0.",
+    ),
+    (
+        "Near-critical paths",
+        "The K longest paths are found by a k-best dynamic programme over the "
+        "network (Bellman & Kalaba 1960), not by listing every path. The chance that all listed "
+        "paths meet the due date lies between the product of their chances (a lower bound because "
+        "paths that share independent activities are positively associated: Esary, Proschan & "
+        "Walkup 1967) and the smallest of them.",
+    ),
+    (
+        "Monte Carlo simulation",
+        "Each iteration samples every duration (PERT-beta with alpha = 1 + "
+        "4(M-O)/(P-O), beta = 1 + 4(P-M)/(P-O) on [O, P] by default; or triangular, or uniform), "
+        "runs the forward and backward pass and records the finish and which activities were "
+        "critical. Criticality index = share of iterations in which an activity was critical. "
+        "Sensitivity = Spearman rank correlation of its duration with the project duration. "
+        "Correlation within a group is induced on ranks (Iman & Conover 1982).",
+    ),
+    (
+        "Why simulation differs",
+        "Merge bias: where paths merge, the finish is the latest of several "
+        "uncertain paths; the mean of a maximum is above the largest mean, so the single-path PERT "
+        "figure is optimistic (MacCrimmon & Ryavec 1964). The spread differs too: the PERT-beta's "
+        "variance is (mu - O)(P - mu) / 7, which the rounder ((P - O) / 6)^2 only approximates, "
+        "and the finish's spread is shaped by every path, not the critical one alone.",
+    ),
+    (
+        "Calendar",
+        "With a start date, time 0 is the start of the first working day on or after it. "
+        "A start at offset t falls on working day INT(t) + 1; a finish at offset t is at the "
+        "END of "
+        "working day ROUNDUP(t) (a finish at 0 is on day 1). A start never falls after its finish: "
+        "a milestone (zero duration) starts and finishes on the same date, the working day on "
+        "which the work before it is finished (the first working day for a milestone at the "
+        "start). Dates are WORKDAY.INTL formulas with "
+        "the weekend code and the holiday list on the Settings used sheet. Weeks count as working "
+        "weeks; calendar days ignore weekends and holidays.",
+    ),
+    (
+        "Assumptions",
+        "Activity durations are independent unless grouped for correlation; the "
+        "three-point estimates describe beta-shaped durations; the project duration is normal in "
+        "the analytic view; the single-path view underestimates the finish when parallel paths "
+        "merge; the logic (links) is complete and correct; resources are unlimited.",
+    ),
     ("Caution", CAUTION),
 ]
 
@@ -189,8 +239,10 @@ def write_input(wb, fmt, a, lay: Layout) -> None:
     raw = a.schedule.raw
     widths = _input_widths(raw.headers, raw.rows)
     ws.write_string(0, 0, "Input as read", fmt.title)
-    note = (f"Values only, from {raw.sheet} as the converter read it; the header is on sheet "
-            f"row {raw.header_row}.")
+    note = (
+        f"Values only, from {raw.sheet} as the converter read it; the header is on sheet "
+        f"row {raw.header_row}."
+    )
     if len(widths) > 1:
         ws.merge_range(1, 0, 1, len(widths) - 1, note, fmt.subtitle_wrap)
     else:
@@ -212,8 +264,13 @@ def write_input(wb, fmt, a, lay: Layout) -> None:
             elif isinstance(v, (int, float)):
                 ws.write_number(r, col, v, fmt.num_left)
             elif isinstance(v, dt.datetime):
-                ws.write_number(r, col, serial(v.date()) + (v - dt.datetime.combine(
-                    v.date(), dt.time())).total_seconds() / 86400, fmt.date_left)
+                ws.write_number(
+                    r,
+                    col,
+                    serial(v.date())
+                    + (v - dt.datetime.combine(v.date(), dt.time())).total_seconds() / 86400,
+                    fmt.date_left,
+                )
             elif isinstance(v, dt.date):
                 ws.write_number(r, col, serial(v), fmt.date_left)
             else:
@@ -237,14 +294,19 @@ def write_warnings(wb, fmt, a, lay: Layout) -> None:
     ws = wb.add_worksheet(WARNINGS)
     s = a.schedule
     ws.write_string(0, 0, "Warnings and notes on the input", fmt.title)
-    for col, (h, w) in enumerate(zip(["Where", "Activity", "Warning", "What to do"],
-                                     WARNING_WIDTHS, strict=True)):
+    for col, (h, w) in enumerate(
+        zip(["Where", "Activity", "Warning", "What to do"], WARNING_WIDTHS, strict=True)
+    ):
         ws.write_string(2, col, h, fmt.header)
         ws.set_column(col, col, w)
     r = 3
     for p in s.warnings:
-        cells = [(p.where, WARNING_WIDTHS[0]), (p.activity or "", WARNING_WIDTHS[1]),
-                 (p.message, WARNING_WIDTHS[2]), (p.fix or "", WARNING_WIDTHS[3])]
+        cells = [
+            (p.where, WARNING_WIDTHS[0]),
+            (p.activity or "", WARNING_WIDTHS[1]),
+            (p.message, WARNING_WIDTHS[2]),
+            (p.fix or "", WARNING_WIDTHS[3]),
+        ]
         for col, (text, _) in enumerate(cells):
             ws.write_string(r, col, text, fmt.wrap)
         ws.set_row(r, rows.row_height(cells, minimum=15.0))

@@ -40,8 +40,12 @@ def reproduce_command(a) -> str:
     plus every other setting that came from the command line (numbers in full)."""
     sim = a.simulation
     st = a.schedule.settings
-    parts = ["pertbook convert", f'"{Path(a.schedule.input_file).name}"',
-             f"--iterations {sim.iterations}", f"--seed {sim.seed}"]
+    parts = [
+        "pertbook convert",
+        f'"{Path(a.schedule.input_file).name}"',
+        f"--iterations {sim.iterations}",
+        f"--seed {sim.seed}",
+    ]
     if sim.distribution in ("pert", "triangular", "uniform"):
         parts.append(f"--distribution {sim.distribution}")
     parts.append(f"--correlation {sim.correlation!r}")
@@ -72,8 +76,13 @@ def write_simulation(wb, fmt, a, lay: Layout) -> None:
         ws.set_column(col, col, width)
     ws.write_string(0, 0, "Monte Carlo simulation", fmt.title)
     ws.set_row(0, TITLE_ROW)
-    ws.write_string(1, 0, "These figures are values from the run below, not formulas: rerun "
-                    "the command to reproduce every one of them.", fmt.subtitle)
+    ws.write_string(
+        1,
+        0,
+        "These figures are values from the run below, not formulas: rerun "
+        "the command to reproduce every one of them.",
+        fmt.subtitle,
+    )
     r = _write_run(ws, fmt, a, 3)
     r = _write_results(ws, fmt, a, r + 1)
     starts = [r + 1]
@@ -84,10 +93,14 @@ def write_simulation(wb, fmt, a, lay: Layout) -> None:
     head = _write_drivers(wb, ws, fmt, a, r + 2)
     # each table's head stays with its first rows (a page break never leaves it alone
     # under the chart)
-    heads = [starts[0] + 2 + rows_spanned(HISTOGRAM_HEIGHT),
-             starts[1] + 2 + rows_spanned(_bar_height(min(TOP_DRIVERS, len(a.ids)))), head]
-    pages.set_up(ws, starts=starts, header_rows=(head, head),
-                 keep=[(h, h + TABLE_START_ROWS) for h in heads])
+    heads = [
+        starts[0] + 2 + rows_spanned(HISTOGRAM_HEIGHT),
+        starts[1] + 2 + rows_spanned(_bar_height(min(TOP_DRIVERS, len(a.ids)))),
+        head,
+    ]
+    pages.set_up(
+        ws, starts=starts, header_rows=(head, head), keep=[(h, h + TABLE_START_ROWS) for h in heads]
+    )
 
 
 def _write_run(ws, fmt, a, r: int) -> int:
@@ -124,18 +137,24 @@ def sensitivity_note(sim) -> str | None:
     iterations' samples (None when they use every iteration)."""
     if sim.sensitivity_iterations >= sim.iterations:
         return None
-    return (f"Sensitivities from the first {sim.sensitivity_iterations:,} of "
-            f"{sim.iterations:,} iterations (memory budget {sim.memory_budget_mb:,} MB); "
-            f"standard error about ±{sim.sensitivity_std_error:.2g} near 0 "
-            "(Fieller, Hartley & Pearson 1957)")
+    return (
+        f"Sensitivities from the first {sim.sensitivity_iterations:,} of "
+        f"{sim.iterations:,} iterations (memory budget {sim.memory_budget_mb:,} MB); "
+        f"standard error about ±{sim.sensitivity_std_error:.2g} near 0 "
+        "(Fieller, Hartley & Pearson 1957)"
+    )
 
 
 def _write_results(ws, fmt, a, r: int) -> int:
     """Simulated figures (A-C) beside the percentiles (E-G); returns the last row."""
     sim = a.simulation
     both = sim.independent is not None
-    heads = [(0, "Result", "l"), (1, "Simulated", "r"), (4, "Percentile", "c"),
-             (5, "Duration", "r")]
+    heads = [
+        (0, "Result", "l"),
+        (1, "Simulated", "r"),
+        (4, "Percentile", "c"),
+        (5, "Duration", "r"),
+    ]
     if both:
         heads += [(2, "If independent", "r"), (6, "If independent", "r")]
     _heads(ws, fmt, r, heads)
@@ -171,8 +190,10 @@ def _write_results(ws, fmt, a, r: int) -> int:
             ws.write_number(p, 6, float(sim.independent.percentiles[q]), fmt.num)
         p += 1
     r = max(r, p)
-    note = ("Merge bias is positive where paths merge: the finish waits for the latest of "
-            "several uncertain paths, and the mean of a maximum exceeds the largest mean.")
+    note = (
+        "Merge bias is positive where paths merge: the finish waits for the latest of "
+        "several uncertain paths, and the mean of a maximum exceeds the largest mean."
+    )
     ws.merge_range(r, 0, r, LAST, note, fmt.wrap)
     fit_row(ws, r, [(note, merged_width(WIDTHS))])
     return r
@@ -185,8 +206,17 @@ def _write_histogram(wb, ws, fmt, a, top: int) -> int:
     ws.set_row(top, TITLE_ROW)
     chart_row = top + 1
     head = chart_row + rows_spanned(HISTOGRAM_HEIGHT) + 1
-    _heads(ws, fmt, head, [(0, "Bin (up to)", "r"), (1, "Iterations", "r"),
-                           (2, "Share", "r"), (3, "Cumulative share", "r")])
+    _heads(
+        ws,
+        fmt,
+        head,
+        [
+            (0, "Bin (up to)", "r"),
+            (1, "Iterations", "r"),
+            (2, "Share", "r"),
+            (3, "Cumulative share", "r"),
+        ],
+    )
     first = head + 1
     total = hist.iterations
     for k, (edge, n) in enumerate(zip(hist.upper, hist.counts, strict=True)):
@@ -194,8 +224,9 @@ def _write_histogram(wb, ws, fmt, a, top: int) -> int:
         ws.write_number(r, 0, edge, fmt.num)
         ws.write_number(r, 1, n, fmt.int)
         ws.write_formula(r, 2, f"=B{r + 1}/{total}", fmt.prob2, hist.share[k])
-        ws.write_formula(r, 3, f"=SUM($B${first + 1}:B{r + 1})/{total}", fmt.prob2,
-                         hist.cumulative[k])
+        ws.write_formula(
+            r, 3, f"=SUM($B${first + 1}:B{r + 1})/{total}", fmt.prob2, hist.cumulative[k]
+        )
     last = first + len(hist.upper) - 1
     due = _write_due_line(ws, fmt, a, head, first, last)
     ws.insert_chart(chart_row, 0, _histogram_chart(wb, a, first, last, due))
@@ -208,8 +239,7 @@ def _write_due_line(ws, fmt, a, head: int, first: int, last: int) -> tuple[int, 
     hist = a.histogram
     if hist.due_at is None:
         return None
-    _heads(ws, fmt, head, [(5, "Due date on the chart: bin position", "r"),
-                           (6, "Height", "r")])
+    _heads(ws, fmt, head, [(5, "Due date on the chart: bin position", "r"), (6, "Height", "r")])
     for k, height in enumerate((0.0, DUE_LINE_OVER * hist.peak)):
         ws.write_number(first + k, 5, hist.due_at, fmt.num)
         formula = "=0" if k == 0 else f"={DUE_LINE_OVER!r}*MAX(B{first + 1}:B{last + 1})"
@@ -220,31 +250,52 @@ def _write_due_line(ws, fmt, a, head: int, first: int, last: int) -> tuple[int, 
 def _histogram_chart(wb, a, first: int, last: int, due: tuple[int, int] | None):
     sim = a.simulation
     chart = wb.add_chart({"type": "column"})
-    chart.add_series({"name": "Iterations", "categories": [SIMULATION, first, 0, last, 0],
-                      "values": [SIMULATION, first, 1, last, 1],
-                      "fill": {"color": PALETTE["moss"]}, "border": {"color": "#FFFFFF"},
-                      "gap": 15})
+    chart.add_series(
+        {
+            "name": "Iterations",
+            "categories": [SIMULATION, first, 0, last, 0],
+            "values": [SIMULATION, first, 1, last, 1],
+            "fill": {"color": PALETTE["moss"]},
+            "border": {"color": "#FFFFFF"},
+            "gap": 15,
+        }
+    )
     if due is not None:
         # a scatter series over the columns: its x runs along the bins (the first at 1), so
         # the line stands where the due date falls inside its bin
-        when = (a.due_date.isoformat() if a.due_date is not None else
-                f"{a.due:g} {a.schedule.settings.time_unit}")
+        when = (
+            a.due_date.isoformat()
+            if a.due_date is not None
+            else f"{a.due:g} {a.schedule.settings.time_unit}"
+        )
         line = wb.add_chart({"type": "scatter", "subtype": "straight"})
-        line.add_series({
-            "name": f"Due date ({when})",
-            "categories": [SIMULATION, due[0], 5, due[1], 5],
-            "values": [SIMULATION, due[0], 6, due[1], 6],
-            "line": {"color": PALETTE["clay"], "width": 2.0, "dash_type": "dash"},
-            "marker": {"type": "none"},
-        })
+        line.add_series(
+            {
+                "name": f"Due date ({when})",
+                "categories": [SIMULATION, due[0], 5, due[1], 5],
+                "values": [SIMULATION, due[0], 6, due[1], 6],
+                "line": {"color": PALETTE["clay"], "width": 2.0, "dash_type": "dash"},
+                "marker": {"type": "none"},
+            }
+        )
         chart.combine(line)
     unit = a.schedule.settings.time_unit
-    chart.set_title({"name": f"Simulated finish ({sim.iterations:,} iterations)",
-                     "name_font": {"size": 12, "bold": True}})
-    chart.set_x_axis({"name": f"Duration, bin upper edge ({unit})", "num_format": "0.#",
-                      "num_font": {"rotation": -45}})
-    chart.set_y_axis({"name": "Iterations",
-                      "major_gridlines": {"visible": True, "line": {"color": "#E3E3E3"}}})
+    chart.set_title(
+        {
+            "name": f"Simulated finish ({sim.iterations:,} iterations)",
+            "name_font": {"size": 12, "bold": True},
+        }
+    )
+    chart.set_x_axis(
+        {
+            "name": f"Duration, bin upper edge ({unit})",
+            "num_format": "0.#",
+            "num_font": {"rotation": -45},
+        }
+    )
+    chart.set_y_axis(
+        {"name": "Iterations", "major_gridlines": {"visible": True, "line": {"color": "#E3E3E3"}}}
+    )
     chart.set_legend({"position": "bottom"})
     chart.set_size({"width": CHART_WIDTH, "height": HISTOGRAM_HEIGHT})
     chart.set_chartarea({"border": {"none": True}})
@@ -255,17 +306,45 @@ def _bar_height(count: int) -> int:
     return 90 + 18 * count
 
 
-def _bar_chart(wb, title: str, series_name: str, cats, values, color: str, axis: dict,
-               axis_name: str, count: int):
+def _bar_chart(
+    wb,
+    title: str,
+    series_name: str,
+    cats,
+    values,
+    color: str,
+    axis: dict,
+    axis_name: str,
+    count: int,
+):
     bar = wb.add_chart({"type": "bar"})
-    bar.add_series({"name": series_name, "categories": cats, "values": values,
-                    "fill": {"color": color}, "gap": 40})
+    bar.add_series(
+        {
+            "name": series_name,
+            "categories": cats,
+            "values": values,
+            "fill": {"color": color},
+            "gap": 40,
+        }
+    )
     bar.set_title({"name": title, "name_font": {"size": 12, "bold": True}})
-    bar.set_y_axis({"reverse": True, "crossing": "max", "name": "Activity",
-                    "num_font": {"size": 8}, "interval_unit": 1})  # every bar labelled,
+    bar.set_y_axis(
+        {
+            "reverse": True,
+            "crossing": "max",
+            "name": "Activity",
+            "num_font": {"size": 8},
+            "interval_unit": 1,
+        }
+    )  # every bar labelled,
     # the first at the top, the scale below
-    bar.set_x_axis({**axis, "name": axis_name,
-                    "major_gridlines": {"visible": True, "line": {"color": "#E3E3E3"}}})
+    bar.set_x_axis(
+        {
+            **axis,
+            "name": axis_name,
+            "major_gridlines": {"visible": True, "line": {"color": "#E3E3E3"}},
+        }
+    )
     bar.set_legend({"none": True})
     bar.set_size({"width": CHART_WIDTH, "height": _bar_height(count)})
     return bar
@@ -279,8 +358,17 @@ def _write_drivers(wb, ws, fmt, a, start: int) -> int:
     ws.set_row(start, TITLE_ROW)
     top = min(TOP_DRIVERS, len(a.ids))
     head = start + 2 + rows_spanned(_bar_height(top))
-    _heads(ws, fmt, head, [(0, "Activity", "l"), (1, "Sensitivity (rank correlation)", "r"),
-                           (2, "Criticality index", "r"), (3, "Label on the chart", "i")])
+    _heads(
+        ws,
+        fmt,
+        head,
+        [
+            (0, "Activity", "l"),
+            (1, "Sensitivity (rank correlation)", "r"),
+            (2, "Criticality index", "r"),
+            (3, "Label on the chart", "i"),
+        ],
+    )
     base = head + 1
     for k, i in enumerate(a.drivers):
         r = base + k
@@ -296,11 +384,17 @@ def _write_drivers(wb, ws, fmt, a, start: int) -> int:
             ws.write_string(r, 3, shorten(text, LABEL_CHARS), fmt.text_indent)
         fit_row(ws, r, [(text, WIDTHS[0])])
     negative = any(s < 0 for s in sim.sensitivity.tolist())  # NaN (fixed) is not
-    bar = _bar_chart(wb, f"Top {top} risk drivers (sensitivity)", "Sensitivity",
-                     [SIMULATION, base, 3, base + top - 1, 3],
-                     [SIMULATION, base, 1, base + top - 1, 1], PALETTE["ink"],
-                     {"min": -1 if negative else 0, "max": 1, "num_format": "0.0"},
-                     "Sensitivity: rank correlation with the finish", top)
+    bar = _bar_chart(
+        wb,
+        f"Top {top} risk drivers (sensitivity)",
+        "Sensitivity",
+        [SIMULATION, base, 3, base + top - 1, 3],
+        [SIMULATION, base, 1, base + top - 1, 1],
+        PALETTE["ink"],
+        {"min": -1 if negative else 0, "max": 1, "num_format": "0.0"},
+        "Sensitivity: rank correlation with the finish",
+        top,
+    )
     ws.insert_chart(start + 1, 0, bar)
     return head
 
@@ -313,8 +407,12 @@ def _write_most_critical(wb, ws, fmt, a, start: int) -> int:
     ws.write_string(start, 0, "Most often critical", fmt.title)
     ws.set_row(start, TITLE_ROW)
     head = start + 2 + rows_spanned(_bar_height(top))
-    _heads(ws, fmt, head, [(0, "Activity", "l"), (1, "Criticality index", "r"),
-                           (3, "Label on the chart", "i")])
+    _heads(
+        ws,
+        fmt,
+        head,
+        [(0, "Activity", "l"), (1, "Criticality index", "r"), (3, "Label on the chart", "i")],
+    )
     for k, i in enumerate(a.most_critical[:top]):
         r = head + 1 + k
         text = _label(a, i)
@@ -322,11 +420,17 @@ def _write_most_critical(wb, ws, fmt, a, start: int) -> int:
         ws.write_number(r, 1, float(sim.criticality[i]), fmt.prob)
         ws.write_string(r, 3, shorten(text, LABEL_CHARS), fmt.text_indent)
         fit_row(ws, r, [(text, WIDTHS[0])])
-    cbar = _bar_chart(wb, "Criticality index: share of iterations on the critical path",
-                      "Criticality index", [SIMULATION, head + 1, 3, head + top, 3],
-                      [SIMULATION, head + 1, 1, head + top, 1], PALETTE["amber"],
-                      {"min": 0, "max": 1, "num_format": "0%"},
-                      "Share of iterations on the critical path", top)
+    cbar = _bar_chart(
+        wb,
+        "Criticality index: share of iterations on the critical path",
+        "Criticality index",
+        [SIMULATION, head + 1, 3, head + top, 3],
+        [SIMULATION, head + 1, 1, head + top, 1],
+        PALETTE["amber"],
+        {"min": 0, "max": 1, "num_format": "0%"},
+        "Share of iterations on the critical path",
+        top,
+    )
     ws.insert_chart(start + 1, 0, cbar)
     return head + top
 

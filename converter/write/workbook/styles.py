@@ -21,79 +21,116 @@ TITLE_SIZE = 14.0
 TITLE_ROW = 18.0
 
 
+#: The table head's look (9 pt, shaded, ruled), shared by its three alignments.
+_TABLE_HEAD = {
+    "bold": True,
+    "font_size": TABLE_HEAD_SIZE,
+    "bg_color": PALETTE["mist"],
+    "bottom": 1,
+    "text_wrap": True,
+}
+
+#: Every cell format by name, in the order they are added to the workbook.
+FORMATS: dict[str, dict] = {
+    "title": {"bold": True, "font_size": TITLE_SIZE, "font_color": PALETTE["ink"]},
+    "subtitle": {"italic": True, "font_color": "#555555"},
+    "header": {
+        "bold": True,
+        "bg_color": PALETTE["mist"],
+        "bottom": 1,
+        "text_wrap": True,
+        "valign": "top",
+    },
+    "label": {"bold": True, "valign": "top"},
+    "text": {},
+    "wrap": {"text_wrap": True, "valign": "top"},
+    "input_num": {"bg_color": PALETTE["sand"], "num_format": "0.###"},
+    "num": {"num_format": NUMBER_FORMAT},
+    "num4": {"num_format": "0.0000"},
+    "int": {"num_format": "0"},
+    "sci": {"num_format": "0.0E+00"},
+    "prob": {"num_format": PROB_FORMAT},
+    "prob2": {"num_format": "0.00%"},
+    "date": {"num_format": DATE_FORMAT},
+    "input_date": {"num_format": DATE_FORMAT, "bg_color": PALETTE["sand"]},
+    "big": {"bold": True, "font_size": 12, "num_format": NUMBER_FORMAT},
+    "big_prob": {"bold": True, "font_size": 12, "num_format": PROB_FORMAT},
+    "big_date": {"bold": True, "font_size": 12, "num_format": DATE_FORMAT},
+    "flag": {"bold": True, "font_color": PALETTE["clay"]},
+    "good": {"font_color": PALETTE["moss"], "bold": True},
+    "caution": {"text_wrap": True, "valign": "top", "font_color": PALETTE["clay"], "italic": True},
+    "critical": {"bold": True, "font_color": PALETTE["ink"], "align": "center"},
+    "center": {"align": "center"},
+    "int_center": {"num_format": "0", "align": "center"},
+    "th": _TABLE_HEAD,
+    "th_center": {**_TABLE_HEAD, "align": "center"},
+    "th_indent": {**_TABLE_HEAD, "indent": 1, "align": "left"},
+    "section_title": {
+        "bold": True,
+        "font_size": 12,
+        "font_color": PALETTE["ink"],
+        "bottom": 1,
+        "bottom_color": PALETTE["slate"],
+    },
+    "section_head": {
+        "bold": True,
+        "font_color": PALETTE["ink"],
+        "bottom": 1,
+        "bottom_color": PALETTE["slate"],
+        "align": "right",
+        "text_wrap": True,
+    },
+    "label_wrap": {"bold": True, "text_wrap": True},
+    "note": {"text_wrap": True, "valign": "top", "indent": 1, "align": "left"},
+    "note_italic": {
+        "text_wrap": True,
+        "valign": "top",
+        "indent": 1,
+        "align": "left",
+        "italic": True,
+        "font_color": "#555555",
+    },
+    "wrap_flag": {
+        "text_wrap": True,
+        "valign": "top",
+        "bold": True,
+        "font_color": PALETTE["clay"],
+        "indent": 1,
+        "align": "left",
+    },
+    "wrap_indent": {"text_wrap": True, "valign": "top", "indent": 1, "align": "left"},
+    "wrap_center": {"text_wrap": True, "align": "center"},
+    "wrap_flag_center": {
+        "text_wrap": True,
+        "bold": True,
+        "align": "center",
+        "font_color": PALETTE["clay"],
+    },
+    "text_right": {"align": "right"},
+    "text_indent": {"indent": 1, "align": "left"},
+    "big_value": {"bold": True, "num_format": NUMBER_FORMAT, "bg_color": PALETTE["mist"]},
+    "big_value_date": {"bold": True, "num_format": DATE_FORMAT, "bg_color": PALETTE["mist"]},
+    "label_top": {"bold": True, "valign": "top", "text_wrap": True},
+    "section": {
+        "bold": True,
+        "font_color": PALETTE["ink"],
+        "bottom": 1,
+        "bottom_color": PALETTE["slate"],
+    },
+    "int_top": {"num_format": "0", "align": "center", "valign": "top"},
+    "prob_top": {"num_format": PROB_FORMAT, "valign": "top"},
+    "good_top": {"font_color": PALETTE["moss"], "bold": True, "valign": "top", "align": "center"},
+    "flag_top": {"bold": True, "font_color": PALETTE["clay"], "valign": "top", "align": "center"},
+    "subtitle_wrap": {"italic": True, "font_color": "#555555", "text_wrap": True, "valign": "top"},
+    "left": {"align": "left", "valign": "top"},
+    "num_left": {"align": "left", "valign": "top", "num_format": "General"},
+    "date_left": {"num_format": DATE_FORMAT, "align": "left", "valign": "top"},
+}
+
+
 class Formats:
     """Cell formats, created once per workbook."""
 
     def __init__(self, wb):
-        add = wb.add_format
-        self.title = add({"bold": True, "font_size": TITLE_SIZE, "font_color": PALETTE["ink"]})
-        self.subtitle = add({"italic": True, "font_color": "#555555"})
-        self.header = add({"bold": True, "bg_color": PALETTE["mist"], "bottom": 1,
-                           "text_wrap": True, "valign": "top"})
-        self.label = add({"bold": True, "valign": "top"})  # top: beside the first line
-        self.text = add({})
-        self.wrap = add({"text_wrap": True, "valign": "top"})
-        self.input_num = add({"bg_color": PALETTE["sand"], "num_format": "0.###"})
-        self.num = add({"num_format": NUMBER_FORMAT})
-        self.num4 = add({"num_format": "0.0000"})
-        self.int = add({"num_format": "0"})
-        self.sci = add({"num_format": "0.0E+00"})
-        self.prob = add({"num_format": PROB_FORMAT})
-        self.prob2 = add({"num_format": "0.00%"})
-        self.date = add({"num_format": DATE_FORMAT})
-        self.input_date = add({"num_format": DATE_FORMAT, "bg_color": PALETTE["sand"]})
-        self.big = add({"bold": True, "font_size": 12, "num_format": NUMBER_FORMAT})
-        self.big_prob = add({"bold": True, "font_size": 12, "num_format": PROB_FORMAT})
-        self.big_date = add({"bold": True, "font_size": 12, "num_format": DATE_FORMAT})
-        self.flag = add({"bold": True, "font_color": PALETTE["clay"]})
-        self.good = add({"font_color": PALETTE["moss"], "bold": True})
-        self.caution = add({"text_wrap": True, "valign": "top", "font_color": PALETTE["clay"],
-                            "italic": True})
-        self.critical = add({"bold": True, "font_color": PALETTE["ink"], "align": "center"})
-        self.center = add({"align": "center"})
-        self.int_center = add({"num_format": "0", "align": "center"})
-        # added for print and screen layout (indent needs "left": Excel and LibreOffice
-        # ignore it under the general alignment; headers over numbers, notes apart from
-        # figures, labels at the top of tall rows)
-        # table heads at 9 pt: left over text, centred over numbers
-        head = {"bold": True, "font_size": TABLE_HEAD_SIZE, "bg_color": PALETTE["mist"],
-                "bottom": 1, "text_wrap": True}
-        self.th = add(head)
-        self.th_center = add({**head, "align": "center"})
-        self.th_indent = add({**head, "indent": 1, "align": "left"})
-        self.section_title = add({"bold": True, "font_size": 12, "font_color": PALETTE["ink"],
-                                  "bottom": 1, "bottom_color": PALETTE["slate"]})
-        self.section_head = add({"bold": True, "font_color": PALETTE["ink"], "bottom": 1,
-                                 "bottom_color": PALETTE["slate"], "align": "right",
-                                 "text_wrap": True})
-        self.label_wrap = add({"bold": True, "text_wrap": True})
-        self.note = add({"text_wrap": True, "valign": "top", "indent": 1, "align": "left"})
-        self.note_italic = add({"text_wrap": True, "valign": "top", "indent": 1, "align": "left",
-                                "italic": True, "font_color": "#555555"})
-        self.wrap_flag = add({"text_wrap": True, "valign": "top", "bold": True,
-                              "font_color": PALETTE["clay"], "indent": 1, "align": "left"})
-        self.wrap_indent = add({"text_wrap": True, "valign": "top", "indent": 1, "align": "left"})
-        self.wrap_center = add({"text_wrap": True, "align": "center"})
-        self.wrap_flag_center = add({"text_wrap": True, "bold": True, "align": "center",
-                                     "font_color": PALETTE["clay"]})
-        self.text_right = add({"align": "right"})
-        self.text_indent = add({"indent": 1, "align": "left"})
-        self.big_value = add({"bold": True, "num_format": NUMBER_FORMAT,
-                              "bg_color": PALETTE["mist"]})
-        self.big_value_date = add({"bold": True, "num_format": DATE_FORMAT,
-                                   "bg_color": PALETTE["mist"]})
-        # top-aligned and left-aligned variants for tables with wrapped text
-        self.label_top = add({"bold": True, "valign": "top", "text_wrap": True})
-        self.section = add({"bold": True, "font_color": PALETTE["ink"], "bottom": 1,
-                            "bottom_color": PALETTE["slate"]})
-        self.int_top = add({"num_format": "0", "align": "center", "valign": "top"})
-        self.prob_top = add({"num_format": PROB_FORMAT, "valign": "top"})
-        self.good_top = add({"font_color": PALETTE["moss"], "bold": True, "valign": "top",
-                             "align": "center"})
-        self.flag_top = add({"bold": True, "font_color": PALETTE["clay"], "valign": "top",
-                             "align": "center"})
-        self.subtitle_wrap = add({"italic": True, "font_color": "#555555", "text_wrap": True,
-                                  "valign": "top"})
-        self.left = add({"align": "left", "valign": "top"})
-        self.num_left = add({"align": "left", "valign": "top", "num_format": "General"})
-        self.date_left = add({"num_format": DATE_FORMAT, "align": "left", "valign": "top"})
+        for name, spec in FORMATS.items():
+            setattr(self, name, wb.add_format(spec))

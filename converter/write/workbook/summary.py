@@ -81,8 +81,11 @@ class _Rows:
                 self.ws.write_string(self.r, col, heads[col], self.fmt.section_head)
             else:
                 self.ws.write_blank(self.r, col, None, self.fmt.section_head)
-        self.fit(self.r, [("0", self.widths[LABEL], 12.0, True)]
-                 + [(t, self.widths[c], DEFAULT_FONT_SIZE, True) for c, t in (heads or {}).items()])
+        self.fit(
+            self.r,
+            [("0", self.widths[LABEL], 12.0, True)]
+            + [(t, self.widths[c], DEFAULT_FONT_SIZE, True) for c, t in (heads or {}).items()],
+        )
         self.r += 1
 
     def line(self, label: str, note: str | None = None, start: int = NOTE) -> int:
@@ -111,9 +114,11 @@ def write_summary(wb, fmt, a, lay: Layout) -> None:
         ws.set_column(col, col, width)
     ws.write_string(0, 0, "Schedule risk summary", fmt.title)
     ws.set_row(0, TITLE_ROW)
-    intro = ("Live formulas and inputs (click one to follow it), except the simulated "
-             "figures: values from the run on the Simulation sheet. Named cells (ProjectMean, "
-             "DueDuration, ...) are in the Name Box. Details on page 2.")
+    intro = (
+        "Live formulas and inputs (click one to follow it), except the simulated "
+        "figures: values from the run on the Simulation sheet. Named cells (ProjectMean, "
+        "DueDuration, ...) are in the Name Box. Details on page 2."
+    )
     ws.merge_range(1, 0, 1, NOTE, intro, fmt.subtitle_wrap)
     out.fit(1, [(intro, merged_width(out.widths))])
     out.r = 2
@@ -148,8 +153,13 @@ def _when(out: _Rows, lay: Layout) -> None:
         if sim is not None:
             conf = rows[round(c, 4)]
             ws.write_number(row, SIM, conf.simulated, fmt.big_value if big else fmt.num)
-            out.date(row, SIM_DATE, f.ref(row, SIM), conf.simulated_date,
-                     fmt.big_value_date if big else None)
+            out.date(
+                row,
+                SIM_DATE,
+                f.ref(row, SIM),
+                conf.simulated_date,
+                fmt.big_value_date if big else None,
+            )
         ws.write_formula(row, CP, f.duration_at(repr(float(c))), fmt.num, a.confidence[c])
         out.date(row, CP_DATE, f.ref(row, CP), a.confidence_dates.get(c))
     row = out.line(f"Expected finish, the mean ({unit})")
@@ -160,12 +170,16 @@ def _when(out: _Rows, lay: Layout) -> None:
     out.name("ProjectMean", row, CP)
     out.date(row, CP_DATE, "ProjectMean", a.finish_date)
     if sim is not None:
-        note = (f"Plan on the simulated figures: {sim.iterations:,} runs of the whole network "
-                "see every path that may finish last. The critical-path figures follow one "
-                "path only, and come out early where paths merge.")
+        note = (
+            f"Plan on the simulated figures: {sim.iterations:,} runs of the whole network "
+            "see every path that may finish last. The critical-path figures follow one "
+            "path only, and come out early where paths merge."
+        )
     else:
-        note = ("Not simulated (converted with --no-simulation): the critical-path figures "
-                "follow one path and understate the finish where parallel paths merge.")
+        note = (
+            "Not simulated (converted with --no-simulation): the critical-path figures "
+            "follow one path and understate the finish where parallel paths merge."
+        )
     ws.merge_range(first, NOTE, out.r - 1, NOTE, note, fmt.note_italic)
     _fit_merged(out, first, out.r - 1, note)
 
@@ -183,22 +197,35 @@ def _how_sure(out: _Rows) -> None:
     sim = a.simulation
     out.section("How sure are we?", {SIM: "Chance"})
     if a.due is None:
-        out.line("Due date", "None given: give one with --due, or a 'Due date' row on a "
-                 "Settings sheet, to see the chance of meeting it.")
+        out.line(
+            "Due date",
+            "None given: give one with --due, or a 'Due date' row on a "
+            "Settings sheet, to see the chance of meeting it.",
+        )
         return
     _due_rows(out)
     if sim is not None and sim.p_meet_due is not None:
-        row = out.line("Simulated chance of meeting the due date",
-                       "The share of the simulated runs that finish by the due date.")
+        row = out.line(
+            "Simulated chance of meeting the due date",
+            "The share of the simulated runs that finish by the due date.",
+        )
         ws.write_number(row, SIM, float(sim.p_meet_due), fmt.big_prob)
-    lower = (sim is not None and sim.p_meet_due is not None and a.p_meet_due is not None
-             and sim.p_meet_due < a.p_meet_due)
-    note = ("From the critical path alone, which overstates it: other paths can finish "
-            "later. Trust the lower, simulated figure." if lower else
-            "From the critical path alone (normal approximation).")
+    lower = (
+        sim is not None
+        and sim.p_meet_due is not None
+        and a.p_meet_due is not None
+        and sim.p_meet_due < a.p_meet_due
+    )
+    note = (
+        "From the critical path alone, which overstates it: other paths can finish "
+        "later. Trust the lower, simulated figure."
+        if lower
+        else "From the critical path alone (normal approximation)."
+    )
     row = out.line("Chance of meeting the due date (critical path)", note)
-    ws.write_formula(row, SIM, f.p_meet("DueDuration", "ProjectMean", "ProjectSD"),
-                     fmt.big_prob, a.p_meet_due)
+    ws.write_formula(
+        row, SIM, f.p_meet("DueDuration", "ProjectMean", "ProjectSD"), fmt.big_prob, a.p_meet_due
+    )
     out.name("PMeetDue", row, SIM)
 
 
@@ -209,12 +236,18 @@ def _due_rows(out: _Rows) -> None:
     unit = st.time_unit
     source = f"From {st.source_of('due')}."
     if a.due_date is not None and not isinstance(st.due, (int, float)):
-        row = out.line(f"Due date ({unit} from the start)",
-                       f"{source} Working time up to the end of that day.")
+        row = out.line(
+            f"Due date ({unit} from the start)", f"{source} Working time up to the end of that day."
+        )
         ws.write_datetime(row, SIM_DATE, _dt(a.due_date), fmt.input_date)
         out.name("DueDate", row, SIM_DATE)
-        ws.write_formula(row, SIM, "=" + cal.offset_of_formula("DueDate", "ProjectStart",
-                                                               out.holidays), fmt.num, a.due)
+        ws.write_formula(
+            row,
+            SIM,
+            "=" + cal.offset_of_formula("DueDate", "ProjectStart", out.holidays),
+            fmt.num,
+            a.due,
+        )
     else:
         row = out.line(f"Due ({unit} from the start)", source)
         ws.write_number(row, SIM, a.due, fmt.input_num)
@@ -228,21 +261,32 @@ def _what_drives(out: _Rows) -> None:
     out.section("What drives it?")
     if sim is not None and a.drivers:
         acts = a.schedule.activities
-        words = "; ".join(f"{a.ids[i]} {acts[i].name} ({_sensitivity(sim.sensitivity[i])})"
-                          for i in a.drivers[:DRIVERS_SHOWN])
-        out.line("Top risk drivers (simulated sensitivity)",
-                 words + ". Their uncertainty moves the finish most: firm up these "
-                 "estimates first (Simulation sheet).", start=SIM)
+        words = "; ".join(
+            f"{a.ids[i]} {acts[i].name} ({_sensitivity(sim.sensitivity[i])})"
+            for i in a.drivers[:DRIVERS_SHOWN]
+        )
+        out.line(
+            "Top risk drivers (simulated sensitivity)",
+            words + ". Their uncertainty moves the finish most: firm up these "
+            "estimates first (Simulation sheet).",
+            start=SIM,
+        )
     crit = " > ".join(a.critical_ids)
     if a.tied_longest > 1:
-        crit += (f" ({a.tied_longest} paths tie for the longest; this one has the largest "
-                 "variance, the cautious choice)")
+        crit += (
+            f" ({a.tied_longest} paths tie for the longest; this one has the largest "
+            "variance, the cautious choice)"
+        )
     out.line("Critical path", crit, start=SIM)
     _riskier(out)
     failed = [c for c in a.checks if not c.passed]
-    text = ("Failed: " + "; ".join(c.name for c in failed) + ". Logic problems (missing "
-            "links, leads, long lags) make the dates and chances unreliable: see the Health "
-            "check sheet." if failed else "None failed.")
+    text = (
+        "Failed: " + "; ".join(c.name for c in failed) + ". Logic problems (missing "
+        "links, leads, long lags) make the dates and chances unreliable: see the Health "
+        "check sheet."
+        if failed
+        else "None failed."
+    )
     row = out.r
     ws.write_string(row, LABEL, "Schedule health checks failed", fmt.label_wrap)
     ws.write_number(row, SIM, len(failed), fmt.flag if failed else fmt.good)
@@ -256,29 +300,36 @@ def _riskier(out: _Rows) -> None:
     riskier = a.riskier_paths
     if not riskier:
         return
-    numbers = ", ".join(str(k + 1) for k in riskier[:20]) + (" ..." if len(riskier) > 20
-                                                             else "")
+    numbers = ", ".join(str(k + 1) for k in riskier[:20]) + (" ..." if len(riskier) > 20 else "")
     words = "; ".join(_path_words(a, k) for k in riskier[:5])
     if len(riskier) > 5:
         words += f"; and {len(riskier) - 5} more"
-    note = (f"{words}. These shorter paths have more spread and a LOWER chance of meeting "
-            "the due date than the critical path, so the critical-path figure overstates "
-            "the chance of finishing on time. See the Paths sheet.")[:32000]
+    note = (
+        f"{words}. These shorter paths have more spread and a LOWER chance of meeting "
+        "the due date than the critical path, so the critical-path figure overstates "
+        "the chance of finishing on time. See the Paths sheet."
+    )[:32000]
     row = out.r
-    ws.write_string(row, LABEL, "Paths riskier than the critical path (path no.)",
-                    fmt.label_wrap)
+    ws.write_string(row, LABEL, "Paths riskier than the critical path (path no.)", fmt.label_wrap)
     ws.write_string(row, SIM, numbers, fmt.flag)
     ws.merge_range(row, CP, row, NOTE, note, fmt.note)
-    out.fit(row, [(note, merged_width(out.widths[CP:]) - 1.0),
-                  ("Paths riskier than the critical path (path no.)", out.widths[LABEL], 10, True)])
+    out.fit(
+        row,
+        [
+            (note, merged_width(out.widths[CP:]) - 1.0),
+            ("Paths riskier than the critical path (path no.)", out.widths[LABEL], 10, True),
+        ],
+    )
     out.r += 1
 
 
 def _critical_path_view(out: _Rows, lay: Layout) -> None:
     a, ws, fmt = out.a, out.ws, out.fmt
     out.section("Critical path view (PERT)")
-    row = out.line("Variance along the critical path",
-                   "Sum of the variances of the activities on path 1 of the Paths sheet.")
+    row = out.line(
+        "Variance along the critical path",
+        "Sum of the variances of the activities on path 1 of the Paths sheet.",
+    )
     ws.write_formula(row, SIM, f"={PATHS}!$C${FIRST + 1}", fmt.num4, a.project_variance)
     out.name("ProjectVariance", row, SIM)
     row = out.line("Standard deviation")
@@ -286,16 +337,23 @@ def _critical_path_view(out: _Rows, lay: Layout) -> None:
     out.name("ProjectSD", row, SIM)
     if a.due is not None:
         row = out.line("z = (due - mean) / sd")
-        ws.write_formula(row, SIM, f.z_score("DueDuration", "ProjectMean", "ProjectSD"),
-                         fmt.num4, a.z if a.z is not None else "n/a")
+        ws.write_formula(
+            row,
+            SIM,
+            f.z_score("DueDuration", "ProjectMean", "ProjectSD"),
+            fmt.num4,
+            a.z if a.z is not None else "n/a",
+        )
         out.name("ZScore", row, SIM)
     if a.p_all_paths is not None:
         k = len(a.paths)
         prange = f"{PATHS}!$F${FIRST + 1}:$F${FIRST + k}"
-        row = out.line(f"Chance all {k} listed paths meet the due date: at least",
-                       "Product of the path chances: a lower bound because paths sharing "
-                       "independent activities are positively associated (Esary, Proschan "
-                       "& Walkup 1967).")
+        row = out.line(
+            f"Chance all {k} listed paths meet the due date: at least",
+            "Product of the path chances: a lower bound because paths sharing "
+            "independent activities are positively associated (Esary, Proschan "
+            "& Walkup 1967).",
+        )
         ws.write_formula(row, SIM, f"=PRODUCT({prange})", fmt.prob, a.p_all_paths[0])
         row = out.line("... and at most", "The smallest single-path chance.")
         ws.write_formula(row, SIM, f"=MIN({prange})", fmt.prob, a.p_all_paths[1])
@@ -306,18 +364,25 @@ def _simulated_view(out: _Rows) -> None:
     sim = a.simulation
     out.section("Simulated view (Monte Carlo, all paths at once)")
     if sim is None:
-        row = out.line("Simulated view", "Converted with --no-simulation: only the "
-                       "single-path view, which understates the finish where parallel "
-                       "paths merge.")
+        row = out.line(
+            "Simulated view",
+            "Converted with --no-simulation: only the "
+            "single-path view, which understates the finish where parallel "
+            "paths merge.",
+        )
         ws.write_string(row, SIM, "not run", fmt.text_right)
         return
-    row = out.line("Run", f"{sim.iterations:,} iterations, seed {sim.seed}, "
-                   f"{sim.distribution} durations; values, not formulas (see Simulation).",
-                   start=SIM)
-    for label, value, style in (("Simulated mean finish", sim.mean, fmt.num),
-                                ("Simulated standard deviation", sim.sd, fmt.num),
-                                ("Merge bias (simulated mean - PERT mean)", sim.merge_bias,
-                                 fmt.num)):
+    row = out.line(
+        "Run",
+        f"{sim.iterations:,} iterations, seed {sim.seed}, "
+        f"{sim.distribution} durations; values, not formulas (see Simulation).",
+        start=SIM,
+    )
+    for label, value, style in (
+        ("Simulated mean finish", sim.mean, fmt.num),
+        ("Simulated standard deviation", sim.sd, fmt.num),
+        ("Merge bias (simulated mean - PERT mean)", sim.merge_bias, fmt.num),
+    ):
         row = out.line(label)
         ws.write_number(row, SIM, float(value), style)
     out.line("Why the two views differ", gap_explanation(a), start=SIM)
@@ -337,8 +402,7 @@ def _about(out: _Rows, lay: Layout) -> None:
     ws.write_formula(row, SIM, f"=COUNTA({lay.column('id')})", fmt.int, len(a.ids))
     row = out.line("Links")
     if a.net.link_count:
-        ws.write_formula(row, SIM, f"=COUNTA({lay.link_column('from')})", fmt.int,
-                         a.net.link_count)
+        ws.write_formula(row, SIM, f"=COUNTA({lay.link_column('from')})", fmt.int, a.net.link_count)
     else:
         ws.write_number(row, SIM, 0, fmt.int)
     warn_n = len(s.warnings)
@@ -350,9 +414,11 @@ def _about(out: _Rows, lay: Layout) -> None:
         row = out.line("Project start", "Offset 0 is the start of this day.")
         ws.write_datetime(row, SIM, _dt(out.cal.start), fmt.input_date)
         out.name("ProjectStart", row, SIM)
-    row = out.line("Float tolerance (counts as zero)",
-                   f"Total float at or below this counts as zero ({f.TOLERANCE_WORDS}), so "
-                   "rounding in the passes does not hide a critical activity.")
+    row = out.line(
+        "Float tolerance (counts as zero)",
+        f"Total float at or below this counts as zero ({f.TOLERANCE_WORDS}), so "
+        "rounding in the passes does not hide a critical activity.",
+    )
     ws.write_formula(row, SIM, f.float_tolerance("ProjectFinish"), fmt.sci, a.float_tolerance)
     out.name("FloatTolerance", row, SIM)
 
@@ -365,8 +431,10 @@ def _path_words(a, k: int) -> str:
     pr = a.paths[k]
     ids = [a.ids[i] for i in pr.path.activities]
     route = " > ".join(ids) if len(ids) <= 6 else " > ".join(ids[:3] + ["..."] + ids[-2:])
-    return (f"path {k + 1} ({route}): expected {pr.path.mean:.1f}, sd {pr.path.sd:.1f}, "
-            f"chance {pr.p_meet_due:.0%}")
+    return (
+        f"path {k + 1} ({route}): expected {pr.path.mean:.1f}, sd {pr.path.sd:.1f}, "
+        f"chance {pr.p_meet_due:.0%}"
+    )
 
 
 def gap_explanation(a) -> str:
@@ -377,25 +445,37 @@ def gap_explanation(a) -> str:
             f"The simulated mean is {sim.merge_bias:.2f} later than the PERT mean: where parallel "
             "paths merge, the finish is the LATEST of them, and the expected maximum of several "
             "uncertain paths exceeds the longest expected path (merge bias; MacCrimmon & Ryavec "
-            "1964). The single-path PERT figure ignores the other paths.")
+            "1964). The single-path PERT figure ignores the other paths."
+        )
     else:
-        parts.append("The simulated mean is close to the PERT mean: little merging of "
-                     "competing paths.")
+        parts.append(
+            "The simulated mean is close to the PERT mean: little merging of competing paths."
+        )
     if sim.p_meet_due is not None and a.p_meet_due is not None:
         if sim.p_meet_due < a.p_meet_due:
-            parts.append(f"The simulated chance of meeting the due date ({sim.p_meet_due:.1%}) "
-                         f"is below the critical-path figure ({a.p_meet_due:.1%}); trust the "
-                         "lower one.")
+            parts.append(
+                f"The simulated chance of meeting the due date ({sim.p_meet_due:.1%}) "
+                f"is below the critical-path figure ({a.p_meet_due:.1%}); trust the "
+                "lower one."
+            )
         else:
-            parts.append(f"The simulated chance ({sim.p_meet_due:.1%}) is not below the "
-                         f"critical-path figure ({a.p_meet_due:.1%}).")
+            parts.append(
+                f"The simulated chance ({sim.p_meet_due:.1%}) is not below the "
+                f"critical-path figure ({a.p_meet_due:.1%})."
+            )
     if sim.correlation > 0 and sim.independent is not None:
-        parts.append(f"Correlation {sim.correlation:g} within groups widens the spread: sd "
-                     f"{sim.sd:.2f} against {sim.independent.sd:.2f} if independent.")
+        parts.append(
+            f"Correlation {sim.correlation:g} within groups widens the spread: sd "
+            f"{sim.sd:.2f} against {sim.independent.sd:.2f} if independent."
+        )
     if sim.distribution == "pert":
-        parts.append("The simulation samples beta-shaped durations whose variance is "
-                     "(mu-a)(b-mu)/7, not the rounder ((b-a)/6)^2 of the PERT formula.")
+        parts.append(
+            "The simulation samples beta-shaped durations whose variance is "
+            "(mu-a)(b-mu)/7, not the rounder ((b-a)/6)^2 of the PERT formula."
+        )
     else:
-        parts.append(f"The simulation samples {sim.distribution} durations, whose spread "
-                     "differs from the ((b-a)/6)^2 of the PERT formula.")
+        parts.append(
+            f"The simulation samples {sim.distribution} durations, whose spread "
+            "differs from the ((b-a)/6)^2 of the PERT formula."
+        )
     return " ".join(parts)

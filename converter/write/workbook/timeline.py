@@ -16,8 +16,15 @@ from converter.write.workbook.layout import TIMELINE, Layout
 from converter.write.workbook.rows import merged_width, row_height, rows_spanned, shorten
 from converter.write.workbook.styles import PALETTE, TABLE_HEAD_SIZE, TITLE_ROW
 
-HEADS = ["Activity", "Early start", "Critical", "Not critical", "Total float", "Milestone",
-         "Label on the chart"]
+HEADS = [
+    "Activity",
+    "Early start",
+    "Critical",
+    "Not critical",
+    "Total float",
+    "Milestone",
+    "Label on the chart",
+]
 WIDTHS = [9.0, 10.5, 9.0, 9.0, 9.0, 9.0, 30.0]
 CHART_COL = len(WIDTHS) + 1  # past a gap column
 LABEL_CHARS = 30
@@ -25,13 +32,17 @@ TOP = 3  # the header row (the table's first row is the sheet's row 5)
 
 
 def _note(a, rows: list[int], cut: bool) -> str:
-    note = ("Dark bars: critical activities; green: the others; amber: total float (how far "
-            "the activity can slip without moving the finish).")
+    note = (
+        "Dark bars: critical activities; green: the others; amber: total float (how far "
+        "the activity can slip without moving the finish)."
+    )
     if any(float(a.te[i]) == 0.0 for i in rows):
         note += " A short red mark: a milestone."
     if cut:
-        note += (f" The schedule has {len(a.ids):,} activities: only the {len(rows)} on the "
-                 "listed near-critical paths or with the least float are charted.")
+        note += (
+            f" The schedule has {len(a.ids):,} activities: only the {len(rows)} on the "
+            "listed near-critical paths or with the least float are charted."
+        )
     return note
 
 
@@ -75,14 +86,17 @@ def _write_row(ws, fmt, a, lay: Layout, r: int, k: int, i: int) -> None:
         ws.write_formula(r, 1, "=" + lay.cell(i, "es", True), fmt.num, bars.start[k])
         length = te
         slack = f"MAX(0,{lay.cell(i, 'tf', True)})"
-    ws.write_formula(r, 2, f'=IF({crit}="Yes",{length},0)', fmt.num,
-                     bars.length[k] if critical else 0.0)
-    ws.write_formula(r, 3, f'=IF({crit}="Yes",0,{length})', fmt.num,
-                     0.0 if critical else bars.length[k])
+    ws.write_formula(
+        r, 2, f'=IF({crit}="Yes",{length},0)', fmt.num, bars.length[k] if critical else 0.0
+    )
+    ws.write_formula(
+        r, 3, f'=IF({crit}="Yes",0,{length})', fmt.num, 0.0 if critical else bars.length[k]
+    )
     ws.write_formula(r, 4, "=" + slack, fmt.num, bars.float_[k])
     milestone = float(a.te[i]) == 0.0
-    ws.write_formula(r, 5, f"=IF({te}=0,{bars.marker!r},0)", fmt.num,
-                     bars.marker if milestone else 0.0)
+    ws.write_formula(
+        r, 5, f"=IF({te}=0,{bars.marker!r},0)", fmt.num, bars.marker if milestone else 0.0
+    )
     name = a.schedule.activities[i].name
     ws.write_string(r, 6, shorten(f"{a.ids[i]} {name}".strip(), LABEL_CHARS), fmt.text_indent)
 
@@ -99,30 +113,40 @@ def _chart(wb, a, first: int, last: int, height: int):
     cats = [TIMELINE, first, 6, last, 6]
 
     def series(name: str, col: int, **look) -> None:
-        chart.add_series({"name": name, "categories": cats,
-                          "values": [TIMELINE, first, col, last, col], **look})
+        chart.add_series(
+            {"name": name, "categories": cats, "values": [TIMELINE, first, col, last, col], **look}
+        )
 
     chart = wb.add_chart({"type": "bar", "subtype": "stacked"})
     series("Early start", 1, fill={"none": True}, border={"none": True})
     series("Milestone", 5, fill={"color": PALETTE["clay"]}, border={"none": True}, gap=35)
     series("Critical", 2, fill={"color": PALETTE["ink"]}, border={"none": True})
     series("Not critical", 3, fill={"color": PALETTE["moss"]}, border={"none": True})
-    series("Total float", 4, fill={"color": PALETTE["amber"], "transparency": 45},
-           border={"color": PALETTE["amber"], "dash_type": "dash"})
+    series(
+        "Total float",
+        4,
+        fill={"color": PALETTE["amber"], "transparency": 45},
+        border={"color": PALETTE["amber"], "dash_type": "dash"},
+    )
     grid = {"visible": True, "line": {"color": "#E3E3E3"}}
     if bars.dates:
-        span = max((s + n + f for s, n, f in zip(bars.start, bars.length, bars.float_)),
-                   default=0.0) - serial(a.calendar.start)
-        x_axis = {"name": "Date", "min": serial(a.calendar.start), "num_format": "d mmm yy",
-                  "major_unit": 7 * max(1, math.ceil(span / 7 / 12)),
-                  "num_font": {"rotation": -45, "size": 9}}
+        span = max(
+            (s + n + f for s, n, f in zip(bars.start, bars.length, bars.float_)), default=0.0
+        ) - serial(a.calendar.start)
+        x_axis = {
+            "name": "Date",
+            "min": serial(a.calendar.start),
+            "num_format": "d mmm yy",
+            "major_unit": 7 * max(1, math.ceil(span / 7 / 12)),
+            "num_font": {"rotation": -45, "size": 9},
+        }
     else:
         x_axis = {"name": f"Time ({a.schedule.settings.time_unit}) from the start", "min": 0}
     chart.set_x_axis({**x_axis, "major_gridlines": grid})
-    chart.set_y_axis({"reverse": True, "crossing": "max", "name": "Activity",
-                      "num_font": {"size": 9}})  # the first at the top, the dates below
-    chart.set_title({"name": "Schedule on expected times",
-                     "name_font": {"size": 12, "bold": True}})
+    chart.set_y_axis(
+        {"reverse": True, "crossing": "max", "name": "Activity", "num_font": {"size": 9}}
+    )  # the first at the top, the dates below
+    chart.set_title({"name": "Schedule on expected times", "name_font": {"size": 12, "bold": True}})
     chart.set_legend({"none": True})  # a key in cells instead: viewers drop legend entries
     chart.set_size({"width": 900, "height": height})
     return chart
@@ -130,12 +154,20 @@ def _chart(wb, a, first: int, last: int, height: int):
 
 def _key(wb, ws, milestones: bool) -> None:
     """The colour key, in cells above the chart."""
-    key = [("Critical", PALETTE["ink"], "#FFFFFF"), ("Not critical", PALETTE["moss"], "#FFFFFF"),
-           ("Total float", PALETTE["amber"], "#000000")]
+    key = [
+        ("Critical", PALETTE["ink"], "#FFFFFF"),
+        ("Not critical", PALETTE["moss"], "#FFFFFF"),
+        ("Total float", PALETTE["amber"], "#000000"),
+    ]
     if milestones:
         key.append(("Milestone", PALETTE["clay"], "#FFFFFF"))
     for k, (label, fill, ink) in enumerate(key):
         col = CHART_COL + 2 * k
-        ws.merge_range(2, col, 2, col + 1, label,
-                       wb.add_format({"bg_color": fill, "font_color": ink, "bold": True,
-                                      "align": "center"}))
+        ws.merge_range(
+            2,
+            col,
+            2,
+            col + 1,
+            label,
+            wb.add_format({"bg_color": fill, "font_color": ink, "bold": True, "align": "center"}),
+        )
