@@ -163,7 +163,11 @@ def result_tags(suffix: str):
 
 
 def _key(path: Path) -> str:
-    return os.path.normcase(str(path.resolve()))
+    try:
+        resolved = str(path.resolve())
+    except (OSError, RuntimeError):  # a symbolic link loop: its own name stands for it
+        resolved = os.path.abspath(path)
+    return os.path.normcase(resolved)
 
 
 class InputIndex:

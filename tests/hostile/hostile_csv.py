@@ -309,9 +309,6 @@ FILES = [
         link_loop,
         "plan.csv",
         regular=False,
-        defect="convert on a symbolic link loop ends in a traceback (RuntimeError 'Symlink "
-        "loop' from Path.resolve in cli.InputIndex) before any input is converted; "
-        "converter/cli.py (output names)",
     ),
     valid("file-link-to-regular-file", "plan.xlsx", link_to_good, READ),
 ]
