@@ -323,9 +323,6 @@ NAMES = [
         "plan-\udcff\udcfe.csv",
         csv_of(BASE),
         READ,
-        defect="a file name that is not UTF-8 (bytes ff fe) gives 'internal error: "
-        "UnicodeEncodeError ... surrogates not allowed' when the workbook is written "
-        "(xlsxwriter shared strings); converter/write",
     ),
     valid("name-leading-dash", "-rf --help.csv", csv_of(BASE), READ),
     valid("name-decomposed-accent", "Cafe\u0301 plan.xlsx", base_xlsx, READ),

@@ -362,21 +362,18 @@ ODD = [
         book(replaced(3, 4, "\x1b[2J")),
         "Plan!E3",
         "T2",
-        defect=f"an estimate's escape sequence is printed raw; {RAW}",
     ),
     invalid(
         "odd-escape-sequence-in-duplicate-id",
         "plan.xlsx",
         book(rows_with([ESCAPES, "one", None, 1, 1, 1], [ESCAPES, "two", None, 1, 1, 1])),
         "Plan!A7",
-        defect=f"an ID's escape sequence is printed raw in the messages; {RAW}",
     ),
     valid(
         "odd-escape-sequence-in-file-name",
         "plan\x1b]0;owned\x07\x1b[2J.csv",
         lambda p: write_csv(p, BASE),
         {"T1": {"te": BASE_TE["T1"]}},
-        defect=f"the file name's escape sequence is printed raw (check and convert); {RAW}",
     ),
     valid(
         "odd-escaped-lone-surrogate",
