@@ -248,10 +248,6 @@ LONG = ("Long description " * 1928)[:32755] + "end of 32767"  # 32,767 character
 LONG_ID = "L" * 32767
 #: An operating-system command (set the window title) and "clear the screen" (ECMA-48).
 ESCAPES = "\x1b]0;owned\x07\x1b[2JX"
-RAW = (
-    "control characters of the input reach the terminal (CWE-150); converter/cli.py "
-    "(messages and names printed)"
-)
 CONTROL = "bell\x07 escape\x1b[31mred\x1b[0m nul-free \x01\x02\x1f end"
 
 
