@@ -34,6 +34,7 @@ from converter.terminal import (
     _print_problems,
     make_console,
     print_headline,
+    say,
 )
 
 EXIT_OK, EXIT_FAULT, EXIT_INVALID = 0, 1, 2
@@ -163,7 +164,11 @@ def result_tags(suffix: str):
 
 
 def _key(path: Path) -> str:
-    return os.path.normcase(str(path.resolve()))
+    try:
+        resolved = str(path.resolve())
+    except (OSError, RuntimeError):  # a symbolic link loop: its own name stands for it
+        resolved = os.path.abspath(path)
+    return os.path.normcase(resolved)
 
 
 class InputIndex:
@@ -213,7 +218,7 @@ def _targets(args) -> list[Target]:
             if _key(xlsx) not in given:
                 break
         if tag:
-            sys.stderr.write(f"{name}: another input has the same name; writing {xlsx.name}\n")
+            say(sys.stderr, f"{name}: another input has the same name; writing {xlsx.name}\n")
         given.add(_key(xlsx))
         target = Target(name, xlsx, js)
         for result in (xlsx, js) if args.json else (xlsx,):
@@ -239,21 +244,21 @@ def _convert_one(
             options.progress = progress if show_progress else None
             result = convert(name, options, workbook_path=xlsx, json_path=js)
     except OSError as exc:  # the output folder or disk, not the schedule
-        sys.stderr.write(f"{name}: cannot write the results: {exc}\n")
+        say(sys.stderr, f"{name}: cannot write the results: {exc}\n")
         if args.debug:
             traceback.print_exc()
         return EXIT_FAULT, None
     except (PertbookError, Exception) as exc:  # noqa: BLE001 - the tool's own fault
-        sys.stderr.write(f"{name}: internal error: {type(exc).__name__}: {exc}\n")
+        say(sys.stderr, f"{name}: internal error: {type(exc).__name__}: {exc}\n")
         if args.debug:
             traceback.print_exc()
         else:
-            sys.stderr.write("(run with --debug for the traceback; please report it)\n")
+            say(sys.stderr, "(run with --debug for the traceback; please report it)\n")
         return EXIT_FAULT, None
     _print_problems(name, result.problems, sys.stderr)
     if not result.ok:
         n = sum(1 for p in result.problems if p.severity == ERROR)
-        sys.stderr.write(f"{name}: invalid input ({n} problem(s)); no workbook written\n")
+        say(sys.stderr, f"{name}: invalid input ({n} problem(s)); no workbook written\n")
         return EXIT_INVALID, result
     return EXIT_OK, result
 
@@ -264,7 +269,7 @@ def cmd_convert(args) -> int:
     worst, shown = EXIT_OK, 0
     for target in _targets(args):
         if target.refused:
-            sys.stderr.write(target.refused + "\n")
+            say(sys.stderr, target.refused + "\n")
             worst = max(worst, EXIT_INVALID, key=_RANK.__getitem__)
             continue
         name = target.name
@@ -286,13 +291,15 @@ def cmd_check(args) -> int:
             result = check(name)
             _print_problems(name, result.problems, sys.stderr)
             code = EXIT_OK if result.ok else EXIT_INVALID
-            print(
+            say(
+                sys.stdout,
                 f"{name}: {'valid' if result.ok else 'INVALID'}"
                 + (f" (activity sheet {result.sheet})" if result.sheet else "")
+                + "\n",
             )
         except Exception as exc:  # noqa: BLE001
             code = EXIT_FAULT
-            sys.stderr.write(f"{name}: internal error: {type(exc).__name__}: {exc}\n")
+            say(sys.stderr, f"{name}: internal error: {type(exc).__name__}: {exc}\n")
             if args.debug:
                 traceback.print_exc()
         if _RANK[code] > _RANK[worst]:
@@ -305,13 +312,13 @@ def cmd_template(args) -> int:
 
     out = Path(args.output)
     if out.exists() and not args.force:
-        sys.stderr.write(f"{out} exists; not overwritten (use --force to replace it)\n")
+        say(sys.stderr, f"{out} exists; not overwritten (use --force to replace it)\n")
         return EXIT_INVALID
     if out.suffix.lower() != ".xlsx":
-        sys.stderr.write(f"{out}: the template is an .xlsx workbook; name it *.xlsx\n")
+        say(sys.stderr, f"{out}: the template is an .xlsx workbook; name it *.xlsx\n")
         return EXIT_INVALID
     write_template(out)
-    print(f"wrote {out}")
+    say(sys.stdout, f"wrote {out}\n")
     return EXIT_OK
 
 

@@ -13,12 +13,20 @@ from pathlib import Path
 
 from rich.console import Console
 from rich.table import Table
+from rich.text import Text
 
 from converter.api import ConvertResult
 from converter.model import ERROR
+from converter.values import printable
 
 #: Width for output that is not a terminal (a file, a pipe): wide enough never to wrap.
 REDIRECTED_WIDTH = 200
+
+
+def say(stream, text: str) -> None:
+    """Write ``text`` to ``stream`` with its control characters escaped (:func:`printable`):
+    every line the command line prints goes through here or through a rich ``Text``."""
+    stream.write(printable(text))
 
 
 def make_console(stream) -> Console:
@@ -128,7 +136,7 @@ def headline_table(name: str, h: dict) -> Table:
     simulated = "simulated_mean" in h
     dated = h.get("start_date") is not None
     table = Table(box=None, show_edge=False, pad_edge=False, padding=(0, 2, 0, 0))
-    table.add_column(Path(name).name, style="bold", no_wrap=True)
+    table.add_column(Text(printable(Path(name).name)), style="bold", no_wrap=True)
     sources = [("simulation", 1), ("critical path", 0)] if simulated else [("critical path", 0)]
     for title, _ in sources:
         table.add_column(title.capitalize(), justify="right", no_wrap=True)
@@ -166,7 +174,7 @@ def print_headline(console: Console, name: str, result: ConvertResult) -> None:
     console.print(headline_table(name, result.headline))
     for path in (result.workbook, result.json_path):
         if path is not None:
-            console.print(f"{name}: wrote {path}", soft_wrap=True, markup=False)
+            console.print(Text(printable(f"{name}: wrote {path}")), soft_wrap=True)
 
 
 # --------------------------------------------------------------------------- commands
@@ -181,9 +189,10 @@ def _print_problems(path: str, problems, stream) -> None:
             warnings += 1
             if warnings > WARNINGS_SHOWN:
                 continue
-        stream.write(f"{path}: {p}\n")
+        say(stream, f"{path}: {p}\n")
     if warnings > WARNINGS_SHOWN:
-        stream.write(
+        say(
+            stream,
             f"{path}: ... and {warnings - WARNINGS_SHOWN} more warning(s), all listed "
-            "on the workbook's Warnings sheet\n"
+            "on the workbook's Warnings sheet\n",
         )

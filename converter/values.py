@@ -92,6 +92,39 @@ def _number_text(x: float) -> str:
     return repr(x)
 
 
+#: C0 controls but tab and line feed, DEL, C1 controls, and lone surrogates (a file name's
+#: undecodable bytes under ``surrogateescape`` among them).
+_UNPRINTABLE = re.compile("[\x00-\x08\x0b-\x1f\x7f-\x9f\ud800-\udfff]")
+
+
+def _escape(match: re.Match) -> str:
+    code = ord(match.group())
+    if 0xDC80 <= code <= 0xDCFF:  # a byte that was not UTF-8, kept by surrogateescape
+        return f"\\x{code - 0xDC00:02x}"
+    return f"\\x{code:02x}" if code < 0x100 else f"\\u{code:04x}"
+
+
+def printable(text: str) -> str:
+    r"""``text`` safe to print or log: control characters as visible escapes.
+
+    Every C0 control character but tab and line feed, DEL and every C1 control character
+    become ``\xNN`` (so an escape sequence from a cell or a file name cannot drive the
+    terminal, CWE-150 "Improper Neutralization of Escape, Meta, or Control Sequences");
+    a byte of a file name that was not UTF-8 (``os.fsdecode``'s ``surrogateescape``)
+    becomes ``\xNN`` of that byte, another lone surrogate ``\uNNNN``, so the text always
+    encodes as UTF-8.
+
+    Examples
+    --------
+    >>> print(printable("plan\x1b[2J.csv"), printable("bell\x07"), printable("two\nlines"))
+    plan\x1b[2J.csv bell\x07 two
+    lines
+    >>> print(printable("plan-\udcff\udcfe.csv"), printable("\x9b"), printable("\ud800"))
+    plan-\xff\xfe.csv \x9b \ud800
+    """
+    return _UNPRINTABLE.sub(_escape, text)
+
+
 def shown(value: object) -> str:
     """A cell's value as the user typed or sees it, for messages.
 

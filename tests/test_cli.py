@@ -17,6 +17,7 @@ from __future__ import annotations
 import datetime as dt
 import json
 import math
+import os
 import re
 import zipfile
 
@@ -832,3 +833,22 @@ def test_confidence_default_shown_in_help_reads_back_as_the_default():
     shown = re.search(r"\(default ([\d,.%]+)\)", entry).group(1)
     assert shown == "50,80,90,95%"
     assert parse_confidence(shown) == DEFAULT_CONFIDENCE == (0.5, 0.8, 0.9, 0.95)
+
+
+def test_control_characters_of_the_input_are_printed_escaped(tmp_path):
+    # An escape sequence in a file name and in an estimate ("clear the screen", ECMA-48)
+    # and a name that is not UTF-8 (bytes ff fe): printed as visible \xNN escapes, never
+    # raw (CWE-150), and rich's markup in a name is printed as typed.
+    rows = [list(r) for r in GOOD_ROWS]
+    rows[1][4] = "\x1b[2J"
+    odd = write_csv(tmp_path / "plan\x1b[31m[bold].csv", rows)
+    good = write_csv(tmp_path / os.fsdecode(b"good-\xff\xfe.csv"), GOOD_ROWS)
+    checked = run_cli("check", odd, good)
+    converted = run_cli("convert", odd, good, "--outdir", tmp_path / "out")
+    for proc in (checked, converted):
+        text = proc.stdout + proc.stderr
+        assert "Traceback" not in text and "\x1b" not in text
+        assert "plan\\x1b[31m[bold].csv" in text and "\\x1b[2J" in text
+        assert "good-\\xff\\xfe.csv" in text
+    assert checked.returncode == converted.returncode == 2
+    assert (tmp_path / "out" / os.fsdecode(b"good-\xff\xfe.analysis.xlsx")).exists()

@@ -187,6 +187,29 @@ def _due_offset(value, calendar: Calendar | None) -> tuple[float | None, dt.date
     return due, (calendar.finish_date(due) if calendar else None)
 
 
+def _network(schedule: Schedule, index: dict[str, int]) -> Network:
+    links = schedule.links
+    return build_network(
+        len(schedule.activities),
+        [index[lk.pred] for lk in links],
+        [index[lk.succ] for lk in links],
+        [lk.code for lk in links],
+        [lk.lag for lk in links],
+    )
+
+
+def _path_results(found: list, due: float | None) -> list[PathResult]:
+    """Each listed path with its z and chance of meeting the due date (PERT)."""
+    if due is None:
+        return [PathResult(path, None, None) for path in found]
+    return [
+        PathResult(
+            path, pert.z_score(due, path.mean, path.sd), pert.p_meet(due, path.mean, path.sd)
+        )
+        for path in found
+    ]
+
+
 def analyse(schedule: Schedule, options=None) -> Analysis:
     """Run every stage on a validated schedule."""
     s = schedule.settings
@@ -198,31 +221,13 @@ def analyse(schedule: Schedule, options=None) -> Analysis:
     p = np.array([a.pessimistic for a in acts], dtype=float)
     te = pert.expected_time(o, m, p)
     var = pert.variance(o, p)
-    links = schedule.links
-    net = build_network(
-        len(acts),
-        [index[lk.pred] for lk in links],
-        [index[lk.succ] for lk in links],
-        [lk.code for lk in links],
-        [lk.lag for lk in links],
-    )
+    net = _network(schedule, index)
     cpm = run_cpm(net, te)
     calendar = Calendar.from_settings(s) if s.start_date is not None else None
     due, due_date = _due_offset(s.due, calendar)
 
     found = k_longest_paths(net, te, var, max(1, s.paths))
-    path_results = []
-    for path in found:
-        if due is None:
-            path_results.append(PathResult(path, None, None))
-        else:
-            path_results.append(
-                PathResult(
-                    path,
-                    pert.z_score(due, path.mean, path.sd),
-                    pert.p_meet(due, path.mean, path.sd),
-                )
-            )
+    path_results = _path_results(found, due)
     critical = found[0]
     project_mean = float(cpm.finish)
     project_variance = float(critical.variance)

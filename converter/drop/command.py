@@ -15,6 +15,7 @@ import sys
 from converter.api import ConvertOptions
 from converter.drop.health import describe
 from converter.drop.loop import Watcher
+from converter.values import printable
 
 PARTS = ("inbox", "outbox", "archive", "failed")
 
@@ -127,5 +128,5 @@ def run_watch(args: argparse.Namespace, options: ConvertOptions) -> int:
     try:
         return watcher_from_args(args, options).run()
     except OSError as exc:
-        print(f"pertbook watch: {describe(exc)}", file=sys.stderr)
+        print(printable(f"pertbook watch: {describe(exc)}"), file=sys.stderr)
         return 1

@@ -8,6 +8,16 @@ import time
 from pathlib import Path
 
 from converter.drop.plan import FULL_ERRNOS
+from converter.values import printable
+
+
+class PrintableFormatter(logging.Formatter):
+    """A formatter whose lines have their control characters escaped (:func:`printable`):
+    a file name or a cell's text in a message cannot drive the terminal or forge the log,
+    and a file name that is not UTF-8 is written as its bytes' escapes."""
+
+    def format(self, record: logging.LogRecord) -> str:
+        return printable(super().format(record))
 
 
 def new_logger() -> logging.Logger:
@@ -20,7 +30,7 @@ def new_logger() -> logging.Logger:
 
 def open_log(logger: logging.Logger, log_path: Path | None, *, echo: bool = True) -> None:
     """Send ``logger`` to a rotating ``log_path`` (1 MB x 5) and, if ``echo``, to stderr."""
-    fmt = logging.Formatter("%(asctime)s  %(levelname)-7s  %(message)s", "%Y-%m-%d %H:%M:%S")
+    fmt = PrintableFormatter("%(asctime)s  %(levelname)-7s  %(message)s", "%Y-%m-%d %H:%M:%S")
     if log_path is not None:
         handler = logging.handlers.RotatingFileHandler(
             log_path, maxBytes=1_000_000, backupCount=5, encoding="utf-8", delay=True

@@ -23,7 +23,7 @@ from __future__ import annotations
 import codecs
 import csv
 from collections.abc import Callable
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 from converter.read.limits import LimitExceeded, ReadLimits
 
@@ -154,10 +154,14 @@ def read_csv(
     """
     text, encoding = decode(data)
     sample = text[:65536]
+    # the sample alone is small: a delimiter is ranked by its headers even when its rows
+    # are wider than the column limit, so that the limit, not a missing column, is reported
+    # when the whole file is parsed with it
+    wide = replace(limits, columns=len(sample) + 1, cells=len(sample) + 1)
     best, best_rank = ",", None
     for k, delimiter in enumerate(CSV_DELIMITERS):
         try:
-            head = parse(sample, delimiter, limits, first=HEADER_ROWS_TRIED)
+            head = parse(sample, delimiter, wide, first=HEADER_ROWS_TRIED)
         except (ValueError, LimitExceeded):
             continue
         widest = max((len(r) for r in head), default=0)

@@ -22,6 +22,7 @@ from converter.read.sheets import ACTIVITY_ALIASES, REQUIRED_ACTIVITY, SheetData
 from converter.read.source import NotAFile, read_bounded
 from converter.read.workbook import WrongKind, read_cells, scan_workbook
 from converter.read.xls_scan import Encrypted
+from converter.values import printable
 
 RESAVE = "Open the file in a spreadsheet program and save it again."
 
@@ -50,7 +51,7 @@ def _problem(
 def load_sheets(path: Path, limits: ReadLimits | None = None) -> Loaded:
     """Read ``path`` within ``limits`` (default: the module constants and environment)."""
     limits = limits or ReadLimits.from_environment()
-    where = path.name
+    where = printable(path.name)  # a name that is not UTF-8 as its bytes' escapes
     try:
         content = read_bounded(path, limits.file_bytes)
     except NotAFile as exc:
@@ -87,7 +88,7 @@ def load_sheets(path: Path, limits: ReadLimits | None = None) -> Loaded:
     try:
         if suffix == ".csv":
             text = read_csv(content.data, limits, _header_rank)
-            loaded.sheets = [SheetData(name=path.name, rows=text.rows)]
+            loaded.sheets = [SheetData(name=where, rows=text.rows)]
             loaded.notes.extend(text.notes)
         else:
             loaded.sheets = _workbook(path, content.data, kind, limits, loaded.notes)
@@ -111,7 +112,8 @@ def _workbook(
     kind, scans = scan_workbook(data, kind, limits)
     expected = {".xlsx": "xlsx", ".xlsm": "xlsx", ".xls": "xls", ".ods": "ods"}
     if expected[path.suffix.lower()] != kind:
-        notes.append(f"{path.name} is {WORDS[kind]} by its content; it was read as one.")
+        name = printable(path.name)
+        notes.append(f"{name} is {WORDS[kind]} by its content; it was read as one.")
     return [
         SheetData(name=name, rows=rows, error_cells=errors)
         for name, rows, errors in read_cells(data, scans, limits)

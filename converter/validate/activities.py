@@ -22,7 +22,7 @@ from converter.read.sheets import (
     cell_name,
 )
 from converter.validate.problems import Collector
-from converter.values import LARGEST_DURATION, id_text, is_blank, parse_number
+from converter.values import LARGEST_DURATION, id_text, is_blank, parse_number, shown
 
 FIELD_TITLES = {
     "id": "ID",
@@ -255,7 +255,7 @@ def _estimate_values(row, cols, r, sheet, ident, out: Collector) -> dict | None:
         if x < 0:
             out.error(
                 "negative-estimate",
-                f"{FIELD_TITLES[key]} estimate {x:g} is negative",
+                f"{FIELD_TITLES[key]} estimate {shown(x)} is negative",
                 sheet,
                 where,
                 ident,
@@ -265,7 +265,7 @@ def _estimate_values(row, cols, r, sheet, ident, out: Collector) -> dict | None:
         elif x > LARGEST_DURATION:
             out.error(
                 "too-large",
-                f"{FIELD_TITLES[key]} estimate {x:g} is more than "
+                f"{FIELD_TITLES[key]} estimate {shown(x)} is more than "
                 f"{LARGEST_DURATION:,.0f} time units, the longest duration pertbook "
                 "computes with",
                 sheet,
@@ -312,7 +312,8 @@ def read_estimates(row, cols, r, sheet, ident, out: Collector):
             return m, m, m, True
         out.warn(
             "deterministic",
-            f"only a most likely value ({m:g}) is given: treated as a fixed duration (O = M = P)",
+            f"only a most likely value ({shown(m)}) is given: treated as a fixed duration "
+            "(O = M = P)",
             sheet,
             m_cell,
             ident,
@@ -334,7 +335,7 @@ def read_estimates(row, cols, r, sheet, ident, out: Collector):
     if o == m == p and m > 0:
         out.warn(
             "deterministic",
-            f"O = M = P = {m:g}: a fixed duration with no spread",
+            f"O = M = P = {shown(m)}: a fixed duration with no spread",
             sheet,
             m_cell,
             ident,
@@ -348,7 +349,7 @@ def _in_order(o, m, p, p_cell, m_cell, sheet, ident, out: Collector) -> bool:
     if m < o:
         out.error(
             "order",
-            f"most likely {m:g} is less than optimistic {o:g} (need O <= M <= P)",
+            f"most likely {shown(m)} is less than optimistic {shown(o)} (need O <= M <= P)",
             sheet,
             m_cell,
             ident,
@@ -358,7 +359,7 @@ def _in_order(o, m, p, p_cell, m_cell, sheet, ident, out: Collector) -> bool:
     if p < m:
         out.error(
             "order",
-            f"pessimistic {p:g} is less than most likely {m:g} (need O <= M <= P)",
+            f"pessimistic {shown(p)} is less than most likely {shown(m)} (need O <= M <= P)",
             sheet,
             p_cell,
             ident,
@@ -366,6 +367,12 @@ def _in_order(o, m, p, p_cell, m_cell, sheet, ident, out: Collector) -> bool:
         )
         ok = False
     if p < o and ok:
-        out.error("order", f"pessimistic {p:g} is less than optimistic {o:g}", sheet, p_cell, ident)
+        out.error(
+            "order",
+            f"pessimistic {shown(p)} is less than optimistic {shown(o)}",
+            sheet,
+            p_cell,
+            ident,
+        )
         ok = False
     return ok

@@ -12,6 +12,9 @@ Rather than run the analysis, a cheap upper bound of every offset it can date is
   of the mean (the fixed tables' reach, or the most extreme confidence level asked for),
   and no path's standard deviation exceeds the square root of the sum of all
   activities' PERT variances ``((P - O) / 6)^2``;
+* the mean finish is at least every activity's own PERT mean ``(O + 4M + P) / 6`` (no
+  start is before 0), so the lowest quantile dated is no earlier than the largest of
+  them less the spread: only that much before the start must fit before 1900-03-01;
 * a due or target duration is dated as it is.
 
 The bound in working days is turned into calendar days, again from above: ``q`` whole
@@ -152,10 +155,12 @@ def check_dates_fit(
     targets = [a.target for a in activities if isinstance(a.target, float)]
     due = settings.due if isinstance(settings.due, float) else 0.0
     latest = max(longest + spread, due, *targets)
+    shortest = max((a.optimistic + 4 * a.most_likely + a.pessimistic) / 6.0 for a in activities)
+    before = max(spread - shortest, 0.0)  # how far the lowest dated quantile precedes 0
     room_after = (LAST_DATE - start).days
     room_before = (start - FIRST_DATE).days
     if calendar_days_for(latest, settings) <= room_after and (
-        spread == 0 or calendar_days_for(spread, settings) <= room_before
+        before == 0 or calendar_days_for(before, settings) <= room_before
     ):
         return
     unit = settings.time_unit
@@ -176,7 +181,7 @@ def check_dates_fit(
     after = calendar_days_for(latest, settings) > room_after
     if not after:
         reach = (
-            f"the low end of the finish's spread, {spread:,.4g} {unit} before the "
+            f"the low end of the finish's spread, {before:,.4g} {unit} before the "
             f"start, would fall before {FIRST_DATE.isoformat()}"
         )
     elif latest == longest + spread:

@@ -68,7 +68,7 @@ def parse_link_token(token: str) -> tuple[str, str, float] | str:
     kind = (s.group("type") or "FS").upper()
     lag = float(s.group("lag")) if s.group("lag") else 0.0  # a plain number by _SPEC
     if not abs(lag) <= LARGEST_LAG:
-        size = f"{lag:g}" if math.isfinite(lag) else "too large a number"
+        size = _short(s.group("lag")) if math.isfinite(lag) else "too large a number"
         return (
             f'"{_short(token)}": the lag ({size}) is beyond {LARGEST_LAG:,.0f} time units '
             "either way, the longest lag or lead pertbook computes with"
@@ -252,7 +252,7 @@ def _link_row(book: LinkBook, match: TableMatch, r: int, vals: dict):
             if abs(lag) > LARGEST_LAG:
                 out.error(
                     "too-large",
-                    f"lag {lag:g} is beyond {LARGEST_LAG:,.0f} time units "
+                    f"lag {shown(lag)} is beyond {LARGEST_LAG:,.0f} time units "
                     "either way, the longest lag or lead pertbook computes with",
                     sheet,
                     lag_cell,

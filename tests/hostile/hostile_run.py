@@ -29,6 +29,8 @@ import zipfile
 from dataclasses import dataclass, field
 from pathlib import Path
 
+from converter.values import printable
+
 REPO = Path(__file__).resolve().parents[2]
 #: Hang guard for one command (seconds); a guard only, never a pass/fail criterion.
 HANG_GUARD = 300
@@ -131,12 +133,12 @@ def split_by_input(run: Run, names: list[str]) -> dict[str, Outcome]:
     """Each input's lines (``NAME: ...``); a line that names no input continues the one
     before (a message holding a line break). A command given one input has all its lines
     (however the name is shown)."""
-    by_length = sorted(names, key=len, reverse=True)
+    by_length = sorted(names, key=lambda n: len(printable(n)), reverse=True)
     outcomes = {n: Outcome() for n in names}
     for stream in ("stdout", "stderr"):
         current = names[0] if len(names) == 1 else None
         for line in getattr(run, stream).splitlines():
-            owner = next((n for n in by_length if line.startswith(n + ": ")), None)
+            owner = next((n for n in by_length if line.startswith(printable(n) + ": ")), None)
             current = owner or current
             if current is not None:
                 getattr(outcomes[current], stream).append(line)
@@ -146,6 +148,7 @@ def split_by_input(run: Run, names: list[str]) -> dict[str, Outcome]:
 def _said(lines: list[str], name: str, *words: str) -> bool:
     """Whether a line says ``NAME: <one of words>...`` (the name as given, or shown
     otherwise when the command had this one input)."""
+    name = printable(name)  # control characters are printed escaped (CWE-150)
     for line in lines:
         rest = line[len(name) + 2 :] if line.startswith(name + ": ") else line
         if rest.startswith(words) or any(f": {w}" in line for w in words):

@@ -93,8 +93,6 @@ NUMBERS = [
         10_000_001,
         "10000001",
         column=5,
-        defect="10,000,001 is shown as '1e+07 is more than 10,000,000' (not as typed); "
-        "the range message in converter/validate (validation)",
     ),
     valid(
         "num-negative-zero-milestone",
@@ -176,10 +174,6 @@ DATES = [
         "plan.xlsx",
         with_settings(["Start date", dt.date(1900, 3, 1)]),
         {"T1": {"early_start_date": "1900-03-01"}},
-        defect="a schedule starting on the first date, 1900-03-01, is refused: the calendar "
-        "bound puts the low end of the finish's spread at 0 - 3 sd (2.236 working days "
-        "before the start), though no date shown precedes the start; "
-        "converter/validate/bounds.py (validation)",
     ),
     invalid(
         "date-start-day-first-text",

@@ -246,6 +246,16 @@ def test_csv_over_the_row_limit_is_refused(tmp_path):
     assert "more than 100 rows" in refused(report)[3]
 
 
+def test_csv_over_the_column_limit_is_refused_as_such(tmp_path):
+    # Every delimiter but the comma finds none of the headers, and the comma gives rows
+    # wider than the limit: the limit is what is reported, not a missing column.
+    path = tmp_path / "wide.csv"
+    extra = ",".join(f"c{k}" for k in range(200))
+    path.write_text(f"ID,Most likely,{extra}\nA,1,{extra}\n")
+    report = read_in_child(path, PERTBOOK_MAX_COLUMNS="100")
+    assert "202 fields on row 1, more than 100 columns" in refused(report)[3]
+
+
 # --------------------------------------------------------------------------- command line
 def test_check_and_convert_refuse_a_stray_cell_with_exit_2(tmp_path):
     path = crafted.xlsx(

@@ -83,3 +83,15 @@ def test_check_refuses_a_fifo_with_exit_2(tmp_path):
     assert proc.returncode == 2 and "named pipe" in proc.stderr
     assert "Traceback" not in proc.stderr
     assert stat.S_ISFIFO(os.stat(fifo).st_mode)  # left alone
+
+
+def test_convert_refuses_a_link_loop_with_exit_2(tmp_path):
+    # A link to itself: os.open fails with ELOOP ("Too many levels of symbolic links",
+    # POSIX); the run's output naming must not stumble on it before the reading does.
+    loop = tmp_path / "plan.csv"
+    loop.symlink_to("plan.csv")
+    proc = run_cli("convert", loop, "--outdir", tmp_path / "out")
+    assert proc.returncode == 2, proc.stderr
+    assert "Traceback" not in proc.stderr + proc.stdout
+    assert "symbolic links" in proc.stderr
+    assert loop.is_symlink()

@@ -180,11 +180,20 @@ def test_schedules_at_the_edges_of_the_calendar_convert(tmp_path):
     # the early schedule: 3 working days from Thu 1900-03-01 (hand count: Thu 1, Fri 2,
     # Mon 5) end on 1900-03-05.
     assert result.headline["finish_date"] == "1900-03-05"
-    # the early schedule with a spread has P1 dates before its start: refused, naming it
+    # A small spread dates nothing before the start: A then B, each 1/2/3, mean 4 and sd
+    # sqrt(2) / 3 (Malcolm et al. 1959), so the lowest row of the tables, about 3 sd below
+    # the mean, is at 2.6 > 0 (hand count): accepted on 1900-03-01.
+    small = two_rows(tmp_path / "small.xlsx", ["B", "b", "A", 1, 2, 3], start(dt.date(1900, 3, 1)))
+    assert errors(check(small).problems) == set()
+    # B with 0/0/60 has mean 10 and sd 10, so the project's mean is 12 and its P1 about
+    # 12 - 2.33 * 10 = -11: dates before the start, refused on 1900-03-01, naming it
     spread = two_rows(
-        tmp_path / "spread.xlsx", ["B", "b", "A", 1, 2, 3], start(dt.date(1900, 3, 1))
+        tmp_path / "spread.xlsx", ["B", "b", "A", 0, 0, 60], start(dt.date(1900, 3, 1))
     )
     assert errors(check(spread).problems) == {("beyond-calendar", "Settings", "B1", None)}
+    # ... and accepted two months later (about 20 working days are needed before it)
+    later = two_rows(tmp_path / "later.xlsx", ["B", "b", "A", 0, 0, 60], start(dt.date(1900, 5, 1)))
+    assert errors(check(later).problems) == set()
 
 
 def test_start_near_the_end_is_refused_but_a_shorter_schedule_fits(tmp_path):

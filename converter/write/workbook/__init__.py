@@ -11,6 +11,7 @@ from pathlib import Path
 import xlsxwriter
 import xlsxwriter.worksheet
 
+from converter.values import printable
 from converter.write.workbook import pages
 from converter.write.workbook.activities import write_activities, write_links
 from converter.write.workbook.health import write_health
@@ -92,7 +93,8 @@ def write_workbook(analysis, path: str | Path) -> None:
     )
     wb.set_properties(
         {
-            "title": f"Schedule risk analysis of {Path(analysis.schedule.input_file).name}",
+            "title": "Schedule risk analysis of "
+            + printable(Path(analysis.schedule.input_file).name),
             "subject": "CPM / PERT / Monte Carlo schedule risk analysis",
             "author": "pertbook",
             "created": DOCUMENT_DATE,

@@ -123,7 +123,6 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
 
     net, cpm = a.net, a.cpm
     incoming, outgoing = incoming_outgoing(net)
-    kinds, lags = net.kind.tolist(), net.lag.tolist()
     cal = a.calendar
     holidays = "Holidays" if (cal is not None and cal.holidays) else None
     dates = a.activity_dates
@@ -145,38 +144,11 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
         o, m, p = lay.cell(i, "o"), lay.cell(i, "m"), lay.cell(i, "p")
         ws.write_formula(r, c["te"], f.expected_time(o, m, p), fmt.num, float(a.te[i]))
         ws.write_formula(r, c["var"], f.pert_variance(o, p), fmt.num4, float(a.var[i]))
-        pushes = [
-            lay.cell(net.pred[k], "ef") if _plain(kinds[k], lags[k]) else lay.link_cell(k, "push")
-            for k in incoming[i]
-        ]
-        es_formula = f.early_start(pushes)
-        if not f.fits(es_formula):
-            es_formula = f.over_links(
-                "MAX",
-                "0",
-                f.MAXIFS,
-                lay.link_column("push"),
-                lay.link_column("to"),
-                lay.cell(i, "id"),
-            )
+        es_formula, lf_formula, ff_formula = _pass_formulas(lay, net, incoming, outgoing, i)
         ws.write_formula(r, c["es"], es_formula, fmt.num, float(cpm.es[i]))
         ws.write_formula(
             r, c["ef"], f.plus(lay.cell(i, "es"), lay.cell(i, "te")), fmt.num, float(cpm.ef[i])
         )
-        pulls = [
-            lay.cell(net.succ[k], "ls") if _plain(kinds[k], lags[k]) else lay.link_cell(k, "pull")
-            for k in outgoing[i]
-        ]
-        lf_formula = f.late_finish(pulls)
-        if not f.fits(lf_formula):
-            lf_formula = f.over_links(
-                "MIN",
-                "ProjectFinish",
-                f.MINIFS,
-                lay.link_column("pull"),
-                lay.link_column("from"),
-                lay.cell(i, "id"),
-            )
         ws.write_formula(r, c["lf"], lf_formula, fmt.num, float(cpm.lf[i]))
         ws.write_formula(
             r, c["ls"], f.minus(lay.cell(i, "lf"), lay.cell(i, "te")), fmt.num, float(cpm.ls[i])
@@ -188,22 +160,6 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
             fmt.num,
             float(cpm.total_float[i]),
         )
-        slacks = [
-            f"{lay.cell(net.succ[k], 'es')}-{lay.cell(i, 'ef')}"
-            if _plain(kinds[k], lags[k])
-            else lay.link_cell(k, "slack")
-            for k in outgoing[i]
-        ]
-        ff_formula = f.free_float(lay.cell(i, "ef"), slacks)
-        if not f.fits(ff_formula):
-            ff_formula = f.over_links(
-                "MIN",
-                f"ProjectFinish-{lay.cell(i, 'ef')}",
-                f.MINIFS,
-                lay.link_column("slack"),
-                lay.link_column("from"),
-                lay.cell(i, "id"),
-            )
         ws.write_formula(r, c["ff"], ff_formula, fmt.num, float(cpm.free_float[i]))
         crit = "Yes" if cpm.critical[i] else "No"
         ws.write_formula(
@@ -344,3 +300,54 @@ def _write_dates(ws, fmt, lay: Layout, c, r: int, i: int, cal, dates, holidays) 
         ),
     ):
         ws.write_formula(r, c[key], "=" + formula, fmt.date, serial(when[i]))
+
+
+def _pass_formulas(lay: Layout, net, incoming, outgoing, i: int) -> tuple[str, str, str]:
+    """Activity ``i``'s early start, late finish and free float formulas: over the named
+    linked cells, or a conditional aggregate over the Links sheet when that is too long."""
+    kinds, lags = net.kind, net.lag
+    pushes = [
+        lay.cell(net.pred[k], "ef") if _plain(kinds[k], lags[k]) else lay.link_cell(k, "push")
+        for k in incoming[i]
+    ]
+    es_formula = f.early_start(pushes)
+    if not f.fits(es_formula):
+        es_formula = f.over_links(
+            "MAX",
+            "0",
+            f.MAXIFS,
+            lay.link_column("push"),
+            lay.link_column("to"),
+            lay.cell(i, "id"),
+        )
+    pulls = [
+        lay.cell(net.succ[k], "ls") if _plain(kinds[k], lags[k]) else lay.link_cell(k, "pull")
+        for k in outgoing[i]
+    ]
+    lf_formula = f.late_finish(pulls)
+    if not f.fits(lf_formula):
+        lf_formula = f.over_links(
+            "MIN",
+            "ProjectFinish",
+            f.MINIFS,
+            lay.link_column("pull"),
+            lay.link_column("from"),
+            lay.cell(i, "id"),
+        )
+    slacks = [
+        f"{lay.cell(net.succ[k], 'es')}-{lay.cell(i, 'ef')}"
+        if _plain(kinds[k], lags[k])
+        else lay.link_cell(k, "slack")
+        for k in outgoing[i]
+    ]
+    ff_formula = f.free_float(lay.cell(i, "ef"), slacks)
+    if not f.fits(ff_formula):
+        ff_formula = f.over_links(
+            "MIN",
+            f"ProjectFinish-{lay.cell(i, 'ef')}",
+            f.MINIFS,
+            lay.link_column("slack"),
+            lay.link_column("from"),
+            lay.cell(i, "id"),
+        )
+    return es_formula, lf_formula, ff_formula

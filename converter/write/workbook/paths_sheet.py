@@ -66,63 +66,10 @@ def write_paths(wb, fmt, a, lay: Layout) -> None:
     _heads(ws, fmt, step_top - 1, STEP_HEADERS, STEP_ALIGN)
     r = step_top
     riskier = set(a.riskier_paths)
-    index_of_link = a.net
     for n, pr in enumerate(a.paths):
-        path = pr.path
         first = r
-        for step, (act, coef) in enumerate(zip(path.activities, path.coefficients)):
-            ws.write_number(r, 0, n + 1, fmt.int_center)
-            ws.write_number(r, 1, step + 1, fmt.int_center)
-            ws.write_string(r, 2, a.ids[act])
-            if step == 0:
-                ws.write_string(r, 3, "(path start)")
-                ws.write_number(r, 7, 0.0, fmt.num)
-            else:
-                link = path.links[step - 1]
-                ws.write_string(r, 3, LINK_TYPES[int(index_of_link.kind[link])])
-                ws.write_formula(
-                    r, 7, "=" + lay.link_cell(link, "lag"), fmt.num, float(a.net.lag[link])
-                )
-            ws.write_number(r, 4, coef, fmt.int)
-            ws.write_formula(r, 5, "=" + lay.cell(act, "te", True), fmt.num, float(a.te[act]))
-            ws.write_formula(r, 6, "=" + lay.cell(act, "var", True), fmt.num4, float(a.var[act]))
-            r += 1
-        last = r - 1
-        row = FIRST + n
-        coef, te, var, lag = (f.span(first, last, c) for c in (4, 5, 6, 7))
-        ws.write_number(row, 0, n + 1, fmt.int_center)
-        ws.write_formula(row, 1, f.path_length(coef, te, lag), fmt.num, path.mean)
-        ws.write_formula(row, 2, f.path_variance(coef, var), fmt.num4, path.variance)
-        ws.write_formula(row, 3, f"=SQRT({f.ref(row, 2)})", fmt.num, path.sd)
-        if a.due is not None:
-            ws.write_formula(
-                row,
-                4,
-                f.z_score("DueDuration", f.ref(row, 1), f.ref(row, 3)),
-                fmt.num4,
-                pr.z if pr.z is not None else "n/a",
-            )
-            ws.write_formula(
-                row,
-                5,
-                f.p_meet("DueDuration", f.ref(row, 1), f.ref(row, 3)),
-                fmt.prob,
-                pr.p_meet_due,
-            )
-            if n == 0:
-                ws.write_string(row, 6, "critical path", fmt.wrap_center)
-            else:
-                flag = "YES: lower chance than the critical path" if n in riskier else "no"
-                ws.write_string(
-                    row, 6, flag, fmt.wrap_flag_center if n in riskier else fmt.wrap_center
-                )
-        else:  # over the z, chance and riskier columns
-            ws.merge_range(row, 4, row, 6, "no due date", fmt.center)
-        ws.write_number(row, 7, len(path.activities), fmt.int_center)
-        route = " > ".join(a.ids[i] for i in path.activities)[:32000]
-        ws.write_string(row, 8, route, fmt.wrap)
-        flag_text = "YES: lower chance than the critical path" if n in riskier else ""
-        fit_row(ws, row, [(route, WIDTHS[8]), (flag_text, WIDTHS[6] - 1.0, 10.0, True)])
+        r = _write_steps(ws, fmt, a, lay, n, pr.path, r)
+        _write_path_row(ws, fmt, a, n, pr, first, r - 1, n in riskier)
     if a.tied_longest > 1:
         tie = (
             f"{a.tied_longest} paths tie for the longest expected length; path 1 is the one "
@@ -139,3 +86,64 @@ def write_paths(wb, fmt, a, lay: Layout) -> None:
         header_rows=(step_top - 1, step_top - 1),
         keep=[(step_top - 2, min(step_top + 2, r - 1))],
     )
+
+
+def _write_steps(ws, fmt, a, lay: Layout, n: int, path, r: int) -> int:
+    """The step rows of path ``n`` from row ``r``; returns the row after them."""
+    for step, (act, coef) in enumerate(zip(path.activities, path.coefficients)):
+        ws.write_number(r, 0, n + 1, fmt.int_center)
+        ws.write_number(r, 1, step + 1, fmt.int_center)
+        ws.write_string(r, 2, a.ids[act])
+        if step == 0:
+            ws.write_string(r, 3, "(path start)")
+            ws.write_number(r, 7, 0.0, fmt.num)
+        else:
+            link = path.links[step - 1]
+            ws.write_string(r, 3, LINK_TYPES[int(a.net.kind[link])])
+            ws.write_formula(
+                r, 7, "=" + lay.link_cell(link, "lag"), fmt.num, float(a.net.lag[link])
+            )
+        ws.write_number(r, 4, coef, fmt.int)
+        ws.write_formula(r, 5, "=" + lay.cell(act, "te", True), fmt.num, float(a.te[act]))
+        ws.write_formula(r, 6, "=" + lay.cell(act, "var", True), fmt.num4, float(a.var[act]))
+        r += 1
+    return r
+
+
+def _write_path_row(ws, fmt, a, n: int, pr, first: int, last: int, riskier: bool) -> None:
+    """Path ``n``'s row in the summary table: length, variance, sd, z and chance as formulas
+    over its step rows ``first``..``last``."""
+    path = pr.path
+    row = FIRST + n
+    coef, te, var, lag = (f.span(first, last, c) for c in (4, 5, 6, 7))
+    ws.write_number(row, 0, n + 1, fmt.int_center)
+    ws.write_formula(row, 1, f.path_length(coef, te, lag), fmt.num, path.mean)
+    ws.write_formula(row, 2, f.path_variance(coef, var), fmt.num4, path.variance)
+    ws.write_formula(row, 3, f"=SQRT({f.ref(row, 2)})", fmt.num, path.sd)
+    if a.due is not None:
+        ws.write_formula(
+            row,
+            4,
+            f.z_score("DueDuration", f.ref(row, 1), f.ref(row, 3)),
+            fmt.num4,
+            pr.z if pr.z is not None else "n/a",
+        )
+        ws.write_formula(
+            row,
+            5,
+            f.p_meet("DueDuration", f.ref(row, 1), f.ref(row, 3)),
+            fmt.prob,
+            pr.p_meet_due,
+        )
+        if n == 0:
+            ws.write_string(row, 6, "critical path", fmt.wrap_center)
+        else:
+            flag = "YES: lower chance than the critical path" if riskier else "no"
+            ws.write_string(row, 6, flag, fmt.wrap_flag_center if riskier else fmt.wrap_center)
+    else:  # over the z, chance and riskier columns
+        ws.merge_range(row, 4, row, 6, "no due date", fmt.center)
+    ws.write_number(row, 7, len(path.activities), fmt.int_center)
+    route = " > ".join(a.ids[i] for i in path.activities)[:32000]
+    ws.write_string(row, 8, route, fmt.wrap)
+    flag_text = "YES: lower chance than the critical path" if riskier else ""
+    fit_row(ws, row, [(route, WIDTHS[8]), (flag_text, WIDTHS[6] - 1.0, 10.0, True)])

@@ -13,6 +13,7 @@ from __future__ import annotations
 import math
 from pathlib import Path
 
+from converter.values import printable
 from converter.write.workbook import pages
 from converter.write.workbook.layout import SIMULATION, Layout
 from converter.write.workbook.rows import (
@@ -42,7 +43,7 @@ def reproduce_command(a) -> str:
     st = a.schedule.settings
     parts = [
         "pertbook convert",
-        f'"{Path(a.schedule.input_file).name}"',
+        f'"{printable(Path(a.schedule.input_file).name)}"',
         f"--iterations {sim.iterations}",
         f"--seed {sim.seed}",
     ]

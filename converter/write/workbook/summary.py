@@ -14,6 +14,7 @@ from pathlib import Path
 
 from xlsxwriter.utility import xl_rowcol_to_cell
 
+from converter.values import printable
 from converter.write.workbook import formulas as f
 from converter.write.workbook import pages
 from converter.write.workbook.activities import serial
@@ -393,7 +394,7 @@ def _about(out: _Rows, lay: Layout) -> None:
     s = a.schedule
     out.section("About this analysis")
     row = out.line("Input file")
-    ws.write_string(row, SIM, Path(s.input_file).name)
+    ws.write_string(row, SIM, printable(Path(s.input_file).name))
     row = out.line("Input SHA-256")
     ws.write_string(row, SIM, s.sha256)
     row = out.line("Activity sheet", " ".join(s.notes) or None, start=CP)
