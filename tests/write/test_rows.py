@@ -256,3 +256,15 @@ def test_libreoffice_shows_every_line_inside_its_row(soffice, tmp_path, font) ->
     model = sum(lines_needed(*c) for k, c in enumerate(cases) if k not in controls)
     real = sum(n for k, n in drawn.items() if k not in controls)
     assert real <= model <= 1.34 * real, (model, real)
+
+
+def test_a_long_unbroken_word_is_cut_into_pieces_that_each_fit():
+    """A word wider than the line is cut into line-wide pieces: nothing lost, each piece
+    fits, and only the last may be short (common practice for wrapping long tokens)."""
+    from converter.write.workbook.rows import _wrap_paragraph, text_width
+
+    word = "w" * 5_000 + "iii"
+    pieces = _wrap_paragraph(word, 40.0, 10.0, False)
+    assert "".join(pieces) == word
+    assert all(text_width(p, 10.0, False) <= 40.0 for p in pieces)
+    assert all(text_width(p + "w", 10.0, False) > 40.0 for p in pieces[:-1])

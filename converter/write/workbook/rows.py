@@ -177,8 +177,11 @@ def _wrap_paragraph(text: str, width: float, font_size: float, bold: bool) -> li
         if current:
             lines.append(current)
         current = ""
-        while word and not fits(word):  # a word wider than the line: break it
-            cut = max(1, _longest_prefix(word, width, font_size, bold))
+        while word:  # a word wider than the line: break it (each piece measured once)
+            cut = _longest_prefix(word, width, font_size, bold)
+            if cut >= len(word):
+                break
+            cut = max(1, cut)
             lines.append(word[:cut])
             word = word[cut:]
         current = word
