@@ -132,3 +132,27 @@ def test_settings_values_are_left_aligned(converted):
     values = [ws.cell(r, 2) for r in range(5, 15) if ws.cell(r, 2).value is not None]
     assert any(isinstance(c.value, (int, float)) for c in values)
     assert all(c.alignment.horizontal == "left" for c in values)
+
+
+def test_input_longer_than_a_sheet_goes_on_in_a_second_sheet(tmp_path, monkeypatch):
+    """No input row is lost when the input has more rows than one sheet holds (1,048,576
+    rows, the OOXML sheet limit): here the capacity is made 5 rows to show the rule."""
+    from converter.api import ConvertOptions, convert
+    from converter.write.workbook import reference
+
+    monkeypatch.setattr(reference, "INPUT_ROWS_PER_SHEET", 5)
+    rows = [HEADER] + [[f"A{i}", f"step {i}", "", 1, 2, 3] for i in range(1, 13)]
+    rows[2][2] = "A1"
+    src = write_xlsx(tmp_path / "long.xlsx", {"Activities": rows})
+    result = convert(src, ConvertOptions(simulate=False), outdir=tmp_path / "out")
+    assert result.ok, [str(p) for p in result.problems]
+    wb = openpyxl.load_workbook(result.workbook, read_only=True)
+    parts = ["Input as read", "Input as read (2)", "Input as read (3)"]
+    assert [n for n in wb.sheetnames if n.startswith("Input as read")] == parts
+    ids = [
+        row[0]
+        for name in parts
+        for row in wb[name].iter_rows(min_row=4, values_only=True)
+        if row and row[0] is not None
+    ]
+    assert ids == [f"A{i}" for i in range(1, 13)]

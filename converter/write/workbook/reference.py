@@ -234,11 +234,27 @@ def _input_widths(headers: list[str], values: list[list[object]]) -> list[float]
     return widths
 
 
+#: Rows of the input that one sheet holds under its three head rows (a sheet has 1,048,576).
+INPUT_ROWS_PER_SHEET = 1_048_576 - 3
+
+
 def write_input(wb, fmt, a, lay: Layout) -> None:
-    ws = wb.add_worksheet(INPUT)
+    """The input as read; a sheet of more rows than one sheet holds goes on in
+    "Input as read (2)", "(3)", ... so no row is lost."""
     raw = a.schedule.raw
     widths = _input_widths(raw.headers, raw.rows)
-    ws.write_string(0, 0, "Input as read", fmt.title)
+    chunks = range(0, max(1, len(raw.rows)), INPUT_ROWS_PER_SHEET)
+    for n, first in enumerate(chunks):
+        name = INPUT if n == 0 else f"{INPUT} ({n + 1})"
+        ws = wb.add_worksheet(name)
+        _input_head(ws, fmt, raw, widths, n)
+        _input_rows(ws, fmt, raw.rows[first : first + INPUT_ROWS_PER_SHEET], widths)
+        ws.freeze_panes(3, 1)
+        pages.set_up(ws, header_rows=(2, 2), title_cols=(0, min(1, len(widths) - 1)))
+
+
+def _input_head(ws, fmt, raw, widths: list[float], n: int) -> None:
+    ws.write_string(0, 0, "Input as read" if n == 0 else f"Input as read, part {n + 1}", fmt.title)
     note = (
         f"Values only, from {raw.sheet} as the converter read it; the header is on sheet "
         f"row {raw.header_row}."
@@ -252,8 +268,11 @@ def write_input(wb, fmt, a, lay: Layout) -> None:
         ws.write_string(2, col, h, fmt.header)
         ws.set_column(col, col, w)
     ws.set_row(2, rows.row_height([(h, w, 11.0, True) for h, w in zip(raw.headers, widths)]))
-    # every value is left-aligned under its left-aligned header; text wraps in its column
-    for k, row in enumerate(raw.rows):
+
+
+def _input_rows(ws, fmt, input_rows, widths: list[float]) -> None:
+    """Every value left-aligned under its left-aligned header; text wraps in its column."""
+    for k, row in enumerate(input_rows):
         r = 3 + k
         wrapped = []
         for col, v in enumerate(row):
@@ -282,8 +301,6 @@ def write_input(wb, fmt, a, lay: Layout) -> None:
             height = rows.row_height(wrapped, minimum=15.0)
             if height > 15.0:
                 ws.set_row(r, height)
-    ws.freeze_panes(3, 1)
-    pages.set_up(ws, header_rows=(2, 2), title_cols=(0, min(1, len(widths) - 1)))
 
 
 #: Widths of the Warnings sheet's columns (characters).
