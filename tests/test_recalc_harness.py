@@ -218,8 +218,13 @@ def test_session_libreoffice_is_started_once_for_many_books(tmp_path, libreoffic
         assert len(compare_recalculated(book, libreoffice.recalculate(book, tmp_path))) == 1
     copies = libreoffice.recalculate_many(books, tmp_path / "batch")
     assert [len(compare_recalculated(b, c)) for b, c in zip(books, copies, strict=True)] == [1] * 3
-    # the listening LibreOffice serves every call; the fallback starts one per call
-    assert libreoffice.starts - before == (0 if libreoffice.backend == "uno" else 4)
+    # the listening LibreOffice serves every call (at most one restart, after a call that
+    # timed out on a loaded machine; one start per call would be 4); the fallback starts
+    # one per call
+    if libreoffice.backend == "uno":
+        assert libreoffice.starts - before <= 1
+    else:
+        assert libreoffice.starts - before == 4
 
 
 def test_function_prefixes_libreoffice_understands(tmp_path, soffice):
