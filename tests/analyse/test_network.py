@@ -7,6 +7,7 @@ import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
+from reference_cpm import reference_cpm
 
 from converter.analyse.network import CycleError, build_network, forward_pass, schedule
 from converter.model import FF, FS, SF, SS
@@ -125,31 +126,15 @@ def test_typed_matches_networkx(case):
     networkx.single_source_bellman_ford_path_length on negated weights.
     """
     n, pred, succ, kinds, lags, d = case
-    g = nx.DiGraph()
-    for i in range(n):
-        g.add_edge("origin", i, weight=0.0)
-    for p, s, k, lag in zip(pred, succ, kinds, lags):
-        w = lag + (d[p] if k in (FS, FF) else 0.0) - (d[s] if k in (FF, SF) else 0.0)
-        if g.has_edge(p, s):
-            w = max(w, g[p][s]["weight"])
-        g.add_edge(p, s, weight=w)
-    neg = nx.DiGraph()
-    for u, v, w in g.edges(data="weight"):
-        neg.add_edge(u, v, weight=-w)
-    dist = nx.single_source_bellman_ford_path_length(neg, "origin", weight="weight")
-    es_ref = np.array([-dist[i] for i in range(n)])
+    es_ref, ls_ref, finish_ref = reference_cpm(n, pred, succ, kinds, lags, d)
     net = build_network(n, pred, succ, kinds, lags)
     es, ef = forward_pass(net, d)
     np.testing.assert_allclose(es, es_ref, atol=1e-9)
     r = schedule(net, d)
     assert r.finish == pytest.approx(max(ef), abs=1e-12)
+    assert r.finish == pytest.approx(finish_ref, abs=1e-9)
     assert (r.total_float >= -1e-9).all()
-    # backward pass: LS_p = min(finish - d_p, min over links (LS_s - w)), the same
-    # difference constraints read backwards over networkx's topological order
-    ls_ref = np.array([r.finish - d[i] for i in range(n)])
-    for i in reversed(list(nx.topological_sort(g.subgraph(range(n))))):
-        for s in g.successors(i):
-            ls_ref[i] = min(ls_ref[i], ls_ref[s] - g[i][s]["weight"])
+    # backward pass: the same difference constraints read backwards (reference_cpm)
     np.testing.assert_allclose(r.ls, ls_ref, atol=1e-9)
 
 
