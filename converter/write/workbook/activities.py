@@ -306,48 +306,36 @@ def _pass_formulas(lay: Layout, net, incoming, outgoing, i: int) -> tuple[str, s
     """Activity ``i``'s early start, late finish and free float formulas: over the named
     linked cells, or a conditional aggregate over the Links sheet when that is too long."""
     kinds, lags = net.kind, net.lag
+    ident = lay.cell(i, "id")
+
+    def or_over_links(formula: str, agg: str, start: str, ifs, column: str, key: str) -> str:
+        if f.fits(formula):
+            return formula
+        return f.over_links(agg, start, ifs, lay.link_column(column), lay.link_column(key), ident)
+
     pushes = [
         lay.cell(net.pred[k], "ef") if _plain(kinds[k], lags[k]) else lay.link_cell(k, "push")
         for k in incoming[i]
     ]
-    es_formula = f.early_start(pushes)
-    if not f.fits(es_formula):
-        es_formula = f.over_links(
-            "MAX",
-            "0",
-            f.MAXIFS,
-            lay.link_column("push"),
-            lay.link_column("to"),
-            lay.cell(i, "id"),
-        )
     pulls = [
         lay.cell(net.succ[k], "ls") if _plain(kinds[k], lags[k]) else lay.link_cell(k, "pull")
         for k in outgoing[i]
     ]
-    lf_formula = f.late_finish(pulls)
-    if not f.fits(lf_formula):
-        lf_formula = f.over_links(
-            "MIN",
-            "ProjectFinish",
-            f.MINIFS,
-            lay.link_column("pull"),
-            lay.link_column("from"),
-            lay.cell(i, "id"),
-        )
     slacks = [
         f"{lay.cell(net.succ[k], 'es')}-{lay.cell(i, 'ef')}"
         if _plain(kinds[k], lags[k])
         else lay.link_cell(k, "slack")
         for k in outgoing[i]
     ]
-    ff_formula = f.free_float(lay.cell(i, "ef"), slacks)
-    if not f.fits(ff_formula):
-        ff_formula = f.over_links(
+    return (
+        or_over_links(f.early_start(pushes), "MAX", "0", f.MAXIFS, "push", "to"),
+        or_over_links(f.late_finish(pulls), "MIN", "ProjectFinish", f.MINIFS, "pull", "from"),
+        or_over_links(
+            f.free_float(lay.cell(i, "ef"), slacks),
             "MIN",
             f"ProjectFinish-{lay.cell(i, 'ef')}",
             f.MINIFS,
-            lay.link_column("slack"),
-            lay.link_column("from"),
-            lay.cell(i, "id"),
-        )
-    return es_formula, lf_formula, ff_formula
+            "slack",
+            "from",
+        ),
+    )
