@@ -99,7 +99,8 @@ class Settings:
     """Options for one conversion; each carries its origin for the workbook."""
 
     start_date: dt.date | None = None
-    time_unit: str = "working days"  # "working days" | "weeks" | "calendar days"
+    time_unit: str = "working days"  # "working days" | "weeks" | "calendar days" | "working hours"
+    hours_per_day: float = 8.0  # working hours in one day, to read "16h" and plan by the hour
     working_days: tuple[int, ...] = (0, 1, 2, 3, 4)  # Monday = 0
     holidays: tuple[dt.date, ...] = ()
     due: float | dt.date | None = None

@@ -394,3 +394,108 @@ def parse_working_days(value: object) -> tuple[int, ...]:
     if not days:
         raise ValueError(s)
     return tuple(sorted(days))
+
+
+# --------------------------------------------------------------------------- durations with units
+#: Unit words a duration or lag may carry, to the unit they stand for (lower case, no dots).
+DURATION_UNIT_WORDS = {
+    **dict.fromkeys(("h", "hr", "hrs", "hour", "hours"), "hours"),
+    **dict.fromkeys(("d", "dy", "dys", "day", "days"), "days"),
+    **dict.fromkeys(("w", "wk", "wks", "week", "weeks"), "weeks"),
+}
+#: Units refused because their length in working time is ambiguous.
+AMBIGUOUS_UNIT_WORDS = frozenset(
+    ("mo", "mos", "mon", "mons", "month", "months", "y", "yr", "yrs", "year", "years")
+)
+_NUMBER_WITH_UNIT = re.compile(
+    r"\s*([+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?)\s*([A-Za-z.]*)\s*"
+)
+
+
+def split_unit(value: object) -> tuple[float, str | None]:
+    """A number and the unit written after it (``"hours"``, ``"days"``, ``"weeks"``).
+
+    A numeric cell, or text that is a plain number, has no unit (``None``): it is in the
+    schedule's time unit. Units are case-insensitive and the space before them is optional
+    (``16h``, ``4 hrs``, ``3 Days``, ``1.5 wks``). Months and years are refused, since the
+    working time in them is ambiguous.
+
+    Raises
+    ------
+    ValueError
+        With a message that starts with the value as shown to the user.
+
+    Examples
+    --------
+    >>> split_unit(2.5), split_unit("16h"), split_unit("1.5 Wks"), split_unit("-2d")
+    ((2.5, None), (16.0, 'hours'), (1.5, 'weeks'), (-2.0, 'days'))
+    >>> split_unit("2 months")
+    Traceback (most recent call last):
+    ...
+    ValueError: "2 months" is in months, whose length in working time is ambiguous
+    """
+    if not isinstance(value, str):
+        return parse_number(value), None
+    text = value.replace("\u2212", "-")
+    m = _NUMBER_WITH_UNIT.fullmatch(text)
+    if m is None or not m.group(2):
+        return parse_number(value), None
+    word = m.group(2).lower().rstrip(".")
+    if word in AMBIGUOUS_UNIT_WORDS:
+        kind = "years" if word.startswith("y") else "months"
+        raise ValueError(f"{shown(value)} is in {kind}, whose length in working time is ambiguous")
+    unit = DURATION_UNIT_WORDS.get(word)
+    if unit is None:
+        raise ValueError(
+            f"{shown(value)} has the unit {shown(m.group(2))}; pertbook reads hours (h), "
+            "days (d) and weeks (w)"
+        )
+    x = float(m.group(1))
+    if not math.isfinite(x):
+        raise ValueError(f"{shown(value)} is too large to compute with")
+    return x, unit
+
+
+def unit_factor(
+    unit: str | None, time_unit: str, hours_per_day: float = 8.0, days_per_week: int = 5
+) -> float:
+    """How many of the schedule's time units one ``unit`` (hours, days or weeks) is.
+
+    A day is one day of the schedule's calendar (a working day, or a calendar day in a
+    calendar-day schedule) of ``hours_per_day`` hours; a week is ``days_per_week`` working
+    days (7 days in a calendar-day schedule). ``None`` (no unit written) is 1.
+
+    Examples
+    --------
+    >>> unit_factor("hours", "working days"), unit_factor("weeks", "working days")
+    (0.125, 5.0)
+    >>> unit_factor("days", "weeks"), unit_factor("days", "working hours", 7.5)
+    (0.2, 7.5)
+    >>> unit_factor("weeks", "calendar days"), unit_factor(None, "weeks")
+    (7.0, 1.0)
+    """
+    if unit is None:
+        return 1.0
+    week_days = 7 if time_unit == "calendar days" else days_per_week
+    hours = {"hours": 1.0, "days": hours_per_day, "weeks": hours_per_day * week_days}[unit]
+    per_unit = {
+        "working hours": 1.0,
+        "weeks": hours_per_day * week_days,
+    }.get(time_unit, hours_per_day)
+    return hours / per_unit
+
+
+def parse_duration(
+    value: object, time_unit: str, hours_per_day: float = 8.0, days_per_week: int = 5
+) -> float:
+    """A duration or lag cell in the schedule's time unit: a number, or a number with a unit.
+
+    Examples
+    --------
+    >>> parse_duration("16h", "working days"), parse_duration("2w", "working days")
+    (2.0, 10.0)
+    >>> parse_duration(" 3 days ", "working hours", hours_per_day=8)
+    24.0
+    """
+    x, unit = split_unit(value)
+    return x * unit_factor(unit, time_unit, hours_per_day, days_per_week)
