@@ -102,7 +102,7 @@ def test_links_on_summaries_expanded_by_hand(tmp_path):
         ("c", "d", "FS", 0.0, "S, T"),
         ("f", "Y", "FS", 0.0, "T"),
     }
-    # each expanded link keeps the cell its summary link was written in (Y is the 11th data row: D12)
+    # each expanded link keeps the cell its summary link was written in (Y, row 12: D12)
     assert {lk.cell for lk in schedule.links if lk.via == "T"} == {"D12"}
 
 

@@ -54,7 +54,15 @@ def test_summary_rows_sit_above_their_children_with_min_max_formulas(made):
     result, _ = made
     ws = openpyxl.load_workbook(result.workbook)["Activities"]
     names = [ws.cell(r, 2).value for r in range(5, 12)]
-    assert names == ["Kick-off", "Stage one (ID S)", "Survey", "Works (ID T)", "Dig", "Pipes", "Hand over"]
+    assert names == [
+        "Kick-off",
+        "Stage one (ID S)",
+        "Survey",
+        "Works (ID T)",
+        "Dig",
+        "Pipes",
+        "Hand over",
+    ]
     # S (row 6) spans rows 7-10 (A, T, B, C); T (row 8) spans rows 9-10; I = ES, J = EF
     assert (ws["I6"].value, ws["J6"].value) == ("=MIN($I$7:$I$10)", "=MAX($J$7:$J$10)")
     assert (ws["I8"].value, ws["J8"].value) == ("=MIN($I$9:$I$10)", "=MAX($J$9:$J$10)")
