@@ -257,3 +257,23 @@ def test_random_outlines_against_the_rule_and_networkx(tmp_path, seed):
         ks = [index[x] for x in leaves[s.id]]
         assert a.summaries.start[j] == pytest.approx(min(es[k] for k in ks))
         assert a.summaries.finish[j] == pytest.approx(max(es[k] + a.te[k] for k in ks))
+
+
+def test_links_sheet_may_name_a_summary(tmp_path):
+    # Links sheet row 2: S -> z with SS+1; S holds x -> y, so it starts with x only:
+    # S -> z [SS+1] becomes y -> z [SS+1] (a "from" link: y ends S), type and lag kept.
+    from helpers import write_xlsx
+
+    activities = [
+        HEAD,
+        ["1", "S", "s", None, None, None, None],
+        ["1.1", "x", "x", None, 1, 1, 1],
+        ["1.2", "y", "y", "x", 1, 1, 1],
+        ["2", "z", "z", None, 1, 1, 1],
+    ]
+    links = [["Predecessor", "Successor", "Type", "Lag"], ["S", "z", "SS", 1]]
+    path = write_xlsx(tmp_path / "plan.xlsx", {"Activities": activities, "Links": links})
+    schedule, found = load(path, ConvertOptions(simulate=False))
+    assert schedule is not None, found
+    assert ("y", "z", "SS", 1.0, "S") in links_of(schedule)
+    assert [lk.cell for lk in schedule.links if lk.via] == ["A2"]
