@@ -48,17 +48,12 @@ class Outline:
     summary_rows: frozenset[int] = frozenset()
     summaries: list[Summary] = field(default_factory=list)
     summary_cells: list[tuple[int, object]] = field(default_factory=list)  # (row, predecessors)
-    _known: set[str] = field(default_factory=set, repr=False)
+    summary_codes: frozenset[str] = frozenset()
 
     def parent_of(self, code: str) -> str | None:
         """The summary a row with this code sits under (None at the top level)."""
         parent = parent_code(code)  # a missing parent puts the row at the top level
-        return parent if parent is not None and self.is_summary(parent) else None
-
-    def is_summary(self, code: str) -> bool:
-        if len(self._known) != len(self.summaries):
-            self._known = {s.wbs for s in self.summaries}
-        return code in self._known
+        return parent if parent in self.summary_codes else None
 
 
 def _code(value: object, where: str, sheet: str, out: Collector) -> str | None:
@@ -112,6 +107,7 @@ def read_outline(match: TableMatch, out: Collector) -> Outline | None:
         first[code] = r
         outline.codes[r] = code
     parents = {parent_code(c) for c in outline.codes.values()} & set(first)
+    outline.summary_codes = frozenset(parents)
     outline.summary_rows = frozenset(first[c] for c in parents)
     for r in sorted(outline.summary_rows):
         outline.summaries.append(_summary(match, r, outline.codes[r], out))
