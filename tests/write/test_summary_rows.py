@@ -70,6 +70,8 @@ def test_summary_rows_sit_above_their_children_with_min_max_formulas(made):
     assert all(ws.cell(6, c).value is None for c in (1, 4, 5, 6, 7, 8, 11, 12, 13, 14, 15))
     # B's early start reads A's early finish on A's row (7), not row 5 + index
     assert ws["I9"].value == "=MAX(0,J7)"
+    method = openpyxl.load_workbook(result.workbook)["Method"]
+    assert "Summary rows (WBS)" in [c.value for c in method["A"]]
 
 
 def test_summary_figures_in_the_json_are_the_hand_worked_ones(made):
