@@ -199,11 +199,9 @@ def _name_formats(wb, fmt, a) -> list:
         return [fmt.wrap] * len(a.ids)
     from converter.write.workbook.summary_rows import activity_indent, depths
 
-    by_depth: dict[int, object] = {}
-    return [
-        by_depth.setdefault(d, activity_indent(wb, d)) if d else fmt.wrap
-        for d in depths(a.schedule)[1]
-    ]
+    levels = depths(a.schedule)[1]
+    by_depth = {d: activity_indent(wb, d) for d in set(levels) if d}  # one format per depth
+    return [by_depth[d] if d else fmt.wrap for d in levels]
 
 
 def _predecessor_text(a) -> list[str]:

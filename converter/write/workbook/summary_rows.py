@@ -56,9 +56,9 @@ def write_summary_rows(wb, ws, a, lay: Layout, widths: dict[str, float]) -> None
     """Every summary row: WBS code, name, predecessors as typed, start, finish, span."""
     figures, c = a.summaries, lay.cols
     summary_depths, _ = depths(a.schedule)
-    looks: dict[int, dict] = {}
+    looks = {d: summary_formats(wb, d) for d in sorted(set(summary_depths))}  # one per depth
     for j, s in enumerate(a.schedule.summaries):
-        look = looks.setdefault(summary_depths[j], summary_formats(wb, summary_depths[j]))
+        look = looks[summary_depths[j]]
         r, last = lay.summary_rows[j], lay.summary_rows[j] + figures.extent[j]
         name = s.name if s.id in (s.wbs, s.name) else f"{s.name} (ID {s.id})"
         ws.write_string(r, c["name"], name, look["name"])
