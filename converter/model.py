@@ -76,6 +76,26 @@ class Activity:
     distribution: str | None = None
     group: str | None = None
     target: float | dt.date | None = None
+    wbs: str | None = None  # the activity's own WBS code, when the sheet has a WBS column
+    summary: str | None = None  # the WBS code of the summary row it sits under, if any
+
+
+@dataclass
+class Summary:
+    """A WBS summary row: not scheduled itself, it spans the activities under it.
+
+    ``id`` is the row's ID cell (its WBS code when that cell is blank): links may name it.
+    ``parent`` is the WBS code of the summary above it (None at the top level);
+    ``activities`` the IDs of every activity under it, at any depth, in sheet order.
+    """
+
+    wbs: str
+    id: str
+    name: str
+    row: int = 0
+    parent: str | None = None
+    activities: tuple[str, ...] = ()
+    predecessors: str = ""  # the row's predecessor cell as typed
 
 
 @dataclass(frozen=True)
@@ -88,6 +108,7 @@ class Link:
     lag: float = 0.0
     sheet: str | None = None
     cell: str | None = None
+    via: str | None = None  # the summary (or "S1, S2") whose link this one was expanded from
 
     @property
     def code(self) -> int:
@@ -140,6 +161,7 @@ class Schedule:
     raw: RawTable | None = None
     warnings: list[Problem] = field(default_factory=list)
     notes: list[str] = field(default_factory=list)  # e.g. which sheet was chosen and why
+    summaries: list[Summary] = field(default_factory=list)  # WBS summary rows, sheet order
 
     def index(self) -> dict[str, int]:
         return {a.id: i for i, a in enumerate(self.activities)}

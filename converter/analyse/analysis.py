@@ -34,6 +34,7 @@ from converter.analyse.network import (
 )
 from converter.analyse.network import schedule as run_cpm
 from converter.analyse.paths import Path, count_paths, k_longest_paths
+from converter.analyse.summaries import SummaryFigures, summary_figures, summary_link_check
 from converter.model import Schedule
 
 if TYPE_CHECKING:
@@ -103,6 +104,7 @@ class Analysis:
     timeline: list[int] = field(default_factory=list)  # activities the timeline charts
     timeline_cut: bool = False  # whether the timeline charts only some activities
     timeline_bars: TimelineBars | None = None  # where the timeline's bars sit
+    summaries: SummaryFigures | None = None  # WBS summary rows (None without a WBS column)
 
     @property
     def project_sd(self) -> float:
@@ -280,6 +282,10 @@ def analyse(schedule: Schedule, options=None) -> Analysis:
         link_driving=np.abs(cpm.link_slack) <= tol,
         float_tolerance=tol,
     )
+    if schedule.summaries:  # after the other logic checks
+        logic = sum(1 for c in a.checks if c.group == "logic")
+        check = summary_link_check(ids, net, [lk.via for lk in schedule.links])
+        a.checks.insert(logic, check)
     _add_figures(a)
     return a
 
@@ -364,3 +370,4 @@ def _add_figures(a: Analysis) -> None:
         len(a.ids), [pr.path.activities for pr in a.paths], a.cpm.total_float
     )
     a.timeline_bars = figures.timeline_bars(a.timeline, a.cpm, a.te, a.activity_dates)
+    a.summaries = summary_figures(a.schedule, a.cpm, a.activity_dates)

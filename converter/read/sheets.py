@@ -57,6 +57,16 @@ ACTIVITY_COLUMNS: dict[str, tuple[str, ...]] = {
     "distribution": ("distribution", "dist", "shape"),
     "group": ("group", "correlation group", "risk group"),
     "target": ("target", "interim target", "target date", "target finish"),
+    "wbs": (
+        "wbs",
+        "outline",
+        "wbs code",
+        "outline number",
+        "outline code",
+        "outline level code",
+        "wbs number",
+        "wbs element",
+    ),
 }
 REQUIRED_ACTIVITY = ("id", "optimistic", "most_likely", "pessimistic")
 

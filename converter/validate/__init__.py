@@ -7,7 +7,8 @@ the output). The steps, one module each:
 - :mod:`~converter.validate.settings`: the settings sheet, resolved against the command
   line (the rules for each option are in :mod:`converter.options`);
 - :mod:`~converter.validate.activities`: the activity sheet's columns and rows;
-- :mod:`~converter.validate.links`: predecessor tokens, a links sheet, cycles.
+- :mod:`~converter.validate.links`: predecessor tokens, a links sheet, cycles;
+- :mod:`~converter.validate.outline`: WBS summary rows and the links written on them.
 """
 
 from __future__ import annotations
@@ -23,6 +24,11 @@ from converter.validate.links import (
     read_links_sheet,
     read_predecessor_column,
     warn_unlinked,
+)
+from converter.validate.outline import (
+    expand_summary_links,
+    place_activities,
+    read_outline,
 )
 from converter.validate.problems import Collector
 from converter.validate.settings import resolve_settings
@@ -53,7 +59,8 @@ def validate(
     if not check_columns(raw, out):
         return None, out.problems
     match = raw.activity
-    rows = read_activities(match, settings, out)
+    outline = read_outline(match, out)
+    rows = read_activities(match, settings, out, outline.summary_rows if outline else frozenset())
     if not rows.activities and not out.has("blank-id", "duplicate-id"):
         out.error(
             "empty",
@@ -63,20 +70,26 @@ def validate(
             fix="Add one row per activity under the header.",
         )
         return None, out.problems
-    book = LinkBook({a.id for a in rows.activities}, out)
+    summaries = outline.summaries if outline else []
+    if outline is not None:
+        place_activities(outline, rows.activities, out, match.sheet.name)
+    book = LinkBook({a.id for a in rows.activities} | {s.id for s in summaries}, out)
     if "predecessors" in match.columns:
         read_predecessor_column(book, rows.activities, rows.predecessor_cells, match)
+        if outline is not None:
+            read_predecessor_column(book, summaries, outline.summary_cells, match)
     if raw.links is not None:
         read_links_sheet(book, raw.links)
-    check_cycles(rows.activities, book.links, out)
-    warn_unlinked(rows.activities, book.links, match, out)
+    links = expand_summary_links(book.links, rows.activities, summaries, out)
+    check_cycles(rows.activities, links, out)
+    warn_unlinked(rows.activities, links, match, out)
     if not out.errors:  # the sum of sane numbers: only once each of them is sane
-        check_dates_fit(rows.activities, book.links, settings, places, match, out)
+        check_dates_fit(rows.activities, links, settings, places, match, out)
     if out.errors:
         return None, out.problems
     schedule = Schedule(
         activities=rows.activities,
-        links=book.links,
+        links=links,
         settings=settings,
         input_file=str(raw.path),
         sha256=raw.sha256,
@@ -90,5 +103,6 @@ def validate(
         ),
         warnings=out.warnings,
         notes=list(raw.notes),
+        summaries=summaries,
     )
     return schedule, out.problems

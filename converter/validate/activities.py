@@ -118,15 +118,20 @@ class ActivityRows:
     predecessor_cells: list[tuple[int, object]] = field(default_factory=list)
 
 
-def read_activities(match: TableMatch, settings: Settings, out: Collector) -> ActivityRows:
-    """One Activity per non-blank row below the header; every row's problems recorded."""
+def read_activities(
+    match: TableMatch, settings: Settings, out: Collector, skip: frozenset[int] = frozenset()
+) -> ActivityRows:
+    """One Activity per non-blank row below the header; every row's problems recorded.
+
+    ``skip``: 0-based sheet rows that are not activities (WBS summary rows).
+    """
     cols = match.columns
     sheet = match.sheet.name
     found = ActivityRows()
     first_row_of: dict[str, int] = {}
     for offset, row in enumerate(match.sheet.rows[match.header_row + 1 :]):
         r = match.header_row + 1 + offset
-        if all(is_blank(row[c]) for c in cols.values() if c < len(row)):
+        if r in skip or all(is_blank(row[c]) for c in cols.values() if c < len(row)):
             continue
         raw_id = _cell(row, cols, "id")
         if is_blank(raw_id):

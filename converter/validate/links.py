@@ -273,10 +273,12 @@ def check_cycles(activities: list[Activity], links: list[Link], out: Collector) 
     """One problem per dependency cycle, printed from the activity listed first."""
     g = nx.DiGraph()
     g.add_nodes_from(a.id for a in activities)
-    cell_of = {}
+    cell_of, via_of = {}, {}
     for lk in links:
         g.add_edge(lk.pred, lk.succ)
         cell_of[(lk.pred, lk.succ)] = (lk.sheet, lk.cell)
+        if lk.via:  # a link expanded from a link written on a WBS summary row
+            via_of.setdefault((lk.pred, lk.succ), lk.via)
     if nx.is_directed_acyclic_graph(g):
         return
     pos = {a.id: i for i, a in enumerate(activities)}
@@ -288,6 +290,10 @@ def check_cycles(activities: list[Activity], links: list[Link], out: Collector) 
         order = order[k:] + order[:k]
         text = " -> ".join(order + [order[0]])
         sheet, cell = cell_of[(order[-1], order[0])]
+        pairs = zip(order, order[1:] + order[:1])
+        vias = sorted({via_of[pq] for pq in pairs if pq in via_of})
+        if vias:
+            text += " (through the links written on summary " + "; ".join(vias) + ")"
         out.error(
             "cycle",
             f"dependency cycle: {text}",

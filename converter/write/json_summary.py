@@ -32,7 +32,15 @@ def build_json(path: Path, problems, analysis, sha256: str | None) -> dict:
         "problems": [p.as_dict() for p in problems],
     }
     if analysis is None:
-        data.update({"time_unit": None, "activity_count": 0, "project": None, "activities": []})
+        data.update(
+            {
+                "time_unit": None,
+                "activity_count": 0,
+                "project": None,
+                "activities": [],
+                "summaries": [],
+            }
+        )
         return data
     a = analysis
     data["input"]["sheet"] = a.schedule.sheet
@@ -43,6 +51,7 @@ def build_json(path: Path, problems, analysis, sha256: str | None) -> dict:
     data["calendar"] = _calendar(a.calendar)
     data["project"] = _project(a)
     data["activities"] = _activities(a)
+    data["summaries"] = _summaries(a)
     data["links"] = [
         {"from": a.ids[int(p)], "to": a.ids[int(q)], "type": LINK_TYPES[int(k)], "lag": float(g)}
         for p, q, k, g in zip(a.net.pred, a.net.succ, a.net.kind, a.net.lag)
@@ -139,6 +148,34 @@ def _activities(a) -> list[dict]:
                 "early_finish_date": _iso(dates.early_finish[i]) if dates else None,
                 "late_start_date": _iso(dates.late_start[i]) if dates else None,
                 "late_finish_date": _iso(dates.late_finish[i]) if dates else None,
+                "summary": a.schedule.activities[i].summary,
+            }
+        )
+    return rows
+
+
+def _summaries(a) -> list[dict]:
+    """The WBS summary rows, in the Activities sheet's order (WBS order)."""
+    figures = a.summaries
+    if figures is None:
+        return []
+    rows = []
+    for kind, j in figures.order:
+        if kind != "summary":
+            continue
+        s = a.schedule.summaries[j]
+        dates = figures.start_dates is not None
+        rows.append(
+            {
+                "wbs": s.wbs,
+                "id": s.id,
+                "name": s.name,
+                "summary": s.parent,
+                "start": _num(figures.start[j]),
+                "finish": _num(figures.finish[j]),
+                "span": _num(figures.span[j]),
+                "start_date": _iso(figures.start_dates[j]) if dates else None,
+                "finish_date": _iso(figures.finish_dates[j]) if dates else None,
             }
         )
     return rows

@@ -108,6 +108,7 @@ def write_workbook(analysis, path: str | Path) -> None:
         n_links=analysis.net.link_count,
         dates=analysis.calendar is not None,
         simulated=analysis.simulation is not None,
+        order=analysis.summaries.order if analysis.summaries is not None else None,
     )
     write_summary(wb, fmt, analysis, lay)
     write_activities(wb, fmt, analysis, lay)

@@ -39,6 +39,8 @@ HEADERS = {
     "lf_date": "Late finish date",
     "criticality": "Criticality index (simulated)",
     "sensitivity": "Sensitivity (simulated rank correlation)",
+    "wbs": "WBS",
+    "span": "Summary span",
 }
 
 EXCEL_EPOCH_ORDINAL = 693594  # date(1899, 12, 30).toordinal()
@@ -77,6 +79,7 @@ WIDTHS = {
     "lf_date": 10.5,
     "criticality": 10.0,
     "sensitivity": 11.0,
+    "wbs": 9.0,
 }
 NUMBER_WIDTH = 8.5
 INTRO = (
@@ -128,10 +131,13 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
     dates = a.activity_dates
     sim = a.simulation
     raw_preds = _predecessor_text(a)
+    name_look = _name_formats(wb, fmt, a)
     for i, act in enumerate(a.schedule.activities):
         r = lay.row(i)
         ws.write_string(r, c["id"], act.id, fmt.wrap)
-        ws.write_string(r, c["name"], act.name, fmt.wrap)
+        ws.write_string(r, c["name"], act.name, name_look[i])
+        if "wbs" in c and act.wbs is not None:
+            ws.write_string(r, c["wbs"], act.wbs, fmt.wrap)
         ws.write_string(r, c["pred"], raw_preds[i], fmt.wrap)
         fit_row(
             ws,
@@ -178,13 +184,31 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
                 ws.write_string(r, c["sensitivity"], "n/a (fixed)", fmt.text_right)
             else:
                 ws.write_number(r, c["sensitivity"], s, fmt.num4)
+    if a.summaries is not None:
+        from converter.write.workbook.summary_rows import write_summary_rows
+
+        write_summary_rows(wb, ws, a, lay, WIDTHS)
     ws.autofilter(FIRST - 1, 0, lay.last_row, max(c.values()))
     bands = [c[k] for k in ("tf", "criticality") if k in c]  # float and dates, simulated
     pages.set_up(ws, header_rows=(FIRST - 1, FIRST - 1), title_cols=(0, 1), bands=bands)
 
 
+def _name_formats(wb, fmt, a) -> list:
+    """Each activity's description format: indented under its WBS summaries, if any."""
+    if a.summaries is None:
+        return [fmt.wrap] * len(a.ids)
+    from converter.write.workbook.summary_rows import activity_indent, depths
+
+    levels = depths(a.schedule)[1]
+    by_depth = {d: activity_indent(wb, d) for d in set(levels) if d}  # one format per depth
+    return [by_depth[d] if d else fmt.wrap for d in levels]
+
+
 def _predecessor_text(a) -> list[str]:
-    """Each activity's links written back in the bracket notation."""
+    """Each activity's links written back in the bracket notation.
+
+    A link expanded from one written on a WBS summary row says so: ``B (via S1)``.
+    """
     out = [[] for _ in a.schedule.activities]
     index = a.schedule.index()
     for lk in a.schedule.links:
@@ -192,6 +216,8 @@ def _predecessor_text(a) -> list[str]:
         if lk.type != "FS" or lk.lag:
             lag = "" if not lk.lag else f"{lk.lag:+g}"
             spec = f"[{'' if lk.type == 'FS' else lk.type}{lag}]"
+        if lk.via is not None:
+            spec += f" (via {lk.via})"
         out[index[lk.succ]].append(lk.pred + spec)
     return [", ".join(x) for x in out]
 
@@ -214,19 +240,28 @@ LINK_INTRO = (
 )
 
 
+#: The Links sheet's extra column when links were written on WBS summary rows.
+VIA_HEADER, VIA_WIDTH = "Via summary", 12.0
+
+
 def write_links(wb, fmt, a, lay: Layout) -> None:
+    via = [lk.via for lk in a.schedule.links]
+    headers, widths = list(LINK_HEADERS), list(LINK_WIDTHS)
+    if any(v is not None for v in via):
+        headers.append(VIA_HEADER)
+        widths.append(VIA_WIDTH)
     ws = wb.add_worksheet(LINKS)
     ws.write_string(0, 0, "Links: what each precedence link requires", fmt.title)
     ws.set_row(0, TITLE_ROW)
     ws.merge_range(1, 0, 1, len(LINK_HEADERS) - 1, LINK_INTRO, fmt.subtitle_wrap)
     ws.set_row(1, row_height([(LINK_INTRO, merged_width(LINK_WIDTHS))]))
-    for col, (h, width) in enumerate(zip(LINK_HEADERS, LINK_WIDTHS)):
+    for col, (h, width) in enumerate(zip(headers, widths)):
         style = fmt.th if col < 3 else fmt.th_center
         ws.write_string(FIRST - 1, col, h, style)
         ws.set_column(col, col, width)
     ws.set_row(
         FIRST - 1,
-        row_height([(h, w, TABLE_HEAD_SIZE, True) for h, w in zip(LINK_HEADERS, LINK_WIDTHS)]),
+        row_height([(h, w, TABLE_HEAD_SIZE, True) for h, w in zip(headers, widths)]),
     )
     ws.freeze_panes(FIRST, 2)
     net, cpm = a.net, a.cpm
@@ -263,8 +298,10 @@ def write_links(wb, fmt, a, lay: Layout) -> None:
         ws.write_formula(
             r, 7, f.is_critical(f.ref(r, 5)), fmt.center, "Yes" if a.link_driving[k] else "No"
         )
+        if via[k] is not None:
+            ws.write_string(r, lay.LINK_COLS["via"], via[k])
     if net.link_count:
-        ws.autofilter(FIRST - 1, 0, FIRST + net.link_count - 1, len(LINK_HEADERS) - 1)
+        ws.autofilter(FIRST - 1, 0, FIRST + net.link_count - 1, len(headers) - 1)
     else:
         ws.write_string(FIRST, 0, "No links: every activity starts at the project start.")
     pages.set_up(ws, header_rows=(FIRST - 1, FIRST - 1))

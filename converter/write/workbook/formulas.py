@@ -172,3 +172,13 @@ def over_links(outer: str, first: str, conditional: str, values: str, keys: str,
 
 def fits(formula: str) -> bool:
     return len(formula) <= FORMULA_LIMIT
+
+
+def summary_start(cells: str) -> str:
+    """A summary row's start: the earliest start of the rows under it."""
+    return f"=MIN({cells})"
+
+
+def summary_finish(cells: str) -> str:
+    """A summary row's finish: the latest finish of the rows under it."""
+    return f"=MAX({cells})"

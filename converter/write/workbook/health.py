@@ -64,6 +64,8 @@ def _count_formula(c: Check, a, lay: Layout) -> str | None:
     if c.key == "link_types" and links:
         col = lay.link_column("type")
         return f'=COUNTA({col})-COUNTIF({col},"FS")'
+    if c.key == "summary_links" and links:  # the Links sheet's "Via summary" cells
+        return f"=COUNTA({lay.link_column('via')})"
     if c.above is not None and c.key in _VALUE_COLUMN:
         above = c.above
         return f.count_above(

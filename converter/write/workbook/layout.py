@@ -32,6 +32,11 @@ class Layout:
     dates: bool
     simulated: bool
     cols: dict[str, int] = field(default_factory=dict)
+    #: The table's rows in WBS order (``("summary", j)`` / ``("activity", i)``), or None
+    #: when there are no summary rows: activity ``i`` is then on row FIRST + i.
+    order: list[tuple[str, int]] | None = None
+    rows: list[int] = field(default_factory=list)  # sheet row of each activity (the row map)
+    summary_rows: list[int] = field(default_factory=list)  # sheet row of each summary
 
     def __post_init__(self) -> None:
         names = [
@@ -55,15 +60,33 @@ class Layout:
             names += ["es_date", "ef_date", "ls_date", "lf_date"]
         if self.simulated:
             names += ["criticality", "sensitivity"]
+        if self.order is not None:
+            names += ["wbs", "span"]
         self.cols = {k: i for i, k in enumerate(names)}
+        self._row_map()
+
+    def _row_map(self) -> None:
+        """Build, once, the sheet row of each activity and each summary."""
+        if self.order is None:
+            return
+        self.rows = [0] * self.n
+        self.summary_rows = [0] * sum(1 for kind, _ in self.order if kind == "summary")
+        for position, (kind, k) in enumerate(self.order):
+            (self.summary_rows if kind == "summary" else self.rows)[k] = FIRST + position
 
     # activity table -----------------------------------------------------------
     def row(self, i: int) -> int:
-        return FIRST + i
+        """The sheet row (0-based) of activity ``i``."""
+        return self.rows[i] if self.order is not None else FIRST + i
+
+    @property
+    def table_rows(self) -> int:
+        """Rows of the activity table: activities and summary rows."""
+        return len(self.order) if self.order is not None else self.n
 
     @property
     def last_row(self) -> int:
-        return FIRST + max(self.n, 1) - 1
+        return FIRST + max(self.table_rows, 1) - 1
 
     def cell(self, i: int, key: str, sheet: bool = False, absolute: bool = False) -> str:
         """Reference to activity ``i``'s ``key`` column (e.g. ``J7``)."""
@@ -82,6 +105,7 @@ class Layout:
         "slack": 5,
         "pull": 6,
         "driving": 7,
+        "via": 8,  # only when links were written on WBS summary rows
     }
 
     def link_cell(self, k: int, key: str, sheet: bool = True) -> str:

@@ -187,6 +187,17 @@ METHOD_TEXT = [
 ]
 
 
+#: The Method sheet's word on WBS summary rows (only when the schedule has them).
+SUMMARY_METHOD = (
+    "Summary rows (WBS)",
+    "A row whose WBS code is the parent of other rows' codes (1.2 of 1.2.1) is a summary: it "
+    "is not scheduled. Its start is the MIN of the early starts under it, its finish the MAX "
+    "of their early finishes, its span the finish less the start. A link to a summary is a "
+    "link to each of its activities with no predecessor inside it; a link from a summary, "
+    "from each of its activities with no successor inside it (the Links sheet's Via summary "
+    "column). Common practice.",
+)
+
 #: Widths of the Method sheet's two columns (characters): one landscape page at full size.
 METHOD_WIDTHS = (22, 84)
 
@@ -196,7 +207,12 @@ def write_method(wb, fmt, a, lay: Layout) -> None:
     label_width, text_width = METHOD_WIDTHS
     ws.set_column(0, 0, label_width)
     ws.set_column(1, 1, text_width)
-    for r, (label, text) in enumerate(METHOD_TEXT):
+    items = list(METHOD_TEXT)
+    if a.summaries is not None:
+        items.insert(
+            next(k for k, (lb, _) in enumerate(items) if lb == "Assumptions"), SUMMARY_METHOD
+        )
+    for r, (label, text) in enumerate(items):
         if text is None:
             ws.write_string(r, 0, label, fmt.title)
             continue
