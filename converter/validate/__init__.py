@@ -25,6 +25,7 @@ from converter.validate.links import (
     warn_unlinked,
 )
 from converter.validate.problems import Collector
+from converter.validate.ranges import read_range_classes
 from converter.validate.settings import resolve_settings
 
 __all__ = ["validate"]
@@ -53,7 +54,8 @@ def validate(
     if not check_columns(raw, out):
         return None, out.problems
     match = raw.activity
-    rows = read_activities(match, settings, out)
+    ranges = read_range_classes(raw.ranges, raw.ranges_unreadable, settings, places, out)
+    rows = read_activities(match, settings, out, ranges)
     if not rows.activities and not out.has("blank-id", "duplicate-id"):
         out.error(
             "empty",
@@ -89,6 +91,17 @@ def validate(
             first_row=match.header_row + 2,
         ),
         warnings=out.warnings,
-        notes=list(raw.notes),
+        notes=list(raw.notes) + _unused_ranges(ranges),
+        ranges=list(ranges.used.values()),
     )
     return schedule, out.problems
+
+
+def _unused_ranges(ranges) -> list[str]:
+    """A note naming the range classes defined but used by no activity."""
+    unused = ranges.unused()
+    if not unused:
+        return []
+    return [
+        f"Range classes defined on {ranges.sheet} but used by no activity: {', '.join(unused)}."
+    ]
