@@ -405,7 +405,7 @@ def _row_range(row, cols, r, sheet, ident, book: RangeBook, out: Collector):
     text = " ".join(id_text(value).split())
     if "/" in text:
         try:
-            return _inline_class(text, f"{sheet}!{where}")
+            return _inline_class(text, f"typed in {sheet}!{where}")
         except ValueError as exc:
             out.error("bad-range", f"Range {exc}", sheet, where, ident)
             return False

@@ -139,6 +139,7 @@ def _activities(a) -> list[dict]:
                 "early_finish_date": _iso(dates.early_finish[i]) if dates else None,
                 "late_start_date": _iso(dates.late_start[i]) if dates else None,
                 "late_finish_date": _iso(dates.late_finish[i]) if dates else None,
+                "range": a.schedule.activities[i].range,
             }
         )
     return rows

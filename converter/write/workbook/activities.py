@@ -14,6 +14,7 @@ from converter.model import FS, LINK_TYPES
 from converter.write.workbook import formulas as f
 from converter.write.workbook import pages
 from converter.write.workbook.layout import ACTIVITIES, FIRST, LINKS, Layout
+from converter.write.workbook.ranges import row_of, write_estimates
 from converter.write.workbook.rows import DEFAULT_ROW_HEIGHT, fit_row, merged_width, row_height
 from converter.write.workbook.styles import TABLE_HEAD_SIZE, TITLE_ROW
 
@@ -39,6 +40,8 @@ HEADERS = {
     "lf_date": "Late finish date",
     "criticality": "Criticality index (simulated)",
     "sensitivity": "Sensitivity (simulated rank correlation)",
+    "duration": "Duration",
+    "range": "Range used",
 }
 
 EXCEL_EPOCH_ORDINAL = 693594  # date(1899, 12, 30).toordinal()
@@ -128,6 +131,7 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
     dates = a.activity_dates
     sim = a.simulation
     raw_preds = _predecessor_text(a)
+    range_rows = row_of(a)
     for i, act in enumerate(a.schedule.activities):
         r = lay.row(i)
         ws.write_string(r, c["id"], act.id, fmt.wrap)
@@ -138,9 +142,7 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
             r,
             [(act.id, WIDTHS["id"]), (act.name, WIDTHS["name"]), (raw_preds[i], WIDTHS["pred"])],
         )
-        ws.write_number(r, c["o"], act.optimistic, fmt.input_num)
-        ws.write_number(r, c["m"], act.most_likely, fmt.input_num)
-        ws.write_number(r, c["p"], act.pessimistic, fmt.input_num)
+        write_estimates(ws, fmt, lay, r, i, act, range_rows)
         o, m, p = lay.cell(i, "o"), lay.cell(i, "m"), lay.cell(i, "p")
         ws.write_formula(r, c["te"], f.expected_time(o, m, p), fmt.num, float(a.te[i]))
         ws.write_formula(r, c["var"], f.pert_variance(o, p), fmt.num4, float(a.var[i]))

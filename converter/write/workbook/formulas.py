@@ -172,3 +172,8 @@ def over_links(outer: str, first: str, conditional: str, values: str, keys: str,
 
 def fits(formula: str) -> bool:
     return len(formula) <= FORMULA_LIMIT
+
+
+def from_range(duration: str, percent: str) -> str:
+    """An estimate made by a range class: duration x percent / 100 (O, M or P)."""
+    return f"={duration}*{percent}/100"
