@@ -15,7 +15,7 @@ from __future__ import annotations
 
 from converter.model import ERROR, WARNING, Problem
 from converter.read.extent import CellError
-from converter.read.ranges import RANGE_COLUMNS, choose_ranges
+from converter.read.ranges import RANGE_COLUMNS, choose_ranges, is_ranges_sheet
 from converter.read.sheets import (
     ACTIVITY_ALIASES,
     ACTIVITY_COLUMNS,
@@ -62,7 +62,7 @@ def choose_sheets(raw: RawInput) -> list[Problem]:
         if sheet is raw.settings:
             settings_match = m
             continue
-        if raw.ranges is not None and sheet is raw.ranges.sheet:
+        if is_ranges_sheet(raw, sheet):
             raw.searched.append(f"{sheet.name}: passed over as the range classes sheet.")
             continue
         if m is None:
@@ -136,7 +136,7 @@ def _choose_links(raw: RawInput) -> None:
     for sheet in raw.sheets:
         if sheet is raw.settings or (raw.activity and sheet is raw.activity.sheet):
             continue
-        if raw.ranges is not None and sheet is raw.ranges.sheet:
+        if is_ranges_sheet(raw, sheet):
             continue
         m = match_header(sheet, LINK_ALIASES)
         if m and "pred" in m.columns and "succ" in m.columns:

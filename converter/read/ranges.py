@@ -12,7 +12,7 @@ from __future__ import annotations
 from converter.read.sheets import RawInput, SheetData, TableMatch, match_header, named
 from converter.values import normalise
 
-__all__ = ["RANGE_COLUMNS", "RANGE_SHEET_NAMES", "choose_ranges", "range_match"]
+__all__ = ["RANGE_COLUMNS", "RANGE_SHEET_NAMES", "choose_ranges", "is_ranges_sheet", "range_match"]
 
 #: Accepted header spellings for each column of the range classes sheet.
 RANGE_COLUMNS: dict[str, tuple[str, ...]] = {
@@ -54,3 +54,10 @@ def choose_ranges(raw: RawInput) -> None:
         raw.notes.append(f"Range classes sheet: {raw.ranges.sheet.name}.")
         return
     raw.ranges_unreadable = next((s for s in raw.sheets if named(s, RANGE_SHEET_NAMES)), None)
+
+
+def is_ranges_sheet(raw: RawInput, sheet: SheetData) -> bool:
+    """Whether ``sheet`` is the range classes sheet (or one named so): never an activity
+    list or a links sheet."""
+    found = raw.ranges.sheet if raw.ranges is not None else raw.ranges_unreadable
+    return sheet is found
