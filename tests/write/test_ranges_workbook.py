@@ -127,3 +127,21 @@ def test_libreoffice_recalculates_the_range_formulas(made, tmp_path, libreoffice
     for ident, r in rows.items():
         got = tuple(ws.cell(r, cols[h]).value for h in ("Optimistic", "Most likely", "Pessimistic"))
         assert got == pytest.approx(EXPECTED[ident], rel=1e-12), ident  # by hand, above
+
+
+def test_ranges_sheet_and_new_columns_read_cleanly_on_screen(made):
+    """The on-screen checks every sample's sheets pass (tests/support/sheet_checks.py):
+    wrapped text fits, nothing cut, numbers and text apart."""
+    import sheet_checks
+
+    wb = openpyxl.load_workbook(made.workbook, data_only=True)
+    found = []
+    for name in ("Ranges", "Activities", "Method", "Settings used"):
+        sheet = sheet_checks.Sheet(wb[name])
+        found += (
+            sheet_checks.wrapped_text_fits(sheet)
+            + sheet_checks.text_not_cut(sheet)
+            + sheet_checks.aligned_apart(sheet)
+            + sheet_checks.labels_beside_tall_text(sheet)
+        )
+    assert not found, "\n".join(found)

@@ -80,6 +80,7 @@ WIDTHS = {
     "lf_date": 10.5,
     "criticality": 10.0,
     "sensitivity": 11.0,
+    "range": 14.0,
 }
 NUMBER_WIDTH = 8.5
 INTRO = (
@@ -140,7 +141,12 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
         fit_row(
             ws,
             r,
-            [(act.id, WIDTHS["id"]), (act.name, WIDTHS["name"]), (raw_preds[i], WIDTHS["pred"])],
+            [
+                (act.id, WIDTHS["id"]),
+                (act.name, WIDTHS["name"]),
+                (raw_preds[i], WIDTHS["pred"]),
+                (act.range or "", WIDTHS["range"]),
+            ],
         )
         write_estimates(ws, fmt, lay, r, i, act, range_rows)
         o, m, p = lay.cell(i, "o"), lay.cell(i, "m"), lay.cell(i, "p")

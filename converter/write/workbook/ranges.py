@@ -13,7 +13,7 @@ from __future__ import annotations
 from converter.write.workbook import formulas as f
 from converter.write.workbook import pages
 from converter.write.workbook.layout import FIRST, RANGES, Layout
-from converter.write.workbook.rows import merged_width, row_height
+from converter.write.workbook.rows import fit_row, merged_width, row_height
 from converter.write.workbook.styles import TITLE_ROW
 
 HEADERS = ("Range", "Low %", "Likely %", "High %", "Kind", "Defined at (input)")
@@ -63,7 +63,7 @@ def write_estimates(ws, fmt, lay: Layout, r: int, i: int, act, rows: dict[str, i
     if act.duration is not None:
         ws.write_number(r, c["duration"], act.duration, fmt.input_num)
     if act.range is not None:
-        ws.write_string(r, c["range"], act.range, fmt.wrap)
+        ws.write_string(r, c["range"], act.range, fmt.wrap_indent)
 
 
 def write_ranges(wb, fmt, a, lay: Layout) -> None:
@@ -83,7 +83,8 @@ def write_ranges(wb, fmt, a, lay: Layout) -> None:
         ws.write_string(r, 0, rc.name, fmt.wrap)
         for col, x in ((1, rc.low), (2, rc.likely), (3, rc.high)):
             ws.write_number(r, col, x, fmt.input_num)
-        ws.write_string(r, 4, "inline" if rc.inline else "class", fmt.left)
+        ws.write_string(r, 4, "inline" if rc.inline else "class", fmt.wrap_indent)
         ws.write_string(r, 5, rc.place, fmt.wrap)
+        fit_row(ws, r, [(rc.name, WIDTHS[0]), (rc.place, WIDTHS[5])])
     ws.freeze_panes(FIRST, 1)
     pages.set_up(ws, header_rows=(FIRST - 1, FIRST - 1))
