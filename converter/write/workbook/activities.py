@@ -108,7 +108,7 @@ def _table_head(ws, fmt, lay: Layout) -> None:
     heads = []
     for key, col in c.items():
         # heads centred over numbers, so neighbouring heads do not run together
-        style = fmt.th if key in ("id", "name", "pred") else fmt.th_center
+        style = fmt.th if key in ("id", "name", "pred", "range") else fmt.th_center
         ws.write_string(FIRST - 1, col, HEADERS[key], style)
         ws.set_column(col, col, _width(key))
         heads.append((HEADERS[key], _width(key), TABLE_HEAD_SIZE, True))
