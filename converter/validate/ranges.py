@@ -120,6 +120,9 @@ class RangeBook:
     default_bad: bool = False
     sheet: str = "Ranges"
     used: dict[str, RangeClass] = field(default_factory=dict)
+    #: Classes (by :func:`class_key`) whose row has a problem: an activity naming one is
+    #: refused without a second message (the row's problem names the cell).
+    refused: set[str] = field(default_factory=set)
 
     def use(self, rc: RangeClass) -> RangeClass:
         """Record that ``rc`` made some activity's estimates; the first one of its name."""
@@ -153,14 +156,17 @@ def read_range_classes(
         first: dict[str, int] = {}
         for r in range(ranges.header_row + 1, len(ranges.sheet.rows)):
             rc = _class_row(ranges, r, first, out)
-            if rc is not None:
+            if isinstance(rc, RangeClass):
                 book.classes[class_key(rc.name)] = rc
+            elif rc is not None:
+                book.refused.add(rc)
     _default(book, settings, places, out)
     return book
 
 
-def _class_row(m: TableMatch, r: int, first: dict[str, int], out: Collector) -> RangeClass | None:
-    """One row of the Ranges sheet as a class, or None (blank, or problems recorded)."""
+def _class_row(m: TableMatch, r: int, first: dict[str, int], out: Collector):
+    """One row of the Ranges sheet as a class; or the key of a class whose percentages
+    have problems (recorded); or None (a blank row, or a name with a problem)."""
     row, cols, sheet = m.sheet.rows[r], m.columns, m.sheet.name
     cells = {k: (row[c] if c < len(row) else None) for k, c in cols.items()}
     if all(is_blank(v) for v in cells.values()):
@@ -202,8 +208,10 @@ def _class_row(m: TableMatch, r: int, first: dict[str, int], out: Collector) -> 
         else:
             first[class_key(name)] = r
     values = _percentages(m, r, cells, name, out)
-    if name is None or values is None:
+    if name is None:
         return None
+    if values is None:
+        return class_key(name)
     return RangeClass(name, *values, place=f"{sheet}!{name_cell}")
 
 
@@ -296,7 +304,9 @@ def _default(book: RangeBook, settings: Settings, places: dict, out: Collector) 
             book.default_bad = True
         return
     book.default = book.classes.get(class_key(name))
-    if book.default is None:
+    if book.default is None and class_key(name) in book.refused:
+        book.default_bad = True
+    elif book.default is None:
         book.default_bad = True
         out.error(
             "unknown-range",
@@ -410,6 +420,8 @@ def _row_range(row, cols, r, sheet, ident, book: RangeBook, out: Collector):
             out.error("bad-range", f"Range {exc}", sheet, where, ident)
             return False
     rc = book.classes.get(class_key(text))
+    if rc is None and class_key(text) in book.refused:
+        return False
     if rc is None:
         out.error(
             "unknown-range",

@@ -313,3 +313,28 @@ def test_the_ranges_sheet_is_neither_the_activity_list_nor_a_links_sheet(tmp_pat
 def test_unused_classes_are_a_note(tmp_path):
     sched, _ = run(book(tmp_path, [["A", "a", None, 10, "Tight"]]))
     assert "Range classes defined on Ranges but used by no activity: Wide." in sched.notes
+
+
+def test_error_values_in_range_cells_are_named(tmp_path):
+    """A failed formula (#N/A, #DIV/0!) in a Ranges cell, a Duration or a Range cell is an
+    error naming that cell, and nothing else is said about the row."""
+    import openpyxl
+
+    rows = [["A", "a", None, 10, "Tight"], ["B", "b", "A", 10, "Wide"]]
+    path = book(tmp_path, rows)
+    wb = openpyxl.load_workbook(path)
+    for sheet, ref, code in (
+        ("Ranges", "C3", "#DIV/0!"),  # Wide's Likely %
+        ("Ranges", "A2", "#N/A"),  # Tight's name
+        ("Activities", "D2", "#VALUE!"),  # A's Duration
+    ):
+        wb[sheet][ref] = code
+        wb[sheet][ref].data_type = "e"  # an error cell, as a failed formula leaves it
+    wb.save(path)
+    sched, problems = run(path)
+    assert sched is None
+    assert problems_of(problems, ERROR) == {
+        ("error-value", "Ranges", "C3", None),
+        ("error-value", "Ranges", "A2", None),
+        ("error-value", "Activities", "D2", "A"),
+    }  # B names Wide, refused for its C3: no second message
