@@ -42,7 +42,7 @@ def fixed_durations_only(match: TableMatch | None) -> bool:
     return match is not None and not {"optimistic", "pessimistic"} & set(match.columns)
 
 
-def duration_durations_only(match: TableMatch | None) -> bool:
+def durations_only(match: TableMatch | None) -> bool:
     """A sheet with a Duration column and no O, M or P column: estimates from ranges."""
     return (
         match is not None
@@ -55,7 +55,7 @@ def check_columns(raw: RawInput, out: Collector) -> bool:
     """Whether the activity sheet has every column needed; a problem when it has not."""
     match = raw.activity
     fixed_only = fixed_durations_only(match)
-    duration_only = duration_durations_only(match)
+    duration_only = durations_only(match)
     needed = [
         k
         for k in REQUIRED_ACTIVITY
