@@ -145,3 +145,18 @@ def test_ranges_sheet_and_new_columns_read_cleanly_on_screen(made):
             + sheet_checks.labels_beside_tall_text(sheet)
         )
     assert not found, "\n".join(found)
+
+
+def test_the_reproduce_command_carries_a_default_range_given_on_the_command_line(tmp_path):
+    """--default-range changes the estimates, so the command that reruns the simulation
+    must carry it (the other settings given on the command line are carried likewise)."""
+    rows = [[*HEAD, "Duration", "Range"], ["A", "a", None, None, None, None, 10, None]]
+    src = write_xlsx(tmp_path / "d.xlsx", {"Activities": rows, "Ranges": CLASSES})
+    options = ConvertOptions(iterations=200, default_range="Wide")
+    result = convert(src, options, outdir=tmp_path / "out")
+    assert result.ok, "\n".join(map(str, result.problems))
+    ws = openpyxl.load_workbook(result.workbook)["Simulation"]
+    command = next(
+        r[1].value for r in ws.iter_rows() if r[0].value == "To reproduce" and r[1].value
+    )
+    assert command.endswith('--default-range "Wide"'), command
