@@ -78,6 +78,13 @@ class Activity:
     target: float | dt.date | None = None
     wbs: str | None = None  # the activity's own WBS code, when the sheet has a WBS column
     summary: str | None = None  # the WBS code of the summary row it sits under, if any
+    #: The single duration as read (the Duration column), in the time unit; None if blank.
+    duration: float | None = None
+    #: The range class (or inline text such as ``80/100/120``) that made O, M and P from
+    #: the duration; None where the O/M/P cells were given (or the duration is fixed).
+    range: str | None = None
+    #: (low, likely, high) in percent of the duration, where a range made O, M and P.
+    range_percent: tuple[float, float, float] | None = None
 
 
 @dataclass
@@ -131,10 +138,27 @@ class Settings:
     correlation: float = 0.0
     confidence_levels: tuple[float, ...] = DEFAULT_CONFIDENCE
     paths: int = DEFAULT_PATHS
+    default_range: str | None = None  # the range class of rows with a duration but no range
     sources: dict[str, str] = field(default_factory=dict)
 
     def source_of(self, name: str) -> str:
         return self.sources.get(name, "default")
+
+
+@dataclass(frozen=True)
+class RangeClass:
+    """A range class: low / most likely / high in percent of an activity's single duration.
+
+    ``place`` says where it was defined: ``"Ranges!A3"`` for a class on the Ranges sheet,
+    or the activity cell where an inline range (``80/100/120``) was typed.
+    """
+
+    name: str
+    low: float
+    likely: float
+    high: float
+    place: str = ""
+    inline: bool = False
 
 
 @dataclass
@@ -162,6 +186,9 @@ class Schedule:
     warnings: list[Problem] = field(default_factory=list)
     notes: list[str] = field(default_factory=list)  # e.g. which sheet was chosen and why
     summaries: list[Summary] = field(default_factory=list)  # WBS summary rows, sheet order
+    #: The range classes (and inline ranges) that made some activity's O, M and P, in the
+    #: order first used.
+    ranges: list[RangeClass] = field(default_factory=list)
 
     def index(self) -> dict[str, int]:
         return {a.id: i for i, a in enumerate(self.activities)}

@@ -33,6 +33,7 @@ from converter.options.parsers import (
     parse_confidence,
     parse_correlation,
     parse_date,
+    parse_default_range,
     parse_distribution,
     parse_due,
     parse_duration,
@@ -61,6 +62,7 @@ __all__ = [
     "parse_confidence",
     "parse_correlation",
     "parse_date",
+    "parse_default_range",
     "parse_distribution",
     "parse_due",
     "parse_duration",
@@ -166,6 +168,14 @@ OPTIONS: tuple[Option, ...] = (
         name="simulation_memory",
         default=DEFAULT_SIMULATION_MEMORY_MB,
     ),
+    Option(
+        "default_range",
+        "default_range",
+        parse_default_range,
+        "range class (from the Ranges sheet) for activities with a Duration but no Range, "
+        "or inline percentages such as 80/100/120",
+        "CLASS",
+    ),
 )
 BY_SETTING: dict[str, Option] = {o.setting: o for o in OPTIONS if o.setting is not None}
 
@@ -192,6 +202,7 @@ class ConvertOptions:
     progress: object | None = None  # callable(done, total) for the simulation
     simulation_workers: int | None = None  # processes for the simulation; None: from the cores
     simulation_memory_mb: int | None = None  # simulation memory budget (MB); None: 1024
+    default_range: str | None = None  # range class for rows with a Duration and no Range
 
 
 # --------------------------------------------------------------------------- command line

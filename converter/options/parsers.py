@@ -16,6 +16,7 @@ from converter.values import (
     as_date,
     as_number,
     date_out_of_range,
+    id_text,
     is_blank,
     normalise,
     parse_number,
@@ -265,3 +266,23 @@ def parse_time_unit(value: object) -> str:
     if u is None:
         raise ValueError(f"{shown(value)} is not working days, weeks or calendar days")
     return u
+
+
+def parse_default_range(value: object) -> str:
+    """The default range: the name of a range class, or inline percentages ``80/100/120``.
+
+    Whether the class exists is checked against the Ranges sheet in
+    :mod:`converter.validate.ranges`; here only that a name is given.
+
+    Examples
+    --------
+    >>> parse_default_range("  Medium "), parse_default_range(2.0)
+    ('Medium', '2')
+    """
+    if is_blank(value) or isinstance(value, bool):
+        raise ValueError(f"{shown(value)} is not the name of a range class")
+    if isinstance(value, (int, float)):
+        return id_text(value)
+    if not isinstance(value, str):
+        raise ValueError(f"{shown(value)} is not the name of a range class")
+    return " ".join(value.split())

@@ -15,6 +15,7 @@ from __future__ import annotations
 
 from converter.model import ERROR, WARNING, Problem
 from converter.read.extent import CellError
+from converter.read.ranges import RANGE_COLUMNS, choose_ranges, is_ranges_sheet
 from converter.read.sheets import (
     ACTIVITY_ALIASES,
     ACTIVITY_COLUMNS,
@@ -40,20 +41,29 @@ MAX_ERROR_CELLS = 50
 
 
 def complete(match: TableMatch | None) -> bool:
-    """Whether a header row has the columns an activity list cannot do without."""
-    return match is not None and "id" in match.columns and "most_likely" in match.columns
+    """Whether a header row has the columns an activity list cannot do without (an ID, and
+    a most likely estimate or a single duration)."""
+    return (
+        match is not None
+        and "id" in match.columns
+        and ("most_likely" in match.columns or "duration" in match.columns)
+    )
 
 
 def choose_sheets(raw: RawInput) -> list[Problem]:
     """Set ``raw.activity``, ``raw.settings``, ``raw.links``; return the reader's problems."""
     settings = [s for s in raw.sheets if named(s, SETTINGS_SHEET_NAMES)]
     raw.settings = settings[0] if settings else None
+    choose_ranges(raw)
     candidates: list[tuple[tuple, TableMatch]] = []
     settings_match = None
     for pos, sheet in enumerate(raw.sheets):
         m = match_header(sheet, ACTIVITY_ALIASES)
         if sheet is raw.settings:
             settings_match = m
+            continue
+        if is_ranges_sheet(raw, sheet):
+            raw.searched.append(f"{sheet.name}: passed over as the range classes sheet.")
             continue
         if m is None:
             raw.searched.append(
@@ -84,7 +94,7 @@ def choose_sheets(raw: RawInput) -> list[Problem]:
     problems: list[Problem] = []
     if not complete(raw.activity):
         problems.extend(_header_too_low(raw))
-    for match in (raw.activity, raw.links):
+    for match in (raw.activity, raw.links, raw.ranges):
         if match is not None:
             problems.extend(_duplicate_columns(match))
     problems.extend(_error_cells(raw))
@@ -126,6 +136,8 @@ def _choose_links(raw: RawInput) -> None:
     for sheet in raw.sheets:
         if sheet is raw.settings or (raw.activity and sheet is raw.activity.sheet):
             continue
+        if is_ranges_sheet(raw, sheet):
+            continue
         m = match_header(sheet, LINK_ALIASES)
         if m and "pred" in m.columns and "succ" in m.columns:
             if raw.links is None or named(sheet, LINK_SHEET_NAMES):
@@ -162,7 +174,7 @@ def _header_too_low(raw: RawInput) -> list[Problem]:
 
 
 def _title(key: str) -> str:
-    words = ACTIVITY_COLUMNS.get(key) or LINK_COLUMNS.get(key) or (key,)
+    words = ACTIVITY_COLUMNS.get(key) or LINK_COLUMNS.get(key) or RANGE_COLUMNS.get(key) or (key,)
     return words[0].capitalize()
 
 

@@ -67,6 +67,8 @@ ACTIVITY_COLUMNS: dict[str, tuple[str, ...]] = {
         "wbs number",
         "wbs element",
     ),
+    "duration": ("duration", "planned duration", "baseline duration"),
+    "range": ("range", "range class", "uncertainty"),
 }
 REQUIRED_ACTIVITY = ("id", "optimistic", "most_likely", "pessimistic")
 
@@ -143,6 +145,10 @@ class RawInput:
     #: What was searched for the activity header and why each sheet was passed over, one
     #: sentence per sheet (for a message when no activity list is found).
     searched: list[str] = field(default_factory=list)
+    #: The range classes sheet (Range, Low %, Likely %, High %), if any.
+    ranges: TableMatch | None = None
+    #: A sheet named like a range classes sheet whose header row was not found.
+    ranges_unreadable: SheetData | None = None
 
     def search_summary(self) -> str:
         """The search in one paragraph: ``"Searched ...: Plan: ...; Settings: ..."``."""

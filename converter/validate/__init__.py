@@ -31,6 +31,7 @@ from converter.validate.outline import (
     read_outline,
 )
 from converter.validate.problems import Collector
+from converter.validate.ranges import read_range_classes
 from converter.validate.settings import resolve_settings
 
 __all__ = ["validate"]
@@ -60,7 +61,9 @@ def validate(
         return None, out.problems
     match = raw.activity
     outline = read_outline(match, out)
-    rows = read_activities(match, settings, out, outline.summary_rows if outline else frozenset())
+    ranges = read_range_classes(raw.ranges, raw.ranges_unreadable, settings, places, out)
+    skip = outline.summary_rows if outline else frozenset()
+    rows = read_activities(match, settings, out, ranges, skip)
     if not rows.activities and not out.has("blank-id", "duplicate-id"):
         out.error(
             "empty",
@@ -102,7 +105,18 @@ def validate(
             first_row=match.header_row + 2,
         ),
         warnings=out.warnings,
-        notes=list(raw.notes),
+        notes=list(raw.notes) + _unused_ranges(ranges),
         summaries=summaries,
+        ranges=list(ranges.used.values()),
     )
     return schedule, out.problems
+
+
+def _unused_ranges(ranges) -> list[str]:
+    """A note naming the range classes defined but used by no activity."""
+    unused = ranges.unused()
+    if not unused:
+        return []
+    return [
+        f"Range classes defined on {ranges.sheet} but used by no activity: {', '.join(unused)}."
+    ]

@@ -22,6 +22,7 @@ from converter.read.sheets import (
     cell_name,
 )
 from converter.validate.problems import Collector
+from converter.validate.ranges import RangeBook, range_estimates, read_duration
 from converter.values import LARGEST_DURATION, id_text, is_blank, parse_number, shown
 
 FIELD_TITLES = {
@@ -41,12 +42,25 @@ def fixed_durations_only(match: TableMatch | None) -> bool:
     return match is not None and not {"optimistic", "pessimistic"} & set(match.columns)
 
 
+def durations_only(match: TableMatch | None) -> bool:
+    """A sheet with a Duration column and no O, M or P column: estimates from ranges."""
+    return (
+        match is not None
+        and "duration" in match.columns
+        and not set(ESTIMATES) & set(match.columns)
+    )
+
+
 def check_columns(raw: RawInput, out: Collector) -> bool:
     """Whether the activity sheet has every column needed; a problem when it has not."""
     match = raw.activity
     fixed_only = fixed_durations_only(match)
+    duration_only = durations_only(match)
     needed = [
-        k for k in REQUIRED_ACTIVITY if not (fixed_only and k in ("optimistic", "pessimistic"))
+        k
+        for k in REQUIRED_ACTIVITY
+        if not (fixed_only and k in ("optimistic", "pessimistic"))
+        and not (duration_only and k in ESTIMATES)
     ]
     if match is None or any(k not in match.columns for k in needed):
         sheet = (
@@ -80,7 +94,7 @@ def check_columns(raw: RawInput, out: Collector) -> bool:
             cell_name(match.header_row, 0),
         )
         return False
-    if fixed_only:
+    if fixed_only and "duration" not in match.columns:
         out.warn(
             "fixed-durations",
             "no Optimistic or Pessimistic column: every duration is "
@@ -119,13 +133,19 @@ class ActivityRows:
 
 
 def read_activities(
-    match: TableMatch, settings: Settings, out: Collector, skip: frozenset[int] = frozenset()
+    match: TableMatch,
+    settings: Settings,
+    out: Collector,
+    ranges: RangeBook | None = None,
+    skip: frozenset[int] = frozenset(),
 ) -> ActivityRows:
     """One Activity per non-blank row below the header; every row's problems recorded.
 
+    ``ranges``: the range classes and default range (:mod:`converter.validate.ranges`).
     ``skip``: 0-based sheet rows that are not activities (WBS summary rows).
     """
     cols = match.columns
+    ranges = ranges if ranges is not None else RangeBook()
     sheet = match.sheet.name
     found = ActivityRows()
     first_row_of: dict[str, int] = {}
@@ -142,7 +162,7 @@ def read_activities(
                 cell_name(r, cols["id"]),
                 fix="Give the activity an ID or delete the row.",
             )
-            read_estimates(row, cols, r, sheet, None, out)  # report its other problems too
+            _estimates(row, cols, r, sheet, None, settings, ranges, out)  # its other problems
             continue
         ident = id_text(raw_id)
         if ident in first_row_of:
@@ -154,10 +174,10 @@ def read_activities(
                 ident,
                 fix="Every activity needs its own ID.",
             )
-            read_estimates(row, cols, r, sheet, ident, out)
+            _estimates(row, cols, r, sheet, ident, settings, ranges, out)
             continue
         first_row_of[ident] = r
-        found.activities.append(_activity(row, cols, r, sheet, ident, settings, out))
+        found.activities.append(_activity(row, cols, r, sheet, ident, settings, ranges, out))
         found.predecessor_cells.append((r, _cell(row, cols, "predecessors")))
     return found
 
@@ -169,9 +189,9 @@ def _cell(row: list, cols: dict[str, int], key: str) -> object:
     return row[c]
 
 
-def _activity(row, cols, r, sheet, ident, settings: Settings, out: Collector) -> Activity:
+def _activity(row, cols, r, sheet, ident, settings: Settings, ranges, out: Collector) -> Activity:
     """The Activity of one row (zero durations when its estimates have problems)."""
-    est = read_estimates(row, cols, r, sheet, ident, out)
+    est, duration, rc = _estimates(row, cols, r, sheet, ident, settings, ranges, out)
     o, m, p = (0.0, 0.0, 0.0) if est is None else est[:3]
     name_raw = _cell(row, cols, "name")
     name = ident if is_blank(name_raw) else str(name_raw).strip()
@@ -187,7 +207,56 @@ def _activity(row, cols, r, sheet, ident, settings: Settings, out: Collector) ->
     group_raw = _cell(row, cols, "group")
     group = None if is_blank(group_raw) or isinstance(group_raw, CellError) else id_text(group_raw)
     target = _target(_cell(row, cols, "target"), cols, r, sheet, ident, settings, out)
-    return Activity(ident, name, o, m, p, row=r + 1, distribution=dist, group=group, target=target)
+    return Activity(
+        ident,
+        name,
+        o,
+        m,
+        p,
+        row=r + 1,
+        distribution=dist,
+        group=group,
+        target=target,
+        duration=duration,
+        range=None if rc is None else rc.name,
+        range_percent=None if rc is None else (rc.low, rc.likely, rc.high),
+    )
+
+
+def _estimates(row, cols, r, sheet, ident, settings: Settings, ranges: RangeBook, out):
+    """(O, M, P, fixed) or None, the Duration as read, and the range class that made them.
+
+    Explicit O / M / P cells win over a Duration with a range (a warning when a range is
+    then left unused); a row with a Duration and blank O / M / P takes its range.
+    """
+    duration, ok = read_duration(row, cols, r, sheet, ident, settings, out)
+    omp_blank = all(is_blank(_cell(row, cols, k)) for k in ESTIMATES)
+    if "duration" in cols and omp_blank and not is_blank(_cell(row, cols, "duration")):
+        if not ok:
+            return None, None, None
+        est, rc = range_estimates(duration, row, cols, r, sheet, ident, ranges, out)
+        return est, duration, rc
+    if "most_likely" not in cols:  # a sheet of durations; this row has none
+        out.error(
+            "no-estimates",
+            "the activity has no Duration",
+            sheet,
+            cell_name(r, cols["duration"]),
+            ident,
+            fix="Fill in the Duration (and a Range), or delete the row.",
+        )
+        return None, None, None
+    if not is_blank(_cell(row, cols, "range")) and not omp_blank:
+        out.warn(
+            "range-not-used",
+            "Optimistic, Most likely and Pessimistic are given, so they are used and the "
+            f"Range {shown(_cell(row, cols, 'range'))} is not",
+            sheet,
+            cell_name(r, cols["range"]),
+            ident,
+            fix="Clear the O / M / P cells to use the range, or clear the Range.",
+        )
+    return read_estimates(row, cols, r, sheet, ident, out), duration, None
 
 
 def _target(

@@ -149,6 +149,7 @@ def _activities(a) -> list[dict]:
                 "late_start_date": _iso(dates.late_start[i]) if dates else None,
                 "late_finish_date": _iso(dates.late_finish[i]) if dates else None,
                 "summary": a.schedule.activities[i].summary,
+                "range": a.schedule.activities[i].range,
             }
         )
     return rows

@@ -82,6 +82,35 @@ COLUMNS: tuple[tuple[str, int, str, str], ...] = (
         "Optional interim target for this activity's finish: a date (needs a Start date on "
         "the Settings sheet) or a number of time units from the start.",
     ),
+    (
+        "Duration",
+        11,
+        "number",
+        "Optional: one planned duration instead of three estimates (e.g. 10, 3d, 16h, 2w). "
+        "With Optimistic, Most likely and Pessimistic left blank, the Range makes them.",
+    ),
+    (
+        "Range",
+        12,
+        "text",
+        "Optional: a range class from the Ranges sheet (e.g. Medium) or inline percentages "
+        "low/likely/high such as 80/100/120. Blank = the Default range on the Settings sheet.",
+    ),
+)
+
+#: Example range classes for the template's Ranges sheet: (name, low %, likely %, high %).
+#: Invented for illustration, to be replaced by the team's own.
+EXAMPLE_RANGES: tuple[tuple[str, int, int, int], ...] = (
+    ("Low", 95, 100, 110),
+    ("Medium", 90, 100, 125),
+    ("High", 80, 105, 150),
+    ("Very high", 75, 110, 200),
+)
+RANGE_ROWS = 50  # validated rows for classes on the Ranges sheet
+RANGES_NOTE = (
+    "EXAMPLES ONLY: replace these classes with your team's own. Each class gives the "
+    "optimistic, most likely and pessimistic durations in percent of an activity's Duration "
+    "(90 = 90%): O = Duration x Low % / 100, and so on. Low % <= Likely % <= High %."
 )
 
 # Validation rules as formulas for the first input row (Excel adjusts them down the
@@ -97,8 +126,9 @@ INSTRUCTIONS: tuple[tuple[str, str], ...] = (
     ("head", "Activities sheet"),
     (
         "text",
-        "One row per activity. ID, Optimistic, Most likely and Pessimistic are "
-        "required; the other columns are optional. Leave unused rows empty.",
+        "One row per activity. ID and either Optimistic, Most likely and Pessimistic or a "
+        "Duration (with a Range) are required; the other columns are optional. Leave "
+        "unused rows empty.",
     ),
     (
         "text",
@@ -128,6 +158,16 @@ INSTRUCTIONS: tuple[tuple[str, str], ...] = (
         "text",
         "Links can instead go on an optional sheet named Links with the columns "
         "Predecessor, Successor, Type (FS, SS, FF or SF) and Lag (negative = lead).",
+    ),
+    ("head", "Ranges from a single duration"),
+    (
+        "text",
+        "Instead of three estimates, an activity may have one Duration and a Range: a class "
+        "of the Ranges sheet (e.g. Medium) or inline percentages such as 80/100/120 (low / "
+        "most likely / high in percent of the Duration). Leave Optimistic, Most likely and "
+        "Pessimistic blank on that row: filled-in estimates always win over a range. The "
+        "Default range on the Settings sheet applies to a Duration with no Range. The "
+        "classes on the Ranges sheet are examples: replace them with your team's own.",
     ),
     ("head", "Settings sheet"),
     (
@@ -195,6 +235,12 @@ def _settings_rows() -> list[tuple[str, object, str]]:
             "Probabilities at which finish durations and dates are reported.",
         ),
         ("Paths", DEFAULT_PATHS, "How many of the longest paths to list."),
+        (
+            "Default range",
+            None,
+            "Optional: the range class (Ranges sheet) of activities with a Duration and no "
+            "Range. Blank: such a Duration is fixed (no spread).",
+        ),
         (
             "Holidays",
             None,
@@ -351,6 +397,42 @@ def _whole_number(low: int, high: int, words: str) -> dict:
     }
 
 
+def _ranges(ws, bold, fmt, wrap) -> None:
+    """The Ranges sheet: example classes, marked as examples, and checks on the percents."""
+    for c, width in enumerate((16, 10, 10, 10, 60)):
+        ws.set_column(c, c, width)
+    ws.write_string(0, 0, "Range classes: the examples below are for your team to replace", bold)
+    ws.merge_range(1, 0, 1, 4, RANGES_NOTE, wrap)
+    ws.set_row(1, 48)
+    head = 3
+    for c, title in enumerate(("Range", "Low %", "Likely %", "High %", "Note")):
+        ws.write_string(head, c, title, bold)
+    ws.freeze_panes(head + 1, 0)
+    for r in range(head + 1, head + 1 + RANGE_ROWS):
+        ws.write_blank(r, 0, None, fmt["text"])
+        for c in (1, 2, 3):
+            ws.write_blank(r, c, None, fmt["number"])
+    for k, (name, low, likely, high) in enumerate(EXAMPLE_RANGES):
+        r = head + 1 + k
+        ws.write_string(r, 0, name, fmt["text"])
+        for c, x in ((1, low), (2, likely), (3, high)):
+            ws.write_number(r, c, x, fmt["number"])
+        ws.write_string(r, 4, "Example: replace with your own class", wrap)
+    ws.data_validation(
+        head + 1,
+        1,
+        head + RANGE_ROWS,
+        3,
+        {
+            "validate": "decimal",
+            "criteria": ">=",
+            "value": 0,
+            "error_title": "Percent of the duration",
+            "error_message": "Enter a percentage of the Duration, 0 or more (90 for 90%).",
+        },
+    )
+
+
 def _instructions(wb, ws) -> None:
     styles = {
         "title": wb.add_format({"bold": True, "font_size": 14}),
@@ -387,5 +469,6 @@ def write_template(path: Path) -> None:
     wrap = wb.add_format({"text_wrap": True})
     _activities(wb, wb.add_worksheet("Activities"), bold, fmt)
     _settings(wb, wb.add_worksheet("Settings"), bold, fmt, wrap)
+    _ranges(wb.add_worksheet("Ranges"), bold, fmt, wrap)
     _instructions(wb, wb.add_worksheet("Instructions"))
     wb.close()

@@ -23,7 +23,7 @@ from converter.write.template import (
 COMMITTED = Path(__file__).resolve().parents[2] / "templates" / "pertbook-template.xlsx"
 HEADERS = [
     "ID", "Description", "Predecessors", "Optimistic", "Most likely", "Pessimistic",
-    "Distribution", "Group", "Target",
+    "Distribution", "Group", "Target", "Duration", "Range",
 ]  # fmt: skip
 
 
@@ -40,7 +40,7 @@ def _validations(ws) -> dict[str, object]:
 
 def test_activity_sheet_layout(fresh):
     wb = openpyxl.load_workbook(fresh)
-    assert wb.sheetnames == ["Activities", "Settings", "Instructions"]
+    assert wb.sheetnames == ["Activities", "Settings", "Ranges", "Instructions"]
     ws = wb["Activities"]
     assert [c.value for c in ws[1]] == HEADERS
     assert all(c.font.b for c in ws[1])
@@ -77,7 +77,7 @@ def test_settings_defaults():
         "Start date": None, "Time unit": "working days", "Working days": "Mon-Fri",
         "Due date": None, "Iterations": 10000, "Seed": 20240611, "Distribution": "pert",
         "Correlation": 0, "Confidence levels": "50%, 80%, 90%, 95%", "Paths": 10,
-        "Holidays": None,
+        "Default range": None, "Holidays": None,
     }  # fmt: skip
     assert all(r[2].value for r in ws.iter_rows(min_row=2) if r[0].value)  # every row noted
     dvs = _validations(ws)
@@ -163,8 +163,9 @@ def _fill(template: Path, target: Path) -> None:
             ws.cell(r, c).value = v
     st = wb["Settings"]
     st["B2"] = dt.date(2027, 3, 1)  # Start date
-    st["B12"] = dt.date(2027, 3, 12)  # Holidays row and the blank-labelled row below
-    st["B13"] = dt.date(2027, 3, 15)
+    holidays = next(c.row for c in st["A"] if c.value == "Holidays")
+    st.cell(holidays, 2).value = dt.date(2027, 3, 12)  # its row and the blank-labelled one
+    st.cell(holidays + 1, 2).value = dt.date(2027, 3, 15)
     wb.save(target)
 
 
@@ -211,7 +212,68 @@ def test_template_opens_in_libreoffice(tmp_path, fresh, soffice):
     """LibreOffice loads and re-saves the template (a proxy for 'opens without repair')."""
     out = recalculate(fresh, tmp_path / "out", soffice=soffice)
     wb = openpyxl.load_workbook(out)
-    assert wb.sheetnames == ["Activities", "Settings", "Instructions"]
+    assert wb.sheetnames == ["Activities", "Settings", "Ranges", "Instructions"]
     assert [c.value for c in wb["Activities"][1]] == HEADERS
     kinds = {dv.type for dv in wb["Activities"].data_validations.dataValidation}
     assert {"decimal", "custom", "list"} <= kinds
+
+
+# --------------------------------------------------------------------------- ranges
+def test_ranges_sheet_holds_example_classes_marked_as_examples(fresh):
+    """The Ranges sheet's classes are read back as the template wrote them, each marked
+    as an example to replace; its percent cells are checked (0 or more)."""
+    from converter.write.template import EXAMPLE_RANGES, RANGE_ROWS
+
+    ws = openpyxl.load_workbook(fresh)["Ranges"]
+    assert "replace" in ws["A1"].value and "EXAMPLES" in ws["A2"].value
+    assert [c.value for c in ws[4]] == ["Range", "Low %", "Likely %", "High %", "Note"]
+    rows = [tuple(c.value for c in r[:4]) for r in ws.iter_rows(min_row=5) if r[0].value]
+    assert rows == list(EXAMPLE_RANGES)
+    assert all(ws.cell(5 + k, 5).value.startswith("Example") for k in range(len(rows)))
+    assert all(low <= likely <= high for _, low, likely, high in rows)  # common practice
+    dv = _validations(ws)[f"B5:D{4 + RANGE_ROWS}"]
+    assert (dv.type, dv.operator, dv.formula1) == ("decimal", "greaterThanOrEqual", "0")
+
+
+def test_empty_template_is_refused_only_for_its_empty_rows(tmp_path, fresh):
+    """As before the Ranges sheet: the blank template has no activities, and that is the
+    only problem (its example classes, used by nothing, are a note)."""
+    from converter.api import load
+
+    sched, problems = load(fresh)
+    assert sched is None
+    assert [(p.code, p.where) for p in problems] == [("empty", "Activities!A2")]
+
+
+def test_template_filled_with_durations_and_ranges_converts(tmp_path, fresh, convert_api):
+    """A template filled in with Durations and the example classes only (no O/M/P):
+    the estimates are the percentages applied by hand (hand arithmetic beside each)."""
+    from converter.api import load
+
+    convert, ConvertOptions = convert_api
+    wb = openpyxl.load_workbook(fresh)
+    ws = wb["Activities"]
+    rows = [  # J = Duration, K = Range
+        ("S1", "Survey", None, "10", "Medium"),
+        ("S2", "Design", "S1", "2w", "High"),
+        ("S3", "Review", "S2", 4, "80/100/150"),
+        ("S4", "Handover", "S3", 2, None),  # the Default range: Low
+    ]
+    for r, (ident, name, pred, dur, rng) in enumerate(rows, start=2):
+        ws.cell(r, 1).value, ws.cell(r, 2).value, ws.cell(r, 3).value = ident, name, pred
+        ws.cell(r, 10).value, ws.cell(r, 11).value = dur, rng
+    st = wb["Settings"]
+    st.cell(next(c.row for c in st["A"] if c.value == "Default range"), 2).value = "Low"
+    filled = tmp_path / "durations.xlsx"
+    wb.save(filled)
+    sched, problems = load(filled)
+    assert sched is not None, "\n".join(map(str, problems))
+    got = {a.id: (a.optimistic, a.most_likely, a.pessimistic, a.range) for a in sched.activities}
+    assert got == {
+        "S1": (9.0, 10.0, 12.5, "Medium"),  # 10 x 90/100/125 %
+        "S2": (8.0, 10.5, 15.0, "High"),  # 2w = 10 working days; 10 x 80/105/150 %
+        "S3": (3.2, 4.0, 6.0, "80/100/150"),  # 4 x 80/100/150 %
+        "S4": (1.9, 2.0, 2.2, "Low"),  # 2 x 95/100/110 %
+    }
+    result = convert(filled, ConvertOptions(json=True, iterations=200), outdir=tmp_path / "out")
+    assert result.ok, "\n".join(map(str, result.problems))

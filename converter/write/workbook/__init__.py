@@ -18,6 +18,7 @@ from converter.write.workbook.health import write_health
 from converter.write.workbook.layout import Layout
 from converter.write.workbook.paths_sheet import write_paths
 from converter.write.workbook.probability import write_probability
+from converter.write.workbook.ranges import write_ranges
 from converter.write.workbook.reference import (
     write_input,
     write_method,
@@ -109,10 +110,13 @@ def write_workbook(analysis, path: str | Path) -> None:
         dates=analysis.calendar is not None,
         simulated=analysis.simulation is not None,
         order=analysis.summaries.order if analysis.summaries is not None else None,
+        ranged=any(act.duration is not None for act in analysis.schedule.activities),
     )
     write_summary(wb, fmt, analysis, lay)
     write_activities(wb, fmt, analysis, lay)
     write_links(wb, fmt, analysis, lay)
+    if analysis.schedule.ranges:
+        write_ranges(wb, fmt, analysis, lay)
     write_paths(wb, fmt, analysis, lay)
     write_probability(wb, fmt, analysis, lay)
     if analysis.simulation is not None:

@@ -14,6 +14,7 @@ from converter.model import FS, LINK_TYPES
 from converter.write.workbook import formulas as f
 from converter.write.workbook import pages
 from converter.write.workbook.layout import ACTIVITIES, FIRST, LINKS, Layout
+from converter.write.workbook.ranges import row_of, write_estimates
 from converter.write.workbook.rows import DEFAULT_ROW_HEIGHT, fit_row, merged_width, row_height
 from converter.write.workbook.styles import TABLE_HEAD_SIZE, TITLE_ROW
 
@@ -41,6 +42,8 @@ HEADERS = {
     "sensitivity": "Sensitivity (simulated rank correlation)",
     "wbs": "WBS",
     "span": "Summary span",
+    "duration": "Duration",
+    "range": "Range used",
 }
 
 EXCEL_EPOCH_ORDINAL = 693594  # date(1899, 12, 30).toordinal()
@@ -80,6 +83,7 @@ WIDTHS = {
     "criticality": 10.0,
     "sensitivity": 11.0,
     "wbs": 9.0,
+    "range": 14.0,
 }
 NUMBER_WIDTH = 8.5
 INTRO = (
@@ -107,7 +111,7 @@ def _table_head(ws, fmt, lay: Layout) -> None:
     heads = []
     for key, col in c.items():
         # heads centred over numbers, so neighbouring heads do not run together
-        style = fmt.th if key in ("id", "name", "pred") else fmt.th_center
+        style = fmt.th if key in ("id", "name", "pred", "range") else fmt.th_center
         ws.write_string(FIRST - 1, col, HEADERS[key], style)
         ws.set_column(col, col, _width(key))
         heads.append((HEADERS[key], _width(key), TABLE_HEAD_SIZE, True))
@@ -132,6 +136,7 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
     sim = a.simulation
     raw_preds = _predecessor_text(a)
     name_look = _name_formats(wb, fmt, a)
+    range_rows = row_of(a)
     for i, act in enumerate(a.schedule.activities):
         r = lay.row(i)
         ws.write_string(r, c["id"], act.id, fmt.wrap)
@@ -142,11 +147,14 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
         fit_row(
             ws,
             r,
-            [(act.id, WIDTHS["id"]), (act.name, WIDTHS["name"]), (raw_preds[i], WIDTHS["pred"])],
+            [
+                (act.id, WIDTHS["id"]),
+                (act.name, WIDTHS["name"]),
+                (raw_preds[i], WIDTHS["pred"]),
+                (act.range or "", WIDTHS["range"]),
+            ],
         )
-        ws.write_number(r, c["o"], act.optimistic, fmt.input_num)
-        ws.write_number(r, c["m"], act.most_likely, fmt.input_num)
-        ws.write_number(r, c["p"], act.pessimistic, fmt.input_num)
+        write_estimates(ws, fmt, lay, r, i, act, range_rows)
         o, m, p = lay.cell(i, "o"), lay.cell(i, "m"), lay.cell(i, "p")
         ws.write_formula(r, c["te"], f.expected_time(o, m, p), fmt.num, float(a.te[i]))
         ws.write_formula(r, c["var"], f.pert_variance(o, p), fmt.num4, float(a.var[i]))

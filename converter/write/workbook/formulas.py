@@ -182,3 +182,8 @@ def summary_start(cells: str) -> str:
 def summary_finish(cells: str) -> str:
     """A summary row's finish: the latest finish of the rows under it."""
     return f"=MAX({cells})"
+
+
+def from_range(duration: str, percent: str) -> str:
+    """An estimate made by a range class: duration x percent / 100 (O, M or P)."""
+    return f"={duration}*{percent}/100"

@@ -18,6 +18,7 @@ SETTINGS = "Settings used"
 METHOD = "Method"
 INPUT = "Input as read"
 WARNINGS = "Warnings"
+RANGES = "Ranges"
 
 #: Zero-based row of the first data row in the activity and links tables (sheet row 5).
 FIRST = 4
@@ -37,6 +38,8 @@ class Layout:
     order: list[tuple[str, int]] | None = None
     rows: list[int] = field(default_factory=list)  # sheet row of each activity (the row map)
     summary_rows: list[int] = field(default_factory=list)  # sheet row of each summary
+    #: Whether some activity has a Duration: its Duration and Range columns are shown.
+    ranged: bool = False
 
     def __post_init__(self) -> None:
         names = [
@@ -62,6 +65,8 @@ class Layout:
             names += ["criticality", "sensitivity"]
         if self.order is not None:
             names += ["wbs", "span"]
+        if self.ranged:
+            names += ["duration", "range"]
         self.cols = {k: i for i, k in enumerate(names)}
         self._row_map()
 
@@ -113,3 +118,10 @@ class Layout:
 
     def link_column(self, key: str) -> str:
         return span(FIRST, FIRST + max(self.n_links, 1) - 1, self.LINK_COLS[key], LINKS)
+
+    # ranges table ------------------------------------------------------------------
+    RANGE_COLS = {"range": 0, "low": 1, "likely": 2, "high": 3, "kind": 4, "place": 5}
+
+    def range_cell(self, k: int, key: str) -> str:
+        """The absolute reference of range ``k``'s ``key`` on the Ranges sheet."""
+        return ref(FIRST + k, self.RANGE_COLS[key], RANGES, absolute=True)

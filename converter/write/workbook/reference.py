@@ -9,6 +9,7 @@ from converter.write.workbook import formulas as f
 from converter.write.workbook import pages, rows
 from converter.write.workbook.activities import serial
 from converter.write.workbook.layout import INPUT, METHOD, SETTINGS, WARNINGS, Layout
+from converter.write.workbook.ranges import METHOD_ROW as RANGE_METHOD_ROW
 from converter.write.workbook.summary import CAUTION
 
 WEEKDAY_NAMES = ("Mon", "Tue", "Wed", "Thu", "Fri", "Sat", "Sun")
@@ -50,6 +51,8 @@ def write_settings(wb, fmt, a, lay: Layout) -> None:
         ),
         ("paths", "Paths listed", st.paths),
     ]
+    if st.default_range is not None or a.schedule.ranges:
+        items.append(("default_range", "Default range", st.default_range))
     r = 4
     for key, label, value in items:
         ws.write_string(r, 0, label, fmt.label)
@@ -198,6 +201,15 @@ SUMMARY_METHOD = (
     "column). Common practice.",
 )
 
+
+def _method_text(a) -> list[tuple[str, str | None]]:
+    """The Method sheet's rows; the paragraph on ranges after Variance when ranges were used."""
+    if not a.schedule.ranges:
+        return METHOD_TEXT
+    at = next(k for k, (label, _) in enumerate(METHOD_TEXT) if label == "Variance") + 1
+    return [*METHOD_TEXT[:at], RANGE_METHOD_ROW, *METHOD_TEXT[at:]]
+
+
 #: Widths of the Method sheet's two columns (characters): one landscape page at full size.
 METHOD_WIDTHS = (22, 84)
 
@@ -207,7 +219,7 @@ def write_method(wb, fmt, a, lay: Layout) -> None:
     label_width, text_width = METHOD_WIDTHS
     ws.set_column(0, 0, label_width)
     ws.set_column(1, 1, text_width)
-    items = list(METHOD_TEXT)
+    items = list(_method_text(a))
     if a.summaries is not None:
         items.insert(
             next(k for k, (lb, _) in enumerate(items) if lb == "Assumptions"), SUMMARY_METHOD

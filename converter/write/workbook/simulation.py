@@ -56,6 +56,8 @@ def reproduce_command(a) -> str:
     if "due" in given and st.due is not None:
         due = st.due.isoformat() if hasattr(st.due, "isoformat") else repr(float(st.due))
         parts.append(f"--due {due}")
+    if "default_range" in given and st.default_range is not None:  # it makes estimates
+        parts.append(f'--default-range "{printable(st.default_range)}"')
     return " ".join(parts)
 
 
