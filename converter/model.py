@@ -76,6 +76,11 @@ class Activity:
     distribution: str | None = None
     group: str | None = None
     target: float | dt.date | None = None
+    not_before: float | dt.date | None = None  # earliest start: an offset, or a date
+    actual_start: float | dt.date | None = None  # status: offsets, or dates
+    actual_finish: float | dt.date | None = None
+    remaining: tuple[float, float, float] | None = None  # remaining O, M, P as given
+    remaining_single: bool = False  # one Remaining number (O and P scaled from it)
 
 
 @dataclass(frozen=True)
@@ -111,6 +116,7 @@ class Settings:
     confidence_levels: tuple[float, ...] = DEFAULT_CONFIDENCE
     paths: int = DEFAULT_PATHS
     sources: dict[str, str] = field(default_factory=dict)
+    status_date: float | dt.date | None = None  # progress as of the end of this day / offset
 
     def source_of(self, name: str) -> str:
         return self.sources.get(name, "default")

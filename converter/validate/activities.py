@@ -22,6 +22,7 @@ from converter.read.sheets import (
     cell_name,
 )
 from converter.validate.problems import Collector
+from converter.validate.progress import read_progress
 from converter.values import LARGEST_DURATION, id_text, is_blank, parse_number, shown
 
 FIELD_TITLES = {
@@ -182,7 +183,19 @@ def _activity(row, cols, r, sheet, ident, settings: Settings, out: Collector) ->
     group_raw = _cell(row, cols, "group")
     group = None if is_blank(group_raw) or isinstance(group_raw, CellError) else id_text(group_raw)
     target = _target(_cell(row, cols, "target"), cols, r, sheet, ident, settings, out)
-    return Activity(ident, name, o, m, p, row=r + 1, distribution=dist, group=group, target=target)
+    progress = read_progress(row, cols, r, sheet, ident, settings, out)
+    return Activity(
+        ident,
+        name,
+        o,
+        m,
+        p,
+        row=r + 1,
+        distribution=dist,
+        group=group,
+        target=target,
+        **progress,
+    )
 
 
 def _target(
