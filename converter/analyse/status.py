@@ -177,8 +177,10 @@ def remaining_network(
     >>> links = [Link("A", "B"), Link("B", "C")]
     >>> s = Schedule(acts, links, Settings(status_date=5.0), "x", "", "Activities")
     >>> r = remaining_network(s, None, *(np.array([3.0, 4.0, 2.0]),) * 3)
-    >>> r.m.tolist(), r.floor.tolist(), r.links, r.progress.state
-    ([2.0, 4.0, 2.0], [0.0, 2.0, 5.0], [1], ['finished', 'in progress', 'not started'])
+    >>> r.m.tolist(), r.floor.tolist(), r.progress.state
+    ([2.0, 4.0, 2.0], [0.0, 2.0, 5.0], ['finished', 'in progress', 'not started'])
+    >>> r.links, r.lags.tolist()  # A -> B holds B's remaining work: lag 0 less 3 worked
+    ([0, 1], [-3.0, 0.0])
     """
     acts = schedule.activities
     nb = np.array([_nan(start_offset(a.not_before, calendar)) for a in acts])

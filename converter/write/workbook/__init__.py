@@ -108,6 +108,8 @@ def write_workbook(analysis, path: str | Path) -> None:
         n_links=analysis.net.link_count,
         dates=analysis.calendar is not None,
         simulated=analysis.simulation is not None,
+        not_before=any(act.not_before is not None for act in analysis.schedule.activities),
+        status=analysis.schedule.settings.status_date is not None,
     )
     write_summary(wb, fmt, analysis, lay)
     write_activities(wb, fmt, analysis, lay)

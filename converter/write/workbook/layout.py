@@ -32,6 +32,8 @@ class Layout:
     dates: bool
     simulated: bool
     cols: dict[str, int] = field(default_factory=dict)
+    not_before: bool = False  # a Not before column (start constraints given)
+    status: bool = False  # the progress columns (a status date given)
 
     def __post_init__(self) -> None:
         names = [
@@ -55,6 +57,10 @@ class Layout:
             names += ["es_date", "ef_date", "ls_date", "lf_date"]
         if self.simulated:
             names += ["criticality", "sensitivity"]
+        if self.not_before:
+            names += ["not_before"]
+        if self.status:
+            names += ["actual_start", "actual_finish", "rem_o", "rem_m", "rem_p", "state"]
         self.cols = {k: i for i, k in enumerate(names)}
 
     # activity table -----------------------------------------------------------

@@ -6,7 +6,7 @@ import datetime as dt
 
 from converter.model import LINK_TYPES
 from converter.write.workbook import formulas as f
-from converter.write.workbook import pages, rows
+from converter.write.workbook import pages, progress_cols, rows
 from converter.write.workbook.activities import serial
 from converter.write.workbook.layout import INPUT, METHOD, SETTINGS, WARNINGS, Layout
 from converter.write.workbook.summary import CAUTION
@@ -50,6 +50,8 @@ def write_settings(wb, fmt, a, lay: Layout) -> None:
         ),
         ("paths", "Paths listed", st.paths),
     ]
+    if st.status_date is not None:
+        items.append(("status_date", "Status date", st.status_date))
     r = 4
     for key, label, value in items:
         ws.write_string(r, 0, label, fmt.label)
@@ -196,7 +198,8 @@ def write_method(wb, fmt, a, lay: Layout) -> None:
     label_width, text_width = METHOD_WIDTHS
     ws.set_column(0, 0, label_width)
     ws.set_column(1, 1, text_width)
-    for r, (label, text) in enumerate(METHOD_TEXT):
+    texts = METHOD_TEXT[:-2] + progress_cols.method_rows(a) + METHOD_TEXT[-2:]
+    for r, (label, text) in enumerate(texts):
         if text is None:
             ws.write_string(r, 0, label, fmt.title)
             continue
