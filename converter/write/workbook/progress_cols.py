@@ -180,7 +180,9 @@ STATUS_METHOD = (
         "finish-to-start or start-to-start link into an activity in progress holds its "
         "remaining work, i.e. the link's lag less the time worked (Links sheet), so the "
         "remaining work starts after the predecessor allows and then takes its remaining "
-        "duration. The early start shown is then its actual start moved by that hold.",
+        "duration. Where a link holds the remaining work (this, or a finish-to-finish link), "
+        "the early start shown is the actual start moved by the hold (early finish less "
+        "the duration); the Actual start column keeps the actual.",
     ),
     (
         "Work done",
