@@ -617,6 +617,7 @@ def test_convert_and_watch_take_the_same_conversion_options():
         "--start-date",
         "--no-simulation",
         "--simulation-memory",
+        "--status-date",  # the status issue's option for a project in flight
     }
     given = [
         "--due",

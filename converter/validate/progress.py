@@ -160,6 +160,15 @@ def read_progress(row, cols, r, sheet, ident, settings: Settings, out: Collector
             "is pro-rated from its estimates and the time elapsed",
             fix="Give the Remaining duration the team now expects.",
         )
+    if start is None and finish is None and remaining is not None:
+        key = "remaining" if single else next(k for k in _TRIPLE if k in cells.cols)
+        cells.warn(
+            "remaining-not-started",
+            key,
+            "remaining work is given but the activity has no actual start: it is ignored "
+            "and the activity is planned from its estimates",
+            fix="Fill in the Actual start if the work has begun.",
+        )
     found.update(
         actual_start=start,
         actual_finish=finish,
