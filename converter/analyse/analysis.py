@@ -153,6 +153,10 @@ class Analysis:
             if sim.p_meet_due is not None:
                 h["simulated_p_meet_due"] = round(sim.p_meet_due, 4)
         h["warnings"] = len(self.schedule.warnings)
+        prog = self.remaining_work.progress if self.remaining_work is not None else None
+        if prog is not None:  # a project in flight
+            when = prog.status_date.isoformat() if prog.status_date else prog.status_offset
+            h["status_date"], h["done_share"] = when, round(prog.done_share, 4)
 
         def date(t: float) -> str | None:
             return self.calendar.finish_date(t).isoformat() if self.calendar else None

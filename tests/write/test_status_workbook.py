@@ -32,6 +32,8 @@ def converted(tmp_path_factory):
     args = ["convert", src, "--start-date", "2026-03-02", "--status-date", "2026-03-09"]
     done = run_cli(*args, "--json", "--outdir", root / "out", "--iterations", "500")
     assert done.returncode == 0, done.stderr
+    # the headline's status row: 6 of 18.47 expected units done (see the JSON test) = 32%
+    assert "Work done by 2026-03-09" in done.stdout and "32%" in done.stdout
     return root / "out" / "flight.analysis.xlsx", root / "out" / "flight.analysis.json"
 
 

@@ -63,6 +63,8 @@ def _count_formula(c: Check, a, lay: Layout) -> str | None:
     if c.key in _COUNTED_ON_LINKS and links:
         key, crit = _COUNTED_ON_LINKS[c.key]
         return f"=COUNTIF({lay.link_column(key)},{crit})"
+    if c.key == "constraints" and "not_before" in lay.cols:
+        return f"=COUNT({lay.column('not_before')})"
     if c.key == "link_types" and links:
         col = lay.link_column("type")
         return f'=COUNTA({col})-COUNTIF({col},"FS")'
