@@ -94,6 +94,8 @@ def count_paths(net: Network) -> int:
     Counts link sequences, so parallel links between two activities give separate paths.
     """
     can_start, can_end = path_ends(net)
+    if net.floor is not None:  # a path may start at a start floor (module docstring)
+        can_start = can_start | (net.floor > 0)
     count: list[int] = [int(s) for s in can_start]
     for step in net.forward_steps:  # links grouped by the level of their successor
         for link in step.links.tolist():

@@ -134,6 +134,14 @@ def read_progress(row, cols, r, sheet, ident, settings: Settings, out: Collector
             f"actual finish {shown(finish)} is before the actual start {shown(start)}",
             fix="Check the two actual dates.",
         )
+    first = settings.start_date
+    if isinstance(start, dt.date) and first is not None and start < first:
+        cells.error(
+            "actual-before-project-start",
+            "actual_start",
+            f"actual start {start.isoformat()} is before the project start {first.isoformat()}",
+            fix="Set the Start date to the first actual start (offsets count from it).",
+        )
     for key, when in (("actual_start", start), ("actual_finish", finish)):
         if _later(when, settings.status_date):
             cells.warn(

@@ -46,6 +46,8 @@ def test_not_before_holds_the_early_start_by_hand():
     assert a.cpm.total_float.tolist() == [7.0, 0.0]
     # the critical path starts at B's constraint: length 10 + 2 = 12
     assert a.paths[0].path.activities == [1] and a.paths[0].path.mean == 12.0
+    # paths: A > B, and B alone from its constraint: 2 (A > B has length 3 + 2 = 5)
+    assert a.path_count == 2 and [p.path.mean for p in a.paths] == [12.0, 5.0]
     check = next(c for c in a.checks if c.key == "constraints")
     assert check.activities == ["B"] and not check.passed  # 1 of 2 > 5%
 

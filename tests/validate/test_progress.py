@@ -46,6 +46,7 @@ def test_each_progress_problem_names_its_cell(tmp_path):
         ["D", "A", 1, 2, 3, None, d(2026, 3, 3), d(2026, 3, 5), 2],  # remaining on done: I5
         ["E", "A", 1, 2, 3, None, d(2026, 3, 3), None, None],  # no remaining: I6 (warn)
         ["F", "A", 1, 2, 3, "soon", None, None, None],  # Not before not a date/number: F7
+        ["G", "A", 1, 2, 3, None, d(2026, 2, 27), None, 1],  # before the project start: G8
     ]
     schedule, problems = run(tmp_path, rows)
     assert schedule is None
@@ -54,6 +55,7 @@ def test_each_progress_problem_names_its_cell(tmp_path):
     assert ("finish-before-start", "H4", "C") in errors
     assert ("remaining-on-finished", "I5", "D") in errors
     assert ("not-a-number", "F7", "F") in errors
+    assert ("actual-before-project-start", "G8", "G") in errors
     warnings = found(problems, WARNING)
     assert ("actual-after-status", "G3", "B") in warnings
     assert ("no-remaining", "I6", "E") in warnings
