@@ -8,6 +8,7 @@ LibreOffice recalculating every formula (tests/support/recalc.py).
 
 from __future__ import annotations
 
+import datetime as dt
 import json
 
 import openpyxl
@@ -105,3 +106,32 @@ def test_not_before_alone_recalculates_in_libreoffice(tmp_path, libreoffice):
     xlsx = tmp_path / "nb.analysis.xlsx"
     copy = libreoffice.recalculate(xlsx, tmp_path / "re")
     assert not compare_recalculated(xlsx, copy)
+
+
+@pytest.mark.libreoffice
+@pytest.mark.parametrize("unit", ["working days", "weeks"])
+def test_status_with_holidays_recalculates_in_libreoffice(tmp_path, libreoffice, unit):
+    # Holiday Monday 9 March and the status date on it: the status offset is the end of
+    # Friday 6 March, 5 working days (1 week). The date formulas take the Holidays range.
+    from helpers import write_xlsx
+
+    settings = [
+        ["Start date", dt.date(2026, 3, 2)],
+        ["Time unit", unit],
+        ["Status date", dt.date(2026, 3, 9)],
+        ["Holidays", dt.date(2026, 3, 9)],
+    ]
+    rows = [list(r) for r in ROWS]
+    for r in rows[1:]:
+        for k in (6, 7, 8):
+            if isinstance(r[k], str) and r[k].startswith("2026"):
+                r[k] = dt.date.fromisoformat(r[k])
+    src = write_xlsx(tmp_path / "hol.xlsx", {"Activities": rows, "Settings": settings})
+    done = run_cli("convert", src, "--outdir", tmp_path / "out", "--iterations", "300", "--json")
+    assert done.returncode == 0, done.stderr
+    data = json.loads((tmp_path / "out" / "hol.analysis.json").read_text(encoding="utf-8"))
+    assert data["status"]["status_offset"] == (5.0 if unit == "working days" else 1.0)
+    xlsx = tmp_path / "out" / "hol.analysis.xlsx"
+    copy = libreoffice.recalculate(xlsx, tmp_path / "re")
+    report = compare_recalculated(xlsx, copy)
+    assert not report, report
