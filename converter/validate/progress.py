@@ -120,37 +120,7 @@ def read_progress(row, cols, r, sheet, ident, settings: Settings, out: Collector
             "recorded as of.",
         )
         return found
-    if finish is not None and is_blank(cells.raw("actual_start")):
-        cells.error(
-            "finish-without-start",
-            "actual_finish",
-            "an actual finish without an actual start",
-            fix="Fill in the Actual start too.",
-        )
-    if _later(start, finish):
-        cells.error(
-            "finish-before-start",
-            "actual_finish",
-            f"actual finish {shown(finish)} is before the actual start {shown(start)}",
-            fix="Check the two actual dates.",
-        )
-    first = settings.start_date
-    if isinstance(start, dt.date) and first is not None and start < first:
-        cells.error(
-            "actual-before-project-start",
-            "actual_start",
-            f"actual start {start.isoformat()} is before the project start {first.isoformat()}",
-            fix="Set the Start date to the first actual start (offsets count from it).",
-        )
-    for key, when in (("actual_start", start), ("actual_finish", finish)):
-        if _later(when, settings.status_date):
-            cells.warn(
-                "actual-after-status",
-                key,
-                f"{PROGRESS_FIELDS[key]} {shown(when)} is after the status date "
-                f"{shown(settings.status_date)}",
-                fix="An actual date is in the past: check it, or move the status date.",
-            )
+    _check_actuals(cells, start, finish)
     if finish is not None and remaining is not None and any(remaining):
         key = "remaining" if single else next(k for k in _TRIPLE if k in cols)
         cells.error(
@@ -184,6 +154,43 @@ def read_progress(row, cols, r, sheet, ident, settings: Settings, out: Collector
         remaining_single=single,
     )
     return found
+
+
+def _check_actuals(cells: _Row, start, finish) -> None:
+    """An actual finish without a start or before it, a start before the project start,
+    actual dates after the status date: each at its cell."""
+    settings = cells.settings
+    if finish is not None and is_blank(cells.raw("actual_start")):
+        cells.error(
+            "finish-without-start",
+            "actual_finish",
+            "an actual finish without an actual start",
+            fix="Fill in the Actual start too.",
+        )
+    if _later(start, finish):
+        cells.error(
+            "finish-before-start",
+            "actual_finish",
+            f"actual finish {shown(finish)} is before the actual start {shown(start)}",
+            fix="Check the two actual dates.",
+        )
+    first = settings.start_date
+    if isinstance(start, dt.date) and first is not None and start < first:
+        cells.error(
+            "actual-before-project-start",
+            "actual_start",
+            f"actual start {start.isoformat()} is before the project start {first.isoformat()}",
+            fix="Set the Start date to the first actual start (offsets count from it).",
+        )
+    for key, when in (("actual_start", start), ("actual_finish", finish)):
+        if _later(when, settings.status_date):
+            cells.warn(
+                "actual-after-status",
+                key,
+                f"{PROGRESS_FIELDS[key]} {shown(when)} is after the status date "
+                f"{shown(settings.status_date)}",
+                fix="An actual date is in the past: check it, or move the status date.",
+            )
 
 
 def _remaining(cells: _Row) -> tuple[tuple[float, float, float] | None, bool]:
