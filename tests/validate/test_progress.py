@@ -86,3 +86,12 @@ def test_units_and_the_command_line_status_date_are_read(tmp_path):
     assert schedule.settings.status_date == 3.0
     assert schedule.activities[0].remaining == (2.0, 2.0, 2.0)
     assert schedule.activities[1].not_before == 5.0
+
+
+def test_a_start_floor_past_the_calendar_is_refused(tmp_path):
+    # 9,000,000 working days after 2026 is far past 9999-12-31 (about 2.9 million working
+    # days away): the analysis could not date it.
+    rows = [["A", None, 1, 2, 3, 9_000_000, None, None, None]]
+    schedule, problems = run(tmp_path, rows, settings=[["Start date", dt.date(2026, 3, 2)]])
+    assert schedule is None
+    assert "beyond-calendar" in {p.code for p in problems if p.severity == ERROR}
