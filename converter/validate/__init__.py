@@ -25,6 +25,7 @@ from converter.validate.links import (
     warn_unlinked,
 )
 from converter.validate.problems import Collector
+from converter.validate.progress import warn_out_of_sequence
 from converter.validate.settings import resolve_settings
 
 __all__ = ["validate"]
@@ -70,6 +71,7 @@ def validate(
         read_links_sheet(book, raw.links)
     check_cycles(rows.activities, book.links, out)
     warn_unlinked(rows.activities, book.links, match, out)
+    warn_out_of_sequence(rows.activities, book.links, match, out)
     if not out.errors:  # the sum of sane numbers: only once each of them is sane
         check_dates_fit(rows.activities, book.links, settings, places, match, out)
     if out.errors:

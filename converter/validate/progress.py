@@ -241,3 +241,29 @@ def scaled_remaining(act: Activity) -> tuple[float, float, float] | None:
         return tuple(float(v) for v in act.remaining)
     r = float(act.remaining[1])
     return r * act.optimistic / act.most_likely, r, r * act.pessimistic / act.most_likely
+
+
+def warn_out_of_sequence(activities: list[Activity], links, match, out: Collector) -> None:
+    """A warning at the successor's Actual start for each finish-to-start link whose
+    successor has started while its predecessor has not finished (out-of-sequence
+    progress; the analysis keeps the link for the remaining work)."""
+    col = match.columns.get("actual_start")
+    if col is None:
+        return
+    by_id = {a.id: a for a in activities}
+    for lk in links:
+        p, s = by_id.get(lk.pred), by_id.get(lk.succ)
+        if lk.type != "FS" or p is None or s is None:
+            continue
+        if s.actual_start is not None and p.actual_finish is None:
+            out.warn(
+                "out-of-sequence",
+                f"{s.id} has started but its finish-to-start predecessor {p.id} has not "
+                f"finished: out-of-sequence progress; the link still holds {s.id}'s "
+                "remaining work",
+                match.sheet.name,
+                cell_name(s.row - 1, col),
+                s.id,
+                fix="Check the progress and the logic: record the predecessor's finish, or "
+                "change the link (e.g. to start-to-start) if the work really overlaps.",
+            )

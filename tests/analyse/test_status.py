@@ -260,3 +260,19 @@ def test_baseline_execution_index_hook_by_hand():
     bei = baseline_execution_index(state, np.array([1.0, 2.0, 3.0, np.nan]), 4.0)
     assert bei == pytest.approx(2 / 3)
     assert baseline_execution_index(state, np.array([9.0, 9, 9, 9]), 4.0) is None
+
+
+def test_simulation_honours_the_start_floor():
+    # A (1..9) -> C (2), B (3) -> C; C not before 20. Any sample: C starts at 20 at the
+    # earliest (A's pessimistic 9 < 20), so every iteration finishes at exactly 22 (the
+    # floor dominates): mean 22, no spread; the analytic finish is 22 too.
+    acts = [
+        Activity("A", "A", 1, 4, 9),
+        fixed("B", 3),
+        fixed("C", 2, not_before=20.0),
+    ]
+    s = plan(acts, [Link("A", "C"), Link("B", "C")], iterations=400)
+    a = analyse(s, ConvertOptions())
+    assert a.project_mean == 22.0
+    assert a.simulation.mean == pytest.approx(22.0) and a.simulation.sd == pytest.approx(0.0)
+    assert a.simulation.criticality[2] == 1.0 and a.simulation.criticality[0] == 0.0

@@ -95,3 +95,16 @@ def test_a_start_floor_past_the_calendar_is_refused(tmp_path):
     schedule, problems = run(tmp_path, rows, settings=[["Start date", dt.date(2026, 3, 2)]])
     assert schedule is None
     assert "beyond-calendar" in {p.code for p in problems if p.severity == ERROR}
+
+
+def test_out_of_sequence_progress_is_a_warning_at_the_successors_actual_start(tmp_path):
+    # B (row 3) started on 9 March while its FS predecessor A (row 2) is still going:
+    # a warning at B's Actual start, G3; the schedule is still analysed.
+    d = dt.date
+    rows = [
+        ["A", None, 1, 2, 3, None, d(2026, 3, 2), None, 4],
+        ["B", "A", 1, 2, 3, None, d(2026, 3, 9), None, 1],
+    ]
+    schedule, problems = run(tmp_path, rows)
+    assert schedule is not None
+    assert ("out-of-sequence", "G3", "B") in found(problems, WARNING)
