@@ -135,3 +135,25 @@ def test_status_with_holidays_recalculates_in_libreoffice(tmp_path, libreoffice,
     copy = libreoffice.recalculate(xlsx, tmp_path / "re")
     report = compare_recalculated(xlsx, copy)
     assert not report, report
+
+
+def test_not_before_stays_inside_the_maxifs_fallback(tmp_path):
+    # 900 incoming links make the early start too long to name each cell; the fallback is
+    # MAX(0, <Not before>, MAXIFS over the Links sheet) (8,192-character formula limit of
+    # the spreadsheet specifications, from memory). Hand: P_i finish at most 9, +1 lag; the
+    # fan-in activity is held by its Not before 50.
+    from converter.api import ConvertOptions, convert
+
+    n = 900
+    rows = [["ID", "Predecessors", "Optimistic", "Most likely", "Pessimistic", "Not before"]]
+    rows += [[f"P{i}", None, 1, 2, 9, None] for i in range(n)]
+    rows.append(["FAN", ", ".join(f"P{i}[+1]" for i in range(n)), 1, 1, 1, 50])
+    src = write_csv(tmp_path / "fan.csv", rows)
+    result = convert(src, ConvertOptions(iterations=200, simulate=False), outdir=tmp_path)
+    assert result.ok
+    ws = openpyxl.load_workbook(result.workbook)["Activities"]
+    heads = {c.value: c.column_letter for c in ws[4] if c.value}
+    es = ws[f"{heads['Early start']}{5 + n}"].value
+    assert es.startswith(f"=MAX(0,{heads['Not before']}{5 + n},_xlfn.MAXIFS(Links!"), es
+    data = openpyxl.load_workbook(result.workbook, data_only=True)["Activities"]
+    assert data[f"{heads['Early start']}{5 + n}"].value == 50
