@@ -192,14 +192,13 @@ def remaining_network(
         return Remaining(o, m, p, floor, nb, links, lags, None)
     prog = _progress(schedule, calendar, o, m, p)
     floor = np.fmax(nb, prog.status_offset)
-    for i, st in enumerate(prog.state):
-        if st == FINISHED:
-            d = prog.actual_finish[i] - prog.actual_start[i]
-            o[i] = m[i] = p[i] = d
-            floor[i] = prog.actual_start[i]
-        elif st == IN_PROGRESS:
-            o[i], m[i], p[i] = prog.elapsed[i] + prog.remaining[i]
-            floor[i] = prog.actual_start[i]
+    state = np.array(prog.state)
+    done, going = state == FINISHED, state == IN_PROGRESS
+    actual = (prog.actual_finish - prog.actual_start)[done]
+    for x, k in ((o, 0), (m, 1), (p, 2)):
+        x[done] = actual
+        x[going] = prog.elapsed[going] + prog.remaining[going, k]
+    floor[done | going] = prog.actual_start[done | going]
     index = schedule.index()
     keep, kept_lags = [], []
     for k, lk in enumerate(schedule.links):
