@@ -143,7 +143,7 @@ def progress_checks(schedule: Schedule, rem: Remaining, calendar: Calendar | Non
             matters="Work the plan needed done by now is not done: the remaining schedule "
             "assumes a catch-up nobody has planned.",
             cited=(Citation(COMMON), *why),
-            detail=f"due: planned early finish by the status date; {due} were due",
+            detail=f"due by the status date by the planned early finish: {due}",
         ),
         Check(
             key="actuals_after_status",
