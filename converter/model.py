@@ -85,6 +85,11 @@ class Activity:
     range: str | None = None
     #: (low, likely, high) in percent of the duration, where a range made O, M and P.
     range_percent: tuple[float, float, float] | None = None
+    not_before: float | dt.date | None = None  # earliest start: an offset, or a date
+    actual_start: float | dt.date | None = None  # status: offsets, or dates
+    actual_finish: float | dt.date | None = None
+    remaining: tuple[float, float, float] | None = None  # remaining O, M, P as given
+    remaining_single: bool = False  # one Remaining number (O and P scaled from it)
 
 
 @dataclass
@@ -140,6 +145,7 @@ class Settings:
     paths: int = DEFAULT_PATHS
     default_range: str | None = None  # the range class of rows with a duration but no range
     sources: dict[str, str] = field(default_factory=dict)
+    status_date: float | dt.date | None = None  # progress as of the end of this day / offset
 
     def source_of(self, name: str) -> str:
         return self.sources.get(name, "default")

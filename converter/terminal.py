@@ -165,6 +165,8 @@ def headline_table(name: str, h: dict) -> Table:
         )
     if "failed_checks" in h:
         table.add_row("Health checks failed", f"{h['failed_checks']} of {h['checks']}")
+    if "done_share" in h:
+        table.add_row(f"Work done by {h['status_date']}", f"{h['done_share']:.0%}")
     table.add_row("Warnings", str(h.get("warnings", 0)))
     return table
 

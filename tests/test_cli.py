@@ -618,6 +618,7 @@ def test_convert_and_watch_take_the_same_conversion_options():
         "--no-simulation",
         "--simulation-memory",
         "--default-range",  # issue 11, "Ranges from a single duration"
+        "--status-date",  # the status issue's option for a project in flight
     }
     given = [
         "--due",

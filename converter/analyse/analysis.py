@@ -34,6 +34,8 @@ from converter.analyse.network import (
 )
 from converter.analyse.network import schedule as run_cpm
 from converter.analyse.paths import Path, count_paths, k_longest_paths
+from converter.analyse.status import Remaining, remaining_network
+from converter.analyse.status_checks import status_checks
 from converter.analyse.summaries import SummaryFigures, summary_figures, summary_link_check
 from converter.model import Schedule
 
@@ -105,6 +107,8 @@ class Analysis:
     timeline_cut: bool = False  # whether the timeline charts only some activities
     timeline_bars: TimelineBars | None = None  # where the timeline's bars sit
     summaries: SummaryFigures | None = None  # WBS summary rows (None without a WBS column)
+    # start constraints and progress (None: neither given; see converter.analyse.status)
+    remaining_work: Remaining | None = None
 
     @property
     def project_sd(self) -> float:
@@ -151,6 +155,10 @@ class Analysis:
             if sim.p_meet_due is not None:
                 h["simulated_p_meet_due"] = round(sim.p_meet_due, 4)
         h["warnings"] = len(self.schedule.warnings)
+        prog = self.remaining_work.progress if self.remaining_work is not None else None
+        if prog is not None:  # a project in flight
+            when = prog.status_date.isoformat() if prog.status_date else prog.status_offset
+            h["status_date"], h["done_share"] = when, round(prog.done_share, 4)
 
         def date(t: float) -> str | None:
             return self.calendar.finish_date(t).isoformat() if self.calendar else None
@@ -179,6 +187,9 @@ class Analysis:
         return h
 
 
+_ESTIMATES = ("optimistic", "most_likely", "pessimistic")
+
+
 def _due_offset(value, calendar: Calendar | None) -> tuple[float | None, dt.date | None]:
     if value is None:
         return None, None
@@ -189,14 +200,16 @@ def _due_offset(value, calendar: Calendar | None) -> tuple[float | None, dt.date
     return due, (calendar.finish_date(due) if calendar else None)
 
 
-def _network(schedule: Schedule, index: dict[str, int]) -> Network:
-    links = schedule.links
+def _network(schedule: Schedule, index: dict[str, int], rem: Remaining) -> Network:
+    """The remaining-work network: the kept links with their lags, and the start floors."""
+    links = [schedule.links[k] for k in rem.links]
     return build_network(
         len(schedule.activities),
         [index[lk.pred] for lk in links],
         [index[lk.succ] for lk in links],
         [lk.code for lk in links],
-        [lk.lag for lk in links],
+        rem.lags,
+        floor=rem.floor,
     )
 
 
@@ -218,14 +231,14 @@ def analyse(schedule: Schedule, options=None) -> Analysis:
     acts = schedule.activities
     ids = [a.id for a in acts]
     index = schedule.index()
-    o = np.array([a.optimistic for a in acts], dtype=float)
-    m = np.array([a.most_likely for a in acts], dtype=float)
-    p = np.array([a.pessimistic for a in acts], dtype=float)
+    given = [np.array([getattr(a, k) for a in acts], dtype=float) for k in _ESTIMATES]
+    calendar = Calendar.from_settings(s) if s.start_date is not None else None
+    rem = remaining_network(schedule, calendar, *given)
+    o, m, p = rem.o, rem.m, rem.p
     te = pert.expected_time(o, m, p)
     var = pert.variance(o, p)
-    net = _network(schedule, index)
+    net = _network(schedule, index, rem)
     cpm = run_cpm(net, te)
-    calendar = Calendar.from_settings(s) if s.start_date is not None else None
     due, due_date = _due_offset(s.due, calendar)
 
     found = k_longest_paths(net, te, var, max(1, s.paths))
@@ -272,7 +285,8 @@ def analyse(schedule: Schedule, options=None) -> Analysis:
         confidence=confidence,
         calendar=calendar,
         simulation=simulation,
-        checks=run_checks(ids, o, m, p, net, cpm, days_per_unit=unit_days),
+        checks=run_checks(ids, *given, net, cpm, days_per_unit=unit_days)
+        + status_checks(schedule, rem, calendar),
         targets=targets,
         path_count=count_paths(net),
         tied_longest=tied,
@@ -281,6 +295,7 @@ def analyse(schedule: Schedule, options=None) -> Analysis:
         link_pull=link_pull(net, cpm.ls, cpm.lf, te),
         link_driving=np.abs(cpm.link_slack) <= tol,
         float_tolerance=tol,
+        remaining_work=None if rem.floor is None and rem.progress is None else rem,
     )
     if schedule.summaries:  # after the other logic checks
         logic = sum(1 for c in a.checks if c.group == "logic")

@@ -18,7 +18,9 @@ for a link p -> s with lag L and fixed durations d:
 * FF: ES_s >= EF_p + L - d_s
 * SF: ES_s >= ES_p + L - d_s
 
-and ES >= 0 for every activity. The backward pass is anchored at the project
+and ES >= 0 for every activity, and ES >= its start floor where the network has one
+(``floor``: a "Not before" constraint, or the status date for work not started). The
+backward pass is anchored at the project
 finish (the largest early finish): no activity may finish later than it.
 """
 
@@ -55,6 +57,7 @@ class Network:
     order: np.ndarray  # a topological order of the activities
     forward_steps: tuple[_Step, ...]
     backward_steps: tuple[_Step, ...]
+    floor: np.ndarray | None = None  # per-activity start floor (None: 0 for every activity)
 
     @cached_property
     def plan(self) -> PassPlan:
@@ -128,8 +131,12 @@ def build_network(
     succ: np.ndarray | list[int],
     kind: np.ndarray | list[int] | None = None,
     lag: np.ndarray | list[float] | None = None,
+    floor: np.ndarray | list[float] | None = None,
 ) -> Network:
     """Build the array form of a network of ``n`` activities.
+
+    ``floor`` (optional) is each activity's start floor: its early start is at least that
+    (and at least 0); None or all zero gives the plain passes.
 
     Raises
     ------
@@ -147,6 +154,13 @@ def build_network(
     level = _levels(n, pred, succ)
     height = _levels(n, succ, pred)
     order = np.argsort(level, kind="stable")
+    floors = None
+    if floor is not None:
+        floors = np.maximum(np.asarray(floor, dtype=float).reshape(-1), 0.0)
+        if floors.size != n:
+            raise ValueError(f"floor needs {n} values, got {floors.size}")
+        if not floors.any():
+            floors = None
     return Network(
         n=n,
         pred=pred,
@@ -156,6 +170,7 @@ def build_network(
         order=order,
         forward_steps=_steps(level, succ),
         backward_steps=_steps(height, pred),
+        floor=floors,
     )
 
 

@@ -37,6 +37,7 @@ class _PlanStep:
     shifted: tuple[_Slot, ...]  # bounds that need the node's duration (see _plan)
     shifted_pos: np.ndarray  # positions in ``nodes`` the shifted slots refer to
     clip: bool  # the bound may cross 0 (forward) or the finish (backward)
+    floor: np.ndarray | None = None  # (k, 1) start floors of ``nodes`` (forward only)
 
 
 @dataclass(frozen=True)
@@ -51,6 +52,7 @@ class PassPlan:
     n: int
     forward: tuple[_PlanStep, ...]
     backward: tuple[_PlanStep, ...]
+    floor: np.ndarray | None = None  # (n, 1) start floors, None when all are 0
 
 
 def _slots(pos: np.ndarray, src: np.ndarray, lag: np.ndarray) -> tuple[list[_Slot], np.ndarray]:
@@ -110,7 +112,14 @@ def pass_plan(net: Network) -> PassPlan:
         lag = net.lag[links]
         pos = np.searchsorted(st.nodes, net.pred[links])
         bwd.append(_plan_step(st.nodes, pos, src, shifted, -lag, (lag[~shifted] < 0).any()))
-    return PassPlan(n, tuple(fwd), tuple(bwd))
+    floor = net.floor
+    if floor is None:
+        return PassPlan(n, tuple(fwd), tuple(bwd))
+    fwd = [
+        _PlanStep(st.nodes, st.plain, st.shifted, st.shifted_pos, st.clip, floor[st.nodes, None])
+        for st in fwd
+    ]
+    return PassPlan(n, tuple(fwd), tuple(bwd), floor[:, None].copy())
 
 
 def _bound(state: np.ndarray, slots: Sequence[_Slot], rows: int, cols: int, op, init):
@@ -136,10 +145,13 @@ def _bound(state: np.ndarray, slots: Sequence[_Slot], rows: int, cols: int, op, 
 
 
 def forward_into(plan: PassPlan, d: np.ndarray, x: np.ndarray, nonneg: bool) -> None:
-    """Early starts into ``x[:n]`` and early finishes into ``x[n:]`` for (n, c) ``d``."""
+    """Early starts into ``x[:n]`` and early finishes into ``x[n:]`` for (n, c) ``d``.
+
+    An activity's early start is at least its start floor (``plan.floor``) where the
+    network has floors."""
     n, cols = plan.n, d.shape[1]
-    x[:n] = 0.0
-    x[n:] = d
+    x[:n] = 0.0 if plan.floor is None else plan.floor
+    np.add(x[:n], d, out=x[n:])
     for st in plan.forward:
         k = st.nodes.size
         clip = st.clip or not nonneg
@@ -151,6 +163,8 @@ def forward_into(plan: PassPlan, d: np.ndarray, x: np.ndarray, nonneg: bool) -> 
             f = _bound(x, st.shifted, st.shifted_pos.size, cols, np.maximum, None)
             f -= d[st.nodes[st.shifted_pos]]
             acc[st.shifted_pos] = np.maximum(acc[st.shifted_pos], f)
+        if st.floor is not None:
+            np.maximum(acc, st.floor, out=acc)
         x[st.nodes] = acc
         acc += d[st.nodes]
         x[n + st.nodes] = acc

@@ -20,7 +20,9 @@ Where a path may start and end. An activity may start a path unless an incoming
 FS or SS link with lag >= 0 already implies its start is >= 0; it may end a path
 unless an outgoing FS or FF link with lag >= 0 makes a successor finish no earlier.
 For finish-to-start networks with non-negative lags these are the activities
-without predecessors and without successors. Every other path is dominated by an
+without predecessors and without successors. An activity with a start floor
+(``Network.floor``: a "Not before" date, the status date) may also start a path, whose
+length then counts from that floor. Every other path is dominated by an
 extension of itself, so the longest path's mean is the CPM project finish
 (``network.schedule(net, te).finish``) when durations are non-negative.
 
@@ -59,7 +61,7 @@ class Path:
     activities: list[int]
     links: list[int]  # len(activities) - 1 link indices
     coefficients: list[int]  # coefficient of each activity's duration in the length
-    mean: float  # sum(coef * te) + sum(lag of links)
+    mean: float  # sum(coef * te) + sum(lag of links) + the first activity's start floor
     variance: float  # sum(coef**2 * var)
 
     @property
@@ -92,6 +94,8 @@ def count_paths(net: Network) -> int:
     Counts link sequences, so parallel links between two activities give separate paths.
     """
     can_start, can_end = path_ends(net)
+    if net.floor is not None:  # a path may start at a start floor (module docstring)
+        can_start = can_start | (net.floor > 0)
     count: list[int] = [int(s) for s in can_start]
     for step in net.forward_steps:  # links grouped by the level of their successor
         for link in step.links.tolist():
@@ -278,11 +282,14 @@ def _best_starts(search: _Search, labels: _Labels, can_start: np.ndarray):
     A whole path adds its starting activity's own term (it is entered with its duration).
     """
     starts = np.flatnonzero(can_start)
+    floor = search.net.floor
     valid = np.arange(search.k)[None, None, :] < labels.count[starts][:, :, None]
     si, xs, ms = np.nonzero(valid)
     node = starts[si]
     coef = 1 - xs
     p_mean = labels.mean[node, xs, ms] + coef * search.te[node]
+    if floor is not None:  # a path starts at its first activity's start floor
+        p_mean = p_mean + floor[node]
     p_var = labels.vari[node, xs, ms] + (coef * coef) * search.var[node]
     order = np.lexsort(
         (
@@ -349,6 +356,8 @@ def k_longest_paths(
 
     finish = float(forward_pass(net, te)[1].max())
     can_start, can_end = path_ends(net)
+    if net.floor is not None:
+        can_start = can_start | (net.floor > 0)
     if ends is not None:
         can_end = np.asarray(ends, dtype=bool).reshape(-1)
     enters, leaves_start = _entry_exit(net)
@@ -409,6 +418,7 @@ def _trace(
     mean = math.fsum(
         [c * float(te[a]) for c, a in zip(coefficients, activities, strict=True)]
         + [float(net.lag[x]) for x in links]
+        + ([float(net.floor[activities[0]])] if net.floor is not None else [])
     )
     pairs = zip(coefficients, activities, strict=True)
     variance = math.fsum(c * c * float(var[a]) for c, a in pairs)

@@ -158,6 +158,14 @@ OPTIONS: tuple[Option, ...] = (
     ),
     Option("paths", "paths", parse_paths, "how many of the longest paths to list", "K"),
     Option(
+        "status_date",
+        "status_date",
+        parse_due,
+        "status date of a project in flight: progress is recorded as of the end of this "
+        "day (YYYY-MM-DD, needs a start date) or offset in time units",
+        "STATUS",
+    ),
+    Option(
         None,
         "simulation_memory_mb",
         parse_memory_mb,
@@ -203,6 +211,7 @@ class ConvertOptions:
     simulation_workers: int | None = None  # processes for the simulation; None: from the cores
     simulation_memory_mb: int | None = None  # simulation memory budget (MB); None: 1024
     default_range: str | None = None  # range class for rows with a Duration and no Range
+    status_date: str | float | dt.date | None = None  # progress as of this date / offset
 
 
 # --------------------------------------------------------------------------- command line
@@ -313,6 +322,7 @@ def resolve(
             continue
         settings.sources[option.setting] = "command line"
     problems += _due_needs_start(settings, sheet_values.get("due"))
+    problems += _due_needs_start(settings, sheet_values.get("status_date"), "status_date")
     return settings, problems
 
 
@@ -328,20 +338,26 @@ def _resolve_holidays(settings: Settings, given: list[SheetValue], problems: lis
         settings.sources["holidays"] = f"settings sheet ({given[0].sheet})"
 
 
-def _due_needs_start(settings: Settings, on_sheet: SheetValue | None) -> list[Problem]:
-    """A due date (not a duration) needs a start date to count from."""
-    if settings.start_date is not None or not isinstance(settings.due, dt.date):
+def _due_needs_start(
+    settings: Settings, on_sheet: SheetValue | None, key: str = "due"
+) -> list[Problem]:
+    """A due date or status date (not a duration) needs a start date to count from."""
+    value = getattr(settings, key)
+    if settings.start_date is not None or not isinstance(value, dt.date):
         return []
-    from_sheet = settings.source_of("due").startswith("settings sheet")
+    from_sheet = settings.source_of(key).startswith("settings sheet")
+    words = key.replace("_", " ")
+    flag = "--" + key.replace("_", "-")
     return [
         Problem(
             ERROR,
-            "due-date-without-start",
-            f"the due date {settings.due.isoformat()} is a calendar date but there is no "
-            "start date to count from" + ("" if from_sheet else " (--due on the command line)"),
+            f"{key.replace('_', '-')}-without-start" if key != "due" else "due-date-without-start",
+            f"the {words if key != 'due' else 'due date'} {value.isoformat()} is a calendar "
+            "date but there is no start date to count from"
+            + ("" if from_sheet else f" ({flag} on the command line)"),
             on_sheet.sheet if from_sheet and on_sheet else None,
             on_sheet.cell if from_sheet and on_sheet else None,
             fix="Add a 'Start date' row to the settings sheet (or --start-date), or give "
-            "the due date as a number of time units.",
+            f"the {words if key != 'due' else 'due date'} as a number of time units.",
         )
     ]

@@ -69,6 +69,13 @@ ACTIVITY_COLUMNS: dict[str, tuple[str, ...]] = {
     ),
     "duration": ("duration", "planned duration", "baseline duration"),
     "range": ("range", "range class", "uncertainty"),
+    "not_before": ("not before", "start no earlier than", "earliest start date", "not before date"),
+    "actual_start": ("actual start", "actual start date", "started on"),
+    "actual_finish": ("actual finish", "actual finish date", "actual end", "finished on"),
+    "remaining": ("remaining", "remaining duration", "remaining work"),
+    "remaining_optimistic": ("remaining optimistic", "remaining o"),
+    "remaining_most_likely": ("remaining most likely", "remaining m", "remaining likely"),
+    "remaining_pessimistic": ("remaining pessimistic", "remaining p"),
 }
 REQUIRED_ACTIVITY = ("id", "optimistic", "most_likely", "pessimistic")
 

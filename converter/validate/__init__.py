@@ -31,6 +31,7 @@ from converter.validate.outline import (
     read_outline,
 )
 from converter.validate.problems import Collector
+from converter.validate.progress import warn_out_of_sequence
 from converter.validate.ranges import read_range_classes
 from converter.validate.settings import resolve_settings
 
@@ -86,6 +87,7 @@ def validate(
     links = expand_summary_links(book.links, rows.activities, summaries, out)
     check_cycles(rows.activities, links, out)
     warn_unlinked(rows.activities, links, match, out)
+    warn_out_of_sequence(rows.activities, links, match, out)
     if not out.errors:  # the sum of sane numbers: only once each of them is sane
         check_dates_fit(rows.activities, links, settings, places, match, out)
     if out.errors:

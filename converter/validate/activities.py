@@ -22,6 +22,7 @@ from converter.read.sheets import (
     cell_name,
 )
 from converter.validate.problems import Collector
+from converter.validate.progress import read_progress
 from converter.validate.ranges import RangeBook, range_estimates, read_duration
 from converter.values import LARGEST_DURATION, id_text, is_blank, parse_number, shown
 
@@ -207,6 +208,7 @@ def _activity(row, cols, r, sheet, ident, settings: Settings, ranges, out: Colle
     group_raw = _cell(row, cols, "group")
     group = None if is_blank(group_raw) or isinstance(group_raw, CellError) else id_text(group_raw)
     target = _target(_cell(row, cols, "target"), cols, r, sheet, ident, settings, out)
+    progress = read_progress(row, cols, r, sheet, ident, settings, out)
     return Activity(
         ident,
         name,
@@ -220,6 +222,7 @@ def _activity(row, cols, r, sheet, ident, settings: Settings, ranges, out: Colle
         duration=duration,
         range=None if rc is None else rc.name,
         range_percent=None if rc is None else (rc.low, rc.likely, rc.high),
+        **progress,
     )
 
 

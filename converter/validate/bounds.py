@@ -23,6 +23,7 @@ weeks hold ``q`` times the working weekdays, less at most every holiday.
 
 from __future__ import annotations
 
+import datetime as dt
 import math
 from statistics import NormalDist
 
@@ -131,6 +132,21 @@ def _alone_too_long(
     return None
 
 
+def _latest_floor(activities: list[Activity], settings: Settings) -> float:
+    """The most any start floor (Not before, actual dates, the status date) adds to a path,
+    from above: an offset as given, a date as calendar days from the start (no unit counts
+    more units than calendar days)."""
+    values = [settings.status_date]
+    values += [v for a in activities for v in (a.not_before, a.actual_start, a.actual_finish)]
+    most = 0.0
+    for v in values:
+        if isinstance(v, dt.date):
+            most = max(most, float((v - settings.start_date).days + 1))
+        elif v is not None:
+            most = max(most, float(v))
+    return most
+
+
 def check_dates_fit(
     activities: list[Activity],
     links: list[Link],
@@ -149,6 +165,7 @@ def check_dates_fit(
     if start is None or not activities:
         return
     longest = sum(a.pessimistic for a in activities) + sum(max(lk.lag, 0.0) for lk in links)
+    longest += _latest_floor(activities, settings)
     spread = spread_allowance(settings.confidence_levels) * math.sqrt(
         sum(((a.pessimistic - a.optimistic) / 6.0) ** 2 for a in activities)
     )

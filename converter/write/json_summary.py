@@ -52,6 +52,8 @@ def build_json(path: Path, problems, analysis, sha256: str | None) -> dict:
     data["project"] = _project(a)
     data["activities"] = _activities(a)
     data["summaries"] = _summaries(a)
+    data["status"] = _status(a)  # null without a status date
+    _add_progress(a, data["activities"])
     data["links"] = [
         {"from": a.ids[int(p)], "to": a.ids[int(q)], "type": LINK_TYPES[int(k)], "lag": float(g)}
         for p, q, k, g in zip(a.net.pred, a.net.succ, a.net.kind, a.net.lag)
@@ -180,6 +182,44 @@ def _summaries(a) -> list[dict]:
             }
         )
     return rows
+
+
+def _given(value) -> float | str | None:
+    """A moment as given: an ISO date, or an offset in time units."""
+    return value.isoformat() if hasattr(value, "isoformat") else _num(value)
+
+
+def _status(a) -> dict | None:
+    prog = None if a.remaining_work is None else a.remaining_work.progress
+    if prog is None:
+        return None
+    return {
+        "status_date": _iso(prog.status_date),
+        "status_offset": _num(prog.status_offset),
+        "done_share": _num(prog.done_share),
+        "finished": prog.counts["finished"],
+        "in_progress": prog.counts["in progress"],
+        "not_started": prog.counts["not started"],
+    }
+
+
+def _add_progress(a, rows: list[dict]) -> None:
+    """Each activity's Not before, actual dates, remaining expected duration and state
+    (null where not given; remaining and state are null without a status date)."""
+    prog = None if a.remaining_work is None else a.remaining_work.progress
+    for i, row in enumerate(rows):
+        act = a.schedule.activities[i]
+        row["not_before"] = _given(act.not_before)
+        row["actual_start"] = _given(act.actual_start)
+        row["actual_finish"] = _given(act.actual_finish)
+        if prog is None:
+            row["remaining"], row["state"] = None, None
+            continue
+        state = prog.state[i]
+        rem = prog.remaining[i]
+        left = (rem[0] + 4 * rem[1] + rem[2]) / 6 if state == "in progress" else 0.0
+        row["remaining"] = _num(a.te[i] if state == "not started" else left)
+        row["state"] = state
 
 
 def _simulation(sim) -> dict | None:

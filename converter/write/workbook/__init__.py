@@ -111,6 +111,8 @@ def write_workbook(analysis, path: str | Path) -> None:
         simulated=analysis.simulation is not None,
         order=analysis.summaries.order if analysis.summaries is not None else None,
         ranged=any(act.duration is not None for act in analysis.schedule.activities),
+        not_before=any(act.not_before is not None for act in analysis.schedule.activities),
+        status=analysis.schedule.settings.status_date is not None,
     )
     write_summary(wb, fmt, analysis, lay)
     write_activities(wb, fmt, analysis, lay)

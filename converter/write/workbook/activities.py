@@ -12,7 +12,7 @@ import math
 
 from converter.model import FS, LINK_TYPES
 from converter.write.workbook import formulas as f
-from converter.write.workbook import pages
+from converter.write.workbook import pages, progress_cols
 from converter.write.workbook.layout import ACTIVITIES, FIRST, LINKS, Layout
 from converter.write.workbook.ranges import row_of, write_estimates
 from converter.write.workbook.rows import DEFAULT_ROW_HEIGHT, fit_row, merged_width, row_height
@@ -44,6 +44,7 @@ HEADERS = {
     "span": "Summary span",
     "duration": "Duration",
     "range": "Range used",
+    **progress_cols.HEADERS,
 }
 
 EXCEL_EPOCH_ORDINAL = 693594  # date(1899, 12, 30).toordinal()
@@ -156,9 +157,13 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
         )
         write_estimates(ws, fmt, lay, r, i, act, range_rows)
         o, m, p = lay.cell(i, "o"), lay.cell(i, "m"), lay.cell(i, "p")
-        ws.write_formula(r, c["te"], f.expected_time(o, m, p), fmt.num, float(a.te[i]))
-        ws.write_formula(r, c["var"], f.pert_variance(o, p), fmt.num4, float(a.var[i]))
-        es_formula, lf_formula, ff_formula = _pass_formulas(lay, net, incoming, outgoing, i)
+        te_var = (f.expected_time(o, m, p), f.pert_variance(o, p))
+        if lay.status:
+            te_var = progress_cols.te_var_formulas(a, lay, i) or te_var
+        ws.write_formula(r, c["te"], te_var[0], fmt.num, float(a.te[i]))
+        ws.write_formula(r, c["var"], te_var[1], fmt.num4, float(a.var[i]))
+        floor = progress_cols.start_floor_terms(a, lay, i)
+        es_formula, lf_formula, ff_formula = _pass_formulas(lay, net, incoming, outgoing, i, floor)
         ws.write_formula(r, c["es"], es_formula, fmt.num, float(cpm.es[i]))
         ws.write_formula(
             r, c["ef"], f.plus(lay.cell(i, "es"), lay.cell(i, "te")), fmt.num, float(cpm.ef[i])
@@ -196,6 +201,8 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
         from converter.write.workbook.summary_rows import write_summary_rows
 
         write_summary_rows(wb, ws, a, lay, WIDTHS)
+        if lay.not_before or lay.status:
+            progress_cols.write_progress_cells(ws, fmt, a, lay, r, i)
     ws.autofilter(FIRST - 1, 0, lay.last_row, max(c.values()))
     bands = [c[k] for k in ("tf", "criticality") if k in c]  # float and dates, simulated
     pages.set_up(ws, header_rows=(FIRST - 1, FIRST - 1), title_cols=(0, 1), bands=bands)
@@ -280,7 +287,11 @@ def write_links(wb, fmt, a, lay: Layout) -> None:
         ws.write_string(r, 0, ids[p])
         ws.write_string(r, 1, ids[s])
         ws.write_string(r, 2, LINK_TYPES[kind])
-        ws.write_number(r, 3, float(net.lag[k]), fmt.input_num)
+        shifted = progress_cols.lag_formula(a, lay, k)
+        if shifted is None:
+            ws.write_number(r, 3, float(net.lag[k]), fmt.input_num)
+        else:  # retained logic: the link holds the remaining work of its successor
+            ws.write_formula(r, 3, shifted, fmt.num, float(net.lag[k]))
         lag = f.ref(r, 3)
         ws.write_formula(
             r,
@@ -347,9 +358,12 @@ def _write_dates(ws, fmt, lay: Layout, c, r: int, i: int, cal, dates, holidays) 
         ws.write_formula(r, c[key], "=" + formula, fmt.date, serial(when[i]))
 
 
-def _pass_formulas(lay: Layout, net, incoming, outgoing, i: int) -> tuple[str, str, str]:
+def _pass_formulas(
+    lay: Layout, net, incoming, outgoing, i: int, floor: list[str] = ()
+) -> tuple[str, str, str]:
     """Activity ``i``'s early start, late finish and free float formulas: over the named
-    linked cells, or a conditional aggregate over the Links sheet when that is too long."""
+    linked cells, or a conditional aggregate over the Links sheet when that is too long.
+    ``floor`` are the cells of its start floor (Not before, status), inside the MAX."""
     kinds, lags = net.kind, net.lag
     ident = lay.cell(i, "id")
 
@@ -373,7 +387,9 @@ def _pass_formulas(lay: Layout, net, incoming, outgoing, i: int) -> tuple[str, s
         for k in outgoing[i]
     ]
     return (
-        or_over_links(f.early_start(pushes), "MAX", "0", f.MAXIFS, "push", "to"),
+        or_over_links(
+            f.early_start([*pushes, *floor]), "MAX", ",".join(["0", *floor]), f.MAXIFS, "push", "to"
+        ),
         or_over_links(f.late_finish(pulls), "MIN", "ProjectFinish", f.MINIFS, "pull", "from"),
         or_over_links(
             f.free_float(lay.cell(i, "ef"), slacks),

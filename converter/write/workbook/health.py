@@ -9,6 +9,7 @@ sources the checks cite are listed in full once, under the table.
 from __future__ import annotations
 
 from converter.analyse.checks import ESTIMATES, LOGIC, SOURCES, STRUCTURE, Check
+from converter.analyse.status_checks import PROGRESS
 from converter.write.workbook import formulas as f
 from converter.write.workbook import pages, rows
 from converter.write.workbook.formulas import ref
@@ -43,6 +44,7 @@ GROUP_TITLES = {
     LOGIC: "Logic: can the network be trusted to give dates?",
     ESTIMATES: "Estimates: are the three-point ranges usable?",
     STRUCTURE: "Structure: is it one closed network?",
+    PROGRESS: "Progress: does the status agree with the plan and the logic?",
 }
 
 #: Checks the sheet recounts with COUNTIF over the Links table: key -> (column, criterion).
@@ -61,6 +63,8 @@ def _count_formula(c: Check, a, lay: Layout) -> str | None:
     if c.key in _COUNTED_ON_LINKS and links:
         key, crit = _COUNTED_ON_LINKS[c.key]
         return f"=COUNTIF({lay.link_column(key)},{crit})"
+    if c.key == "constraints" and "not_before" in lay.cols:
+        return f"=COUNT({lay.column('not_before')})"
     if c.key == "link_types" and links:
         col = lay.link_column("type")
         return f'=COUNTA({col})-COUNTIF({col},"FS")'
@@ -109,7 +113,10 @@ def write_health(wb, fmt, a, lay: Layout) -> None:
     ws.set_row(HEADER_ROW, rows.row_height([(h, w, 11.0, True) for _, h, w in COLUMNS]))
     keep = []
     r = HEADER_ROW + 1
-    for group in (LOGIC, ESTIMATES, STRUCTURE):
+    groups = (LOGIC, ESTIMATES, STRUCTURE)
+    if any(c.group == PROGRESS for c in a.checks):
+        groups += (PROGRESS,)
+    for group in groups:
         ws.write_string(r, 0, GROUP_TITLES[group], fmt.section)
         for col in range(1, last + 1):
             ws.write_blank(r, col, None, fmt.section)

@@ -40,6 +40,8 @@ class Layout:
     summary_rows: list[int] = field(default_factory=list)  # sheet row of each summary
     #: Whether some activity has a Duration: its Duration and Range columns are shown.
     ranged: bool = False
+    not_before: bool = False  # a Not before column (start constraints given)
+    status: bool = False  # the progress columns (a status date given)
 
     def __post_init__(self) -> None:
         names = [
@@ -67,6 +69,10 @@ class Layout:
             names += ["wbs", "span"]
         if self.ranged:
             names += ["duration", "range"]
+        if self.not_before:
+            names += ["not_before"]
+        if self.status:
+            names += ["actual_start", "actual_finish", "rem_o", "rem_m", "rem_p", "state"]
         self.cols = {k: i for i, k in enumerate(names)}
         self._row_map()
 

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from converter.model import LINK_TYPES
 from converter.write.workbook import formulas as f
-from converter.write.workbook import pages
+from converter.write.workbook import pages, progress_cols
 from converter.write.workbook.layout import FIRST, PATHS, Layout
 from converter.write.workbook.rows import fit_row, merged_width, row_height
 from converter.write.workbook.styles import TABLE_HEAD_SIZE, TITLE_ROW
@@ -94,7 +94,12 @@ def _write_steps(ws, fmt, a, lay: Layout, n: int, path, r: int) -> int:
         ws.write_number(r, 0, n + 1, fmt.int_center)
         ws.write_number(r, 1, step + 1, fmt.int_center)
         ws.write_string(r, 2, a.ids[act])
-        if step == 0:
+        floor = progress_cols.start_floor_terms(a, lay, act, True) if step == 0 else []
+        if step == 0 and floor and a.net.floor is not None:  # the path starts at its floor
+            ws.write_string(r, 3, "(path start, at its start floor)")
+            terms = ",".join(["0", *floor])
+            ws.write_formula(r, 7, f"=MAX({terms})", fmt.num, float(a.net.floor[act]))
+        elif step == 0:
             ws.write_string(r, 3, "(path start)")
             ws.write_number(r, 7, 0.0, fmt.num)
         else:

@@ -6,7 +6,7 @@ import datetime as dt
 
 from converter.model import LINK_TYPES
 from converter.write.workbook import formulas as f
-from converter.write.workbook import pages, rows
+from converter.write.workbook import pages, progress_cols, rows
 from converter.write.workbook.activities import serial
 from converter.write.workbook.layout import INPUT, METHOD, SETTINGS, WARNINGS, Layout
 from converter.write.workbook.ranges import METHOD_ROW as RANGE_METHOD_ROW
@@ -53,6 +53,8 @@ def write_settings(wb, fmt, a, lay: Layout) -> None:
     ]
     if st.default_range is not None or a.schedule.ranges:
         items.append(("default_range", "Default range", st.default_range))
+    if st.status_date is not None:
+        items.append(("status_date", "Status date", st.status_date))
     r = 4
     for key, label, value in items:
         ws.write_string(r, 0, label, fmt.label)
@@ -224,6 +226,7 @@ def write_method(wb, fmt, a, lay: Layout) -> None:
         items.insert(
             next(k for k, (lb, _) in enumerate(items) if lb == "Assumptions"), SUMMARY_METHOD
         )
+    items = items[:-2] + progress_cols.method_rows(a) + items[-2:]
     for r, (label, text) in enumerate(items):
         if text is None:
             ws.write_string(r, 0, label, fmt.title)

@@ -26,6 +26,7 @@ from converter.write.workbook.rows import (
     merged_width,
     row_height,
 )
+from converter.write.workbook.status_summary import write_status
 from converter.write.workbook.styles import TITLE_ROW
 
 CAUTION = (
@@ -123,6 +124,8 @@ def write_summary(wb, fmt, a, lay: Layout) -> None:
     ws.merge_range(1, 0, 1, NOTE, intro, fmt.subtitle_wrap)
     out.fit(1, [(intro, merged_width(out.widths))])
     out.r = 2
+    if a.remaining_work is not None and a.remaining_work.progress is not None:
+        write_status(out, lay, (SIM, SIM_DATE, CP, CP_DATE))
     _when(out, lay)
     _how_sure(out)
     _what_drives(out)
