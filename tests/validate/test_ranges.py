@@ -107,16 +107,17 @@ def test_duration_units_and_header_spellings(tmp_path):
 
 
 def test_duration_is_not_confused_with_other_columns(tmp_path):
-    """A Target column and a "Target duration" or "Remaining duration" column stay what
-    they were: only the headers the issue lists are the Duration."""
-    head = ["ID", "Predecessors", "Target", "Target duration", "Remaining duration", "Duration"]
-    rows = [head, ["A", None, 30, 99, 77, 10]]
+    """A Target column and a "Target duration" column stay what they were: only the
+    headers the issue lists are the Duration ("Remaining duration" is the status issue's
+    Remaining column, tested with progress)."""
+    head = ["ID", "Predecessors", "Target", "Target duration", "Notes", "Duration"]
+    rows = [head, ["A", None, 30, 99, "n", 10]]
     sheets = {"Activities": rows, "Ranges": CLASSES}
     sched, problems = run(write_xlsx(tmp_path / "t.xlsx", sheets), default_range="Tight")
     assert sched is not None, "\n".join(map(str, problems))
     a = sched.activities[0]
     assert (a.duration, a.target, a.most_likely) == (10.0, 30.0, 10.0)
-    assert sched.raw.headers[3:5] == ["Target duration", "Remaining duration"]
+    assert sched.raw.headers[3:5] == ["Target duration", "Notes"]
 
 
 def test_inline_ranges_xlsx_and_csv(tmp_path):
