@@ -36,6 +36,7 @@ from converter.options.parsers import (
     parse_distribution,
     parse_due,
     parse_duration,
+    parse_hours_per_day,
     parse_iterations,
     parse_memory_mb,
     parse_paths,
@@ -64,6 +65,7 @@ __all__ = [
     "parse_distribution",
     "parse_due",
     "parse_duration",
+    "parse_hours_per_day",
     "parse_iterations",
     "parse_memory_mb",
     "parse_paths",
@@ -121,8 +123,23 @@ OPTIONS: tuple[Option, ...] = (
         "project start date; dates are counted from it",
         "YYYY-MM-DD",
     ),
-    Option("time_unit", None, parse_time_unit),
+    Option(
+        "time_unit",
+        "time_unit",
+        parse_time_unit,
+        "the schedule's time unit: working days, weeks (working weeks), calendar days or "
+        "working hours",
+        "UNIT",
+    ),
     Option("working_days", None, parse_working_days),
+    Option(
+        "hours_per_day",
+        "hours_per_day",
+        parse_hours_per_day,
+        "working hours in one day, above 0 and at most 24: reads 16h or 2d, and dates a "
+        "schedule in working hours",
+        "H",
+    ),
     Option(
         "due",
         "due",
@@ -192,6 +209,8 @@ class ConvertOptions:
     progress: object | None = None  # callable(done, total) for the simulation
     simulation_workers: int | None = None  # processes for the simulation; None: from the cores
     simulation_memory_mb: int | None = None  # simulation memory budget (MB); None: 1024
+    time_unit: str | None = None  # the schedule's time unit (working hours among them)
+    hours_per_day: float | None = None  # working hours in one day (reads 16h; dates hours)
 
 
 # --------------------------------------------------------------------------- command line

@@ -48,7 +48,17 @@ TIME_UNITS = {
     "calendardays": "calendar days",
     "calendarday": "calendar days",
     "elapseddays": "calendar days",
+    "workinghours": "working hours",
+    "workinghour": "working hours",
+    "workhours": "working hours",
+    "hours": "working hours",
+    "hour": "working hours",
+    "hrs": "working hours",
+    "hr": "working hours",
 }
+
+#: The longest working day, in hours (``Hours per day`` is above 0 and at most this).
+MOST_HOURS_PER_DAY = 24.0
 
 
 CONFIDENCE_EXAMPLE = "50, 80, 90 or 50%, 80%, 90% or 0.5, 0.8, 0.9"
@@ -260,8 +270,36 @@ def parse_distribution(value: object) -> str:
 
 
 def parse_time_unit(value: object) -> str:
-    """``working days``, ``weeks`` (working weeks) or ``calendar days``."""
+    """``working days``, ``weeks`` (working weeks), ``calendar days`` or ``working hours``.
+
+    Examples
+    --------
+    >>> parse_time_unit("Working hours"), parse_time_unit("hrs"), parse_time_unit("days")
+    ('working hours', 'working hours', 'working days')
+    """
     u = TIME_UNITS.get(normalise(value))
     if u is None:
-        raise ValueError(f"{shown(value)} is not working days, weeks or calendar days")
+        raise ValueError(
+            f"{shown(value)} is not working days, weeks, calendar days or working hours"
+        )
     return u
+
+
+def parse_hours_per_day(value: object) -> float:
+    """Working hours in one day: a number above 0 and at most 24.
+
+    Examples
+    --------
+    >>> parse_hours_per_day("7.5"), parse_hours_per_day(8)
+    (7.5, 8.0)
+    >>> parse_hours_per_day("0")
+    Traceback (most recent call last):
+    ...
+    ValueError: "0" is not a number of hours above 0 and at most 24
+    """
+    x = as_number(value)
+    if x is None or not 0.0 < x <= MOST_HOURS_PER_DAY:
+        raise ValueError(
+            f"{shown(value)} is not a number of hours above 0 and at most {MOST_HOURS_PER_DAY:g}"
+        )
+    return x

@@ -65,9 +65,9 @@ def validate(
         return None, out.problems
     book = LinkBook({a.id for a in rows.activities}, out)
     if "predecessors" in match.columns:
-        read_predecessor_column(book, rows.activities, rows.predecessor_cells, match)
+        read_predecessor_column(book, rows.activities, rows.predecessor_cells, match, settings)
     if raw.links is not None:
-        read_links_sheet(book, raw.links)
+        read_links_sheet(book, raw.links, settings)
     check_cycles(rows.activities, book.links, out)
     warn_unlinked(rows.activities, book.links, match, out)
     if not out.errors:  # the sum of sane numbers: only once each of them is sane

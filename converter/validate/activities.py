@@ -22,7 +22,16 @@ from converter.read.sheets import (
     cell_name,
 )
 from converter.validate.problems import Collector
-from converter.values import LARGEST_DURATION, id_text, is_blank, parse_number, shown
+from converter.validate.units import UNIT_FIX, as_converted, in_time_units
+from converter.values import (
+    LARGEST_DURATION,
+    UnitError,
+    as_date,
+    id_text,
+    is_blank,
+    shown,
+    split_unit,
+)
 
 FIELD_TITLES = {
     "id": "ID",
@@ -137,7 +146,7 @@ def read_activities(match: TableMatch, settings: Settings, out: Collector) -> Ac
                 cell_name(r, cols["id"]),
                 fix="Give the activity an ID or delete the row.",
             )
-            read_estimates(row, cols, r, sheet, None, out)  # report its other problems too
+            read_estimates(row, cols, r, sheet, None, out, settings)  # its other problems too
             continue
         ident = id_text(raw_id)
         if ident in first_row_of:
@@ -149,7 +158,7 @@ def read_activities(match: TableMatch, settings: Settings, out: Collector) -> Ac
                 ident,
                 fix="Every activity needs its own ID.",
             )
-            read_estimates(row, cols, r, sheet, ident, out)
+            read_estimates(row, cols, r, sheet, ident, out, settings)
             continue
         first_row_of[ident] = r
         found.activities.append(_activity(row, cols, r, sheet, ident, settings, out))
@@ -166,7 +175,7 @@ def _cell(row: list, cols: dict[str, int], key: str) -> object:
 
 def _activity(row, cols, r, sheet, ident, settings: Settings, out: Collector) -> Activity:
     """The Activity of one row (zero durations when its estimates have problems)."""
-    est = read_estimates(row, cols, r, sheet, ident, out)
+    est = read_estimates(row, cols, r, sheet, ident, out, settings)
     o, m, p = (0.0, 0.0, 0.0) if est is None else est[:3]
     name_raw = _cell(row, cols, "name")
     name = ident if is_blank(name_raw) else str(name_raw).strip()
@@ -193,7 +202,10 @@ def _target(
         return None
     where = cell_name(r, cols["target"])
     try:
-        target = parse_due(value)
+        target = parse_due(_target_in_time_units(value, settings))
+    except UnitError as exc:
+        out.error("bad-unit", f"target: {exc}", sheet, where, ident, fix=UNIT_FIX)
+        return None
     except ValueError as exc:
         out.error("bad-target", f"target: {exc}", sheet, where, ident)
         return None
@@ -220,8 +232,24 @@ def _target(
     return target
 
 
+def _target_in_time_units(value: object, settings: Settings) -> object:
+    """A target written with a unit (``3w``) as a number of time units; else as it is.
+
+    A unit pertbook does not convert (``2 months``) raises :class:`UnitError`; text that is
+    no number at all is left for :func:`parse_due` to name."""
+    if not isinstance(value, str) or as_date(value) is not None:
+        return value
+    try:
+        unit = split_unit(value)[1]
+    except UnitError:
+        raise
+    except ValueError:
+        return value
+    return value if unit is None else in_time_units(value, settings)
+
+
 # --------------------------------------------------------------------------- estimates
-def _estimate_values(row, cols, r, sheet, ident, out: Collector) -> dict | None:
+def _estimate_values(row, cols, r, sheet, ident, out: Collector, settings=None) -> dict | None:
     """O, M, P cells as numbers (None where blank); None when one is not a valid number."""
     values: dict[str, float | None] = {}
     bad = False
@@ -236,7 +264,13 @@ def _estimate_values(row, cols, r, sheet, ident, out: Collector) -> dict | None:
             continue
         where = cell_name(r, c)
         try:
-            x = parse_number(raw)
+            x = in_time_units(raw, settings)
+        except UnitError as exc:
+            out.error(
+                "bad-unit", f"{FIELD_TITLES[key]} estimate {exc}", sheet, where, ident, fix=UNIT_FIX
+            )
+            bad = True
+            continue
         except ValueError as exc:
             dated = isinstance(raw, (dt.date, dt.time, dt.timedelta))
             out.error(
@@ -248,14 +282,14 @@ def _estimate_values(row, cols, r, sheet, ident, out: Collector) -> dict | None:
                 fix="Format the cell as a number, not a date or time, and type "
                 "the duration in time units."
                 if dated
-                else "Type a plain number of time units (no text or units).",
+                else "Type a number of time units, or a number with a unit (16h, 3d, 2w).",
             )
             bad = True
             continue
         if x < 0:
             out.error(
                 "negative-estimate",
-                f"{FIELD_TITLES[key]} estimate {shown(x)} is negative",
+                f"{FIELD_TITLES[key]} estimate {as_converted(raw, x, settings)} is negative",
                 sheet,
                 where,
                 ident,
@@ -265,7 +299,7 @@ def _estimate_values(row, cols, r, sheet, ident, out: Collector) -> dict | None:
         elif x > LARGEST_DURATION:
             out.error(
                 "too-large",
-                f"{FIELD_TITLES[key]} estimate {shown(x)} is more than "
+                f"{FIELD_TITLES[key]} estimate {as_converted(raw, x, settings)} is more than "
                 f"{LARGEST_DURATION:,.0f} time units, the longest duration pertbook "
                 "computes with",
                 sheet,
@@ -279,9 +313,10 @@ def _estimate_values(row, cols, r, sheet, ident, out: Collector) -> dict | None:
     return None if bad else values
 
 
-def read_estimates(row, cols, r, sheet, ident, out: Collector):
-    """(O, M, P, fixed) of one row, or None with its problems recorded."""
-    values = _estimate_values(row, cols, r, sheet, ident, out)
+def read_estimates(row, cols, r, sheet, ident, out: Collector, settings: Settings | None = None):
+    """(O, M, P, fixed) of one row in the schedule's time unit, or None with its problems
+    recorded. A cell may carry a unit (``16h``, ``3d``, ``2w``), converted with ``settings``."""
+    values = _estimate_values(row, cols, r, sheet, ident, out, settings)
     if values is None:
         return None
     o, m, p = values["optimistic"], values["most_likely"], values["pessimistic"]

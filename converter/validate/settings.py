@@ -25,6 +25,7 @@ SETTING_LABELS: dict[str, tuple[str, ...]] = {
     "correlation": ("correlation", "rank correlation", "group correlation"),
     "confidence_levels": ("confidence levels", "confidence level", "confidence"),
     "paths": ("paths", "near critical paths", "paths to list", "path count"),
+    "hours_per_day": ("hours per day", "working hours per day", "hours a day", "day length"),
 }
 _SETTING_ALIASES = {normalise(a): k for k, v in SETTING_LABELS.items() for a in v}
 #: Labels of a header row above the settings (not settings themselves).
