@@ -184,3 +184,30 @@ def test_cli_refuses_months_naming_the_cell(tmp_path, capsys):
     assert code == 2
     assert "months.csv!E3" in err and '"2 months" is in months' in err and "activity B" in err
     assert path.read_bytes() == before and not (tmp_path / "out").exists()
+
+
+def test_reproduce_command_keeps_the_time_unit_and_hours_per_day(tmp_path, capsys):
+    # The Simulation sheet's command, run again, must give the same simulation: the time
+    # unit and hours per day given on the command line change every converted duration.
+    import shlex
+
+    from converter import cli
+
+    rows = [HEADER[:6], *[row[:6] for row in ROWS[1:]]]
+    path = write_csv(tmp_path / "units.csv", rows)
+    given = ["--time-unit", "working hours", "--hours-per-day", "7.5", "--iterations", "300"]
+    assert (
+        cli.main(["convert", str(path), "--outdir", str(tmp_path / "one"), "--json", *given]) == 0
+    )
+    ws = openpyxl.load_workbook(tmp_path / "one" / "units.analysis.xlsx")["Simulation"]
+    command = next(
+        ws.cell(r, 2).value for r in range(1, 40) if ws.cell(r, 1).value == "To reproduce"
+    )
+    assert '--time-unit "working hours"' in command and "--hours-per-day 7.5" in command
+    words = shlex.split(command)[3:]
+    out = tmp_path / "two"
+    assert cli.main(["convert", str(path), *words, "--json", "--outdir", str(out)]) == 0
+    capsys.readouterr()
+    first = json.loads((tmp_path / "one" / "units.analysis.json").read_text(encoding="utf-8"))
+    again = json.loads((out / "units.analysis.json").read_text(encoding="utf-8"))
+    assert again["simulation"] == first["simulation"] and again["time_unit"] == "working hours"

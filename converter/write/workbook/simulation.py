@@ -56,6 +56,10 @@ def reproduce_command(a) -> str:
     if "due" in given and st.due is not None:
         due = st.due.isoformat() if hasattr(st.due, "isoformat") else repr(float(st.due))
         parts.append(f"--due {due}")
+    if "time_unit" in given:  # the unit the durations were converted to
+        parts.append(f'--time-unit "{st.time_unit}"')
+    if "hours_per_day" in given:
+        parts.append(f"--hours-per-day {st.hours_per_day!r}")
     return " ".join(parts)
 
 
