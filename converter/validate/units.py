@@ -39,8 +39,8 @@ def in_time_units(value: object, settings: Settings | None) -> float:
     >>> in_time_units("16h", Settings())
     2.0
     """
-    if isinstance(value, float):
-        return parse_number(value)
+    if isinstance(value, float) or (isinstance(value, str) and value.rstrip()[-1:].isdigit()):
+        return parse_number(value)  # no unit can end in a digit: the common cases first
     s = settings or Settings()
     x, unit = split_unit(value)
     return x * unit_factor(unit, s.time_unit, s.hours_per_day, len(s.working_days))
