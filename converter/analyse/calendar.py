@@ -427,9 +427,9 @@ def conversion_words(time_unit: str, hours_per_day: float = 8.0, days_per_week: 
     Examples
     --------
     >>> print(conversion_words("working days"))
-    1 h = 0.125, 1 d = 1, 1 w = 5 working days (8 hours per day, 5 working days per week)
-    >>> print(conversion_words("working hours", 7.5))
-    1 h = 1, 1 d = 7.5, 1 w = 37.5 working hours (7.5 hours per day, 5 working days per week)
+    in working days: 1 h = 0.125, 1 d = 1, 1 w = 5 (8 hours per day, 5 working days per week)
+    >>> print(conversion_words("weeks", 7.5, 4))
+    in weeks: 1 h = 0.0333333, 1 d = 0.25, 1 w = 1 (7.5 hours per day, 4 working days per week)
     """
     factors = ", ".join(
         f"1 {unit[0]} = {unit_factor(unit, time_unit, hours_per_day, days_per_week):.6g}"
@@ -440,4 +440,4 @@ def conversion_words(time_unit: str, hours_per_day: float = 8.0, days_per_week: 
         if time_unit == "calendar days"
         else f"{days_per_week} working days per week"
     )
-    return f"{factors} {time_unit} ({hours_per_day:g} hours per day, {week})"
+    return f"in {time_unit}: {factors} ({hours_per_day:g} hours per day, {week})"

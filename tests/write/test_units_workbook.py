@@ -111,7 +111,7 @@ def test_method_settings_and_json_name_the_unit(converted):
     wb = openpyxl.load_workbook(result.workbook)
     method = {wb["Method"].cell(r, 1).value: wb["Method"].cell(r, 2).value for r in range(1, 40)}
     # 1 d = 7.5 h, 1 w = 5 x 7.5 = 37.5 h
-    assert "1 h = 1, 1 d = 7.5, 1 w = 37.5 working hours" in method["Units"]
+    assert "Factors used, in working hours: 1 h = 1, 1 d = 7.5, 1 w = 37.5 (" in method["Units"]
     assert "INT(t / hours per day) + 1" in method["Calendar"]
     used = wb["Settings used"]
     values = {used.cell(r, 1).value: used.cell(r, 2).value for r in range(1, 30)}

@@ -202,7 +202,7 @@ def units_text(settings) -> str:
     return (
         "An estimate, target or lag may be typed with a unit: hours (16h, 4 hrs), days (3d, "
         "3 days) or weeks (2w, 1.5 wks, 2 weeks); a bare number is in the schedule's time "
-        f"unit. Factors used: {words}. A day is one day of the schedule's calendar, a week "
+        f"unit. Factors used, {words}. A day is one day of the schedule's calendar, a week "
         "its working days (7 days for calendar days). The Activities and Links sheets show "
         "the converted numbers the formulas use; Input as read keeps the text as typed. "
         "Months and years are refused: the working time in them varies."
