@@ -9,10 +9,12 @@ import datetime as dt
 import math
 import re
 from collections.abc import Iterable
+from dataclasses import dataclass
 
 from converter.model import DISTRIBUTIONS
 from converter.values import (
     LARGEST_DURATION,
+    UnitError,
     as_date,
     as_number,
     date_out_of_range,
@@ -20,6 +22,7 @@ from converter.values import (
     normalise,
     parse_number,
     shown,
+    split_unit,
 )
 
 DISTRIBUTION_ALIASES = {
@@ -189,18 +192,32 @@ def parse_duration(value: object) -> float:
     return x
 
 
-def parse_due(value: object) -> float | dt.date | None:
+@dataclass(frozen=True)
+class DurationWithUnit:
+    """A due or target duration typed with a unit (``3w``, ``16h``), as typed.
+
+    It is converted to the time unit once the settings are known (the due duration by
+    :func:`converter.options.resolve`, a target when its row is read).
+    """
+
+    text: str
+
+
+def parse_due(value: object) -> float | dt.date | DurationWithUnit | None:
     """A due value: a date (cell or YYYY-MM-DD text) or a duration; blank: None.
 
     The same rule reads a due date on the command line, on the settings sheet and an
-    activity's interim target. A duration is a plain number from 0 to 10,000,000; a date
-    is from 1900-03-01 on (:func:`parse_date`).
+    activity's interim target. A duration is a plain number from 0 to 10,000,000, or a
+    number with a unit (``3w``: a :class:`DurationWithUnit`, converted with the settings;
+    months and years refused); a date is from 1900-03-01 on (:func:`parse_date`).
 
     Examples
     --------
-    >>> parse_due("60"), parse_due("2027-06-30"), parse_due(" ")
-    (60.0, datetime.date(2027, 6, 30), None)
+    >>> parse_due("60"), parse_due("2027-06-30"), parse_due(" "), parse_due("3 wks")
+    (60.0, datetime.date(2027, 6, 30), None, DurationWithUnit(text='3 wks'))
     """
+    if isinstance(value, DurationWithUnit):
+        return value
     if isinstance(value, float) and math.isnan(value):
         raise ValueError("nan is not a date or a duration")
     if is_blank(value):
@@ -209,8 +226,23 @@ def parse_due(value: object) -> float | dt.date | None:
         return parse_date(value)
     x = as_number(value)
     if x is None:
-        raise ValueError(f"{shown(value)} is neither a date (YYYY-MM-DD) nor a duration")
+        return _with_unit(value)
     return parse_duration(x)
+
+
+def _with_unit(value: object) -> DurationWithUnit:
+    """A duration typed with a unit, not negative; ``ValueError`` for anything else."""
+    try:
+        x, unit = split_unit(value) if isinstance(value, str) else (None, None)
+    except UnitError:
+        raise
+    except ValueError:
+        unit = None
+    if unit is None:
+        raise ValueError(f"{shown(value)} is neither a date (YYYY-MM-DD) nor a duration")
+    if x < 0:
+        raise ValueError(f"{shown(value)} is negative, not a duration")
+    return DurationWithUnit(value.strip())
 
 
 def parse_start_date(value: object) -> dt.date:

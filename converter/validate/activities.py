@@ -11,7 +11,7 @@ import datetime as dt
 from dataclasses import dataclass, field
 
 from converter.model import Activity, Settings
-from converter.options import parse_distribution, parse_due
+from converter.options import DurationWithUnit, parse_distribution, parse_due, parse_duration
 from converter.read.sheets import (
     ACTIVITY_COLUMNS,
     REQUIRED_ACTIVITY,
@@ -26,11 +26,9 @@ from converter.validate.units import UNIT_FIX, as_converted, in_time_units
 from converter.values import (
     LARGEST_DURATION,
     UnitError,
-    as_date,
     id_text,
     is_blank,
     shown,
-    split_unit,
 )
 
 FIELD_TITLES = {
@@ -202,7 +200,9 @@ def _target(
         return None
     where = cell_name(r, cols["target"])
     try:
-        target = parse_due(_target_in_time_units(value, settings))
+        target = parse_due(value)
+        if isinstance(target, DurationWithUnit):  # e.g. 3w, in the time unit
+            target = parse_duration(in_time_units(target.text, settings))
     except UnitError as exc:
         out.error("bad-unit", f"target: {exc}", sheet, where, ident, fix=UNIT_FIX)
         return None
@@ -230,22 +230,6 @@ def _target(
             fix="Check the year of the target date.",
         )
     return target
-
-
-def _target_in_time_units(value: object, settings: Settings) -> object:
-    """A target written with a unit (``3w``) as a number of time units; else as it is.
-
-    A unit pertbook does not convert (``2 months``) raises :class:`UnitError`; text that is
-    no number at all is left for :func:`parse_due` to name."""
-    if not isinstance(value, str) or as_date(value) is not None:
-        return value
-    try:
-        unit = split_unit(value)[1]
-    except UnitError:
-        raise
-    except ValueError:
-        return value
-    return value if unit is None else in_time_units(value, settings)
 
 
 # --------------------------------------------------------------------------- estimates

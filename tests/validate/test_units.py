@@ -207,3 +207,32 @@ def test_a_unit_past_the_largest_duration_shows_the_conversion(tmp_path):
     assert schedule is None
     assert errors(problems) == {("too-large", "big.csv", "F3", "B")}
     assert '"300000w" (= 12000000 working hours)' in problems[0].message
+
+
+# --------------------------------------------------------------------------- the due duration
+def test_due_with_a_unit_on_the_sheet_and_the_command_line(tmp_path):
+    rows = [HEADER, ["A", "a", None, 1, 2, 3]]
+    settings = [["Time unit", "working hours"], ["Hours per day", 7.5], ["Due date", "2w"]]
+    path = write_xlsx(tmp_path / "due.xlsx", {"Activities": rows, "Settings": settings})
+    schedule, problems = run(path)
+    assert schedule is not None, [str(p) for p in problems]
+    assert schedule.settings.due == 75.0  # 2 weeks x 5 days x 7.5 h
+    schedule, _ = run(path, due="3d")  # the command line wins: 3 x 7.5 h
+    assert schedule.settings.due == 22.5
+    schedule, _ = run(path, due="3d", time_unit="working days")  # 3 days in days
+    assert schedule.settings.due == 3.0
+
+
+@pytest.mark.parametrize(
+    ("due", "code"),
+    [("2 months", "bad-setting"), ("-1w", "bad-setting"), ("2000000w", "bad-setting")],
+)
+def test_bad_due_with_a_unit_names_its_cell(tmp_path, due, code):
+    # 2,000,000 weeks x 5 = 10,000,000 days, x 8 h = 80,000,000 h: past 10,000,000
+    rows = [HEADER, ["A", "a", None, 1, 2, 3]]
+    settings = [["Time unit", "working hours"], ["Due date", due]]
+    path = write_xlsx(tmp_path / "due.xlsx", {"Activities": rows, "Settings": settings})
+    schedule, problems = run(path)
+    assert schedule is None
+    assert errors(problems) == {(code, "Settings", "B2", None)}
+    assert f'"{due}"' in problems[0].message
