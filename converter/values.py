@@ -348,23 +348,13 @@ def as_written(value: object) -> str:
 
 #: Weekday names and abbreviations (Monday = 0), for the working days.
 WEEKDAYS = {
-    "mon": 0,
-    "monday": 0,
-    "tue": 1,
-    "tues": 1,
-    "tuesday": 1,
-    "wed": 2,
-    "wednesday": 2,
-    "thu": 3,
-    "thur": 3,
-    "thurs": 3,
-    "thursday": 3,
-    "fri": 4,
-    "friday": 4,
-    "sat": 5,
-    "saturday": 5,
-    "sun": 6,
-    "sunday": 6,
+    **dict.fromkeys(("mon", "monday"), 0),
+    **dict.fromkeys(("tue", "tues", "tuesday"), 1),
+    **dict.fromkeys(("wed", "wednesday"), 2),
+    **dict.fromkeys(("thu", "thur", "thurs", "thursday"), 3),
+    **dict.fromkeys(("fri", "friday"), 4),
+    **dict.fromkeys(("sat", "saturday"), 5),
+    **dict.fromkeys(("sun", "sunday"), 6),
 }
 
 
@@ -407,6 +397,12 @@ DURATION_UNIT_WORDS = {
 AMBIGUOUS_UNIT_WORDS = frozenset(
     ("mo", "mos", "mon", "mons", "month", "months", "y", "yr", "yrs", "year", "years")
 )
+
+
+class UnitError(ValueError):
+    """A duration or lag written with a unit pertbook does not convert (months, years, ...)."""
+
+
 _NUMBER_WITH_UNIT = re.compile(
     r"\s*([+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?)\s*([A-Za-z.]*)\s*"
 )
@@ -423,16 +419,18 @@ def split_unit(value: object) -> tuple[float, str | None]:
     Raises
     ------
     ValueError
-        With a message that starts with the value as shown to the user.
+        With a message that starts with the value as shown to the user; a
+        :class:`UnitError` when the number is followed by a unit that is not read.
 
     Examples
     --------
     >>> split_unit(2.5), split_unit("16h"), split_unit("1.5 Wks"), split_unit("-2d")
     ((2.5, None), (16.0, 'hours'), (1.5, 'weeks'), (-2.0, 'days'))
-    >>> split_unit("2 months")
-    Traceback (most recent call last):
-    ...
-    ValueError: "2 months" is in months, whose length in working time is ambiguous
+    >>> try:
+    ...     split_unit("2 months")
+    ... except ValueError as exc:  # a UnitError
+    ...     print(exc)
+    "2 months" is in months, whose length in working time is ambiguous
     """
     if not isinstance(value, str):
         return parse_number(value), None
@@ -443,10 +441,10 @@ def split_unit(value: object) -> tuple[float, str | None]:
     word = m.group(2).lower().rstrip(".")
     if word in AMBIGUOUS_UNIT_WORDS:
         kind = "years" if word.startswith("y") else "months"
-        raise ValueError(f"{shown(value)} is in {kind}, whose length in working time is ambiguous")
+        raise UnitError(f"{shown(value)} is in {kind}, whose length in working time is ambiguous")
     unit = DURATION_UNIT_WORDS.get(word)
     if unit is None:
-        raise ValueError(
+        raise UnitError(
             f"{shown(value)} has the unit {shown(m.group(2))}; pertbook reads hours (h), "
             "days (d) and weeks (w)"
         )

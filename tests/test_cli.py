@@ -619,6 +619,8 @@ def test_convert_and_watch_take_the_same_conversion_options():
         "--simulation-memory",
         "--default-range",  # issue 11, "Ranges from a single duration"
         "--status-date",  # the status issue's option for a project in flight
+        "--time-unit",  # issue 11: the working-hours time unit
+        "--hours-per-day",  # issue 11: Hours per day
     }
     given = [
         "--due",
@@ -641,6 +643,10 @@ def test_convert_and_watch_take_the_same_conversion_options():
         "--no-simulation",
         "--simulation-memory",
         "512",
+        "--time-unit",
+        "Working Hours",
+        "--hours-per-day",
+        "7.5",
     ]
     parser = cli.build_parser()
     from_convert = options_from_args(parser.parse_args(["convert", "x.xlsx", *given]))
@@ -660,6 +666,8 @@ def test_convert_and_watch_take_the_same_conversion_options():
             start_date=dt.date(2027, 1, 4),
             simulate=False,
             simulation_memory_mb=512,
+            time_unit="working hours",
+            hours_per_day=7.5,
         )
     )
     defaults = options_from_args(parser.parse_args(["watch", "F"]))

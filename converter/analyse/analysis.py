@@ -264,7 +264,7 @@ def analyse(schedule: Schedule, options=None) -> Analysis:
     if options is None or getattr(options, "simulate", True):
         simulation = _simulate(schedule, net, o, m, p, due, targets, project_mean, options)
 
-    unit_days = days_per_unit(s.time_unit, s.working_days)
+    unit_days = days_per_unit(s.time_unit, s.working_days, s.hours_per_day)
     a = Analysis(
         schedule=schedule,
         net=net,

@@ -5,7 +5,12 @@ A schedule is computed in one time unit (``Calendar.unit``):
 * ``"working days"`` (default): one unit is one working day of the calendar;
 * ``"weeks"``: one unit is one working week, i.e. as many working days as the
   calendar has working weekdays (5 for Monday to Friday, 6 for Monday to Saturday);
-* ``"calendar days"``: every date counts; weekends and holidays are ignored.
+* ``"calendar days"``: every date counts; weekends and holidays are ignored;
+* ``"working hours"``: one unit is one working hour; a working day holds
+  ``hours_per_day`` of them (``Hours per day``, default 8), so offset ``t`` is
+  ``t / hours_per_day`` working days. Dates show the day only: work at hour offset ``t``
+  falls on working day ``floor(t / hours_per_day) + 1``, a finish at the end of hour ``t``
+  on working day ``ceil(t / hours_per_day)`` (the conventions below, in working days).
 
 Offset 0 is the start of the project start date. If the start date is not a working
 day, work begins on the next working day ("day 1" below).
@@ -47,7 +52,9 @@ from functools import cached_property
 
 import numpy as np
 
-UNITS: tuple[str, ...] = ("working days", "weeks", "calendar days")
+from converter.values import unit_factor
+
+UNITS: tuple[str, ...] = ("working days", "weeks", "calendar days", "working hours")
 
 #: Offsets are rounded to this many decimals before floor/ceil (Python and formulas).
 DECIMALS = 9
@@ -55,15 +62,28 @@ DECIMALS = 9
 _ONE_DAY = np.timedelta64(1, "D")
 
 
-def days_per_unit(unit: str, working_days: tuple[int, ...]) -> float:
+def days_per_unit(unit: str, working_days: tuple[int, ...], hours_per_day: float = 8.0) -> float:
     """Working days in one unit of a schedule (also without a start date): 1 for working
     days, the number of working weekdays for weeks, ``len(working_days) / 7`` for
-    calendar days."""
+    calendar days, ``1 / hours_per_day`` for working hours.
+
+    Examples
+    --------
+    >>> days_per_unit("weeks", (0, 1, 2, 3, 4)), days_per_unit("working hours", (0, 1), 8)
+    (5.0, 0.125)
+    """
     if unit == "weeks":
         return float(len(working_days))
     if unit == "calendar days":
         return len(working_days) / 7.0
+    if unit == "working hours":
+        return 1.0 / hours_per_day
     return 1.0
+
+
+def _number(x: float) -> str:
+    """A number as formula text: ``8``, ``7.5`` (the shortest text that reads back as ``x``)."""
+    return str(int(x)) if float(x).is_integer() else repr(float(x))
 
 
 def _round_half_away(x: np.ndarray, decimals: int) -> np.ndarray:
@@ -85,11 +105,14 @@ class Calendar:
     start : datetime.date
         The project start date (offset 0); work begins on the first working day from it.
     unit : str
-        ``"working days"``, ``"weeks"`` or ``"calendar days"``: one unit of the schedule.
+        ``"working days"``, ``"weeks"``, ``"calendar days"`` or ``"working hours"``: one
+        unit of the schedule.
     working_days : tuple of int
         Working weekdays, Monday = 0 (default Monday to Friday).
     holidays : tuple of datetime.date
         Dates on which no work is done.
+    hours_per_day : float
+        Working hours in one working day (used by ``"working hours"`` only).
 
     References
     ----------
@@ -113,16 +136,29 @@ class Calendar:
     (datetime.date(2025, 3, 13), datetime.date(2025, 3, 12))
     >>> cal.start_date_formula("T", "S", "H")
     'WORKDAY.INTL(WORKDAY.INTL(S-1,1,"0000011",H),INT(ROUND(T,9)),"0000011",H)'
+
+    By the hour, 8 hours a day: hour 12 is worked on day 2, a finish at hour 16 ends day 2.
+
+    >>> hours = Calendar(dt.date(2025, 3, 7), "working hours", hours_per_day=8)
+    >>> hours.start_date(12), hours.finish_date(16), hours.offset_of(dt.date(2025, 3, 10))
+    (datetime.date(2025, 3, 10), datetime.date(2025, 3, 10), 16.0)
+    >>> hours.steps_formula("T")
+    'ROUND(T/8,9)'
     """
 
     start: dt.date
     unit: str = "working days"
     working_days: tuple[int, ...] = (0, 1, 2, 3, 4)
     holidays: tuple[dt.date, ...] = ()
+    hours_per_day: float = 8.0
 
     def __post_init__(self) -> None:
         if self.unit not in UNITS:
             raise ValueError(f"unknown time unit {self.unit!r}; expected one of {UNITS}")
+        if not 0.0 < self.hours_per_day <= 24.0:
+            raise ValueError(
+                f"hours per day must be above 0 and at most 24, got {self.hours_per_day}"
+            )
         days = tuple(sorted(set(int(d) for d in self.working_days)))
         if not days or days[0] < 0 or days[-1] > 6:
             raise ValueError(f"working days must be weekdays 0..6 (Monday = 0), got {days}")
@@ -140,6 +176,7 @@ class Calendar:
             unit=settings.time_unit,
             working_days=tuple(settings.working_days),
             holidays=tuple(settings.holidays),
+            hours_per_day=float(getattr(settings, "hours_per_day", 8.0)),
         )
 
     # ----------------------------------------------------------------- properties
@@ -160,14 +197,23 @@ class Calendar:
 
         1 for working days; the number of working weekdays for weeks; for calendar
         days the average share of working weekdays, ``len(working_days) / 7``
-        (5/7 for Monday to Friday; holidays are not counted in).
+        (5/7 for Monday to Friday; holidays are not counted in); ``1 / hours_per_day``
+        for working hours.
         """
-        return days_per_unit(self.unit, self.working_days)
+        return days_per_unit(self.unit, self.working_days, self.hours_per_day)
 
     @property
     def _steps_per_unit(self) -> float:
         """Day steps (working days, or calendar days) per schedule unit."""
+        if self.unit == "working hours":
+            return 1.0 / self.hours_per_day
         return float(len(self.working_days)) if self.unit == "weeks" else 1.0
+
+    @property
+    def _units_per_step(self) -> float | None:
+        """Schedule units per day step when one unit is less than a day (working hours):
+        offsets are divided by it, as the formulas do, rather than multiplied by its inverse."""
+        return self.hours_per_day if self.unit == "working hours" else None
 
     @cached_property
     def _busdaycal(self) -> np.busdaycalendar:
@@ -188,7 +234,9 @@ class Calendar:
     # ------------------------------------------------------------ offset -> date
 
     def _steps(self, ts) -> np.ndarray:
-        x = np.asarray(ts, dtype=float) * self._steps_per_unit
+        per_step = self._units_per_step
+        x = np.asarray(ts, dtype=float)
+        x = x / per_step if per_step is not None else x * self._steps_per_unit
         if not np.all(np.isfinite(x)):
             raise ValueError("offsets must be finite numbers")
         return _round_half_away(x, DECIMALS)
@@ -255,7 +303,8 @@ class Calendar:
 
         A due date ``d`` is met by any finish offset <= ``offset_of(d)``. For a date
         before the start the result is minus the working units in [d + 1, start - 1].
-        For weeks the working-day count is divided by the days in a week.
+        For weeks the working-day count is divided by the days in a week; for working
+        hours it is multiplied by the hours per day.
         """
         if self.unit == "calendar days":
             return float((d - self.start).days + 1)
@@ -264,6 +313,8 @@ class Calendar:
             count = int(np.busday_count(self._start64, after, busdaycal=self._busdaycal))
         else:  # minus [d + 1, start - 1]
             count = -int(np.busday_count(after, self._start64, busdaycal=self._busdaycal))
+        if self._units_per_step is not None:
+            return float(count * self._units_per_step)
         return count / self._steps_per_unit
 
     # ----------------------------------------------------------------- formulas
@@ -278,10 +329,13 @@ class Calendar:
     def steps_formula(self, offset_ref: str) -> str:
         """Formula text: the offset in working days (calendar days for that unit), rounded.
 
-        ``ROUND(ref,9)``, or ``ROUND(ref*5,9)`` for weeks of five working days.
+        ``ROUND(ref,9)``, ``ROUND(ref*5,9)`` for weeks of five working days,
+        ``ROUND(ref/8,9)`` for working hours, 8 to the day.
         """
         if self.unit == "weeks":
             return f"ROUND({offset_ref}*{len(self.working_days)},{DECIMALS})"
+        if self.unit == "working hours":
+            return f"ROUND({offset_ref}/{_number(self.hours_per_day)},{DECIMALS})"
         return f"ROUND({offset_ref},{DECIMALS})"
 
     def first_day_formula(self, start_ref: str, holidays_ref: str | None = None) -> str:
@@ -362,4 +416,28 @@ class Calendar:
         )
         if self.unit == "weeks":
             return f"{text}/{len(self.working_days)}"
+        if self.unit == "working hours":
+            return f"({text})*{_number(self.hours_per_day)}"
         return text
+
+
+def conversion_words(time_unit: str, hours_per_day: float = 8.0, days_per_week: int = 5) -> str:
+    """The factors :func:`unit_factor` converts with, in words (for the Method sheet).
+
+    Examples
+    --------
+    >>> print(conversion_words("working days"))
+    in working days: 1 h = 0.125, 1 d = 1, 1 w = 5 (8 hours per day, 5 working days per week)
+    >>> print(conversion_words("weeks", 7.5, 4))
+    in weeks: 1 h = 0.0333333, 1 d = 0.25, 1 w = 1 (7.5 hours per day, 4 working days per week)
+    """
+    factors = ", ".join(
+        f"1 {unit[0]} = {unit_factor(unit, time_unit, hours_per_day, days_per_week):.6g}"
+        for unit in ("hours", "days", "weeks")
+    )
+    week = (
+        "7 calendar days per week"
+        if time_unit == "calendar days"
+        else f"{days_per_week} working days per week"
+    )
+    return f"in {time_unit}: {factors} ({hours_per_day:g} hours per day, {week})"

@@ -30,6 +30,7 @@ from converter.options.parsers import (
     DISTRIBUTION_ALIASES,
     MIN_SIMULATION_MEMORY_MB,
     TIME_UNITS,
+    DurationWithUnit,
     parse_confidence,
     parse_correlation,
     parse_date,
@@ -37,6 +38,7 @@ from converter.options.parsers import (
     parse_distribution,
     parse_due,
     parse_duration,
+    parse_hours_per_day,
     parse_iterations,
     parse_memory_mb,
     parse_paths,
@@ -44,6 +46,7 @@ from converter.options.parsers import (
     parse_start_date,
     parse_time_unit,
 )
+from converter.values import parse_duration as in_time_units
 from converter.values import parse_working_days
 
 __all__ = [
@@ -52,6 +55,7 @@ __all__ = [
     "ConvertOptions",
     "DEFAULT_SIMULATION_MEMORY_MB",
     "DISTRIBUTION_ALIASES",
+    "DurationWithUnit",
     "MIN_SIMULATION_MEMORY_MB",
     "OPTIONS",
     "Option",
@@ -66,6 +70,7 @@ __all__ = [
     "parse_distribution",
     "parse_due",
     "parse_duration",
+    "parse_hours_per_day",
     "parse_iterations",
     "parse_memory_mb",
     "parse_paths",
@@ -123,14 +128,29 @@ OPTIONS: tuple[Option, ...] = (
         "project start date; dates are counted from it",
         "YYYY-MM-DD",
     ),
-    Option("time_unit", None, parse_time_unit),
+    Option(
+        "time_unit",
+        "time_unit",
+        parse_time_unit,
+        "the schedule's time unit: working days, weeks (working weeks), calendar days or "
+        "working hours",
+        "UNIT",
+    ),
     Option("working_days", None, parse_working_days),
+    Option(
+        "hours_per_day",
+        "hours_per_day",
+        parse_hours_per_day,
+        "working hours in one day, above 0 and at most 24: reads 16h or 2d, and dates a "
+        "schedule in working hours",
+        "H",
+    ),
     Option(
         "due",
         "due",
         parse_due,
-        "due date: a duration in the schedule's time unit (e.g. 60) or a date YYYY-MM-DD "
-        "(needs a start date)",
+        "due date: a duration in the schedule's time unit (e.g. 60), one with a unit (12w) "
+        "or a date YYYY-MM-DD (needs a start date)",
         "DUE",
     ),
     Option("iterations", "iterations", parse_iterations, "Monte Carlo iterations", "N"),
@@ -212,6 +232,8 @@ class ConvertOptions:
     simulation_memory_mb: int | None = None  # simulation memory budget (MB); None: 1024
     default_range: str | None = None  # range class for rows with a Duration and no Range
     status_date: str | float | dt.date | None = None  # progress as of this date / offset
+    time_unit: str | None = None  # the schedule's time unit (working hours among them)
+    hours_per_day: float | None = None  # working hours in one day (reads 16h; dates hours)
 
 
 # --------------------------------------------------------------------------- command line
@@ -321,6 +343,7 @@ def resolve(
             problems.append(Problem(ERROR, "bad-option", f"command line {option.flag}: {exc}"))
             continue
         settings.sources[option.setting] = "command line"
+    problems += _due_in_time_units(settings, sheet_values.get("due"))
     problems += _due_needs_start(settings, sheet_values.get("due"))
     problems += _due_needs_start(settings, sheet_values.get("status_date"), "status_date")
     return settings, problems
@@ -336,6 +359,32 @@ def _resolve_holidays(settings: Settings, given: list[SheetValue], problems: lis
     if days:
         settings.holidays = tuple(sorted(set(days)))
         settings.sources["holidays"] = f"settings sheet ({given[0].sheet})"
+
+
+def _due_in_time_units(settings: Settings, on_sheet: SheetValue | None) -> list[Problem]:
+    """A due duration typed with a unit (``3w``) in the time unit, now that the time unit,
+    ``Hours per day`` and the working week are known; a problem when it is too long."""
+    due = settings.due
+    if not isinstance(due, DurationWithUnit):
+        return []
+    s = settings
+    x = in_time_units(due.text, s.time_unit, s.hours_per_day, len(s.working_days))
+    try:
+        settings.due = parse_duration(x)
+    except ValueError as exc:
+        settings.due = None
+        from_sheet = settings.source_of("due").startswith("settings sheet") and on_sheet
+        return [
+            Problem(
+                ERROR,
+                "bad-setting" if from_sheet else "bad-option",
+                f"{'setting due' if from_sheet else 'command line --due'}: "
+                f'"{due.text}" is {x:,.6g} {settings.time_unit}: {exc}',
+                on_sheet.sheet if from_sheet else None,
+                on_sheet.cell if from_sheet else None,
+            )
+        ]
+    return []
 
 
 def _due_needs_start(

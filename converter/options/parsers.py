@@ -9,10 +9,12 @@ import datetime as dt
 import math
 import re
 from collections.abc import Iterable
+from dataclasses import dataclass
 
 from converter.model import DISTRIBUTIONS
 from converter.values import (
     LARGEST_DURATION,
+    UnitError,
     as_date,
     as_number,
     date_out_of_range,
@@ -21,6 +23,7 @@ from converter.values import (
     normalise,
     parse_number,
     shown,
+    split_unit,
 )
 
 DISTRIBUTION_ALIASES = {
@@ -49,7 +52,17 @@ TIME_UNITS = {
     "calendardays": "calendar days",
     "calendarday": "calendar days",
     "elapseddays": "calendar days",
+    "workinghours": "working hours",
+    "workinghour": "working hours",
+    "workhours": "working hours",
+    "hours": "working hours",
+    "hour": "working hours",
+    "hrs": "working hours",
+    "hr": "working hours",
 }
+
+#: The longest working day, in hours (``Hours per day`` is above 0 and at most this).
+MOST_HOURS_PER_DAY = 24.0
 
 
 CONFIDENCE_EXAMPLE = "50, 80, 90 or 50%, 80%, 90% or 0.5, 0.8, 0.9"
@@ -180,18 +193,32 @@ def parse_duration(value: object) -> float:
     return x
 
 
-def parse_due(value: object) -> float | dt.date | None:
+@dataclass(frozen=True)
+class DurationWithUnit:
+    """A due or target duration typed with a unit (``3w``, ``16h``), as typed.
+
+    It is converted to the time unit once the settings are known (the due duration by
+    :func:`converter.options.resolve`, a target when its row is read).
+    """
+
+    text: str
+
+
+def parse_due(value: object) -> float | dt.date | DurationWithUnit | None:
     """A due value: a date (cell or YYYY-MM-DD text) or a duration; blank: None.
 
     The same rule reads a due date on the command line, on the settings sheet and an
-    activity's interim target. A duration is a plain number from 0 to 10,000,000; a date
-    is from 1900-03-01 on (:func:`parse_date`).
+    activity's interim target. A duration is a plain number from 0 to 10,000,000, or a
+    number with a unit (``3w``: a :class:`DurationWithUnit`, converted with the settings;
+    months and years refused); a date is from 1900-03-01 on (:func:`parse_date`).
 
     Examples
     --------
-    >>> parse_due("60"), parse_due("2027-06-30"), parse_due(" ")
-    (60.0, datetime.date(2027, 6, 30), None)
+    >>> parse_due("60"), parse_due("2027-06-30"), parse_due(" "), parse_due("3 wks")
+    (60.0, datetime.date(2027, 6, 30), None, DurationWithUnit(text='3 wks'))
     """
+    if isinstance(value, DurationWithUnit):
+        return value
     if isinstance(value, float) and math.isnan(value):
         raise ValueError("nan is not a date or a duration")
     if is_blank(value):
@@ -200,8 +227,23 @@ def parse_due(value: object) -> float | dt.date | None:
         return parse_date(value)
     x = as_number(value)
     if x is None:
-        raise ValueError(f"{shown(value)} is neither a date (YYYY-MM-DD) nor a duration")
+        return _with_unit(value)
     return parse_duration(x)
+
+
+def _with_unit(value: object) -> DurationWithUnit:
+    """A duration typed with a unit, not negative; ``ValueError`` for anything else."""
+    try:
+        x, unit = split_unit(value) if isinstance(value, str) else (None, None)
+    except UnitError:
+        raise
+    except ValueError:
+        unit = None
+    if unit is None:
+        raise ValueError(f"{shown(value)} is neither a date (YYYY-MM-DD) nor a duration")
+    if x < 0:
+        raise ValueError(f"{shown(value)} is negative, not a duration")
+    return DurationWithUnit(value.strip())
 
 
 def parse_start_date(value: object) -> dt.date:
@@ -261,10 +303,18 @@ def parse_distribution(value: object) -> str:
 
 
 def parse_time_unit(value: object) -> str:
-    """``working days``, ``weeks`` (working weeks) or ``calendar days``."""
+    """``working days``, ``weeks`` (working weeks), ``calendar days`` or ``working hours``.
+
+    Examples
+    --------
+    >>> parse_time_unit("Working hours"), parse_time_unit("hrs"), parse_time_unit("days")
+    ('working hours', 'working hours', 'working days')
+    """
     u = TIME_UNITS.get(normalise(value))
     if u is None:
-        raise ValueError(f"{shown(value)} is not working days, weeks or calendar days")
+        raise ValueError(
+            f"{shown(value)} is not working days, weeks, calendar days or working hours"
+        )
     return u
 
 
@@ -286,3 +336,23 @@ def parse_default_range(value: object) -> str:
     if not isinstance(value, str):
         raise ValueError(f"{shown(value)} is not the name of a range class")
     return " ".join(value.split())
+
+
+def parse_hours_per_day(value: object) -> float:
+    """Working hours in one day: a number above 0 and at most 24.
+
+    Examples
+    --------
+    >>> parse_hours_per_day("7.5"), parse_hours_per_day(8)
+    (7.5, 8.0)
+    >>> parse_hours_per_day("0")
+    Traceback (most recent call last):
+    ...
+    ValueError: "0" is not a number of hours above 0 and at most 24
+    """
+    x = as_number(value)
+    if x is None or not 0.0 < x <= MOST_HOURS_PER_DAY:
+        raise ValueError(
+            f"{shown(value)} is not a number of hours above 0 and at most {MOST_HOURS_PER_DAY:g}"
+        )
+    return x

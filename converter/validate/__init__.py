@@ -79,11 +79,11 @@ def validate(
         place_activities(outline, rows.activities, out, match.sheet.name)
     book = LinkBook({a.id for a in rows.activities} | {s.id for s in summaries}, out)
     if "predecessors" in match.columns:
-        read_predecessor_column(book, rows.activities, rows.predecessor_cells, match)
+        read_predecessor_column(book, rows.activities, rows.predecessor_cells, match, settings)
         if outline is not None:
-            read_predecessor_column(book, summaries, outline.summary_cells, match)
+            read_predecessor_column(book, summaries, outline.summary_cells, match, settings)
     if raw.links is not None:
-        read_links_sheet(book, raw.links)
+        read_links_sheet(book, raw.links, settings)
     links = expand_summary_links(book.links, rows.activities, summaries, out)
     check_cycles(rows.activities, links, out)
     warn_unlinked(rows.activities, links, match, out)

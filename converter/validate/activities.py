@@ -11,7 +11,7 @@ import datetime as dt
 from dataclasses import dataclass, field
 
 from converter.model import Activity, Settings
-from converter.options import parse_distribution, parse_due
+from converter.options import DurationWithUnit, parse_distribution, parse_due, parse_duration
 from converter.read.sheets import (
     ACTIVITY_COLUMNS,
     REQUIRED_ACTIVITY,
@@ -24,7 +24,14 @@ from converter.read.sheets import (
 from converter.validate.problems import Collector
 from converter.validate.progress import read_progress
 from converter.validate.ranges import RangeBook, range_estimates, read_duration
-from converter.values import LARGEST_DURATION, id_text, is_blank, parse_number, shown
+from converter.validate.units import UNIT_FIX, as_converted, in_time_units
+from converter.values import (
+    LARGEST_DURATION,
+    UnitError,
+    id_text,
+    is_blank,
+    shown,
+)
 
 FIELD_TITLES = {
     "id": "ID",
@@ -259,7 +266,7 @@ def _estimates(row, cols, r, sheet, ident, settings: Settings, ranges: RangeBook
             ident,
             fix="Clear the O / M / P cells to use the range, or clear the Range.",
         )
-    return read_estimates(row, cols, r, sheet, ident, out), duration, None
+    return read_estimates(row, cols, r, sheet, ident, out, settings), duration, None
 
 
 def _target(
@@ -271,6 +278,11 @@ def _target(
     where = cell_name(r, cols["target"])
     try:
         target = parse_due(value)
+        if isinstance(target, DurationWithUnit):  # e.g. 3w, in the time unit
+            target = parse_duration(in_time_units(target.text, settings))
+    except UnitError as exc:
+        out.error("bad-unit", f"target: {exc}", sheet, where, ident, fix=UNIT_FIX)
+        return None
     except ValueError as exc:
         out.error("bad-target", f"target: {exc}", sheet, where, ident)
         return None
@@ -298,7 +310,7 @@ def _target(
 
 
 # --------------------------------------------------------------------------- estimates
-def _estimate_values(row, cols, r, sheet, ident, out: Collector) -> dict | None:
+def _estimate_values(row, cols, r, sheet, ident, out: Collector, settings=None) -> dict | None:
     """O, M, P cells as numbers (None where blank); None when one is not a valid number."""
     values: dict[str, float | None] = {}
     bad = False
@@ -313,7 +325,13 @@ def _estimate_values(row, cols, r, sheet, ident, out: Collector) -> dict | None:
             continue
         where = cell_name(r, c)
         try:
-            x = parse_number(raw)
+            x = in_time_units(raw, settings)
+        except UnitError as exc:
+            out.error(
+                "bad-unit", f"{FIELD_TITLES[key]} estimate {exc}", sheet, where, ident, fix=UNIT_FIX
+            )
+            bad = True
+            continue
         except ValueError as exc:
             dated = isinstance(raw, (dt.date, dt.time, dt.timedelta))
             out.error(
@@ -325,14 +343,14 @@ def _estimate_values(row, cols, r, sheet, ident, out: Collector) -> dict | None:
                 fix="Format the cell as a number, not a date or time, and type "
                 "the duration in time units."
                 if dated
-                else "Type a plain number of time units (no text or units).",
+                else "Type a number of time units, or a number with a unit (16h, 3d, 2w).",
             )
             bad = True
             continue
         if x < 0:
             out.error(
                 "negative-estimate",
-                f"{FIELD_TITLES[key]} estimate {shown(x)} is negative",
+                f"{FIELD_TITLES[key]} estimate {as_converted(raw, x, settings)} is negative",
                 sheet,
                 where,
                 ident,
@@ -342,7 +360,7 @@ def _estimate_values(row, cols, r, sheet, ident, out: Collector) -> dict | None:
         elif x > LARGEST_DURATION:
             out.error(
                 "too-large",
-                f"{FIELD_TITLES[key]} estimate {shown(x)} is more than "
+                f"{FIELD_TITLES[key]} estimate {as_converted(raw, x, settings)} is more than "
                 f"{LARGEST_DURATION:,.0f} time units, the longest duration pertbook "
                 "computes with",
                 sheet,
@@ -356,9 +374,10 @@ def _estimate_values(row, cols, r, sheet, ident, out: Collector) -> dict | None:
     return None if bad else values
 
 
-def read_estimates(row, cols, r, sheet, ident, out: Collector):
-    """(O, M, P, fixed) of one row, or None with its problems recorded."""
-    values = _estimate_values(row, cols, r, sheet, ident, out)
+def read_estimates(row, cols, r, sheet, ident, out: Collector, settings: Settings | None = None):
+    """(O, M, P, fixed) of one row in the schedule's time unit, or None with its problems
+    recorded. A cell may carry a unit (``16h``, ``3d``, ``2w``), converted with ``settings``."""
+    values = _estimate_values(row, cols, r, sheet, ident, out, settings)
     if values is None:
         return None
     o, m, p = values["optimistic"], values["most_likely"], values["pessimistic"]

@@ -80,11 +80,18 @@ def calendar_days_for(units: float, settings: Settings) -> int:
 
     >>> calendar_days_for(5, Settings())
     14
+
+    Forty working hours of 8 to the day are the same five working days:
+
+    >>> calendar_days_for(40, Settings(time_unit="working hours", hours_per_day=8))
+    14
     """
     if settings.time_unit == "calendar days":
         return math.ceil(units) + 1
     per_week = len(settings.working_days)
     steps = units * (per_week if settings.time_unit == "weeks" else 1)
+    if settings.time_unit == "working hours":  # the calendar's step: hours / hours per day
+        steps = units / settings.hours_per_day
     working = math.ceil(steps) + 1  # working day 1 is the start's own (or the next one)
     return 7 * math.ceil((working + len(settings.holidays)) / per_week)
 

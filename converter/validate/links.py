@@ -12,10 +12,11 @@ from collections.abc import Iterable
 
 import networkx as nx
 
-from converter.model import LINK_TYPES, Activity, Link
+from converter.model import LINK_TYPES, Activity, Link, Settings
 from converter.read.sheets import CellError, TableMatch, cell_name
 from converter.validate.problems import Collector
-from converter.values import LARGEST_LAG, id_text, is_blank, normalise, parse_number, shown
+from converter.validate.units import UNIT_FIX, as_converted, in_time_units
+from converter.values import LARGEST_LAG, UnitError, id_text, is_blank, normalise, shown
 
 LINK_TYPE_WORDS = {
     "fs": "FS",
@@ -34,24 +35,28 @@ LINK_TYPE_WORDS = {
 
 _SPEC = re.compile(
     r"^(?P<type>FS|SS|FF|SF)?(?P<lag>[+-](?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)"
-    r"(?:[eE][+-]?[0-9]+)?)?$",
+    r"(?:[eE][+-]?[0-9]+)?(?P<unit>[A-Za-z.]*))?$",
     re.IGNORECASE,
 )
 
 
 # --------------------------------------------------------------------------- notation
-def parse_link_token(token: str) -> tuple[str, str, float] | str:
+def parse_link_token(token: str, settings: Settings | None = None) -> tuple[str, str, float] | str:
     """``ID``, ``ID[+2]``, ``ID[SS]``, ``ID[SS+3]``, ``ID[FF-1]`` -> (id, type, lag).
 
     Returns an error message (str) when the bracket part cannot be read or its lag is
     beyond the largest lag (:data:`~converter.values.LARGEST_LAG`). Type and lag sit
     only inside the brackets, so IDs may contain ``+`` and ``-``. The ID is read by the
-    one rule for IDs (:func:`~converter.values.id_text`): ``1.0`` is ID ``1``.
+    one rule for IDs (:func:`~converter.values.id_text`): ``1.0`` is ID ``1``. The lag
+    may carry a unit (``A3[SS+2d]``, ``A3[+4h]``, ``A3[FF-1w]``), converted to the time
+    unit with ``settings`` (:mod:`converter.validate.units`).
 
     Examples
     --------
     >>> parse_link_token("A3[SS+2]"), parse_link_token("B-1"), parse_link_token("1.0[-1]")
     (('A3', 'SS', 2.0), ('B-1', 'FS', 0.0), ('1', 'FS', -1.0))
+    >>> parse_link_token("A3[+4h]"), parse_link_token("A3[FF-1w]")
+    (('A3', 'FS', 0.5), ('A3', 'FF', -5.0))
     """
     bracket = _bracket(token)
     if bracket is None:
@@ -63,12 +68,19 @@ def parse_link_token(token: str) -> tuple[str, str, float] | str:
     if not s or (s.group("type") is None and s.group("lag") is None and spec):
         return (
             f'"{_short(token)}": cannot read [{_short(spec)}]; write the link type FS, SS, '
-            "FF or SF and/or a lag such as +2 or -1, e.g. A3[SS+2]"
+            "FF or SF and/or a lag such as +2, -1 or +4h, e.g. A3[SS+2]"
         )
     kind = (s.group("type") or "FS").upper()
-    lag = float(s.group("lag")) if s.group("lag") else 0.0  # a plain number by _SPEC
+    try:  # a number with an optional unit by _SPEC
+        lag = in_time_units(s.group("lag"), settings) if s.group("lag") else 0.0
+    except UnitError as exc:
+        return f'"{_short(token)}": the lag {exc}. {UNIT_FIX}'
+    except ValueError:  # a plain number by _SPEC, so one too large to compute with
+        lag = math.inf
     if not abs(lag) <= LARGEST_LAG:
         size = _short(s.group("lag")) if math.isfinite(lag) else "too large a number"
+        if s.group("unit") and math.isfinite(lag):
+            size = as_converted(s.group("lag"), lag, settings)
         return (
             f'"{_short(token)}": the lag ({size}) is beyond {LARGEST_LAG:,.0f} time units '
             "either way, the longest lag or lead pertbook computes with"
@@ -136,9 +148,14 @@ class LinkBook:
 
 
 def read_predecessor_column(
-    book: LinkBook, activities: list[Activity], cells: list[tuple[int, object]], match: TableMatch
+    book: LinkBook,
+    activities: list[Activity],
+    cells: list[tuple[int, object]],
+    match: TableMatch,
+    settings: Settings | None = None,
 ) -> None:
-    """Links from the predecessor cell of each activity (``cells``: (row, value) each)."""
+    """Links from the predecessor cell of each activity (``cells``: (row, value) each);
+    lags written with a unit are converted with ``settings``."""
     sheet, cols = match.sheet.name, match.columns
     pc = cols["predecessors"]
     id_column = cell_name(0, cols["id"])[:-1]
@@ -147,7 +164,7 @@ def read_predecessor_column(
             continue
         cell = cell_name(r, pc)
         for token in split_predecessors(value):
-            parsed = parse_link_token(token)
+            parsed = parse_link_token(token, settings)
             if isinstance(parsed, str):
                 book.out.error("bad-link", parsed, sheet, cell, act.id)
                 continue
@@ -187,8 +204,9 @@ def _hint(pred: str, ids: Iterable[str]) -> str:
     return " Add it to the ID column or correct the spelling."
 
 
-def read_links_sheet(book: LinkBook, match: TableMatch) -> None:
-    """Links from a sheet of Predecessor / Successor / Type / Lag rows."""
+def read_links_sheet(book: LinkBook, match: TableMatch, settings: Settings | None = None) -> None:
+    """Links from a sheet of Predecessor / Successor / Type / Lag rows (a lag may carry a
+    unit, ``2d`` or ``-4h``, converted with ``settings``)."""
     for r in range(match.header_row + 1, len(match.sheet.rows)):
         row = match.sheet.rows[r]
         vals = {k: (row[c] if c < len(row) else None) for k, c in match.columns.items()}
@@ -196,12 +214,12 @@ def read_links_sheet(book: LinkBook, match: TableMatch) -> None:
             continue
         if any(isinstance(v, CellError) for v in vals.values()):
             continue  # the reader's error-value names the cell; the row is not guessed at
-        link = _link_row(book, match, r, vals)
+        link = _link_row(book, match, r, vals, settings)
         if link is not None:
             book.add(*link, match.sheet.name, cell_name(r, match.columns["pred"]))
 
 
-def _link_row(book: LinkBook, match: TableMatch, r: int, vals: dict):
+def _link_row(book: LinkBook, match: TableMatch, r: int, vals: dict, settings=None):
     """(pred, succ, type, lag) of one links-sheet row, or None with its problems recorded."""
     sheet, cols, out = match.sheet.name, match.columns, book.out
     pred = None if is_blank(vals.get("pred")) else id_text(vals["pred"])
@@ -244,7 +262,10 @@ def _link_row(book: LinkBook, match: TableMatch, r: int, vals: dict):
     if "lag" in cols and not is_blank(vals.get("lag")):
         lag_cell = cell_name(r, cols["lag"])
         try:
-            lag = parse_number(vals["lag"])
+            lag = in_time_units(vals["lag"], settings)
+        except UnitError as exc:
+            out.error("bad-unit", f"lag {exc}", sheet, lag_cell, succ, fix=UNIT_FIX)
+            ok = False
         except ValueError as exc:
             out.error("bad-link", f"lag {exc}", sheet, lag_cell, succ)
             ok = False
@@ -252,7 +273,8 @@ def _link_row(book: LinkBook, match: TableMatch, r: int, vals: dict):
             if abs(lag) > LARGEST_LAG:
                 out.error(
                     "too-large",
-                    f"lag {shown(lag)} is beyond {LARGEST_LAG:,.0f} time units "
+                    f"lag {as_converted(vals['lag'], lag, settings)} is beyond "
+                    f"{LARGEST_LAG:,.0f} time units "
                     "either way, the longest lag or lead pertbook computes with",
                     sheet,
                     lag_cell,

@@ -27,6 +27,7 @@ SETTING_LABELS: dict[str, tuple[str, ...]] = {
     "paths": ("paths", "near critical paths", "paths to list", "path count"),
     "default_range": ("default range", "default range class", "default uncertainty"),
     "status_date": ("status date", "data date", "progress date", "as of"),
+    "hours_per_day": ("hours per day", "working hours per day", "hours a day", "day length"),
 }
 _SETTING_ALIASES = {normalise(a): k for k, v in SETTING_LABELS.items() for a in v}
 #: Labels of a header row above the settings (not settings themselves).

@@ -119,7 +119,7 @@ RANGES_NOTE = (
 MOST_LIKELY_RULE = "AND(ISNUMBER({m}),{m}>=0,OR(ISBLANK({o}),{m}>={o}),OR(ISBLANK({p}),{m}<={p}))"
 PESSIMISTIC_RULE = "AND(ISNUMBER({p}),{p}>=0,OR(ISBLANK({o}),{p}>={o}),OR(ISBLANK({m}),{p}>={m}))"
 
-TIME_UNITS = ("working days", "weeks", "calendar days")
+TIME_UNITS = ("working days", "weeks", "calendar days", "working hours")
 
 INSTRUCTIONS: tuple[tuple[str, str], ...] = (
     ("title", "How to fill in this workbook"),
@@ -149,6 +149,7 @@ INSTRUCTIONS: tuple[tuple[str, str], ...] = (
     ("code", "A3[SS+3]    start-to-start, three units after A3 starts"),
     ("code", "A3[FF-1]    finish-to-finish, finishing no earlier than one unit before A3 finishes"),
     ("code", "A3[SF]      start-to-finish: finishes no earlier than A3 starts"),
+    ("code", "A3[SS+4h]   a lag with a unit: h hours, d days, w weeks (A3[+2d], A3[FF-1w])"),
     (
         "text",
         "IDs may contain + and - (for example PH1-04 or C+2): only the part in square "
@@ -208,12 +209,18 @@ def _settings_rows() -> list[tuple[str, object, str]]:
         (
             "Time unit",
             defaults.time_unit,
-            "Unit of every estimate and lag: working days, weeks or calendar days.",
+            "Unit of every estimate and lag: working days, weeks, calendar days or working hours.",
         ),
         (
             "Working days",
             "Mon-Fri",
             "Days of the week that are worked, e.g. Mon-Fri, Mon-Sat or Sun-Thu.",
+        ),
+        (
+            "Hours per day",
+            defaults.hours_per_day,
+            "Working hours in one day (above 0, at most 24): converts a lag such as A3[+4h] "
+            "and dates a schedule in working hours.",
         ),
         ("Due date", None, "Optional: a date, or a number of time units from the start."),
         ("Iterations", DEFAULT_ITERATIONS, "Number of Monte Carlo iterations."),
@@ -365,6 +372,13 @@ def _settings_rules(ws, row_of: dict[str, int], holidays: int) -> None:
             "error_message": "Enter a date or a number of time units, 0 or more.",
         },
         "Time unit": {"validate": "list", "source": list(TIME_UNITS)},
+        "Hours per day": {
+            "validate": "decimal",
+            "criteria": "between",
+            "minimum": 0.01,
+            "maximum": 24,
+            "error_message": "Enter a number of hours above 0 and at most 24.",
+        },
         "Distribution": {"validate": "list", "source": list(DISTRIBUTIONS)},
         "Iterations": _whole_number(1, 10_000_000, "from 1 to 10,000,000"),
         "Seed": {

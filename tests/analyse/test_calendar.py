@@ -338,6 +338,9 @@ CALENDARS = [
     Calendar(D(2025, 3, 2), unit="weeks", holidays=(D(2025, 3, 3),)),
     Calendar(D(2025, 3, 1), unit="calendar days"),
     Calendar(D(2025, 3, 7), working_days=(6, 0, 1, 2, 3)),
+    # working hours (issue 11): 8 and 7.5 hours a day, the offsets below read as hours
+    Calendar(D(2026, 12, 30), "working hours", holidays=(D(2027, 1, 1),), hours_per_day=8),
+    Calendar(D(2025, 3, 1), "working hours", working_days=(0, 1, 2, 3), hours_per_day=7.5),
 ]
 
 

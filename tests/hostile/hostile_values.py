@@ -326,7 +326,7 @@ LINKS = [
                 "T1[+2",
                 "T1[+2][SS]",
                 "[SS]",
-                "T1[FS+2d]",
+                "T1[FS+2mo]",  # months refused; "T1[FS+2d]" is read (issue 11)
                 "T1[SS+1+1]",
                 "T1[SS+-1]",
             ],

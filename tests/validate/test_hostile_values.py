@@ -232,28 +232,29 @@ def test_what_validation_accepts_analyses_without_a_warning(tmp_path, name):
 
 # --------------------------------------------------------------------------- numbers
 @pytest.mark.parametrize(
-    "text",
+    "text, code",
     [
-        "1_0",
-        "inf",
-        "-Infinity",
-        "1,5",
-        "1 000",
-        "0x10",
-        "\uff11\uff12",
-        "\u0661\u0662",
-        "1e",
-        "--1",
-        "5 days",
+        ("1_0", "not-a-number"),
+        ("inf", "not-a-number"),
+        ("-Infinity", "not-a-number"),
+        ("1,5", "not-a-number"),
+        ("1 000", "not-a-number"),
+        ("0x10", "not-a-number"),
+        ("\uff11\uff12", "not-a-number"),
+        ("\u0661\u0662", "not-a-number"),
+        ("1e", "bad-unit"),  # 1 with the unit "e", which is no unit pertbook reads
+        ("--1", "not-a-number"),
+        ("5 dayz", "bad-unit"),  # "5 days" is read (tests/validate/test_units.py)
     ],
 )
-def test_estimates_must_be_plain_numbers(tmp_path, text):
+def test_estimates_must_be_plain_numbers(tmp_path, text, code):
     # Python's float() reads "1_0" as 10, "inf", and digits of other scripts (Python
-    # documentation, "float"); a cell must hold a plain decimal number. ("nan" is read
-    # as blank by the reader today; parse_number refuses it, tests/validate/test_values.py.)
+    # documentation, "float"); a cell must hold a plain decimal number, or one with a unit
+    # pertbook reads. ("nan" is read as blank by the reader today; parse_number refuses it,
+    # tests/validate/test_values.py.)
     path = two_rows(tmp_path / "n.xlsx", ["B", "b", "A", text, 20, 30])
     _, problems = run(path)
-    assert errors(problems) == {("not-a-number", "Activities", "D3", "B")}
+    assert errors(problems) == {(code, "Activities", "D3", "B")}
     (p,) = problems
     assert f'"{text}"' in p.message
 

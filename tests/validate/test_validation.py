@@ -85,7 +85,7 @@ SINGLE = [
     ("missing-link", ["B", "b", "Q7", 1, 2, 3], "C3", "B"),
     ("self-link", ["B", "b", "B", 1, 2, 3], "C3", "B"),
     ("not-a-number", ["B", "b", "A", 1, "two", 3], "E3", "B"),
-    ("not-a-number", ["B", "b", "A", "1 day", 2, 3], "D3", "B"),
+    ("not-a-number", ["B", "b", "A", "one day", 2, 3], "D3", "B"),
     ("negative-estimate", ["B", "b", "A", 1, 2, -3], "F3", "B"),
     ("order", ["B", "b", "A", 5, 2, 9], "E3", "B"),  # M < O: the M cell
     ("order", ["B", "b", "A", 1, 6, 4], "F3", "B"),  # P < M: the P cell

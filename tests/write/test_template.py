@@ -75,6 +75,7 @@ def test_settings_defaults():
     values = {r[0].value: r[1].value for r in ws.iter_rows(min_row=2) if r[0].value}
     assert values == {
         "Start date": None, "Time unit": "working days", "Working days": "Mon-Fri",
+        "Hours per day": 8,
         "Due date": None, "Iterations": 10000, "Seed": 20240611, "Distribution": "pert",
         "Correlation": 0, "Confidence levels": "50%, 80%, 90%, 95%", "Paths": 10,
         "Default range": None, "Holidays": None,
@@ -82,7 +83,7 @@ def test_settings_defaults():
     assert all(r[2].value for r in ws.iter_rows(min_row=2) if r[0].value)  # every row noted
     dvs = _validations(ws)
     unit = next(dv for dv in dvs.values() if dv.type == "list" and "weeks" in dv.formula1)
-    assert unit.formula1 == '"working days,weeks,calendar days"'
+    assert unit.formula1 == '"working days,weeks,calendar days,working hours"'
     text = " ".join(str(c.value) for c in wb["Instructions"]["A"] if c.value)
     for token in ("A3[+2]", "A3[-1]", "A3[SS]", "A3[SS+3]", "A3[FF-1]", "A3[SF]", "Links"):
         assert token in text

@@ -191,21 +191,26 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
         if dates is not None:
             _write_dates(ws, fmt, lay, c, r, i, cal, dates, holidays)
         if sim is not None:
-            ws.write_number(r, c["criticality"], float(sim.criticality[i]), fmt.prob)
-            s = float(sim.sensitivity[i])
-            if math.isnan(s):
-                ws.write_string(r, c["sensitivity"], "n/a (fixed)", fmt.text_right)
-            else:
-                ws.write_number(r, c["sensitivity"], s, fmt.num4)
+            _write_simulated(ws, fmt, c, r, sim, i)
+        if lay.not_before or lay.status:
+            progress_cols.write_progress_cells(ws, fmt, a, lay, r, i)
     if a.summaries is not None:
         from converter.write.workbook.summary_rows import write_summary_rows
 
         write_summary_rows(wb, ws, a, lay, WIDTHS)
-        if lay.not_before or lay.status:
-            progress_cols.write_progress_cells(ws, fmt, a, lay, r, i)
     ws.autofilter(FIRST - 1, 0, lay.last_row, max(c.values()))
     bands = [c[k] for k in ("tf", "criticality") if k in c]  # float and dates, simulated
     pages.set_up(ws, header_rows=(FIRST - 1, FIRST - 1), title_cols=(0, 1), bands=bands)
+
+
+def _write_simulated(ws, fmt, c, r: int, sim, i: int) -> None:
+    """Activity ``i``'s simulated criticality index and sensitivity (values of the run)."""
+    ws.write_number(r, c["criticality"], float(sim.criticality[i]), fmt.prob)
+    s = float(sim.sensitivity[i])
+    if math.isnan(s):
+        ws.write_string(r, c["sensitivity"], "n/a (fixed)", fmt.text_right)
+    else:
+        ws.write_number(r, c["sensitivity"], s, fmt.num4)
 
 
 def _name_formats(wb, fmt, a) -> list:

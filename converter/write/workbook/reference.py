@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import datetime as dt
 
+from converter.analyse.calendar import conversion_words
 from converter.model import LINK_TYPES
 from converter.write.workbook import formulas as f
 from converter.write.workbook import pages, progress_cols, rows
@@ -39,6 +40,7 @@ def write_settings(wb, fmt, a, lay: Layout) -> None:
         ("start_date", "Start date", st.start_date),
         ("time_unit", "Time unit", st.time_unit),
         ("working_days", "Working days", _weekdays(st.working_days)),
+        ("hours_per_day", "Hours per day", st.hours_per_day),
         ("due", "Due", st.due),
         ("iterations", "Iterations", st.iterations),
         ("seed", "Seed", st.seed),
@@ -179,7 +181,10 @@ METHOD_TEXT = [
         "which the work before it is finished (the first working day for a milestone at the "
         "start). Dates are WORKDAY.INTL formulas with "
         "the weekend code and the holiday list on the Settings used sheet. Weeks count as working "
-        "weeks; calendar days ignore weekends and holidays.",
+        "weeks; calendar days ignore weekends and holidays. In working hours a working day "
+        "holds Hours per day hours (Settings used) and dates show the day, not the hour: work "
+        "at hour offset t falls on working day INT(t / hours per day) + 1, a finish at the end "
+        "of hour t on working day ROUNDUP(t / hours per day).",
     ),
     (
         "Assumptions",
@@ -216,6 +221,19 @@ def _method_text(a) -> list[tuple[str, str | None]]:
 METHOD_WIDTHS = (22, 84)
 
 
+def units_text(settings) -> str:
+    """The Method sheet's note on durations and lags written with a unit: the factors used."""
+    words = conversion_words(settings.time_unit, settings.hours_per_day, len(settings.working_days))
+    return (
+        "An estimate, target or lag may be typed with a unit: hours (16h, 4 hrs), days (3d, "
+        "3 days) or weeks (2w, 1.5 wks, 2 weeks); a bare number is in the schedule's time "
+        f"unit. Factors used, {words}. A day is one day of the schedule's calendar, a week "
+        "its working days (7 days for calendar days). The Activities and Links sheets show "
+        "the converted numbers the formulas use; Input as read keeps the text as typed. "
+        "Months and years are refused: the working time in them varies."
+    )
+
+
 def write_method(wb, fmt, a, lay: Layout) -> None:
     ws = wb.add_worksheet(METHOD)
     label_width, text_width = METHOD_WIDTHS
@@ -226,6 +244,8 @@ def write_method(wb, fmt, a, lay: Layout) -> None:
         items.insert(
             next(k for k, (lb, _) in enumerate(items) if lb == "Assumptions"), SUMMARY_METHOD
         )
+    at = next(k for k, (label, _) in enumerate(items) if label == "Calendar") + 1
+    items.insert(at, ("Units", units_text(a.schedule.settings)))
     items = items[:-2] + progress_cols.method_rows(a) + items[-2:]
     for r, (label, text) in enumerate(items):
         if text is None:

@@ -58,6 +58,10 @@ def reproduce_command(a) -> str:
         parts.append(f"--due {due}")
     if "default_range" in given and st.default_range is not None:  # it makes estimates
         parts.append(f'--default-range "{printable(st.default_range)}"')
+    if "time_unit" in given:  # the unit the durations were converted to
+        parts.append(f'--time-unit "{st.time_unit}"')
+    if "hours_per_day" in given:
+        parts.append(f"--hours-per-day {st.hours_per_day!r}")
     return " ".join(parts)
 
 
