@@ -90,3 +90,27 @@ def per_link_text(net: Network) -> str:
         f"counted per link: {net.link_count} links between {pairs} pairs of activities "
         "(a pair linked twice, e.g. SS and FF, counts as two links)"
     )
+
+
+def route_text(ids: list[str], net: Network, activities: list[int], links: list[int]) -> str:
+    """A path as people read it, ``A > B > C``; where the path leaves a pair that has
+    more than one link, the link taken follows the ID in the bracket notation of the
+    input (``A[SS+2] > B``), so two paths through a ladder read differently.
+
+    Examples
+    --------
+    >>> from converter.analyse.network import build_network
+    >>> from converter.model import FF, SS
+    >>> net = build_network(3, [0, 0, 1], [1, 1, 2], [SS, FF, 0], [2.0, 3.0, 0.0])
+    >>> route_text(["A", "B", "C"], net, [0, 1, 2], [1, 2])
+    'A[FF+3] > B > C'
+    """
+    shared = shared_pair(net)
+    parts = []
+    for step, act in enumerate(activities):
+        text = ids[act]
+        if step < len(links) and shared[links[step]]:
+            k = links[step]
+            text += f"[{type_and_lag(net.kind[k], net.lag[k])}]"
+        parts.append(text)
+    return " > ".join(parts)

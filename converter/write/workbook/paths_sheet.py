@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from converter.analyse.ladders import route_text
 from converter.model import LINK_TYPES
 from converter.write.workbook import formulas as f
 from converter.write.workbook import pages
@@ -143,7 +144,7 @@ def _write_path_row(ws, fmt, a, n: int, pr, first: int, last: int, riskier: bool
     else:  # over the z, chance and riskier columns
         ws.merge_range(row, 4, row, 6, "no due date", fmt.center)
     ws.write_number(row, 7, len(path.activities), fmt.int_center)
-    route = " > ".join(a.ids[i] for i in path.activities)[:32000]
+    route = route_text(a.ids, a.net, path.activities, path.links)[:32000]
     ws.write_string(row, 8, route, fmt.wrap)
     flag_text = "YES: lower chance than the critical path" if riskier else ""
     fit_row(ws, row, [(route, WIDTHS[8]), (flag_text, WIDTHS[6] - 1.0, 10.0, True)])
