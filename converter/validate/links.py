@@ -148,10 +148,14 @@ class LinkBook:
                 fix=f"Delete the copy at {here}.",
             )
             return
+        places = (
+            f"{_signed(first.lag)} and {_signed(lag)}, both at {here}"
+            if there == here
+            else f"{_signed(first.lag)} at {there} and {_signed(lag)} at {here}"
+        )
         self.out.error(
             "conflicting-lags",
-            f"the {kind} link {pred} -> {succ} is given twice with different lags: "
-            f"{_signed(first.lag)} at {there} and {_signed(lag)} at {here}",
+            f"the {kind} link {pred} -> {succ} is given twice with different lags: {places}",
             sheet,
             cell,
             succ,
