@@ -3,9 +3,8 @@
 Each check counts offenders against a threshold and says why a reviewer should care.
 ``Check.activities`` lists offending activity IDs in sheet order; for checks on links
 (leads, lags, link types, redundant links) it lists links as ``"PRED->SUCC"`` in link
-order (``"PRED->SUCC [SS+2]"`` where a pair has more than one link, a ladder; see
-:mod:`converter.analyse.ladders`). Link checks count links, not pairs: a pair linked by SS
-and FF counts as two links. ``Check.count`` is always ``len(Check.activities)``;
+order (``"PRED->SUCC [SS+2]"`` where a pair has more than one link, counted one by one:
+:mod:`converter.analyse.ladders`). ``Check.count`` is ``len(Check.activities)``;
 ``Check.percent`` is the count as a percentage of the check's base (activities or links),
 None where the check is an absolute count or the base is empty.
 
@@ -266,16 +265,9 @@ def _missing_logic(ids: list[str], net: Network, cpm: CpmResult) -> Check:
 def _link_checks(ids: list[str], net: Network) -> list[Check]:
     m = net.link_count
     per_link = per_link_text(net)
-    type_counts = "; ".join(
-        x
-        for x in (
-            ", ".join(
-                f"{name} {int(np.sum(net.kind == code))}" for code, name in enumerate(LINK_TYPES)
-            ),
-            per_link,
-        )
-        if x
-    )
+    type_counts = ", ".join(
+        f"{name} {int(np.sum(net.kind == code))}" for code, name in enumerate(LINK_TYPES)
+    ) + (f"; {per_link}" if per_link else "")
     return [
         Check(
             key="leads",
