@@ -92,10 +92,17 @@ def per_link_text(net: Network) -> str:
     )
 
 
-def route_text(ids: list[str], net: Network, activities: list[int], links: list[int]) -> str:
+def route_text(
+    ids: list[str],
+    net: Network,
+    activities: list[int],
+    links: list[int],
+    shared: np.ndarray | None = None,
+) -> str:
     """A path as people read it, ``A > B > C``; where the path leaves a pair that has
     more than one link, the link taken follows the ID in the bracket notation of the
-    input (``A[SS+2] > B``), so two paths through a ladder read differently.
+    input (``A[SS+2] > B``), so two paths through a ladder read differently. ``shared``
+    is :func:`shared_pair` of ``net`` when the caller has it already (many paths).
 
     Examples
     --------
@@ -105,7 +112,7 @@ def route_text(ids: list[str], net: Network, activities: list[int], links: list[
     >>> route_text(["A", "B", "C"], net, [0, 1, 2], [1, 2])
     'A[FF+3] > B > C'
     """
-    shared = shared_pair(net)
+    shared = shared_pair(net) if shared is None else shared
     parts = []
     for step, act in enumerate(activities):
         text = ids[act]
