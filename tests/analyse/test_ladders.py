@@ -118,7 +118,8 @@ def test_hand_worked_ladder_near_critical_paths():
 
 def test_hand_worked_ladder_health_checks_count_links_not_pairs():
     # 5 links between 4 pairs: the link-type check counts both ladder links (2 of 5 = 40%),
-    # the lag check the three lagged links (common practice: DCMA counts relationships)
+    # the lag check the three lagged links (issue 11: count links, not pairs; DCMA 2012 counts
+    # relationships, from memory)
     net = hand_net()
     ids = ["A", "B", "C", "D"]
     r = schedule(net, HAND_D)
