@@ -3,9 +3,10 @@
 Each check counts offenders against a threshold and says why a reviewer should care.
 ``Check.activities`` lists offending activity IDs in sheet order; for checks on links
 (leads, lags, link types, redundant links) it lists links as ``"PRED->SUCC"`` in link
-order. ``Check.count`` is always ``len(Check.activities)``; ``Check.percent`` is the
-count as a percentage of the check's base (activities or links), None where the check
-is an absolute count or the base is empty.
+order (``"PRED->SUCC [SS+2]"`` where a pair has more than one link, counted one by one:
+:mod:`converter.analyse.ladders`). ``Check.count`` is ``len(Check.activities)``;
+``Check.percent`` is the count as a percentage of the check's base (activities or links),
+None where the check is an absolute count or the base is empty.
 
 The project start is the first activity in sheet order without predecessors; the
 project end is the activity without successors that finishes last (early finish; on a
@@ -27,6 +28,8 @@ from typing import Literal
 import networkx as nx
 import numpy as np
 
+from converter.analyse.ladders import link_names as _link_names
+from converter.analyse.ladders import per_link_text
 from converter.analyse.network import CpmResult, Network, critical_tolerance
 from converter.analyse.redundant import redundant_links
 from converter.model import FS, LINK_TYPES
@@ -217,10 +220,6 @@ def project_ends(net: Network, cpm: CpmResult) -> tuple[int | None, int | None]:
     return start, end
 
 
-def _link_names(ids: list[str], net: Network, mask: np.ndarray) -> list[str]:
-    return [f"{ids[p]}->{ids[s]}" for p, s in zip(net.pred[mask], net.succ[mask], strict=True)]
-
-
 def _days_text(days_per_unit: float) -> str:
     if days_per_unit == 1.0:
         return f"{LONG_DAYS:g} working days"
@@ -265,9 +264,10 @@ def _missing_logic(ids: list[str], net: Network, cpm: CpmResult) -> Check:
 
 def _link_checks(ids: list[str], net: Network) -> list[Check]:
     m = net.link_count
+    per_link = per_link_text(net)
     type_counts = ", ".join(
         f"{name} {int(np.sum(net.kind == code))}" for code, name in enumerate(LINK_TYPES)
-    )
+    ) + (f"; {per_link}" if per_link else "")
     return [
         Check(
             key="leads",
@@ -279,6 +279,7 @@ def _link_checks(ids: list[str], net: Network) -> list[Check]:
             matters="A lead lets a successor start before its predecessor's work is done, "
             "which hides overlap assumptions and can squeeze the critical path.",
             cited=_dcma(2, "leads", 2, SEQUENCING),
+            detail=per_link,
         ),
         Check(
             key="lags",
@@ -290,6 +291,7 @@ def _link_checks(ids: list[str], net: Network) -> list[Check]:
             matters="A lag is waiting time nobody is doing or estimating; it often hides "
             "work that should be an activity with its own range.",
             cited=_dcma(3, "lags", 2, SEQUENCING),
+            detail=per_link,
         ),
         Check(
             key="link_types",

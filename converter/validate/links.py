@@ -1,7 +1,8 @@
 """Links: predecessor tokens (``A3[SS+2]``), the predecessor column, a links sheet, cycles.
 
-Every link found is checked (it names an activity, not itself, not twice) and the
-network as a whole must have no cycle; each problem names the cell the link came from.
+Every link found is checked (it names an activity, not itself; a pair linked twice by
+one type is a repeat or a conflict, see :class:`LinkBook`) and the network as a whole must
+have no cycle; each problem names the cell the link came from.
 """
 
 from __future__ import annotations
@@ -123,28 +124,72 @@ def split_predecessors(value: object) -> list[str]:
 
 # --------------------------------------------------------------------------- collecting
 class LinkBook:
-    """The links found so far; a link given twice is a problem naming both places."""
+    """The links found so far, and the rule for a pair of activities linked more than once.
+
+    Links of different types between one pair (a ladder: ``B[SS+2]`` with ``B[FF+3]``) are
+    all kept. The very same link (pair, type and lag) given again is a warning naming
+    both places and is kept once; the same pair and type with another lag is an error
+    naming both places.
+    """
 
     def __init__(self, ids: set[str], out: Collector):
         self.ids = ids
         self.out = out
         self.links: list[Link] = []
-        self._seen: dict[tuple[str, str], str] = {}
+        self._seen: dict[tuple[str, str, str], Link] = {}
 
     def add(self, pred: str, succ: str, kind: str, lag: float, sheet: str, cell: str) -> None:
-        key = (pred, succ)
-        if key in self._seen:
-            self.out.error(
-                "duplicate-link",
-                f"the link {pred} -> {succ} is given twice (also at {self._seen[key]})",
+        """Keep the link ``pred -> succ`` unless an equal or conflicting one came first."""
+        first = self._seen.get((pred, succ, kind))
+        if first is None:
+            link = Link(pred, succ, kind, lag, sheet, cell)
+            self._seen[(pred, succ, kind)] = link
+            self.links.append(link)
+            return
+        here = f"{sheet}!{cell}"
+        there = f"{first.sheet}!{first.cell}"
+        if first.lag == lag:
+            place = "again in the same cell" if there == here else f"first at {there}"
+            self.out.warn(
+                "repeated-link",
+                f"the {type_and_lag(kind, lag)} link {pred} -> {succ} is given twice "
+                f"({place}); it is counted once",
                 sheet,
                 cell,
                 succ,
-                fix="Keep one of the two.",
+                fix=f"Delete the copy at {here}.",
             )
             return
-        self._seen[key] = f"{sheet}!{cell}"
-        self.links.append(Link(pred, succ, kind, lag, sheet, cell))
+        places = (
+            f"{_signed(first.lag)} and {_signed(lag)}, both at {here}"
+            if there == here
+            else f"{_signed(first.lag)} at {there} and {_signed(lag)} at {here}"
+        )
+        self.out.error(
+            "conflicting-lags",
+            f"the {kind} link {pred} -> {succ} is given twice with different lags: {places}",
+            sheet,
+            cell,
+            succ,
+            fix=f"Keep one lag for the {kind} link; two links between one pair need "
+            "different types (e.g. SS with a lag and FF with a lag).",
+        )
+
+
+def type_and_lag(kind: str, lag: float) -> str:
+    """A link's type with its lag, as people write it: ``FS``, ``SS+2``, ``FF-1.5``.
+
+    Examples
+    --------
+    >>> type_and_lag("FS", 0.0), type_and_lag("SS", 2.0), type_and_lag("FF", -1.5)
+    ('FS', 'SS+2', 'FF-1.5')
+    """
+    return kind + (_signed(lag) if lag else "")
+
+
+def _signed(lag: float) -> str:
+    """A lag with its sign, every digit it has (``+2``, ``-1.5``, ``+0.30000000000000004``)."""
+    return ("+" if lag >= 0 else "") + shown(float(lag))
 
 
 def read_predecessor_column(

@@ -66,6 +66,7 @@ def build_json(path: Path, problems, analysis, sha256: str | None) -> dict:
             "sd": _num(pr.path.sd),
             "z": _num(pr.z),
             "p_meet_due": _num(pr.p_meet_due),
+            "links": [int(k) for k in pr.path.links],
         }
         for pr in a.paths
     ]

@@ -13,9 +13,10 @@ Expected outcomes come from the project's issue and README:
   analysis computes must stay inside that calendar;
 - IDs: one normalisation wherever an ID appears (issue: ``1``, ``1.0`` and ``'1'`` are one
   ID; a date-time ID reads the same as ID and as predecessor); text keeps leading zeros;
-- links: the README's bracket notation (``A3[SS+3]``), a link given twice, a cycle, a
-  link to itself and an unknown ID are problems naming the cell; SS and FF links between
-  the same two activities are a valid pair in precedence diagramming (Fondahl 1961);
+- links: the README's bracket notation (``A3[SS+3]``), a cycle, a link to itself and an
+  unknown ID are problems naming the cell; the very same link twice is a warning, one type
+  twice with two lags an error (issue 11); SS and FF links between the same two
+  activities are a valid pair in precedence diagramming (Fondahl 1961);
 - settings: README's settings table (values and their ranges); repeated labels are a
   warning naming both cells (issue).
 
@@ -333,15 +334,46 @@ LINKS = [
             start=1,
         )
     ],
-    bad_link("repeated", "T1, T1"),
-    invalid(
+    # issue 11: the very same link twice is a warning naming the second place (and the
+    # first), counted once; the same pair and type with another lag is an error
+    valid(
+        "link-repeated",
+        "plan.xlsx",
+        book(replaced(3, 2, "T1, T1")),
+        {"T2": {"es": BASE_TE["T1"]}},
+        places=("Plan!C3", "given twice"),
+    ),
+    valid(
         "link-repeated-on-links-sheet",
         "plan.xlsx",
         links(["T1", "T2", "FS", 0], ["T1", "T2", "FS", 0]),
-        "Links!A3",
+        {"T2": {"es": BASE_TE["T1"]}},
+        places=("Links!A3", "Links!A2"),
     ),
-    # one link per pair of activities: SS and FF together are refused as a repeated link
-    bad_link("ss-and-ff-same-pair", "T1[SS], T1[FF]"),
+    invalid(
+        "link-same-type-two-lags",
+        "plan.xlsx",
+        book(replaced(3, 2, "T1[SS+1], T1[SS+2]")),
+        "Plan!C3",
+        "T2",
+        "+1",
+        "+2",
+    ),
+    invalid(
+        "link-same-type-two-lags-on-links-sheet",
+        "plan.xlsx",
+        links(["T1", "T2", "FF", 1], ["T2", "T3", "FS", 0], ["T1", "T2", "FF", 2]),
+        "Links!A2",
+        "Links!A4",
+    ),
+    # a ladder (SS and FF between one pair; Fondahl 1961): both links hold. By hand:
+    # SS+0 gives ES_T2 >= 0; FF+0 gives EF_T2 >= EF_T1, ES_T2 >= 19/6 - 13/6 = 1.
+    valid(
+        "link-ss-and-ff-same-pair",
+        "plan.xlsx",
+        book(replaced(3, 2, "T1[SS], T1[FF]")),
+        {"T2": {"es": 1.0}},
+    ),
     valid(
         "link-empty-brackets",
         "plan.xlsx",

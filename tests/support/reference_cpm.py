@@ -109,3 +109,44 @@ def reference_status_cpm(
     to_end = nx.single_source_bellman_ford_path_length(rev, "end", weight="weight")
     lf = np.array([finish + to_end[F[i]] for i in range(n)])
     return es, ef, lf, finish
+
+
+def reference_cpm_expanded(
+    n, pred, succ, kinds, lags, d
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, float]:
+    """``(ES, EF, LS, LF, finish)`` from a second, differently built longest-path model.
+
+    Every activity i becomes two nodes, its start ``("S", i)`` and finish ``("F", i)``,
+    held exactly ``d_i`` apart by an edge S -> F of weight ``d_i`` and an edge F -> S of
+    weight ``-d_i`` (a zero-weight cycle, so Bellman-Ford rather than a DAG routine).
+    Each link is its own edge of a ``networkx.MultiDiGraph`` from the end of the
+    predecessor its type reads (FS, FF: finish; SS, SF: start) to the end of the successor
+    it bounds (FS, SS: start; FF, SF: finish), weighted by its lag; two links between one
+    pair (a ladder, or any number of them) are simply parallel or separate edges. An origin
+    with a zero edge to every start gives ES >= 0. Early times are the longest paths from
+    the origin (Kelley 1961), late times ``finish`` minus the longest paths to a sink fed
+    by every finish, both by ``networkx.single_source_bellman_ford_path_length`` on negated
+    weights (for parallel edges networkx takes the least negated weight: the binding link).
+    """
+    start_end = {0: "F", 1: "S", 2: "F", 3: "S"}  # the predecessor's end each type reads
+    bound_end = {0: "S", 1: "S", 2: "F", 3: "F"}  # the successor's end each type bounds
+    g = nx.MultiDiGraph()
+    for i in range(n):
+        g.add_edge("origin", ("S", i), weight=0.0)
+        g.add_edge(("S", i), ("F", i), weight=float(d[i]))
+        g.add_edge(("F", i), ("S", i), weight=-float(d[i]))
+        g.add_edge(("F", i), "sink", weight=0.0)
+    for p, s, k, lag in zip(pred, succ, kinds, lags):
+        g.add_edge((start_end[int(k)], p), (bound_end[int(k)], s), weight=float(lag))
+    neg = nx.MultiDiGraph()
+    neg.add_weighted_edges_from((u, v, -w) for u, v, w in g.edges(data="weight"))
+    early = nx.single_source_bellman_ford_path_length(neg, "origin", weight="weight")
+    es = np.array([-early[("S", i)] for i in range(n)])
+    ef = np.array([-early[("F", i)] for i in range(n)])
+    finish = float(ef.max()) if n else 0.0
+    to_sink = nx.single_source_bellman_ford_path_length(
+        neg.reverse(copy=True), "sink", weight="weight"
+    )
+    ls = np.array([finish + to_sink[("S", i)] for i in range(n)])
+    lf = np.array([finish + to_sink[("F", i)] for i in range(n)])
+    return es, ef, ls, lf, finish

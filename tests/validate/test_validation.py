@@ -561,7 +561,7 @@ def test_links_sheet_with_standard_headers_and_its_problems(tmp_path):
     ]
     links = [
         ["Predecessor", "Successor", "Type", "Lag"],
-        ["A", "B", "FS", 0],  # row 2: also inline in Activities!B3 -> given twice
+        ["A", "B", "FS", 0],  # row 2: also inline in Activities!B3 -> a repeat (warning)
         ["B", "C", "SS", 1],  # row 3: good
         ["B", "Q", None, None],  # row 4: Q unknown -> B4
         ["C", "C", None, None],  # row 5: self-link -> A5
@@ -573,13 +573,14 @@ def test_links_sheet_with_standard_headers_and_its_problems(tmp_path):
     )
     assert schedule is None
     assert errors(problems) == {
-        ("duplicate-link", "Relationships", "A2", "B"),
         ("missing-link", "Relationships", "B4", "Q"),
         ("self-link", "Relationships", "A5", "C"),
         ("bad-link", "Relationships", "C6", "C"),
         ("bad-link", "Relationships", "D7", "C"),
     }
-    twice = next(p for p in problems if p.code == "duplicate-link")
+    # the very same link twice: a warning at the second place, naming the first
+    twice = next(p for p in problems if p.code == "repeated-link")
+    assert (twice.severity, twice.sheet, twice.cell) == ("warning", "Relationships", "A2")
     assert "given twice" in twice.message and "Activities!B3" in twice.message
 
 

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from converter.analyse.ladders import route_text, shared_pair
 from converter.model import LINK_TYPES
 from converter.write.workbook import formulas as f
 from converter.write.workbook import pages, progress_cols
@@ -66,10 +67,11 @@ def write_paths(wb, fmt, a, lay: Layout) -> None:
     _heads(ws, fmt, step_top - 1, STEP_HEADERS, STEP_ALIGN)
     r = step_top
     riskier = set(a.riskier_paths)
+    shared = shared_pair(a.net)  # the pairs with more than one link, found once
     for n, pr in enumerate(a.paths):
         first = r
         r = _write_steps(ws, fmt, a, lay, n, pr.path, r)
-        _write_path_row(ws, fmt, a, n, pr, first, r - 1, n in riskier)
+        _write_path_row(ws, fmt, a, n, pr, first, r - 1, n in riskier, shared)
     if a.tied_longest > 1:
         tie = (
             f"{a.tied_longest} paths tie for the longest expected length; path 1 is the one "
@@ -115,7 +117,9 @@ def _write_steps(ws, fmt, a, lay: Layout, n: int, path, r: int) -> int:
     return r
 
 
-def _write_path_row(ws, fmt, a, n: int, pr, first: int, last: int, riskier: bool) -> None:
+def _write_path_row(
+    ws, fmt, a, n: int, pr, first: int, last: int, riskier: bool, shared=None
+) -> None:
     """Path ``n``'s row in the summary table: length, variance, sd, z and chance as formulas
     over its step rows ``first``..``last``."""
     path = pr.path
@@ -148,7 +152,7 @@ def _write_path_row(ws, fmt, a, n: int, pr, first: int, last: int, riskier: bool
     else:  # over the z, chance and riskier columns
         ws.merge_range(row, 4, row, 6, "no due date", fmt.center)
     ws.write_number(row, 7, len(path.activities), fmt.int_center)
-    route = " > ".join(a.ids[i] for i in path.activities)[:32000]
+    route = route_text(a.ids, a.net, path.activities, path.links, shared)[:32000]
     ws.write_string(row, 8, route, fmt.wrap)
     flag_text = "YES: lower chance than the critical path" if riskier else ""
     fit_row(ws, row, [(route, WIDTHS[8]), (flag_text, WIDTHS[6] - 1.0, 10.0, True)])

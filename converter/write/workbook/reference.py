@@ -109,7 +109,9 @@ METHOD_TEXT = [
         "Link types",
         ", ".join(LINK_TYPES) + " (finish-to-start, start-to-start, finish-to-finish, "
         "start-to-finish). In the predecessors cell: A3 (FS), A3[+2] (lag 2), A3[-1] (lead 1), "
-        "A3[SS], A3[SS+3], A3[FF-1].",
+        "A3[SS], A3[SS+3], A3[FF-1]. Two links of different types may join one pair "
+        "(A3[SS+2], A3[FF+3]: a ladder); each is a row of the Links sheet, bounds the "
+        "passes on its own and counts as one link in the health checks.",
     ),
     (
         "Forward pass",
