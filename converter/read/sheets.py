@@ -133,6 +133,8 @@ class RawInput:
     #: What was searched for the activity header and why each sheet was passed over, one
     #: sentence per sheet (for a message when no activity list is found).
     searched: list[str] = field(default_factory=list)
+    #: The risk register's header row (None: no register).
+    risks: TableMatch | None = None
 
     def search_summary(self) -> str:
         """The search in one paragraph: ``"Searched ...: Plan: ...; Settings: ..."``."""

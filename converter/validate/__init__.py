@@ -7,7 +7,8 @@ the output). The steps, one module each:
 - :mod:`~converter.validate.settings`: the settings sheet, resolved against the command
   line (the rules for each option are in :mod:`converter.options`);
 - :mod:`~converter.validate.activities`: the activity sheet's columns and rows;
-- :mod:`~converter.validate.links`: predecessor tokens, a links sheet, cycles.
+- :mod:`~converter.validate.links`: predecessor tokens, a links sheet, cycles;
+- :mod:`~converter.validate.risks`: the risk register.
 """
 
 from __future__ import annotations
@@ -25,6 +26,7 @@ from converter.validate.links import (
     warn_unlinked,
 )
 from converter.validate.problems import Collector
+from converter.validate.risks import read_risks
 from converter.validate.settings import resolve_settings
 
 __all__ = ["validate"]
@@ -68,6 +70,9 @@ def validate(
         read_predecessor_column(book, rows.activities, rows.predecessor_cells, match)
     if raw.links is not None:
         read_links_sheet(book, raw.links)
+    risks = []
+    if raw.risks is not None:
+        risks = read_risks(raw.risks, settings, {a.id for a in rows.activities}, out)
     check_cycles(rows.activities, book.links, out)
     warn_unlinked(rows.activities, book.links, match, out)
     if not out.errors:  # the sum of sane numbers: only once each of them is sane
@@ -90,5 +95,7 @@ def validate(
         ),
         warnings=out.warnings,
         notes=list(raw.notes),
+        risks=risks,
+        risk_sheet=raw.risks.sheet.name if raw.risks is not None else None,
     )
     return schedule, out.problems
