@@ -34,6 +34,7 @@ from converter.analyse.network import (
 )
 from converter.analyse.network import schedule as run_cpm
 from converter.analyse.paths import Path, count_paths, k_longest_paths
+from converter.analyse.risk_register import RiskView, add_path_terms, risk_view, simulate_register
 from converter.model import Schedule
 
 if TYPE_CHECKING:
@@ -103,6 +104,7 @@ class Analysis:
     timeline: list[int] = field(default_factory=list)  # activities the timeline charts
     timeline_cut: bool = False  # whether the timeline charts only some activities
     timeline_bars: TimelineBars | None = None  # where the timeline's bars sit
+    risk_view: RiskView | None = None  # the risk register's figures (None: no register)
 
     @property
     def project_sd(self) -> float:
@@ -221,12 +223,18 @@ def analyse(schedule: Schedule, options=None) -> Analysis:
     p = np.array([a.pessimistic for a in acts], dtype=float)
     te = pert.expected_time(o, m, p)
     var = pert.variance(o, p)
+    view = None
+    if schedule.risks:  # expected durations include the risks' expected delay
+        view = risk_view(schedule.risks, index, te, s.distribution)
+        te_base, te = te, te + view.activity_delay
     net = _network(schedule, index)
     cpm = run_cpm(net, te)
     calendar = Calendar.from_settings(s) if s.start_date is not None else None
     due, due_date = _due_offset(s.due, calendar)
 
     found = k_longest_paths(net, te, var, max(1, s.paths))
+    if view is not None:
+        add_path_terms(view, found, te_base)
     path_results = _path_results(found, due)
     critical = found[0]
     project_mean = float(cpm.finish)
@@ -247,7 +255,7 @@ def analyse(schedule: Schedule, options=None) -> Analysis:
     targets = _targets(acts, net, te, var, cpm, calendar)
     simulation = None
     if options is None or getattr(options, "simulate", True):
-        simulation = _simulate(schedule, net, o, m, p, due, targets, project_mean, options)
+        simulation = _simulate(schedule, net, o, m, p, due, targets, project_mean, options, view)
 
     unit_days = days_per_unit(s.time_unit, s.working_days)
     a = Analysis(
@@ -279,6 +287,7 @@ def analyse(schedule: Schedule, options=None) -> Analysis:
         link_pull=link_pull(net, cpm.ls, cpm.lf, te),
         link_driving=np.abs(cpm.link_slack) <= tol,
         float_tolerance=tol,
+        risk_view=view,
     )
     _add_figures(a)
     return a
@@ -316,18 +325,15 @@ def _simulate(
     targets: list[TargetResult],
     project_mean: float,
     options,
+    view: RiskView | None = None,
 ) -> SimulationResult:
-    """The Monte Carlo run; fills each target's simulated chance."""
+    """The Monte Carlo run (and the mitigated one); fills each target's simulated chance."""
     from converter.analyse.simulate.runs import simulate
 
     s = schedule.settings
     dists = [a.distribution for a in schedule.activities]
     groups = [a.group for a in schedule.activities]
-    simulation = simulate(
-        net,
-        o,
-        m,
-        p,
+    kwargs = dict(
         distribution=s.distribution,
         distributions=dists if any(dists) else None,
         groups=groups if any(groups) else None,
@@ -341,6 +347,10 @@ def _simulate(
         workers=getattr(options, "simulation_workers", None),
         memory_mb=getattr(options, "simulation_memory_mb", None),
     )
+    if view is not None:
+        simulation = simulate_register(simulate, (net, o, m, p), kwargs, schedule, view)
+    else:
+        simulation = simulate(net, o, m, p, **kwargs)
     for t in targets:
         t.p_simulated = simulation.target_p.get(t.activity)
     return simulation

@@ -60,6 +60,7 @@ from converter.analyse.simulate.result import (
     SimulationResult,
     summarise,
 )
+from converter.analyse.simulate.risk_runs import RiskDraws, RiskRanking, add_delays, rank_risks
 from converter.analyse.simulate.sampling import sample_durations
 from converter.model import DEFAULT_ITERATIONS, DEFAULT_SEED, DISTRIBUTIONS
 
@@ -191,6 +192,8 @@ class _Job:
     project: np.ndarray  # (iterations,) project durations of the current run
     centred: np.ndarray  # (sample,) centred ranks of ``project[:sample]`` for the rank step
     correlation: float
+    risks: RiskDraws | None = None  # named risks' draws, added to each chunk's durations
+    ranking: RiskRanking | None = None  # the risks' ranking, after the last run
 
     @property
     def sample(self) -> int:
@@ -223,6 +226,8 @@ def _chunk(job: _Job, j: int, correlate: bool) -> tuple[int, np.ndarray, dict[in
     if correlate:
         _correlate_chunk(job.inp, j, d, job.correlation)
     job.store[:, a : a + kept] = d[:, :kept]
+    if job.risks is not None:
+        add_delays(job.risks, d, a, b)
     finish, crit, hits = job.passes.run(d)
     job.project[a:b] = finish
     return b - a, crit, hits
@@ -329,10 +334,12 @@ def _both_runs(job: _Job, runs: tuple[bool, ...], count: int, tick) -> list[tupl
             for correlate in runs:
                 counts, sens = _run_parallel(workers, job, correlate, tick)
                 results.append((_durations(job, correlate == runs[-1]), counts, sens))
+            job.ranking = rank_risks(job, workers, runs[-1]) if job.risks else None
     else:
         for correlate in runs:
             counts, sens = _run_serial(job, correlate, tick)
             results.append((_durations(job, correlate == runs[-1]), counts, sens))
+        job.ranking = rank_risks(job, None, runs[-1]) if job.risks else None
     return results
 
 
@@ -359,6 +366,7 @@ def simulate(
     progress: Callable[[int, int], None] | None = None,
     workers: int | None = None,
     memory_mb: int | None = None,
+    risks: RiskDraws | None = None,
 ) -> SimulationResult:
     """Monte Carlo simulation of the network's project duration (see module docstring).
 
@@ -395,6 +403,8 @@ def simulate(
     memory_mb : int, optional
         Memory budget of the run in MB (None: :data:`.budget.DEFAULT_MEMORY_MB`); see
         :mod:`.budget` for what it bounds and how.
+    risks : RiskDraws, optional
+        Named risks' draws (:mod:`.risks`); the result's ``risks`` ranks them.
 
     Returns
     -------
@@ -444,7 +454,7 @@ def simulate(
     group = max((g.size for g in inp.groups), default=0) if correlated else 0
     plan = plan_memory(inp.n, inp.iterations, count, inp.chunk, group, 1 + correlated, memory_mb)
     try:
-        results = _run(net, inp, plan, targets, float(correlation), tick)
+        results, ranking = _run(net, inp, plan, targets, float(correlation), tick, risks)
     except (MemoryError, OSError) as exc:
         if isinstance(exc, OSError) and exc.errno != errno.ENOMEM:
             raise
@@ -460,21 +470,22 @@ def simulate(
     )
     first = summarise(*results[0], correlation=0.0, **common)
     if not correlated:
+        first.risks = ranking
         return first
     result = summarise(*results[1], correlation=correlation, **common)
-    result.independent = first
+    result.independent, result.risks = first, ranking
     return result
 
 
-def _run(net, inp: Inputs, plan: MemoryPlan, targets, correlation: float, tick) -> list:
+def _run(net, inp: Inputs, plan: MemoryPlan, targets, correlation: float, tick, risks) -> tuple:
     """Both runs (the correlated one only when there are groups to correlate)."""
     shared = plan.workers > 1
     store = processes.mapped((inp.n, plan.sample), np.float32, shared)
     project = processes.mapped((inp.iterations,), float, shared)
     centred = processes.mapped((plan.sample,), float, shared)
-    job = _Job(inp, _Passes(net, targets), store, project, centred, correlation)
+    job = _Job(inp, _Passes(net, targets), store, project, centred, correlation, risks)
     correlated = correlation > 0.0 and bool(inp.groups)
-    return _both_runs(job, (False, True)[: 1 + correlated], plan.workers, tick)
+    return _both_runs(job, (False, True)[: 1 + correlated], plan.workers, tick), job.ranking
 
 
 def _out_of_memory(inp: Inputs, plan: MemoryPlan) -> SimulationMemoryError:

@@ -1,0 +1,136 @@
+"""Ranking the named risks of a run: occurrence, delay, sensitivity, and their deltas.
+
+For every risk: the share of iterations it occurred in, its mean delay to the project
+finish when it occurred (the mean finish of the iterations it occurred in minus that of
+the others), and its sensitivity: Spearman's rank correlation of its sampled impact (0
+when it did not occur) with the project finish (:func:`.ranks.spearman_rows`).
+
+For the :data:`TOP_RISKS` risks of highest sensitivity, the finish without that risk
+with common random numbers: every other draw (durations, other risks) is the run's own,
+so the difference is the risk's own effect, not sampling noise. Only the iterations the
+risk occurred in change; only those get a new forward pass (with that risk's delay taken
+out). The P50, P80 and mean of that finish give the risk's deltas.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from converter.analyse.passes import forward_into
+from converter.analyse.simulate import workers as processes
+from converter.analyse.simulate.budget import pass_columns
+from converter.analyse.simulate.ranks import spearman_rows
+from converter.analyse.simulate.risks import RiskDraws, add_delays, risk_delays
+
+__all__ = ["TOP_RISKS", "RiskDraws", "RiskRanking", "add_delays", "rank_risks"]
+
+#: Risks whose deltas are computed (those of highest sensitivity).
+TOP_RISKS = 20
+
+
+@dataclass
+class RiskRanking:
+    """Per risk (in register order): what it did to the finish; deltas nan outside the top."""
+
+    ids: list[str]
+    occurred: np.ndarray  # share of iterations it occurred in
+    mean_delay: np.ndarray  # mean finish when it occurred minus when not (nan: always/never)
+    sensitivity: np.ndarray  # Spearman rho of impact with finish (nan: constant impact)
+    top: list[int]  # the risks with deltas, by sensitivity, highest first
+    delta_mean: np.ndarray
+    delta_p50: np.ndarray
+    delta_p80: np.ndarray
+
+
+def top_risks(sensitivity: np.ndarray, count: int = TOP_RISKS) -> list[int]:
+    """The ``count`` risks of highest sensitivity (nan last; ties in register order).
+
+    Examples
+    --------
+    >>> top_risks(np.array([0.1, np.nan, 0.5, 0.1]), 3)
+    [2, 0, 3]
+    """
+    key = np.where(np.isnan(sensitivity), -np.inf, sensitivity)
+    return [int(k) for k in np.argsort(-key, kind="stable")[:count]]
+
+
+def _finish_without(job, d: np.ndarray, cols: np.ndarray, rows, delay: np.ndarray) -> np.ndarray:
+    """Project finish of columns ``cols`` of ``d`` with ``delay`` taken off ``rows``."""
+    n = d.shape[0]
+    out = np.empty(cols.size)
+    block = pass_columns(n, max(cols.size, 1))
+    for c0 in range(0, cols.size, block):
+        c1 = min(cols.size, c0 + block)
+        x, y, _ = job.passes.work(c1 - c0)
+        dd = y[:n]  # the late times' rows are free in a forward pass
+        np.take(d, cols[c0:c1], axis=1, out=dd)
+        dd[rows] -= delay[:, c0:c1]
+        forward_into(job.passes.plan, dd, x, bool(dd.min() >= 0.0) if dd.size else True)
+        out[c0:c1] = x[n:].max(axis=0) if n else 0.0
+    return out
+
+
+def _final_durations(job, j: int, correlate: bool) -> np.ndarray:
+    """Chunk ``j``'s sampled durations as the run's last pass saw them (before the risks):
+    from the sample store where kept (it then holds the last run's), else drawn again from
+    the chunk's own streams (and correlated again, for a correlated run)."""
+    from converter.analyse.simulate import runs
+
+    a, b = job.inp.chunks()[j]
+    d = job.passes.samples(b - a)
+    if max(0, min(b, job.sample) - a) == b - a:
+        d[...] = job.store[:, a:b]
+        return d
+    runs._sample_chunk(job.inp, j, b - a, out=d)
+    runs._round_to_single(d)
+    if correlate:
+        runs._correlate_chunk(job.inp, j, d, job.correlation)
+    return d
+
+
+def removal_chunk(job, j: int, top: list[int], correlate: bool) -> tuple[int, list]:
+    """Chunk ``j``'s finishes without each of ``top``, for the iterations it occurred in."""
+    a, b = job.inp.chunks()[j]
+    draws: RiskDraws = job.risks
+    d = _final_durations(job, j, correlate)
+    cols = [np.flatnonzero(draws.occurred[k, a:b]) for k in top]
+    delays = [risk_delays(draws, d, a, b, k)[:, c] for k, c in zip(top, cols, strict=True)]
+    add_delays(draws, d, a, b)
+    finishes = [
+        _finish_without(job, d, c, draws.rows[k], delay)
+        for k, c, delay in zip(top, cols, delays, strict=True)
+    ]
+    return a, finishes
+
+
+def rank_risks(job, workers, correlate: bool) -> RiskRanking:
+    """The ranking of ``job.risks`` against the run's project finishes ``job.project``."""
+    draws: RiskDraws = job.risks
+    project = np.asarray(job.project)
+    occurred = draws.occurred
+    share = occurred.mean(axis=1)
+    mean_delay = np.full(draws.count, np.nan)
+    for k in range(draws.count):
+        hit = occurred[k]
+        if hit.any() and not hit.all():
+            mean_delay[k] = project[hit].mean() - project[~hit].mean()
+    sensitivity = spearman_rows(draws.impact, project)
+    top = top_risks(sensitivity)
+    without = np.repeat(project[None, :], len(top), axis=0)
+    tasks = [(j, top, correlate) for j in range(len(job.inp.chunks()))]
+    if workers is not None:
+        found = processes.map_unordered(workers, removal_chunk, tasks)
+    else:
+        found = (removal_chunk(job, *task) for task in tasks)
+    for a, finishes in found:
+        for t, k in enumerate(top):
+            cols = np.flatnonzero(occurred[k, a : a + job.inp.chunk])
+            without[t, a + cols] = finishes[t]
+    deltas = np.full((3, draws.count), np.nan)
+    for t, k in enumerate(top):
+        mean = project.mean() - without[t].mean()
+        p50, p80 = np.percentile(project, [50, 80]) - np.percentile(without[t], [50, 80])
+        deltas[:, k] = (mean, p50, p80)
+    return RiskRanking(draws.ids, share, mean_delay, sensitivity, top, *deltas)
