@@ -79,6 +79,8 @@ class RiskView:
     path_mean: list[float] = field(default_factory=list)  # the risks' mean on each path
     path_variance: list[float] = field(default_factory=list)  # and their variance
     mitigated: object = None  # the mitigated run's SimulationResult (None: no responses)
+    #: (levels, unmitigated finish, mitigated finish) at each level, for the chart
+    curve: tuple | None = None
 
     @property
     def any_mitigated(self) -> bool:
@@ -143,4 +145,10 @@ def simulate_register(simulate, args: tuple, kwargs: dict, schedule, view: RiskV
     if view.any_mitigated:
         after = [r.after_response() for r in view.risks]
         view.mitigated = simulate(*args, **kwargs, risks=draw_risks(after, index, **common))
+        levels = np.arange(1, 100) / 100.0
+        view.curve = (
+            levels,
+            np.percentile(result.durations, 100.0 * levels),
+            np.percentile(view.mitigated.durations, 100.0 * levels),
+        )
     return result

@@ -24,6 +24,7 @@ from converter.write.workbook.reference import (
     write_settings,
     write_warnings,
 )
+from converter.write.workbook.risks_sheet import write_risks
 from converter.write.workbook.rows import (
     DEFAULT_FONT_SIZE,
     DEFAULT_ROW_PIXELS,
@@ -108,6 +109,7 @@ def write_workbook(analysis, path: str | Path) -> None:
         n_links=analysis.net.link_count,
         dates=analysis.calendar is not None,
         simulated=analysis.simulation is not None,
+        risks=analysis.risk_view is not None,
     )
     write_summary(wb, fmt, analysis, lay)
     write_activities(wb, fmt, analysis, lay)
@@ -116,6 +118,8 @@ def write_workbook(analysis, path: str | Path) -> None:
     write_probability(wb, fmt, analysis, lay)
     if analysis.simulation is not None:
         write_simulation(wb, fmt, analysis, lay)
+    if analysis.risk_view is not None:
+        write_risks(wb, fmt, analysis, lay)
     write_timeline(wb, fmt, analysis, lay)
     write_health(wb, fmt, analysis, lay)
     write_settings(wb, fmt, analysis, lay)

@@ -14,6 +14,7 @@ from converter.model import FS, LINK_TYPES
 from converter.write.workbook import formulas as f
 from converter.write.workbook import pages
 from converter.write.workbook.layout import ACTIVITIES, FIRST, LINKS, Layout
+from converter.write.workbook.risks_sheet import delay_terms, risks_by_activity
 from converter.write.workbook.rows import DEFAULT_ROW_HEIGHT, fit_row, merged_width, row_height
 from converter.write.workbook.styles import TABLE_HEAD_SIZE, TITLE_ROW
 
@@ -39,6 +40,7 @@ HEADERS = {
     "lf_date": "Late finish date",
     "criticality": "Criticality index (simulated)",
     "sensitivity": "Sensitivity (simulated rank correlation)",
+    "risk_delay": "Risk delay (expected, in TE)",
 }
 
 EXCEL_EPOCH_ORDINAL = 693594  # date(1899, 12, 30).toordinal()
@@ -128,6 +130,7 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
     dates = a.activity_dates
     sim = a.simulation
     raw_preds = _predecessor_text(a)
+    by_activity = risks_by_activity(a.risk_view, a.net.n) if a.risk_view is not None else []
     for i, act in enumerate(a.schedule.activities):
         r = lay.row(i)
         ws.write_string(r, c["id"], act.id, fmt.wrap)
@@ -142,7 +145,13 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
         ws.write_number(r, c["m"], act.most_likely, fmt.input_num)
         ws.write_number(r, c["p"], act.pessimistic, fmt.input_num)
         o, m, p = lay.cell(i, "o"), lay.cell(i, "m"), lay.cell(i, "p")
-        ws.write_formula(r, c["te"], f.expected_time(o, m, p), fmt.num, float(a.te[i]))
+        te = f.expected_time(o, m, p)
+        if "risk_delay" in c:  # TE includes the expected delay of the risks hitting it
+            te += "+" + lay.cell(i, "risk_delay")
+            terms = delay_terms(a, lay, i, by_activity)
+            delay = float(a.risk_view.activity_delay[i])
+            ws.write_formula(r, c["risk_delay"], f.risk_delay(terms), fmt.num, delay)
+        ws.write_formula(r, c["te"], te, fmt.num, float(a.te[i]))
         ws.write_formula(r, c["var"], f.pert_variance(o, p), fmt.num4, float(a.var[i]))
         es_formula, lf_formula, ff_formula = _pass_formulas(lay, net, incoming, outgoing, i)
         ws.write_formula(r, c["es"], es_formula, fmt.num, float(cpm.es[i]))

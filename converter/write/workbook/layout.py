@@ -18,6 +18,7 @@ SETTINGS = "Settings used"
 METHOD = "Method"
 INPUT = "Input as read"
 WARNINGS = "Warnings"
+RISKS = "Risks"
 
 #: Zero-based row of the first data row in the activity and links tables (sheet row 5).
 FIRST = 4
@@ -32,6 +33,7 @@ class Layout:
     dates: bool
     simulated: bool
     cols: dict[str, int] = field(default_factory=dict)
+    risks: bool = False  # a risk register: the expected risk delay column, last
 
     def __post_init__(self) -> None:
         names = [
@@ -55,6 +57,8 @@ class Layout:
             names += ["es_date", "ef_date", "ls_date", "lf_date"]
         if self.simulated:
             names += ["criticality", "sensitivity"]
+        if self.risks:
+            names += ["risk_delay"]
         self.cols = {k: i for i, k in enumerate(names)}
 
     # activity table -----------------------------------------------------------
