@@ -43,6 +43,11 @@ class RiskRanking:
     delta_p50: np.ndarray
     delta_p80: np.ndarray
 
+    @property
+    def by_p80(self) -> list[int]:
+        """The ``top`` risks by P80 delta, largest first (ties by sensitivity)."""
+        return sorted(self.top, key=lambda k: -self.delta_p80[k])
+
 
 def top_risks(sensitivity: np.ndarray, count: int = TOP_RISKS) -> list[int]:
     """The ``count`` risks of highest sensitivity (nan last; ties in register order).

@@ -9,6 +9,7 @@ from converter.write.workbook import formulas as f
 from converter.write.workbook import pages, rows
 from converter.write.workbook.activities import serial
 from converter.write.workbook.layout import INPUT, METHOD, SETTINGS, WARNINGS, Layout
+from converter.write.workbook.risks_sheet import METHOD_RISKS
 from converter.write.workbook.summary import CAUTION
 
 WEEKDAY_NAMES = ("Mon", "Tue", "Wed", "Thu", "Fri", "Sat", "Sun")
@@ -196,7 +197,8 @@ def write_method(wb, fmt, a, lay: Layout) -> None:
     label_width, text_width = METHOD_WIDTHS
     ws.set_column(0, 0, label_width)
     ws.set_column(1, 1, text_width)
-    for r, (label, text) in enumerate(METHOD_TEXT):
+    items = METHOD_TEXT + (METHOD_RISKS if a.risk_view is not None else [])
+    for r, (label, text) in enumerate(items):
         if text is None:
             ws.write_string(r, 0, label, fmt.title)
             continue

@@ -225,13 +225,14 @@ def _ranking(wb, ws, fmt, a, rank, start: int) -> int:
         return start
     view = a.risk_view
     cols = columns(view, len(a.paths))
-    ws.write_string(start, 0, "Ranking: P80 delta of the top risks by sensitivity", fmt.title)
+    title = f"Ranking: the {len(rank.top)} risks of highest sensitivity, by P80 delta"
+    ws.write_string(start, 0, title, fmt.title)
     ws.set_row(start, TITLE_ROW)
     chart_rows = rows_spanned(90 + 18 * len(rank.top))
     head = start + 2 + chart_rows
     for c, text in enumerate(("Risk", "P80 delta", "Mean delta")):
         ws.write_string(head, c, text, fmt.th if c == 0 else fmt.th_center)
-    for t, k in enumerate(rank.top):
+    for t, k in enumerate(rank.by_p80):
         r = head + 1 + t
         ws.write_formula(r, 0, "=" + risk_cell(k, cols["id"], False), fmt.wrap, view.risks[k].id)
         for c, key, value in ((1, "d80", rank.delta_p80[k]), (2, "dmean_sim", rank.delta_mean[k])):
@@ -323,3 +324,87 @@ def paths_extra(ws, fmt, a, row: int, n: int) -> str | None:
 
 
 PATH_HEADS = ("Of which named risks (expected)", "Named risks' variance")
+
+
+def _signed(x: float) -> str:
+    return f"{x:+.2f}" if not math.isnan(x) else "n/a"
+
+
+def summary_texts(a, shown: int = 5) -> list[tuple[str, str]]:
+    """The Summary's plain words on the register: top risks, the mitigated headline, and
+    the caution on the normal approximation (labels and texts)."""
+    view, sim = a.risk_view, a.simulation
+    if view is None:
+        return []
+    out = []
+    rank = sim.risks if sim is not None else None
+    if rank is not None and rank.top:
+        words = "; ".join(
+            f"{view.risks[k].id} {view.risks[k].description}".strip()
+            + f" (P80 {_signed(rank.delta_p80[k])}, occurred in {rank.occurred[k]:.0%} of runs)"
+            for k in rank.by_p80[:shown]
+        )
+        out.append(
+            (
+                "Top named risks (P80 delta)",
+                words + ". Removing the risk (same random numbers otherwise) lowers the P80 "
+                "by this much: respond to these first (Risks sheet).",
+            )
+        )
+    mit = view.mitigated
+    if mit is not None:
+        unit = a.schedule.settings.time_unit
+        text = ", ".join(
+            f"P{round(q * 100)} {mit.percentiles[q]:.2f} (now {sim.percentiles[q]:.2f})"
+            for q in (0.5, 0.8, 0.9)
+        )
+        if mit.p_meet_due is not None:
+            text += (
+                f"; chance of meeting the due date {mit.p_meet_due:.0%} (now {sim.p_meet_due:.0%})"
+            )
+        out.append(("After the planned responses (mitigated run)", f"{text}, in {unit}."))
+    out.append(
+        (
+            "Named risks in the critical-path figures",
+            "The critical-path figures add each risk's mean and variance to a normal "
+            "approximation; with large risks that may or may not happen this is rough. The "
+            "simulation is the figure to trust.",
+        )
+    )
+    return out
+
+
+#: The register's semantics, for the Method sheet (only with a register).
+METHOD_RISKS = [
+    (
+        "Named risks",
+        "In each iteration every risk (or risk group: one draw for the group) occurs with its "
+        "probability, one draw per risk per iteration; when it occurs one impact is drawn from "
+        "the PERT-beta over (low, likely, high) (the distribution setting applies likewise) and "
+        "added to the duration of each activity it hits: the same draw for all of them. A "
+        "percentage impact scales each hit activity's sampled duration. Risks are independent "
+        "of each other and of the activity durations unless grouped. Each risk draws from its "
+        "own random stream (common random numbers), so adding or removing a risk changes no "
+        "other draw.",
+    ),
+    (
+        "Risks in the critical-path figures",
+        "A risk that hits k of a path's activities adds k B I, with B ~ Bernoulli(p): mean "
+        "k p mu and variance k^2 (p sigma^2 + p (1 - p) mu^2), the moments of a random sum "
+        "(Ross, A First Course in Probability, 8th ed., 2010, section 7.5). TE includes each "
+        "activity's expected risk delay, so the passes and floats include it; the path "
+        "variances add the risks' terms (Paths sheet). A % impact weighs each hit activity by "
+        "its TE without risk. With large discrete risks this normal approximation is rough: "
+        "trust the simulation.",
+    ),
+    (
+        "Risk ranking",
+        "Sensitivity: Spearman's rank correlation of the risk's sampled impact (0 when it did "
+        "not occur) with the project finish. Mean delay when it occurred: the mean finish of "
+        "the iterations it occurred in minus that of the others. For the 20 risks of highest "
+        "sensitivity, the finish without the risk with the same random numbers for everything "
+        "else (only the iterations it occurred in are passed again): the differences of "
+        "P50, P80 and mean are its deltas. The mitigated run repeats the simulation with the "
+        "mitigated register on the same random numbers.",
+    ),
+]
