@@ -5,7 +5,8 @@ above 1 read as percent; in (0, 1]), its impact (``Impact low/likely/high``, or 
 ``Impact`` for a fixed impact), in the schedule's time unit (units as for durations:
 ``3d``, ``16h``) or with ``%`` as a share of each hit activity's sampled duration, and
 the activities it hits. Optional: mitigated probability and impacts, a group (risks of
-one group occur together, so they must share their probability).
+one group occur together, so they must share their probability). A row whose Risk ID
+starts with ``Example`` is skipped (the template's example row).
 """
 
 from __future__ import annotations
@@ -25,9 +26,11 @@ from converter.values import (
     shown,
 )
 
-__all__ = ["parse_probability", "read_risks"]
+__all__ = ["EXAMPLE_PREFIX", "parse_probability", "read_risks"]
 
 _SEPARATORS = re.compile(r"[,;]")
+#: A row whose Risk ID starts with this (any case) is an example and is not read.
+EXAMPLE_PREFIX = "Example"
 _IMPACTS = ("low", "likely", "high")
 
 
@@ -244,6 +247,8 @@ def read_risks(
             row.error("risk-blank-id", "id", "the risk has no ID", "Give every risk an ID.")
             continue
         row.ident = id_text(v)
+        if row.ident.lower().startswith(EXAMPLE_PREFIX.lower()):
+            continue  # the template's example row
         if row.ident in seen:
             row.error(
                 "risk-duplicate-id",

@@ -27,7 +27,7 @@ BASE = [
     ("low", "Impact low", 9.0),
     ("likely", "Impact likely", 9.0),
     ("high", "Impact high", 9.0),
-    ("unit", "Impact in", 10.0),
+    ("unit", "Impact in", 13.0),
     ("mean", "Impact mean", 9.0),
     ("var", "Impact variance", 9.5),
     ("dmean", "Expected delay per hit (p x mean)", 11.0),
@@ -49,10 +49,9 @@ MITIGATED = [
     ("mmean", "Mean delta after response", 10.0),
 ]
 INTRO = (
-    "Shaded cells are the register as read; the moments are formulas. Per iteration each "
-    "risk (one draw per group) occurs with its probability and one impact is added to every "
-    "activity it hits (a % impact scales each sampled duration). Deltas: the finish with the "
-    "risk minus without it, same random numbers otherwise (top 20 by sensitivity)."
+    "Shaded cells are the register as read; the moments are formulas. Each iteration, each "
+    "risk (one draw per group) occurs with its probability and adds one impact to every "
+    "activity it hits (a % impact scales each sampled duration). See the Method sheet."
 )
 
 
@@ -115,8 +114,9 @@ def write_risks(wb, fmt, a, lay) -> None:
     ws.write_string(0, 0, "Risks: the register and what each risk does to the finish", fmt.title)
     ws.set_row(0, TITLE_ROW)
     widths = _heads(ws, fmt, cols, len(a.paths))
-    ws.merge_range(1, 0, 2, cols["dmean_sim"], INTRO, fmt.subtitle_wrap)
-    ws.set_row(2, max(15.0, row_height([(INTRO, merged_width(widths[:20]))]) - 15.0))
+    ws.merge_range(1, 0, 2, cols["dvar"], INTRO, fmt.subtitle_wrap)
+    need = row_height([(INTRO, merged_width(widths[: cols["dvar"] + 1]))])
+    ws.set_row(2, max(15.0, need - 15.0))
     rank = sim.risks if sim is not None else None
     after = view.mitigated.risks if view.mitigated is not None else None
     for k, risk in enumerate(view.risks):
@@ -228,15 +228,17 @@ def _ranking(wb, ws, fmt, a, rank, start: int) -> int:
     title = f"Ranking: the {len(rank.top)} risks of highest sensitivity, by P80 delta"
     ws.write_string(start, 0, title, fmt.title)
     ws.set_row(start, TITLE_ROW)
-    chart_rows = rows_spanned(90 + 18 * len(rank.top))
+    chart_rows = rows_spanned(110 + 20 * len(rank.top))
     head = start + 2 + chart_rows
     for c, text in enumerate(("Risk", "P80 delta", "Mean delta")):
         ws.write_string(head, c, text, fmt.th if c == 0 else fmt.th_center)
+    ws.write_string(head, 3, "Rank", fmt.th_center)
     for t, k in enumerate(rank.by_p80):
         r = head + 1 + t
         ws.write_formula(r, 0, "=" + risk_cell(k, cols["id"], False), fmt.wrap, view.risks[k].id)
         for c, key, value in ((1, "d80", rank.delta_p80[k]), (2, "dmean_sim", rank.delta_mean[k])):
             ws.write_formula(r, c, "=" + risk_cell(k, cols[key], False), fmt.num, float(value))
+        ws.write_number(r, 3, rank.top.index(k) + 1, fmt.int_center)
     last = head + len(rank.top)
     bar = wb.add_chart({"type": "bar"})
     bar.add_series(
@@ -250,10 +252,10 @@ def _ranking(wb, ws, fmt, a, rank, start: int) -> int:
     )
     unit = a.schedule.settings.time_unit
     bar.set_title({"name": "Risks ranked: P80 delta", "name_font": {"size": 12, "bold": True}})
-    bar.set_y_axis({"reverse": True, "name": "Risk", "interval_unit": 1})
+    bar.set_y_axis({"reverse": True, "name": "Risk", "interval_unit": 1, "num_font": {"size": 8}})
     bar.set_x_axis({"name": f"P80 with the risk minus without it ({unit})"})
     bar.set_legend({"none": True})
-    bar.set_size({"width": 760, "height": 90 + 18 * len(rank.top)})
+    bar.set_size({"width": 760, "height": 110 + 20 * len(rank.top)})
     ws.insert_chart(start + 1, 0, bar)
     return last + 1
 
@@ -265,19 +267,20 @@ def _mitigated(wb, ws, fmt, a, start: int) -> int:
     ws.write_string(start, 0, "Mitigated: the register after the planned responses", fmt.title)
     ws.set_row(start, TITLE_ROW)
     head = start + 1
-    for c, text in enumerate(("Figure", "Unmitigated", "Mitigated", "Difference")):
-        ws.write_string(head, c, text, fmt.th if c == 0 else fmt.th_center)
+    for c, text in enumerate(("Figure", "Unmitigated", "Mitigated", "Difference"), start=1):
+        ws.write_string(head, c, text, fmt.th if c == 1 else fmt.th_center)
     rows = [(f"P{round(q * 100)}", sim.percentiles[q], mit.percentiles[q]) for q in (0.5, 0.8, 0.9)]
     if sim.p_meet_due is not None:
         rows.append(("Chance of meeting the due date", sim.p_meet_due, mit.p_meet_due))
     for t, (label, before, now) in enumerate(rows):
         r = head + 1 + t
         style = fmt.prob if label.startswith("Chance") else fmt.num
-        ws.write_string(r, 0, label, fmt.wrap)
-        ws.write_number(r, 1, float(before), style)
-        ws.write_number(r, 2, float(now), style)
-        ws.write_formula(r, 3, f.minus(f.ref(r, 2), f.ref(r, 1)), style, float(now - before))
-    table = head + len(rows) + 2
+        ws.write_string(r, 1, label, fmt.wrap)
+        ws.write_number(r, 2, float(before), style)
+        ws.write_number(r, 3, float(now), style)
+        ws.write_formula(r, 4, f.minus(f.ref(r, 3), f.ref(r, 2)), style, float(now - before))
+    chart_row = head + len(rows) + 2
+    table = chart_row + rows_spanned(320) + 1
     for c, text in enumerate(("Probability", "Unmitigated finish", "Mitigated finish")):
         ws.write_string(table, c, text, fmt.th if c == 0 else fmt.th_center)
     levels, before, now = view.curve
@@ -304,7 +307,7 @@ def _mitigated(wb, ws, fmt, a, start: int) -> int:
     chart.set_y_axis({"name": "Chance of finishing by then", "min": 0, "max": 1})
     chart.set_legend({"position": "bottom"})
     chart.set_size({"width": 600, "height": 320})
-    ws.insert_chart(table, 4, chart)
+    ws.insert_chart(chart_row, 0, chart)
     return last + 1
 
 
