@@ -177,3 +177,32 @@ def test_analytic_view_adds_expected_delay_and_k_squared_variance():
     assert v.activity_delay.tolist() == pytest.approx([0.5, 0.7])
     # Ross (2010) 7.5: variance p(1 - p) mu^2 for a fixed impact: 0.25 x 0.75 x 4
     assert v.delay_variance[0] == pytest.approx(0.75)
+
+
+def test_finish_without_a_risk_equals_a_run_without_it_on_a_network():
+    # the deltas against brute force: a run whose register simply lacks the risk (its
+    # other draws unchanged, by the streams' keys) gives every percentile the same
+    net = build_network(6, [0, 0, 1, 2, 3, 4], [1, 2, 3, 4, 5, 5])
+    o, m, p = [1, 2, 2, 1, 3, 1], [2, 4, 3, 2, 5, 1], [4, 9, 6, 5, 8, 2]
+    index = {c: i for i, c in enumerate("ABCDEF")}
+    risks = [
+        Risk("R1", "", 0.4, 1, 2, 6, ("B",)),
+        Risk("R2", "", 0.3, 0.1, 0.2, 0.5, ("C", "D"), percent=True),
+        Risk("R3", "", 0.6, 1, 1, 3, ("E",), group="g"),
+        Risk("R4", "", 0.6, 2, 2, 2, ("A",), group="g"),
+    ]
+
+    def run(register, workers=1):
+        d = draw_risks(register, index, distribution="pert", iterations=3000, seed=9)
+        return simulate(net, o, m, p, iterations=3000, seed=9, risks=d, workers=workers)
+
+    full = run(risks)
+    for k in range(len(risks)):
+        without = run(risks[:k] + risks[k + 1 :])
+        # numpy percentiles of the brute-force run
+        p50, p80 = np.percentile(full.durations, [50, 80]) - np.percentile(
+            without.durations, [50, 80]
+        )
+        assert full.risks.delta_p80[k] == pytest.approx(p80, abs=1e-9)
+        assert full.risks.delta_p50[k] == pytest.approx(p50, abs=1e-9)
+        assert full.risks.delta_mean[k] == pytest.approx(full.mean - without.mean, abs=1e-9)

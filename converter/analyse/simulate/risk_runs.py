@@ -9,7 +9,10 @@ For the :data:`TOP_RISKS` risks of highest sensitivity, the finish without that 
 with common random numbers: every other draw (durations, other risks) is the run's own,
 so the difference is the risk's own effect, not sampling noise. Only the iterations the
 risk occurred in change; only those get a new forward pass (with that risk's delay taken
-out). The P50, P80 and mean of that finish give the risk's deltas.
+out), and of those only the ones in which an activity it hits was critical: elsewhere
+every path through its activities has float, and taking the delay off cannot move the
+finish (it stays exactly the run's). The P50, P80 and mean of that finish give the
+risk's deltas.
 """
 
 from __future__ import annotations
@@ -100,7 +103,7 @@ def removal_chunk(job, j: int, top: list[int], correlate: bool) -> tuple[int, li
     a, b = job.inp.chunks()[j]
     draws: RiskDraws = job.risks
     d = _final_durations(job, j, correlate)
-    cols = [np.flatnonzero(draws.occurred[k, a:b]) for k in top]
+    cols = [np.flatnonzero(draws.critical[k, a:b]) for k in top]
     delays = [risk_delays(draws, d, a, b, k)[:, c] for k, c in zip(top, cols, strict=True)]
     add_delays(draws, d, a, b)
     finishes = [
@@ -124,14 +127,19 @@ def rank_risks(job, workers, correlate: bool) -> RiskRanking:
     sensitivity = spearman_rows(draws.impact, project)
     top = top_risks(sensitivity)
     without = np.repeat(project[None, :], len(top), axis=0)
-    tasks = [(j, top, correlate) for j in range(len(job.inp.chunks()))]
+    watched = draws.critical[top]
+    tasks = [
+        (j, top, correlate)
+        for j, (a, b) in enumerate(job.inp.chunks())
+        if watched[:, a:b].any()  # a chunk where no removal can move the finish: skipped
+    ]
     if workers is not None:
         found = processes.map_unordered(workers, removal_chunk, tasks)
     else:
         found = (removal_chunk(job, *task) for task in tasks)
     for a, finishes in found:
         for t, k in enumerate(top):
-            cols = np.flatnonzero(occurred[k, a : a + job.inp.chunk])
+            cols = np.flatnonzero(draws.critical[k, a : a + job.inp.chunk])
             without[t, a + cols] = finishes[t]
     deltas = np.full((3, draws.count), np.nan)
     for t, k in enumerate(top):

@@ -21,12 +21,14 @@ from __future__ import annotations
 import hashlib
 from collections.abc import Sequence
 from dataclasses import dataclass
+from functools import partial
 
 import numpy as np
 from scipy.special import betaincinv
 
 from converter.analyse.pert import pert_beta_parameters
 from converter.analyse.simulate.sampling import KIND_CODES, PERT, TRIANGULAR
+from converter.analyse.simulate.workers import mapped
 from converter.model import Risk
 
 __all__ = ["RiskDraws", "add_delays", "draw_risks", "impact_inverse", "risk_key"]
@@ -98,10 +100,28 @@ class RiskDraws:
     percent: np.ndarray  # (r,) bool: impact is a share of the sampled duration
     occurred: np.ndarray  # (r, N) bool
     impact: np.ndarray  # (r, N) float32: the impact drawn, 0 where the risk did not occur
+    #: (r, N) bool, shared with worker processes: the risk occurred and an activity it hits
+    #: was critical in the last run's passes (elsewhere taking its delay off cannot move
+    #: the finish)
+    critical: np.ndarray | None = None
 
     @property
     def count(self) -> int:
         return len(self.ids)
+
+    def before_passes(self, passes, d: np.ndarray, a: int, b: int) -> None:
+        """Add the delays to chunk ``a:b``'s durations; have the passes report back which
+        risks hit a critical activity."""
+        add_delays(self, d, a, b)
+        passes.watch = partial(_record_critical, self, a)
+
+
+def _record_critical(draws: RiskDraws, a: int, crit: np.ndarray, c0: int) -> None:
+    """Mark the iterations whose critical activities include one a risk hit."""
+    lo, hi = a + c0, a + c0 + crit.shape[1]
+    for k in range(draws.count):
+        hit = crit[draws.rows[k]].any(axis=0) if draws.rows[k].size else False
+        draws.critical[k, lo:hi] = np.logical_and(draws.occurred[k, lo:hi], hit)
 
 
 def draw_risks(
@@ -129,14 +149,15 @@ def draw_risks(
         key = risk_key(f"group:{risk.group}") if risk.group is not None else own
         occurred[k] = uniforms(seed, OCCURRENCE_STREAM, key, iterations) < risk.probability
         u = uniforms(seed, IMPACT_STREAM, own, iterations)
-        values = impact_inverse(u, risk.low, risk.likely, risk.high, distribution)
-        impact[k] = np.where(occurred[k], values, 0.0)
+        hit = occurred[k]  # the inverse only where it occurred (betaincinv is costly)
+        impact[k, hit] = impact_inverse(u[hit], risk.low, risk.likely, risk.high, distribution)
     return RiskDraws(
         ids=[r.id for r in risks],
         rows=[np.array([index[a] for a in r.activities], dtype=np.intp) for r in risks],
         percent=np.array([r.percent for r in risks], dtype=bool),
         occurred=occurred,
         impact=impact,
+        critical=mapped((count, iterations), bool, True),
     )
 
 

@@ -52,19 +52,19 @@ from converter.analyse.simulate.budget import (
     plan_memory,
 )
 from converter.analyse.simulate.correlation import induce_rank_correlation
-from converter.analyse.simulate.inputs import Inputs, check_correlation, chunk_size, prepare
-from converter.analyse.simulate.ranks import RANK_ROWS, centred_ranks, spearman_block, spearman_rows
+from converter.analyse.simulate.inputs import Inputs, check_correlation, prepare
+from converter.analyse.simulate.ranks import RANK_ROWS, centred_ranks, spearman_block
 from converter.analyse.simulate.result import (
     PERCENTILE_KEYS,
     Counts,
     SimulationResult,
     summarise,
 )
-from converter.analyse.simulate.risk_runs import RiskDraws, RiskRanking, add_delays, rank_risks
+from converter.analyse.simulate.risk_runs import RiskDraws, RiskRanking, rank_risks
 from converter.analyse.simulate.sampling import sample_durations
 from converter.model import DEFAULT_ITERATIONS, DEFAULT_SEED, DISTRIBUTIONS
 
-__all__ = ["PERCENTILE_KEYS", "SimulationResult", "draw_samples", "simulate", "simulate_durations"]
+__all__ = ["PERCENTILE_KEYS", "SimulationResult", "draw_samples", "simulate"]
 
 
 def _rng(seed: int, stream: int, chunk: int) -> np.random.Generator:
@@ -124,6 +124,7 @@ class _Passes:
                 raise ValueError(f"target activity index {i} out of range")
         self._samples: np.ndarray | None = None
         self._work: tuple[np.ndarray, ...] | None = None
+        self.watch: Callable | None = None  # watch(critical flags, first column) per block
 
     def samples(self, cols: int) -> np.ndarray:
         """A reused ``(n, cols)`` matrix for the durations of a chunk."""
@@ -159,6 +160,8 @@ class _Passes:
         for c0 in range(0, cols, block):
             c1 = min(cols, c0 + block)
             critical += self._block(d[:, c0:c1], nonneg, finish[c0:c1], hits)
+            if self.watch is not None:  # e.g. which risks hit a critical activity
+                self.watch(self._work[2][:, : c1 - c0], c0)
         return finish, critical, hits
 
     def _block(
@@ -226,8 +229,8 @@ def _chunk(job: _Job, j: int, correlate: bool) -> tuple[int, np.ndarray, dict[in
     if correlate:
         _correlate_chunk(job.inp, j, d, job.correlation)
     job.store[:, a : a + kept] = d[:, :kept]
-    if job.risks is not None:
-        add_delays(job.risks, d, a, b)
+    if job.risks is not None:  # the named risks' delays, and what to watch in the passes
+        job.risks.before_passes(job.passes, d, a, b)
     finish, crit, hits = job.passes.run(d)
     job.project[a:b] = finish
     return b - a, crit, hits
@@ -270,53 +273,6 @@ def _run_parallel(workers, job: _Job, correlate: bool, tick) -> tuple[Counts, np
     for r0, values in processes.map_unordered(workers, _ranked, ranges):
         sensitivity[r0 : r0 + values.size] = values
     return counts, sensitivity
-
-
-def simulate_durations(
-    net: Network,
-    durations: np.ndarray,
-    *,
-    due: float | None = None,
-    targets: dict[int, float] | None = None,
-    pert_mean: float = math.nan,
-    seed: int = 0,
-    distribution: str = "given",
-    correlation: float = 0.0,
-    progress: Callable[[int, int], None] | None = None,
-) -> SimulationResult:
-    """Analyse a given ``(n, iterations)`` matrix of durations as a simulation would.
-
-    Feeds samples from any source (e.g. normal draws) through the same passes and
-    statistics as :func:`simulate`; ``simulate(...)`` equals
-    ``simulate_durations(net, draw_samples(...))`` for the same inputs.
-    """
-    durations = np.asarray(durations)
-    if durations.ndim != 2 or durations.shape[0] != net.n or durations.shape[1] < 2:
-        raise ValueError("durations must be (activities, iterations >= 2)")
-    iterations = durations.shape[1]
-    passes = _Passes(net, targets)
-    counts = Counts(net.n, passes.targets)
-    project = np.empty(iterations)
-    step = chunk_size(net.n, iterations)
-    for a in range(0, iterations, step):
-        b = min(a + step, iterations)
-        finish, crit, hits = passes.run(np.array(durations[:, a:b], dtype=float))
-        project[a:b] = finish
-        counts.add(crit, hits)
-        if progress is not None:
-            progress(b, iterations)
-    sensitivity = spearman_rows(durations, project)
-    return summarise(
-        project,
-        counts,
-        sensitivity,
-        iterations=iterations,
-        seed=seed,
-        distribution=distribution,
-        correlation=correlation,
-        due=due,
-        pert_mean=pert_mean,
-    )
 
 
 def _run_name(inp: Inputs, default: str) -> str:
