@@ -82,6 +82,18 @@ def test_risks_sheet_activities_and_paths_carry_the_risk_terms(converted):
 
 
 @pytest.mark.libreoffice
+@pytest.mark.parametrize("distribution", ["triangular", "uniform"])
+def test_libreoffice_recalculates_the_other_impact_moments(distribution, libreoffice, tmp_path):
+    # Outside check: LibreOffice recomputes the triangular and uniform moment formulas
+    opts = ConvertOptions(iterations=500, seed=5, distribution=distribution, simulate=False)
+    result = convert(demo(tmp_path), opts, outdir=tmp_path / "out")
+    assert result.ok, [str(p) for p in result.problems]
+    copy = libreoffice.recalculate(result.workbook, tmp_path / "recalc")
+    report = compare_recalculated(result.workbook, copy)
+    assert list(report) == [], "\n".join(report[:20])
+
+
+@pytest.mark.libreoffice
 def test_libreoffice_recalculates_every_risk_formula(converted, libreoffice, tmp_path):
     # Outside check: LibreOffice recomputes every formula; each must give the cached value
     copy = libreoffice.recalculate(converted.workbook, tmp_path)
