@@ -64,20 +64,33 @@ def top_risks(sensitivity: np.ndarray, count: int = TOP_RISKS) -> list[int]:
     return [int(k) for k in np.argsort(-key, kind="stable")[:count]]
 
 
-def _finish_without(job, d: np.ndarray, cols: np.ndarray, rows, delay: np.ndarray) -> np.ndarray:
-    """Project finish of columns ``cols`` of ``d`` with ``delay`` taken off ``rows``."""
-    n = d.shape[0]
-    out = np.empty(cols.size)
-    block = pass_columns(n, max(cols.size, 1))
-    for c0 in range(0, cols.size, block):
-        c1 = min(cols.size, c0 + block)
+def _finishes_without(job, d: np.ndarray, wanted: list[tuple], out: list[np.ndarray]) -> None:
+    """Project finishes of ``d``'s columns with one risk's delay taken off each.
+
+    ``wanted`` holds, per risk, (its rows, its columns, its delay there, its position in
+    ``out``). All risks' columns go through the forward pass together, a block of
+    :func:`.budget.pass_columns` at a time (the passes' fixed cost per call is shared),
+    in the passes' own work memory.
+    """
+    n, cols = d.shape
+    owner = np.concatenate([np.full(c.size, t) for t, (_, c, _, _) in enumerate(wanted)])
+    where = np.concatenate([c for _, c, _, _ in wanted])
+    first = np.concatenate([[0], np.cumsum([c.size for _, c, _, _ in wanted])])
+    block = pass_columns(n, cols)
+    for c0 in range(0, where.size, block):
+        c1 = min(where.size, c0 + block)
         x, y, _ = job.passes.work(c1 - c0)
         dd = y[:n]  # the late times' rows are free in a forward pass
-        np.take(d, cols[c0:c1], axis=1, out=dd)
-        dd[rows] -= delay[:, c0:c1]
+        np.take(d, where[c0:c1], axis=1, out=dd)
+        for t in np.unique(owner[c0:c1]):
+            rows, _, delay, _ = wanted[t]
+            lo, hi = max(c0, first[t]), min(c1, first[t + 1])
+            dd[rows, lo - c0 : hi - c0] -= delay[:, lo - first[t] : hi - first[t]]
         forward_into(job.passes.plan, dd, x, bool(dd.min() >= 0.0) if dd.size else True)
-        out[c0:c1] = x[n:].max(axis=0) if n else 0.0
-    return out
+        finish = x[n:].max(axis=0) if n else np.zeros(c1 - c0)
+        for t in np.unique(owner[c0:c1]):
+            lo, hi = max(c0, first[t]), min(c1, first[t + 1])
+            out[wanted[t][3]][lo - first[t] : hi - first[t]] = finish[lo - c0 : hi - c0]
 
 
 def _final_durations(job, j: int, correlate: bool) -> np.ndarray:
@@ -106,10 +119,10 @@ def removal_chunk(job, j: int, top: list[int], correlate: bool) -> tuple[int, li
     cols = [np.flatnonzero(draws.critical[k, a:b]) for k in top]
     delays = [risk_delays(draws, d, a, b, k)[:, c] for k, c in zip(top, cols, strict=True)]
     add_delays(draws, d, a, b)
-    finishes = [
-        _finish_without(job, d, c, draws.rows[k], delay)
-        for k, c, delay in zip(top, cols, delays, strict=True)
-    ]
+    finishes = [np.empty(c.size) for c in cols]
+    wanted = [(draws.rows[k], cols[t], delays[t], t) for t, k in enumerate(top) if cols[t].size]
+    if wanted:
+        _finishes_without(job, d, wanted, finishes)
     return a, finishes
 
 
