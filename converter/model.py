@@ -23,6 +23,9 @@ DEFAULT_ITERATIONS = 10_000
 DEFAULT_PATHS = 10
 DEFAULT_CONFIDENCE = (0.5, 0.8, 0.9, 0.95)
 
+#: A risk register row whose Risk ID starts with this (any case) is an example, not read.
+RISK_EXAMPLE_PREFIX = "Example"
+
 
 @dataclass(frozen=True)
 class Problem:

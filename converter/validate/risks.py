@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import re
 
+from converter.model import RISK_EXAMPLE_PREFIX as EXAMPLE_PREFIX
 from converter.model import Risk, Settings
 from converter.read.extent import CellError
 from converter.read.sheets import TableMatch, cell_name
@@ -29,8 +30,7 @@ from converter.values import (
 __all__ = ["EXAMPLE_PREFIX", "parse_probability", "read_risks"]
 
 _SEPARATORS = re.compile(r"[,;]")
-#: A row whose Risk ID starts with this (any case) is an example and is not read.
-EXAMPLE_PREFIX = "Example"
+
 _IMPACTS = ("low", "likely", "high")
 
 

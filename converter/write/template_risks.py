@@ -1,13 +1,13 @@
 """The template's Risks sheet: the register's headers, checks on the cells, an example row.
 
 The example row's Risk ID starts with ``Example``: the reader skips such a row
-(:data:`converter.validate.risks.EXAMPLE_PREFIX`), so a filled-in template converts with it
+(:data:`converter.model.RISK_EXAMPLE_PREFIX`), so a filled-in template converts with it
 left in place.
 """
 
 from __future__ import annotations
 
-from converter.validate.risks import EXAMPLE_PREFIX
+from converter.model import RISK_EXAMPLE_PREFIX as EXAMPLE_PREFIX
 
 ROWS = 200  # formatted, checked input rows below the header
 
