@@ -23,6 +23,9 @@ DEFAULT_ITERATIONS = 10_000
 DEFAULT_PATHS = 10
 DEFAULT_CONFIDENCE = (0.5, 0.8, 0.9, 0.95)
 
+#: A risk register row whose Risk ID starts with this (any case) is an example, not read.
+RISK_EXAMPLE_PREFIX = "Example"
+
 
 @dataclass(frozen=True)
 class Problem:
@@ -179,6 +182,48 @@ class RawTable:
 
 
 @dataclass
+class Risk:
+    """One row of the risk register: an event that may delay the activities it hits.
+
+    ``low``, ``likely``, ``high`` are the impact in the schedule's time unit, or, with
+    ``percent``, a fraction of each hit activity's sampled duration (0.1 for 10%). The
+    ``mitigated_*`` fields are the register after the planned responses (None: not given,
+    the unmitigated value applies).
+    """
+
+    id: str
+    description: str
+    probability: float
+    low: float
+    likely: float
+    high: float
+    activities: tuple[str, ...]
+    percent: bool = False
+    group: str | None = None
+    row: int = 0
+    mitigated_probability: float | None = None
+    mitigated_low: float | None = None
+    mitigated_likely: float | None = None
+    mitigated_high: float | None = None
+
+    @property
+    def mitigated(self) -> bool:
+        """Whether any mitigated value is given."""
+        return self.mitigated_probability is not None or self.mitigated_likely is not None
+
+    def after_response(self) -> Risk:
+        """The risk with its mitigated values (the unmitigated ones where none is given)."""
+        from dataclasses import replace
+
+        if self.mitigated_likely is None:
+            low, likely, high = self.low, self.likely, self.high
+        else:
+            low, likely, high = self.mitigated_low, self.mitigated_likely, self.mitigated_high
+        p = self.probability if self.mitigated_probability is None else self.mitigated_probability
+        return replace(self, probability=p, low=low, likely=likely, high=high)
+
+
+@dataclass
 class Schedule:
     """A validated schedule: what the analysis consumes."""
 
@@ -195,6 +240,8 @@ class Schedule:
     #: The range classes (and inline ranges) that made some activity's O, M and P, in the
     #: order first used.
     ranges: list[RangeClass] = field(default_factory=list)
+    risks: list[Risk] = field(default_factory=list)  # the risk register (may be empty)
+    risk_sheet: str | None = None  # the sheet the register was read from
 
     def index(self) -> dict[str, int]:
         return {a.id: i for i, a in enumerate(self.activities)}

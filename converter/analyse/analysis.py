@@ -34,6 +34,7 @@ from converter.analyse.network import (
 )
 from converter.analyse.network import schedule as run_cpm
 from converter.analyse.paths import Path, count_paths, k_longest_paths
+from converter.analyse.risk_register import RiskView, add_path_terms, risk_view, simulate_register
 from converter.analyse.status import Remaining, remaining_network
 from converter.analyse.status_checks import status_checks
 from converter.analyse.summaries import SummaryFigures, summary_figures, summary_link_check
@@ -109,6 +110,7 @@ class Analysis:
     summaries: SummaryFigures | None = None  # WBS summary rows (None without a WBS column)
     # start constraints and progress (None: neither given; see converter.analyse.status)
     remaining_work: Remaining | None = None
+    risk_view: RiskView | None = None  # the risk register's figures (None: no register)
 
     @property
     def project_sd(self) -> float:
@@ -225,6 +227,15 @@ def _path_results(found: list, due: float | None) -> list[PathResult]:
     ]
 
 
+def _with_risks(schedule: Schedule, index, te: np.ndarray) -> tuple[RiskView | None, np.ndarray]:
+    """The register's analytic view and the expected durations including the expected delay
+    of the risks that hit each activity (``te`` itself without a register)."""
+    if not schedule.risks:
+        return None, te
+    view = risk_view(schedule.risks, index, te, schedule.settings.distribution)
+    return view, te + view.activity_delay
+
+
 def analyse(schedule: Schedule, options=None) -> Analysis:
     """Run every stage on a validated schedule."""
     s = schedule.settings
@@ -235,13 +246,15 @@ def analyse(schedule: Schedule, options=None) -> Analysis:
     calendar = Calendar.from_settings(s) if s.start_date is not None else None
     rem = remaining_network(schedule, calendar, *given)
     o, m, p = rem.o, rem.m, rem.p
-    te = pert.expected_time(o, m, p)
-    var = pert.variance(o, p)
+    te_base, var = pert.expected_time(o, m, p), pert.variance(o, p)
+    view, te = _with_risks(schedule, index, te_base)
     net = _network(schedule, index, rem)
     cpm = run_cpm(net, te)
     due, due_date = _due_offset(s.due, calendar)
 
     found = k_longest_paths(net, te, var, max(1, s.paths))
+    if view is not None:
+        add_path_terms(view, found, te_base)
     path_results = _path_results(found, due)
     critical = found[0]
     project_mean = float(cpm.finish)
@@ -262,7 +275,7 @@ def analyse(schedule: Schedule, options=None) -> Analysis:
     targets = _targets(acts, net, te, var, cpm, calendar)
     simulation = None
     if options is None or getattr(options, "simulate", True):
-        simulation = _simulate(schedule, net, o, m, p, due, targets, project_mean, options)
+        simulation = _simulate(schedule, net, o, m, p, due, targets, project_mean, options, view)
 
     unit_days = days_per_unit(s.time_unit, s.working_days, s.hours_per_day)
     a = Analysis(
@@ -296,6 +309,7 @@ def analyse(schedule: Schedule, options=None) -> Analysis:
         link_driving=np.abs(cpm.link_slack) <= tol,
         float_tolerance=tol,
         remaining_work=None if rem.floor is None and rem.progress is None else rem,
+        risk_view=view,
     )
     if schedule.summaries:  # after the other logic checks
         logic = sum(1 for c in a.checks if c.group == "logic")
@@ -337,18 +351,15 @@ def _simulate(
     targets: list[TargetResult],
     project_mean: float,
     options,
+    view: RiskView | None = None,
 ) -> SimulationResult:
-    """The Monte Carlo run; fills each target's simulated chance."""
+    """The Monte Carlo run (and the mitigated one); fills each target's simulated chance."""
     from converter.analyse.simulate.runs import simulate
 
     s = schedule.settings
     dists = [a.distribution for a in schedule.activities]
     groups = [a.group for a in schedule.activities]
-    simulation = simulate(
-        net,
-        o,
-        m,
-        p,
+    kwargs = dict(
         distribution=s.distribution,
         distributions=dists if any(dists) else None,
         groups=groups if any(groups) else None,
@@ -362,6 +373,10 @@ def _simulate(
         workers=getattr(options, "simulation_workers", None),
         memory_mb=getattr(options, "simulation_memory_mb", None),
     )
+    if view is not None:
+        simulation = simulate_register(simulate, (net, o, m, p), kwargs, schedule, view)
+    else:
+        simulation = simulate(net, o, m, p, **kwargs)
     for t in targets:
         t.p_simulated = simulation.target_p.get(t.activity)
     return simulation

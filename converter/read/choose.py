@@ -52,12 +52,18 @@ def complete(match: TableMatch | None) -> bool:
 
 def choose_sheets(raw: RawInput) -> list[Problem]:
     """Set ``raw.activity``, ``raw.settings``, ``raw.links``; return the reader's problems."""
+    from converter.read.risks import find_risk_sheet
+
+    raw.risks = find_risk_sheet(raw)
+    register = raw.risks.sheet if raw.risks is not None else None
     settings = [s for s in raw.sheets if named(s, SETTINGS_SHEET_NAMES)]
     raw.settings = settings[0] if settings else None
     choose_ranges(raw)
     candidates: list[tuple[tuple, TableMatch]] = []
     settings_match = None
     for pos, sheet in enumerate(raw.sheets):
+        if sheet is register:
+            continue
         m = match_header(sheet, ACTIVITY_ALIASES)
         if sheet is raw.settings:
             settings_match = m
@@ -136,7 +142,7 @@ def _choose_links(raw: RawInput) -> None:
     for sheet in raw.sheets:
         if sheet is raw.settings or (raw.activity and sheet is raw.activity.sheet):
             continue
-        if is_ranges_sheet(raw, sheet):
+        if is_ranges_sheet(raw, sheet) or (raw.risks is not None and sheet is raw.risks.sheet):
             continue
         m = match_header(sheet, LINK_ALIASES)
         if m and "pred" in m.columns and "succ" in m.columns:
@@ -146,6 +152,8 @@ def _choose_links(raw: RawInput) -> None:
         raw.notes.append(f"Links sheet: {raw.links.sheet.name}.")
     if raw.settings:
         raw.notes.append(f"Settings sheet: {raw.settings.name}.")
+    if raw.risks:
+        raw.notes.append(f"Risk register: {raw.risks.sheet.name}.")
 
 
 def _header_too_low(raw: RawInput) -> list[Problem]:
@@ -203,7 +211,7 @@ def _duplicate_columns(match: TableMatch) -> list[Problem]:
 def _error_cells(raw: RawInput) -> list[Problem]:
     """Errors for error values in the columns pertbook reads (activity, links, settings)."""
     places: list[tuple[SheetData, int, dict[str, int], int | None]] = []
-    for match in (raw.activity, raw.links):
+    for match in (raw.activity, raw.links, raw.risks):
         if match is not None:
             ident = match.columns.get("id")
             places.append((match.sheet, match.header_row + 1, match.columns, ident))

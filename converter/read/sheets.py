@@ -156,6 +156,8 @@ class RawInput:
     ranges: TableMatch | None = None
     #: A sheet named like a range classes sheet whose header row was not found.
     ranges_unreadable: SheetData | None = None
+    #: The risk register's header row (None: no register).
+    risks: TableMatch | None = None
 
     def search_summary(self) -> str:
         """The search in one paragraph: ``"Searched ...: Plan: ...; Settings: ..."``."""

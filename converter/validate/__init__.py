@@ -9,6 +9,7 @@ the output). The steps, one module each:
 - :mod:`~converter.validate.activities`: the activity sheet's columns and rows;
 - :mod:`~converter.validate.links`: predecessor tokens, a links sheet, cycles;
 - :mod:`~converter.validate.outline`: WBS summary rows and the links written on them.
+- :mod:`~converter.validate.risks`: the risk register.
 """
 
 from __future__ import annotations
@@ -33,6 +34,7 @@ from converter.validate.outline import (
 from converter.validate.problems import Collector
 from converter.validate.progress import warn_out_of_sequence
 from converter.validate.ranges import read_range_classes
+from converter.validate.risks import read_risks
 from converter.validate.settings import resolve_settings
 
 __all__ = ["validate"]
@@ -84,6 +86,9 @@ def validate(
             read_predecessor_column(book, summaries, outline.summary_cells, match, settings)
     if raw.links is not None:
         read_links_sheet(book, raw.links, settings)
+    risks = []
+    if raw.risks is not None:
+        risks = read_risks(raw.risks, settings, {a.id for a in rows.activities}, out)
     links = expand_summary_links(book.links, rows.activities, summaries, out)
     check_cycles(rows.activities, links, out)
     warn_unlinked(rows.activities, links, match, out)
@@ -110,6 +115,8 @@ def validate(
         notes=list(raw.notes) + _unused_ranges(ranges),
         summaries=summaries,
         ranges=list(ranges.used.values()),
+        risks=risks,
+        risk_sheet=raw.risks.sheet.name if raw.risks is not None else None,
     )
     return schedule, out.problems
 

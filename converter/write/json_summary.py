@@ -71,6 +71,10 @@ def build_json(path: Path, problems, analysis, sha256: str | None) -> dict:
         for pr in a.paths
     ]
     data["simulation"] = _simulation(a.simulation)
+    data["risks"] = [] if a.risk_view is None else _risks(a.risk_view, a.simulation)
+    if data["simulation"] is not None:  # null without a register or mitigated values
+        mitigated = None if a.risk_view is None else a.risk_view.mitigated
+        data["simulation"]["mitigated"] = _mitigated(mitigated)
     data["targets"] = [
         {
             "activity": a.ids[t.activity],
@@ -250,3 +254,37 @@ def _simulation(sim) -> dict | None:
         data["sensitivity_iterations"] = sim.sensitivity_iterations
         data["sensitivity_std_error"] = _num(sim.sensitivity_std_error)
     return data
+
+
+def _risks(view, sim) -> list[dict]:
+    """One entry per risk of the register; deltas null outside the top by sensitivity."""
+    rank = sim.risks if sim is not None else None
+    out = []
+    for k, r in enumerate(view.risks):
+        out.append(
+            {
+                "id": r.id,
+                "description": r.description,
+                "probability": _num(r.probability),
+                "activities": list(r.activities),
+                "occurred": _num(rank.occurred[k]) if rank else None,
+                "mean_delay_when_occurred": _num(rank.mean_delay[k]) if rank else None,
+                "sensitivity": _num(rank.sensitivity[k]) if rank else None,
+                "delta_mean": _num(rank.delta_mean[k]) if rank else None,
+                "delta_p50": _num(rank.delta_p50[k]) if rank else None,
+                "delta_p80": _num(rank.delta_p80[k]) if rank else None,
+            }
+        )
+    return out
+
+
+def _mitigated(sim) -> dict | None:
+    """The mitigated run's headline (None: the register gives no responses)."""
+    if sim is None:
+        return None
+    return {
+        "mean": _num(sim.mean),
+        "sd": _num(sim.sd),
+        "p_meet_due": _num(sim.p_meet_due),
+        "percentiles": {repr(float(q)): _num(v) for q, v in sorted(sim.percentiles.items())},
+    }

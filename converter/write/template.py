@@ -1,4 +1,5 @@
-"""A blank input workbook to fill in: activity sheet, settings sheet, instructions.
+"""A blank input workbook to fill in: activity sheet, settings sheet, risk register,
+instructions.
 
 Written with xlsxwriter; deterministic (fixed document dates), so a freshly written
 template equals the committed ``templates/pertbook-template.xlsx``. Column headers and
@@ -20,6 +21,7 @@ from converter.model import (
     DISTRIBUTIONS,
     Settings,
 )
+from converter.write.template_risks import write_risks_sheet
 
 ROWS = 500  # formatted, validated input rows below the header
 HOLIDAY_ROWS = 30  # blank-labelled rows below "Holidays" for more dates
@@ -484,5 +486,6 @@ def write_template(path: Path) -> None:
     _activities(wb, wb.add_worksheet("Activities"), bold, fmt)
     _settings(wb, wb.add_worksheet("Settings"), bold, fmt, wrap)
     _ranges(wb.add_worksheet("Ranges"), bold, fmt, wrap)
+    write_risks_sheet(wb, wb.add_worksheet("Risks"), bold, fmt)
     _instructions(wb, wb.add_worksheet("Instructions"))
     wb.close()

@@ -82,7 +82,11 @@ def random_dag(draw, typed=False):
     pairs = [(i, j) for i in range(n) for j in range(i + 1, n)]
     chosen = draw(st.lists(st.sampled_from(pairs), unique=True, max_size=30)) if pairs else []
     d = draw(
-        st.lists(st.floats(0, 20, allow_nan=False, allow_subnormal=False), min_size=n, max_size=n)
+        st.lists(
+            st.one_of(st.just(0.0), st.floats(1e-3, 20)),  # durations of a real schedule
+            min_size=n,
+            max_size=n,
+        )
     )
     kinds = [draw(st.sampled_from([FS, SS, FF, SF])) if typed else FS for _ in chosen]
     lags = [draw(st.sampled_from([0, 0, 1, 2.5, -1, -2])) if typed else 0.0 for _ in chosen]

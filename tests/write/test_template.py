@@ -40,7 +40,7 @@ def _validations(ws) -> dict[str, object]:
 
 def test_activity_sheet_layout(fresh):
     wb = openpyxl.load_workbook(fresh)
-    assert wb.sheetnames == ["Activities", "Settings", "Ranges", "Instructions"]
+    assert wb.sheetnames == ["Activities", "Settings", "Ranges", "Risks", "Instructions"]
     ws = wb["Activities"]
     assert [c.value for c in ws[1]] == HEADERS
     assert all(c.font.b for c in ws[1])
@@ -213,7 +213,7 @@ def test_template_opens_in_libreoffice(tmp_path, fresh, soffice):
     """LibreOffice loads and re-saves the template (a proxy for 'opens without repair')."""
     out = recalculate(fresh, tmp_path / "out", soffice=soffice)
     wb = openpyxl.load_workbook(out)
-    assert wb.sheetnames == ["Activities", "Settings", "Ranges", "Instructions"]
+    assert wb.sheetnames == ["Activities", "Settings", "Ranges", "Risks", "Instructions"]
     assert [c.value for c in wb["Activities"][1]] == HEADERS
     kinds = {dv.type for dv in wb["Activities"].data_validations.dataValidation}
     assert {"decimal", "custom", "list"} <= kinds

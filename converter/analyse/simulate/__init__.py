@@ -1,10 +1,11 @@
 """Monte Carlo simulation over the array passes.
 
-Modules: :mod:`.runs` (the runs: chunks, passes), :mod:`.result` (the result and its
-summary), :mod:`.budget` (the memory budget), :mod:`.inputs` (validated inputs, chunk
-sizes), :mod:`.sampling` (duration distributions), :mod:`.correlation` (Iman-Conover
-rank correlation), :mod:`.ranks` (Spearman sensitivity), :mod:`.workers` (process pool,
-shared memory).
+Modules: :mod:`.runs` (the runs: chunks, passes), :mod:`.given` (durations given from
+outside), :mod:`.result` (the result and its summary), :mod:`.budget` (the memory budget),
+:mod:`.inputs` (validated inputs, chunk sizes), :mod:`.sampling` (duration distributions),
+:mod:`.correlation` (Iman-Conover rank correlation), :mod:`.ranks` (Spearman sensitivity),
+:mod:`.workers` (process pool, shared memory), :mod:`.risks` (named risks' draws),
+:mod:`.risk_runs` (the risks' ranking).
 """
 
 from converter.analyse.simulate.budget import (
@@ -17,6 +18,7 @@ from converter.analyse.simulate.budget import (
     sensitivity_std_error,
 )
 from converter.analyse.simulate.correlation import induce_rank_correlation
+from converter.analyse.simulate.given import simulate_durations
 from converter.analyse.simulate.inputs import chunk_size
 from converter.analyse.simulate.ranks import centred_ranks, spearman_rows
 from converter.analyse.simulate.runs import (
@@ -24,7 +26,6 @@ from converter.analyse.simulate.runs import (
     SimulationResult,
     draw_samples,
     simulate,
-    simulate_durations,
 )
 from converter.analyse.simulate.sampling import beta_cheng, sample_durations
 

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
+from typing import Any
 
 import numpy as np
 
@@ -52,6 +53,8 @@ class SimulationResult:
     sensitivity_iterations: int = 0
     #: The memory budget the run was kept within, in MB (0: not recorded).
     memory_budget_mb: int = 0
+    #: The named risks' ranking (:class:`.risk_runs.RiskRanking`; None: no risks).
+    risks: Any = None
 
     def __post_init__(self) -> None:
         if not self.sensitivity_iterations:

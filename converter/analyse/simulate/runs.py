@@ -52,18 +52,19 @@ from converter.analyse.simulate.budget import (
     plan_memory,
 )
 from converter.analyse.simulate.correlation import induce_rank_correlation
-from converter.analyse.simulate.inputs import Inputs, check_correlation, chunk_size, prepare
-from converter.analyse.simulate.ranks import RANK_ROWS, centred_ranks, spearman_block, spearman_rows
+from converter.analyse.simulate.inputs import Inputs, check_correlation, prepare
+from converter.analyse.simulate.ranks import RANK_ROWS, centred_ranks, spearman_block
 from converter.analyse.simulate.result import (
     PERCENTILE_KEYS,
     Counts,
     SimulationResult,
     summarise,
 )
+from converter.analyse.simulate.risk_runs import RiskDraws, RiskRanking, rank_risks
 from converter.analyse.simulate.sampling import sample_durations
 from converter.model import DEFAULT_ITERATIONS, DEFAULT_SEED, DISTRIBUTIONS
 
-__all__ = ["PERCENTILE_KEYS", "SimulationResult", "draw_samples", "simulate", "simulate_durations"]
+__all__ = ["PERCENTILE_KEYS", "SimulationResult", "draw_samples", "simulate"]
 
 
 def _rng(seed: int, stream: int, chunk: int) -> np.random.Generator:
@@ -123,6 +124,7 @@ class _Passes:
                 raise ValueError(f"target activity index {i} out of range")
         self._samples: np.ndarray | None = None
         self._work: tuple[np.ndarray, ...] | None = None
+        self.watch: Callable | None = None  # watch(critical flags, first column) per block
 
     def samples(self, cols: int) -> np.ndarray:
         """A reused ``(n, cols)`` matrix for the durations of a chunk."""
@@ -158,6 +160,8 @@ class _Passes:
         for c0 in range(0, cols, block):
             c1 = min(cols, c0 + block)
             critical += self._block(d[:, c0:c1], nonneg, finish[c0:c1], hits)
+            if self.watch is not None:  # e.g. which risks hit a critical activity
+                self.watch(self._work[2][:, : c1 - c0], c0)
         return finish, critical, hits
 
     def _block(
@@ -191,6 +195,8 @@ class _Job:
     project: np.ndarray  # (iterations,) project durations of the current run
     centred: np.ndarray  # (sample,) centred ranks of ``project[:sample]`` for the rank step
     correlation: float
+    risks: RiskDraws | None = None  # named risks' draws, added to each chunk's durations
+    ranking: RiskRanking | None = None  # the risks' ranking, after the last run
 
     @property
     def sample(self) -> int:
@@ -223,6 +229,8 @@ def _chunk(job: _Job, j: int, correlate: bool) -> tuple[int, np.ndarray, dict[in
     if correlate:
         _correlate_chunk(job.inp, j, d, job.correlation)
     job.store[:, a : a + kept] = d[:, :kept]
+    if job.risks is not None:  # the named risks' delays, and what to watch in the passes
+        job.risks.before_passes(job.passes, d, a, b)
     finish, crit, hits = job.passes.run(d)
     job.project[a:b] = finish
     return b - a, crit, hits
@@ -267,53 +275,6 @@ def _run_parallel(workers, job: _Job, correlate: bool, tick) -> tuple[Counts, np
     return counts, sensitivity
 
 
-def simulate_durations(
-    net: Network,
-    durations: np.ndarray,
-    *,
-    due: float | None = None,
-    targets: dict[int, float] | None = None,
-    pert_mean: float = math.nan,
-    seed: int = 0,
-    distribution: str = "given",
-    correlation: float = 0.0,
-    progress: Callable[[int, int], None] | None = None,
-) -> SimulationResult:
-    """Analyse a given ``(n, iterations)`` matrix of durations as a simulation would.
-
-    Feeds samples from any source (e.g. normal draws) through the same passes and
-    statistics as :func:`simulate`; ``simulate(...)`` equals
-    ``simulate_durations(net, draw_samples(...))`` for the same inputs.
-    """
-    durations = np.asarray(durations)
-    if durations.ndim != 2 or durations.shape[0] != net.n or durations.shape[1] < 2:
-        raise ValueError("durations must be (activities, iterations >= 2)")
-    iterations = durations.shape[1]
-    passes = _Passes(net, targets)
-    counts = Counts(net.n, passes.targets)
-    project = np.empty(iterations)
-    step = chunk_size(net.n, iterations)
-    for a in range(0, iterations, step):
-        b = min(a + step, iterations)
-        finish, crit, hits = passes.run(np.array(durations[:, a:b], dtype=float))
-        project[a:b] = finish
-        counts.add(crit, hits)
-        if progress is not None:
-            progress(b, iterations)
-    sensitivity = spearman_rows(durations, project)
-    return summarise(
-        project,
-        counts,
-        sensitivity,
-        iterations=iterations,
-        seed=seed,
-        distribution=distribution,
-        correlation=correlation,
-        due=due,
-        pert_mean=pert_mean,
-    )
-
-
 def _run_name(inp: Inputs, default: str) -> str:
     kinds = set(inp.codes[inp.o < inp.p].tolist())
     if len(kinds) > 1:
@@ -329,10 +290,12 @@ def _both_runs(job: _Job, runs: tuple[bool, ...], count: int, tick) -> list[tupl
             for correlate in runs:
                 counts, sens = _run_parallel(workers, job, correlate, tick)
                 results.append((_durations(job, correlate == runs[-1]), counts, sens))
+            job.ranking = rank_risks(job, workers, runs[-1]) if job.risks else None
     else:
         for correlate in runs:
             counts, sens = _run_serial(job, correlate, tick)
             results.append((_durations(job, correlate == runs[-1]), counts, sens))
+        job.ranking = rank_risks(job, None, runs[-1]) if job.risks else None
     return results
 
 
@@ -359,6 +322,7 @@ def simulate(
     progress: Callable[[int, int], None] | None = None,
     workers: int | None = None,
     memory_mb: int | None = None,
+    risks: RiskDraws | None = None,
 ) -> SimulationResult:
     """Monte Carlo simulation of the network's project duration (see module docstring).
 
@@ -395,6 +359,8 @@ def simulate(
     memory_mb : int, optional
         Memory budget of the run in MB (None: :data:`.budget.DEFAULT_MEMORY_MB`); see
         :mod:`.budget` for what it bounds and how.
+    risks : RiskDraws, optional
+        Named risks' draws (:mod:`.risks`); the result's ``risks`` ranks them.
 
     Returns
     -------
@@ -444,7 +410,7 @@ def simulate(
     group = max((g.size for g in inp.groups), default=0) if correlated else 0
     plan = plan_memory(inp.n, inp.iterations, count, inp.chunk, group, 1 + correlated, memory_mb)
     try:
-        results = _run(net, inp, plan, targets, float(correlation), tick)
+        results, ranking = _run(net, inp, plan, targets, float(correlation), tick, risks)
     except (MemoryError, OSError) as exc:
         if isinstance(exc, OSError) and exc.errno != errno.ENOMEM:
             raise
@@ -460,21 +426,22 @@ def simulate(
     )
     first = summarise(*results[0], correlation=0.0, **common)
     if not correlated:
+        first.risks = ranking
         return first
     result = summarise(*results[1], correlation=correlation, **common)
-    result.independent = first
+    result.independent, result.risks = first, ranking
     return result
 
 
-def _run(net, inp: Inputs, plan: MemoryPlan, targets, correlation: float, tick) -> list:
+def _run(net, inp: Inputs, plan: MemoryPlan, targets, correlation: float, tick, risks) -> tuple:
     """Both runs (the correlated one only when there are groups to correlate)."""
     shared = plan.workers > 1
     store = processes.mapped((inp.n, plan.sample), np.float32, shared)
     project = processes.mapped((inp.iterations,), float, shared)
     centred = processes.mapped((plan.sample,), float, shared)
-    job = _Job(inp, _Passes(net, targets), store, project, centred, correlation)
+    job = _Job(inp, _Passes(net, targets), store, project, centred, correlation, risks)
     correlated = correlation > 0.0 and bool(inp.groups)
-    return _both_runs(job, (False, True)[: 1 + correlated], plan.workers, tick)
+    return _both_runs(job, (False, True)[: 1 + correlated], plan.workers, tick), job.ranking
 
 
 def _out_of_memory(inp: Inputs, plan: MemoryPlan) -> SimulationMemoryError:

@@ -25,6 +25,7 @@ from converter.write.workbook.reference import (
     write_settings,
     write_warnings,
 )
+from converter.write.workbook.risks_sheet import write_risks
 from converter.write.workbook.rows import (
     DEFAULT_FONT_SIZE,
     DEFAULT_ROW_PIXELS,
@@ -113,6 +114,7 @@ def write_workbook(analysis, path: str | Path) -> None:
         ranged=any(act.duration is not None for act in analysis.schedule.activities),
         not_before=any(act.not_before is not None for act in analysis.schedule.activities),
         status=analysis.schedule.settings.status_date is not None,
+        risks=analysis.risk_view is not None,
     )
     write_summary(wb, fmt, analysis, lay)
     write_activities(wb, fmt, analysis, lay)
@@ -123,6 +125,8 @@ def write_workbook(analysis, path: str | Path) -> None:
     write_probability(wb, fmt, analysis, lay)
     if analysis.simulation is not None:
         write_simulation(wb, fmt, analysis, lay)
+    if analysis.risk_view is not None:
+        write_risks(wb, fmt, analysis, lay)
     write_timeline(wb, fmt, analysis, lay)
     write_health(wb, fmt, analysis, lay)
     write_settings(wb, fmt, analysis, lay)

@@ -15,6 +15,7 @@ from converter.write.workbook import formulas as f
 from converter.write.workbook import pages, progress_cols
 from converter.write.workbook.layout import ACTIVITIES, FIRST, LINKS, Layout
 from converter.write.workbook.ranges import row_of, write_estimates
+from converter.write.workbook.risks_sheet import delay_terms, risks_by_activity
 from converter.write.workbook.rows import DEFAULT_ROW_HEIGHT, fit_row, merged_width, row_height
 from converter.write.workbook.styles import TABLE_HEAD_SIZE, TITLE_ROW
 
@@ -45,6 +46,7 @@ HEADERS = {
     "duration": "Duration",
     "range": "Range used",
     **progress_cols.HEADERS,
+    "risk_delay": "Risk delay (expected, in TE)",
 }
 
 EXCEL_EPOCH_ORDINAL = 693594  # date(1899, 12, 30).toordinal()
@@ -138,6 +140,7 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
     raw_preds = _predecessor_text(a)
     name_look = _name_formats(wb, fmt, a)
     range_rows = row_of(a)
+    by_activity = risks_by_activity(a.risk_view, a.net.n) if a.risk_view is not None else []
     for i, act in enumerate(a.schedule.activities):
         r = lay.row(i)
         ws.write_string(r, c["id"], act.id, fmt.wrap)
@@ -156,12 +159,7 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
             ],
         )
         write_estimates(ws, fmt, lay, r, i, act, range_rows)
-        o, m, p = lay.cell(i, "o"), lay.cell(i, "m"), lay.cell(i, "p")
-        te_var = (f.expected_time(o, m, p), f.pert_variance(o, p))
-        if lay.status:
-            te_var = progress_cols.te_var_formulas(a, lay, i) or te_var
-        ws.write_formula(r, c["te"], te_var[0], fmt.num, float(a.te[i]))
-        ws.write_formula(r, c["var"], te_var[1], fmt.num4, float(a.var[i]))
+        _write_expected(ws, fmt, a, lay, i, by_activity)
         floor = progress_cols.start_floor_terms(a, lay, i)
         es_formula, lf_formula, ff_formula = _pass_formulas(lay, net, incoming, outgoing, i, floor)
         ws.write_formula(r, c["es"], es_formula, fmt.num, float(cpm.es[i]))
@@ -201,6 +199,23 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
     ws.autofilter(FIRST - 1, 0, lay.last_row, max(c.values()))
     bands = [c[k] for k in ("tf", "criticality") if k in c]  # float and dates, simulated
     pages.set_up(ws, header_rows=(FIRST - 1, FIRST - 1), title_cols=(0, 1), bands=bands)
+
+
+def _write_expected(ws, fmt, a, lay: Layout, i: int, by_activity) -> None:
+    """Activity ``i``'s TE and variance formulas: from O, M, P (or the remaining work of a
+    project in flight), TE with the expected delay of the risks that hit it."""
+    c, r = lay.cols, lay.row(i)
+    o, m, p = lay.cell(i, "o"), lay.cell(i, "m"), lay.cell(i, "p")
+    te, var = f.expected_time(o, m, p), f.pert_variance(o, p)
+    if lay.status:
+        te, var = progress_cols.te_var_formulas(a, lay, i) or (te, var)
+    if "risk_delay" in c:  # TE includes the expected delay of the risks hitting it
+        te += "+" + lay.cell(i, "risk_delay")
+        terms = delay_terms(a, lay, i, by_activity)
+        delay = float(a.risk_view.activity_delay[i])
+        ws.write_formula(r, c["risk_delay"], f.risk_delay(terms), fmt.num, delay)
+    ws.write_formula(r, c["te"], te, fmt.num, float(a.te[i]))
+    ws.write_formula(r, c["var"], var, fmt.num4, float(a.var[i]))
 
 
 def _write_simulated(ws, fmt, c, r: int, sim, i: int) -> None:

@@ -187,3 +187,47 @@ def summary_finish(cells: str) -> str:
 def from_range(duration: str, percent: str) -> str:
     """An estimate made by a range class: duration x percent / 100 (O, M or P)."""
     return f"={duration}*{percent}/100"
+
+
+def impact_mean(kind: str, low: str, likely: str, high: str) -> str:
+    """Mean impact: PERT (L + 4M + H) / 6, triangular (L + M + H) / 3, uniform (L + H) / 2."""
+    if kind == "triangular":
+        return f"=({low}+{likely}+{high})/3"
+    if kind == "uniform":
+        return f"=({low}+{high})/2"
+    return f"=({low}+4*{likely}+{high})/6"
+
+
+def impact_variance(kind: str, low: str, likely: str, high: str, mean: str) -> str:
+    """Impact variance: PERT-beta (mean - L)(H - mean) / 7, triangular
+    (L^2 + M^2 + H^2 - LM - LH - MH) / 18, uniform (H - L)^2 / 12."""
+    if kind == "triangular":
+        return f"=({low}^2+{likely}^2+{high}^2-{low}*{likely}-{low}*{high}-{likely}*{high})/18"
+    if kind == "uniform":
+        return f"=({high}-{low})^2/12"
+    return f"=({mean}-{low})*({high}-{mean})/7"
+
+
+def compound_mean(p: str, mean: str) -> str:
+    """Mean of B I with B ~ Bernoulli(p): p mu."""
+    return f"={p}*{mean}"
+
+
+def compound_variance(p: str, mean: str, var: str) -> str:
+    """Variance of B I with B ~ Bernoulli(p): p sigma^2 + p (1 - p) mu^2."""
+    return f"={p}*{var}+{p}*(1-{p})*{mean}^2"
+
+
+def risk_delay(terms: list[str]) -> str:
+    """An activity's expected delay: the sum of its risks' terms (0 without any)."""
+    return "=" + ("+".join(terms) if terms else "0")
+
+
+def path_risk_mean(delay_mean: str, weights: str) -> str:
+    """The risks' expected delay on a path: SUMPRODUCT(p mu, weight)."""
+    return f"=SUMPRODUCT({delay_mean},{weights})"
+
+
+def path_risk_variance(delay_variance: str, weights: str) -> str:
+    """The risks' variance on a path: SUMPRODUCT(delay variance, weight, weight)."""
+    return f"=SUMPRODUCT({delay_variance},{weights},{weights})"

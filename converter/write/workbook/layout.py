@@ -19,6 +19,7 @@ METHOD = "Method"
 INPUT = "Input as read"
 WARNINGS = "Warnings"
 RANGES = "Ranges"
+RISKS = "Risks"
 
 #: Zero-based row of the first data row in the activity and links tables (sheet row 5).
 FIRST = 4
@@ -42,6 +43,7 @@ class Layout:
     ranged: bool = False
     not_before: bool = False  # a Not before column (start constraints given)
     status: bool = False  # the progress columns (a status date given)
+    risks: bool = False  # a risk register: the expected risk delay column, last
 
     def __post_init__(self) -> None:
         names = [
@@ -73,6 +75,8 @@ class Layout:
             names += ["not_before"]
         if self.status:
             names += ["actual_start", "actual_finish", "rem_o", "rem_m", "rem_p", "state"]
+        if self.risks:
+            names += ["risk_delay"]
         self.cols = {k: i for i, k in enumerate(names)}
         self._row_map()
 

@@ -7,6 +7,7 @@ from converter.model import LINK_TYPES
 from converter.write.workbook import formulas as f
 from converter.write.workbook import pages, progress_cols
 from converter.write.workbook.layout import FIRST, PATHS, Layout
+from converter.write.workbook.risks_sheet import PATH_HEADS, paths_extra
 from converter.write.workbook.rows import fit_row, merged_width, row_height
 from converter.write.workbook.styles import TABLE_HEAD_SIZE, TITLE_ROW
 
@@ -60,6 +61,10 @@ def write_paths(wb, fmt, a, lay: Layout) -> None:
     for col, width in enumerate(WIDTHS):
         ws.set_column(col, col, width)
     _heads(ws, fmt, FIRST - 1, SUMMARY_HEADERS, SUMMARY_ALIGN)
+    if a.risk_view is not None:
+        for col, head in enumerate(PATH_HEADS, start=len(WIDTHS)):
+            ws.write_string(FIRST - 1, col, head, fmt.th_center)
+            ws.set_column(col, col, 12.0)
     k = len(a.paths)
     step_top = FIRST + k + 4
     ws.write_string(step_top - 2, 0, "Path steps", fmt.title)
@@ -127,7 +132,9 @@ def _write_path_row(
     coef, te, var, lag = (f.span(first, last, c) for c in (4, 5, 6, 7))
     ws.write_number(row, 0, n + 1, fmt.int_center)
     ws.write_formula(row, 1, f.path_length(coef, te, lag), fmt.num, path.mean)
-    ws.write_formula(row, 2, f.path_variance(coef, var), fmt.num4, path.variance)
+    risk_var = paths_extra(ws, fmt, a, row, n)  # the named risks' terms (with a register)
+    variance = f.path_variance(coef, var) + (f"+{risk_var}" if risk_var else "")
+    ws.write_formula(row, 2, variance, fmt.num4, path.variance)
     ws.write_formula(row, 3, f"=SQRT({f.ref(row, 2)})", fmt.num, path.sd)
     if a.due is not None:
         ws.write_formula(

@@ -11,6 +11,7 @@ from converter.write.workbook import pages, progress_cols, rows
 from converter.write.workbook.activities import serial
 from converter.write.workbook.layout import INPUT, METHOD, SETTINGS, WARNINGS, Layout
 from converter.write.workbook.ranges import METHOD_ROW as RANGE_METHOD_ROW
+from converter.write.workbook.risks_sheet import METHOD_RISKS
 from converter.write.workbook.summary import CAUTION
 
 WEEKDAY_NAMES = ("Mon", "Tue", "Wed", "Thu", "Fri", "Sat", "Sun")
@@ -249,6 +250,7 @@ def write_method(wb, fmt, a, lay: Layout) -> None:
     at = next(k for k, (label, _) in enumerate(items) if label == "Calendar") + 1
     items.insert(at, ("Units", units_text(a.schedule.settings)))
     items = items[:-2] + progress_cols.method_rows(a) + items[-2:]
+    items += METHOD_RISKS if a.risk_view is not None else []
     for r, (label, text) in enumerate(items):
         if text is None:
             ws.write_string(r, 0, label, fmt.title)

@@ -19,6 +19,7 @@ from converter.write.workbook import formulas as f
 from converter.write.workbook import pages
 from converter.write.workbook.activities import serial
 from converter.write.workbook.layout import FIRST, PATHS, SUMMARY, Layout
+from converter.write.workbook.risks_sheet import summary_texts
 from converter.write.workbook.rows import (
     DEFAULT_FONT_SIZE,
     DEFAULT_ROW_HEIGHT,
@@ -275,6 +276,8 @@ def _what_drives(out: _Rows) -> None:
             "estimates first (Simulation sheet).",
             start=SIM,
         )
+    for label, text in summary_texts(a):  # the named risks (with a register)
+        out.line(label, text, start=SIM)
     crit = " > ".join(a.critical_ids)
     if a.tied_longest > 1:
         crit += (
