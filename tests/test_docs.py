@@ -17,7 +17,7 @@ def _flags(help_text: str) -> set[str]:
 
 
 def test_every_command_is_documented():
-    assert set(command_parsers()) == {"convert", "check", "template", "watch"}
+    assert set(command_parsers()) == {"convert", "check", "template", "compare", "watch"}
     for name in command_parsers():
         assert f"pertbook {name}" in README, name
 

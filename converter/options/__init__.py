@@ -30,6 +30,7 @@ from converter.options.parsers import (
     DISTRIBUTION_ALIASES,
     MIN_SIMULATION_MEMORY_MB,
     TIME_UNITS,
+    parse_baseline,
     parse_confidence,
     parse_correlation,
     parse_date,
@@ -58,6 +59,7 @@ __all__ = [
     "TIME_UNITS",
     "add_conversion_options",
     "options_from_args",
+    "parse_baseline",
     "parse_confidence",
     "parse_correlation",
     "parse_date",
@@ -166,6 +168,14 @@ OPTIONS: tuple[Option, ...] = (
         name="simulation_memory",
         default=DEFAULT_SIMULATION_MEMORY_MB,
     ),
+    Option(
+        None,
+        "baseline",
+        parse_baseline,
+        "an earlier run's .analysis.json (or .analysis.xlsx) to compare with: adds the "
+        'Changes sheet and the JSON\'s "changes"',
+        "OLD.analysis.json",
+    ),
 )
 BY_SETTING: dict[str, Option] = {o.setting: o for o in OPTIONS if o.setting is not None}
 
@@ -192,6 +202,7 @@ class ConvertOptions:
     progress: object | None = None  # callable(done, total) for the simulation
     simulation_workers: int | None = None  # processes for the simulation; None: from the cores
     simulation_memory_mb: int | None = None  # simulation memory budget (MB); None: 1024
+    baseline: str | None = None  # an earlier run to compare with (convert --baseline)
 
 
 # --------------------------------------------------------------------------- command line
