@@ -399,13 +399,16 @@ def convert(
         if same_file(target, path):
             raise PertbookError(f"refusing to overwrite the input file {path} with {target}")
 
+    written = (xlsx_target, json_target) if options.json else (xlsx_target,)
+    refused = _replaces_baseline(options.baseline, written)
+    if refused is not None:  # nothing is read or written, not even the JSON
+        return ConvertResult(input=path, ok=False, problems=[refused])
     loaded = load_input(path, options)
     schedule, problems = loaded.schedule, loaded.problems
     result = ConvertResult(
         input=path, ok=loaded.ok, problems=problems, sheet=schedule.sheet if schedule else None
     )
-    written = (xlsx_target, json_target) if options.json else (xlsx_target,)
-    baseline = _read_baseline(options.baseline, problems, written)
+    baseline = _read_baseline(options.baseline, problems)
     analysis = None
     if loaded.ok:
         try:
@@ -436,7 +439,27 @@ def convert(
 
 
 # --------------------------------------------------------------------------- baseline
-def _read_baseline(baseline, problems: list, targets: tuple[Path, ...]):
+#: The remedy for a baseline that cannot be used.
+BASELINE_FIX = (
+    "Give the .analysis.json (or .analysis.xlsx) that an earlier pertbook convert wrote; "
+    "keep the last run's copy under another name (e.g. plan-2027-05.analysis.json)."
+)
+
+
+def _replaces_baseline(baseline, targets: tuple[Path, ...]) -> Problem | None:
+    """The error when an output of this run would replace the baseline it reads."""
+    for target in targets if baseline is not None else ():
+        if same_file(target, baseline):
+            return Problem(
+                ERROR,
+                "bad-baseline",
+                f"the baseline {baseline} would be replaced by this run's result {target}",
+                fix=BASELINE_FIX + " Or choose another --outdir.",
+            )
+    return None
+
+
+def _read_baseline(baseline, problems: list):
     """The baseline run of ``convert --baseline`` (None when none is given, or when it
     cannot be used: then an error ``bad-baseline`` joins ``problems``)."""
     if baseline is None:
@@ -444,25 +467,10 @@ def _read_baseline(baseline, problems: list, targets: tuple[Path, ...]):
     from converter.compare.readback import read_run
     from converter.compare.run import RunError
 
-    fix = (
-        "Give the .analysis.json (or .analysis.xlsx) that an earlier pertbook convert wrote; "
-        "keep last run's copy under another name (e.g. plan-2027-05.analysis.json)."
-    )
-    for target in targets:
-        if same_file(target, baseline):
-            problems.append(
-                Problem(
-                    ERROR,
-                    "bad-baseline",
-                    f"the baseline {baseline} would be replaced by this run's result {target}",
-                    fix=fix + " Or choose another --outdir.",
-                )
-            )
-            return None
     try:
         return read_run(baseline)
     except RunError as exc:
-        problems.append(Problem(ERROR, "bad-baseline", f"--baseline: {exc}", fix=fix))
+        problems.append(Problem(ERROR, "bad-baseline", f"--baseline: {exc}", fix=BASELINE_FIX))
         return None
 
 

@@ -34,6 +34,22 @@ FIGURES: tuple[tuple[str, str, str], ...] = (
 )
 
 
+#: The order settings are listed in (others follow by name), the same from either file.
+SETTING_ORDER = (
+    "start_date",
+    "time_unit",
+    "working_days",
+    "holidays",
+    "due",
+    "iterations",
+    "seed",
+    "distribution",
+    "correlation",
+    "confidence_levels",
+    "paths",
+)
+
+
 class RunError(ValueError):
     """A file that is not a pertbook analysis this version can read (exit code 2)."""
 
@@ -246,6 +262,7 @@ def _settings(data: dict) -> dict[str, str]:
         given["working_days"] = [WEEKDAYS[int(d)] for d in given["working_days"]]
     if isinstance(given.get("confidence_levels"), list):
         given["confidence_levels"] = [f"{float(c):.0%}" for c in given["confidence_levels"]]
-    out = {key.replace("_", " ").capitalize(): shown(v) for key, v in given.items()}
+    keys = [k for k in SETTING_ORDER if k in given] + sorted(set(given) - set(SETTING_ORDER))
+    out = {key.replace("_", " ").capitalize(): shown(given[key]) for key in keys}
     out["Simulation"] = "run" if data.get("simulation") is not None else "not run"
     return out

@@ -143,14 +143,13 @@ def _finish(s: _Sheet, ch) -> None:
                 formula = f.days_moved(f.ref(s.r, 5), f.ref(s.r, 6), _weekend(ch), _holidays(ch))
                 s.ws.write_formula(s.r, 7, formula, s.fmt.int, fig.days_moved)
         s.r += 1
-    s.text(
-        0,
-        "Durations in " + ch.new.time_unit + "; dates are the working day on which "
-        "that duration ends, each on its own run's calendar; days moved are counted on "
-        "the new run's calendar.",
-        s.fmt.note_italic,
-        LAST,
+    note = (
+        f"Durations in {ch.new.time_unit}; dates are the working day on which that duration "
+        "ends, each on its own run's calendar; days moved are counted on the new run's "
+        "calendar."
     )
+    s.text(0, note, s.fmt.note_italic, LAST)
+    fit_row(s.ws, s.r, [(note, merged_width(WIDTHS))])
     s.r += 1
 
 
