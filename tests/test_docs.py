@@ -63,5 +63,11 @@ def test_json_keys_documented():
         "problems",
         "start_date",
         "calendar",
+        "pertbook_format",
+        "settings",
+        "changes",
+        "estimates_changed",
+        "settings_differ",
+        "risk_drivers",
     ):
         assert f'"{key}"' in README, key
