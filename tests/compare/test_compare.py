@@ -342,3 +342,20 @@ def test_libreoffice_recalculates_the_changes_sheet(runs, tmp_path, libreoffice)
     report = compare_recalculated(result.workbook, copy)  # LibreOffice vs cached values
     assert not report
     assert report.compared >= 20  # the changes, TE changes and days moved are formulas
+
+
+@pytest.mark.libreoffice
+def test_libreoffice_recalculates_a_workbook_made_with_a_baseline(runs, tmp_path, libreoffice):
+    plan = _plan(tmp_path / "in", "june", {"B": (3, 5, 25)})
+    options = ConvertOptions(iterations=500, start_date="2027-03-01", baseline=str(runs["old"][1]))
+    result = convert(plan, options, outdir=tmp_path / "out")
+    assert result.ok, result.problems
+    copy = libreoffice.recalculate(result.workbook, tmp_path / "recalc")
+    report = compare_recalculated(result.workbook, copy)  # LibreOffice vs cached values
+    assert not report
+    book = openpyxl.load_workbook(copy, data_only=True)
+    # the days moved, recalculated by LibreOffice's NETWORKDAYS.INTL: by hand, the CPM
+    # finish moves from Tue 16 to Thu 18 March 2027, two working days
+    sheet = book["Changes"]
+    row = next(r for r in sheet.iter_rows(values_only=True) if r[0] and "CPM on TE" in r[0])
+    assert row[7] == 2
