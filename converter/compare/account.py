@@ -97,11 +97,12 @@ def account(ch) -> str:
     See :func:`converter.compare.changes.compare_runs` and tests/compare/.
     """
     said = reasons(ch)
-    text = headline(ch) + (
-        ": " + ", ".join(said) + "." if said else "; no estimate, activity or critical-path change."
-    )
-    if said and len(said) > 1:
-        text = headline(ch) + ": " + ", ".join(said[:-1]) + ", and " + said[-1] + "."
+    if not said:
+        text = headline(ch) + "; no estimate, activity or critical-path change."
+    elif len(said) == 1:
+        text = f"{headline(ch)}: {said[0]}."
+    else:
+        text = f"{headline(ch)}: {', '.join(said[:-1])}, and {said[-1]}."
     cpm = next((f for f in ch.figures if f.key == "cpm_finish"), None)
     if cpm is not None and cpm.change is not None and abs(cpm.change) >= 0.005:
         way = "later" if cpm.change > 0 else "earlier"

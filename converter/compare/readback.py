@@ -89,6 +89,10 @@ def read_run(path: str | os.PathLike) -> Run:
             document = json.loads(data.decode("utf-8-sig"))
         except (UnicodeDecodeError, ValueError) as exc:
             raise RunError(f"{name} is not valid JSON ({exc})") from None
+        except RecursionError:
+            raise RunError(
+                f"{name} is not a pertbook analysis: its JSON nests too deeply"
+            ) from None
         return run_from_json(document, name)
     if kind == "zip":
         return run_from_json(_workbook_document(data, name), name)

@@ -359,3 +359,72 @@ def test_libreoffice_recalculates_a_workbook_made_with_a_baseline(runs, tmp_path
     sheet = book["Changes"]
     row = next(r for r in sheet.iter_rows(values_only=True) if r[0] and "CPM on TE" in r[0])
     assert row[7] == 2
+
+
+def test_change_cells_are_formulas_on_the_two_columns(runs, tmp_path):
+    """Common practice for an auditable sheet: each change is new - old on the cells beside."""
+    result = compare(runs["old"][1], runs["new"][1], outdir=tmp_path)
+    sheet = openpyxl.load_workbook(result.workbook)["Changes"]
+    finish = [
+        r for r in sheet.iter_rows() if isinstance(r[0].value, str) and "finish" in r[0].value
+    ]
+    assert finish
+    for row in finish:
+        if isinstance(row[2].value, (int, float)) and isinstance(row[3].value, (int, float)):
+            n = row[0].row
+            assert row[4].value == f"=D{n}-C{n}"
+    te = next(r for r in sheet.iter_rows() if r[0].value == "B" and r[8].value)
+    n = te[0].row
+    assert te[8].value == f"=(F{n}+4*G{n}+H{n})/6-(C{n}+4*D{n}+E{n})/6"
+
+
+def test_named_risks_and_status_are_read_when_present(runs, tmp_path):
+    """Keys other parts of pertbook add ("risks", "status", each activity's "state") are
+    used when a run has them and not required (the hand network's runs have none)."""
+    old = json.loads(runs["old"][1].read_text())
+    new = json.loads(runs["new"][1].read_text())
+    risk = {
+        "id": "R1",
+        "description": "Late steel",
+        "probability": 0.3,
+        "activities": ["C"],
+        "occurred": 0.3,
+        "mean_delay_when_occurred": 4.0,
+        "sensitivity": 0.2,
+        "delta_mean": 1.0,
+        "delta_p50": 0.5,
+        "delta_p80": 2.5,
+    }
+    old["risks"] = [risk]
+    new["risks"] = [
+        {**risk, "probability": 0.5, "delta_p80": 4.0},
+        {**risk, "id": "R2", "description": "Rain", "delta_p80": 1.0},
+    ]
+    new["status"] = {
+        "status_date": "2027-03-08",
+        "status_offset": 5.0,
+        "done_share": 0.4,
+        "finished": 1,
+        "in_progress": 1,
+        "not_started": 2,
+    }
+    for act in new["activities"]:
+        act["state"] = "finished" if act["id"] == "A" else "not started"
+    (tmp_path / "old.analysis.json").write_text(json.dumps(old))
+    (tmp_path / "new.analysis.json").write_text(json.dumps(new))
+    result = compare(
+        tmp_path / "old.analysis.json",
+        tmp_path / "new.analysis.json",
+        outdir=tmp_path,
+        write_json=True,
+    )
+    assert result.ok, result.problems
+    doc = json.loads(result.json_path.read_text())
+    risks = doc["named_risks"]
+    assert [r["id"] for r in risks] == ["R1", "R2"]  # by their effect on the P80 finish
+    assert risks[0]["old"]["delta_p80"] == 2.5 and risks[0]["new"]["delta_p80"] == 4.0
+    assert risks[1]["old"] is None
+    assert "Status date of the new run: 2027-03-08" in doc["account"]
+    sheet = openpyxl.load_workbook(result.workbook)["Changes"]
+    r1 = next(r for r in sheet.iter_rows() if r[0].value == "R1")
+    assert r1[6].value == f"=F{r1[0].row}-E{r1[0].row}"  # change of the P80 delay
