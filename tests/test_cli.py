@@ -617,6 +617,7 @@ def test_convert_and_watch_take_the_same_conversion_options():
         "--start-date",
         "--no-simulation",
         "--simulation-memory",
+        "--baseline",  # issue 13: an earlier run to compare with (checked in tests/compare/)
     }
     given = [
         "--due",
