@@ -68,6 +68,7 @@ class ConvertResult:
     json_path: Path | None = None
     headline: dict = field(default_factory=dict)
     sheet: str | None = None
+    account: str = ""  # with a baseline: what moved since it, in plain words
 
     @property
     def exit_code(self) -> int:
@@ -422,6 +423,8 @@ def convert(
         changes = _changes(
             baseline, build_json(path, problems, analysis, loaded.sha256), xlsx_target
         )
+    if changes is not None:
+        result.account = changes.account
     if result.ok and analysis is not None:
         _atomic_write(xlsx_target, lambda tmp: write_workbook(analysis, tmp, changes))
         result.workbook = xlsx_target

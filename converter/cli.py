@@ -294,6 +294,8 @@ def cmd_convert(args) -> int:
             if shown:
                 out.print()  # a blank line between the inputs' headlines
             print_headline(out, name, result)
+            if result.account:
+                say(sys.stdout, f"{name}: since the baseline: {result.account}\n")
             shown += 1
         if _RANK[code] > _RANK[worst]:
             worst = code

@@ -295,6 +295,7 @@ def test_convert_baseline_adds_the_changes_sheet_and_key(runs, tmp_path):
         tmp_path / "out",
     )
     assert done.returncode == 0, done.stderr
+    assert "since the baseline: The P80 finish moved" in done.stdout
     book = openpyxl.load_workbook(tmp_path / "out" / "june.analysis.xlsx")
     assert book.sheetnames[:2] == ["Summary", "Changes"]
     data = json.loads((tmp_path / "out" / "june.analysis.json").read_text())
