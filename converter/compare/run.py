@@ -104,6 +104,11 @@ def _checked(data: object, file: str) -> dict:
     if not isinstance(data, dict):
         raise RunError(f"{file} is not a pertbook analysis: the JSON is not an object of keys")
     version = data.get("pertbook_format")
+    if version is None and {"account", "finish", "estimates_changed"} <= set(data):
+        raise RunError(
+            f"{file} is a comparison (.changes.json), not a run: give the .analysis.json "
+            "files it compared"
+        )
     if version is None:
         if {"ok", "project", "activities"} <= set(data):
             raise RunError(

@@ -250,9 +250,22 @@ def _bad_files(folder: Path, runs) -> dict[str, tuple[Path, str]]:
         "older pertbook": (folder / "old.analysis.json", "earlier pertbook"),
         "invalid run": (folder / "bad.analysis.json", "records an invalid input"),
         "folder": (folder, "not a regular file"),
-        "input workbook": (REPO / "samples" / "clinic-it-rollout.xlsx", "earlier pertbook"),
+        # an input schedule: no Summary sheet, no format mark
+        "input workbook": (REPO / "samples" / "clinic-it-rollout.xlsx", "not an analysis workbook"),
         "pdf": (folder / "x.pdf", "a PDF document"),
+        "comparison": (folder / "june.changes.json", "is a comparison"),
+        "workbook version": (folder / "v99.analysis.xlsx", "format 99"),
+        "older workbook": (folder / "old.analysis.xlsx", "earlier pertbook"),
     }
+    cases["comparison"][0].write_text(json.dumps(_doc(runs["old"][1], runs["new"][1])))
+    for key, mark in (("workbook version", 99), ("older workbook", None)):
+        book = openpyxl.load_workbook(runs["old"][0], data_only=True)  # cached values kept
+        props = book.custom_doc_props
+        for name in list(props.names):
+            del props[name]
+        if mark is not None:
+            props.append(openpyxl.packaging.custom.IntProperty("pertbook format", mark))
+        book.save(cases[key][0])
     cases["not json"][0].write_text("{this is not json", encoding="utf-8")
     cases["other program"][0].write_text('{"name": "x", "version": 3}', encoding="utf-8")
     cases["version"][0].write_text(json.dumps({**good, "pertbook_format": 99}))
@@ -264,9 +277,7 @@ def _bad_files(folder: Path, runs) -> dict[str, tuple[Path, str]]:
 
 
 def test_bad_runs_exit_2_with_a_message(runs, tmp_path, capsys):
-    # The input workbook is no analysis: it lacks the Summary sheet and the format mark.
     cases = _bad_files(tmp_path / "bad", runs)
-    cases["input workbook"] = (cases["input workbook"][0], "not an analysis workbook")
     out = tmp_path / "out"
     for name, (path, words) in cases.items():  # in this process: main() as the CLI runs it
         code = main(["compare", str(path), str(runs["new"][1]), "--outdir", str(out)])
