@@ -13,6 +13,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from converter.analyse.pert import expected_time
+from converter.compare.account import account
 from converter.compare.run import FIGURES, ActivityFigures, Run
 
 #: How many activities each "largest movers" and "top risk drivers" list keeps.
@@ -196,9 +197,13 @@ def compare_runs(old: Run, new: Run) -> Changes:
     [('A', (2.0, 4.0, 12.0), (2.0, 4.0, 18.0), 1.0)]
     >>> ch.figures[0].label, ch.figures[0].change
     ('Expected finish (critical path: CPM on TE, the PERT mean)', 1.0)
-    """
-    from converter.compare.account import account
 
+    References
+    ----------
+    Common practice in schedule review (no single published method): activities matched
+    by their ID, critical meaning zero total float (Kelley & Walker 1959), TE as in
+    Malcolm, Roseboom, Clark & Fazar (1959).
+    """
     both = [k for k in new.activities if k in old.activities]
     pairs = [(old.activities[k], new.activities[k]) for k in both]
     labels = list(new.settings) + [k for k in old.settings if k not in new.settings]
