@@ -68,6 +68,7 @@ class ConvertResult:
     json_path: Path | None = None
     headline: dict = field(default_factory=dict)
     sheet: str | None = None
+    account: str = ""  # with a baseline: what moved since it, in plain words
 
     @property
     def exit_code(self) -> int:
@@ -399,11 +400,16 @@ def convert(
         if same_file(target, path):
             raise PertbookError(f"refusing to overwrite the input file {path} with {target}")
 
+    written = (xlsx_target, json_target) if options.json else (xlsx_target,)
+    refused = _replaces_baseline(options.baseline, written)
+    if refused is not None:  # nothing is read or written, not even the JSON
+        return ConvertResult(input=path, ok=False, problems=[refused])
     loaded = load_input(path, options)
     schedule, problems = loaded.schedule, loaded.problems
     result = ConvertResult(
         input=path, ok=loaded.ok, problems=problems, sheet=schedule.sheet if schedule else None
     )
+    baseline = _read_baseline(options.baseline, problems)
     analysis = None
     if loaded.ok:
         try:
@@ -411,13 +417,68 @@ def convert(
         except SimulationMemoryError as exc:  # the estimate passed, the run did not fit
             problems.append(refusal_problem(exc, schedule.settings.source_of("iterations")))
             result.ok = False
+    result.ok = result.ok and loaded.ok
+    changes = None
+    if result.ok and analysis is not None and baseline is not None:
+        changes = _changes(
+            baseline, build_json(path, problems, analysis, loaded.sha256), xlsx_target
+        )
+    if changes is not None:
+        result.account = changes.account
     if result.ok and analysis is not None:
-        _atomic_write(xlsx_target, lambda tmp: write_workbook(analysis, tmp))
+        _atomic_write(xlsx_target, lambda tmp: write_workbook(analysis, tmp, changes))
         result.workbook = xlsx_target
         result.headline = analysis.headline()
     if options.json:
         data = build_json(path, problems, analysis, loaded.sha256)
+        if changes is not None:
+            from converter.compare.document import changes_document
+
+            data["changes"] = changes_document(changes)
         text = json.dumps(data, indent=2, allow_nan=False)
         _atomic_write(json_target, lambda tmp: tmp.write_text(text, encoding="utf-8"))
         result.json_path = json_target
     return result
+
+
+# --------------------------------------------------------------------------- baseline
+#: The remedy for a baseline that cannot be used.
+BASELINE_FIX = (
+    "Give the .analysis.json (or .analysis.xlsx) that an earlier pertbook convert wrote; "
+    "keep the last run's copy under another name (e.g. plan-2027-05.analysis.json)."
+)
+
+
+def _replaces_baseline(baseline, targets: tuple[Path, ...]) -> Problem | None:
+    """The error when an output of this run would replace the baseline it reads."""
+    for target in targets if baseline is not None else ():
+        if same_file(target, baseline):
+            return Problem(
+                ERROR,
+                "bad-baseline",
+                f"the baseline {baseline} would be replaced by this run's result {target}",
+                fix=BASELINE_FIX + " Or choose another --outdir.",
+            )
+    return None
+
+
+def _read_baseline(baseline, problems: list):
+    """The baseline run of ``convert --baseline`` (None when none is given, or when it
+    cannot be used: then an error ``bad-baseline`` joins ``problems``)."""
+    if baseline is None:
+        return None
+    from converter.compare.readback import read_run
+    from converter.compare.run import RunError
+
+    try:
+        return read_run(baseline)
+    except RunError as exc:
+        problems.append(Problem(ERROR, "bad-baseline", f"--baseline: {exc}", fix=BASELINE_FIX))
+        return None
+
+
+def _changes(baseline, document: dict, xlsx_target: Path):
+    """The comparison of the run in hand (its JSON ``document``) with ``baseline``."""
+    from converter.compare import compare_runs, run_from_json
+
+    return compare_runs(baseline, run_from_json(document, str(xlsx_target)))

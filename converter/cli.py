@@ -1,4 +1,4 @@
-"""Command line: ``pertbook convert | check | template | watch``.
+"""Command line: ``pertbook convert | check | template | compare | watch``.
 
 A thin layer over :mod:`converter.api`: it parses arguments, prints problems and a short
 headline, and turns results into exit codes (0 ok, 2 invalid input, 1 the tool's own
@@ -50,6 +50,10 @@ EPILOG_CHECK = """example:
 """
 EPILOG_TEMPLATE = """example:
   pertbook template my-schedule.xlsx
+"""
+EPILOG_COMPARE = """example:
+  pertbook compare may/plan.analysis.json june/plan.analysis.json --json
+  (writes june/plan.changes.xlsx and june/plan.changes.json)
 """
 EPILOG_WATCH = """example:
   pertbook watch /srv/share/schedules --interval 10
@@ -110,6 +114,18 @@ def _build() -> tuple[argparse.ArgumentParser, dict[str, argparse.ArgumentParser
     )
     p.add_argument("output", metavar="OUT.xlsx", help="the workbook to write")
     p.add_argument("--force", action="store_true", help="replace OUT.xlsx if it exists")
+
+    p = commands["compare"] = command(
+        "compare",
+        "compare two runs: what moved since the earlier analysis, and why",
+        EPILOG_COMPARE,
+    )
+    run = "an .analysis.json or .analysis.xlsx that pertbook convert wrote"
+    p.add_argument("old", metavar="OLD", help=f"the earlier run: {run}")
+    p.add_argument("new", metavar="NEW", help=f"the later run: {run}")
+    p.add_argument("--outdir", metavar="DIR", help="output folder (default: beside NEW)")
+    p.add_argument("--json", action="store_true", help="also write <NEW stem>.changes.json")
+    p.add_argument("--quiet", action="store_true", help="print problems only")
 
     from converter.drop import add_watch_arguments
 
@@ -278,6 +294,8 @@ def cmd_convert(args) -> int:
             if shown:
                 out.print()  # a blank line between the inputs' headlines
             print_headline(out, name, result)
+            if result.account:
+                say(sys.stdout, f"{name}: since the baseline: {result.account}\n")
             shown += 1
         if _RANK[code] > _RANK[worst]:
             worst = code
@@ -322,6 +340,33 @@ def cmd_template(args) -> int:
     return EXIT_OK
 
 
+def cmd_compare(args) -> int:
+    from converter.comparison import compare
+
+    try:
+        result = compare(args.old, args.new, outdir=args.outdir, write_json=args.json)
+    except OSError as exc:  # the output folder or disk, not the runs
+        say(sys.stderr, f"cannot write the comparison: {exc}\n")
+        if args.debug:
+            traceback.print_exc()
+        return EXIT_FAULT
+    except Exception as exc:  # noqa: BLE001 - the tool's own fault
+        say(sys.stderr, f"internal error: {type(exc).__name__}: {exc}\n")
+        if args.debug:
+            traceback.print_exc()
+        return EXIT_FAULT
+    for message in result.problems:
+        say(sys.stderr, f"error: {message}\n")
+    if not result.ok:
+        say(sys.stderr, "no comparison written\n")
+        return EXIT_INVALID
+    if not args.quiet:
+        say(sys.stdout, result.account + "\n")
+    written = [str(p) for p in (result.workbook, result.json_path) if p is not None]
+    say(sys.stdout, f"wrote {' and '.join(written)}\n")
+    return EXIT_OK
+
+
 def cmd_watch(args) -> int:
     from converter.drop import run_watch
 
@@ -332,6 +377,7 @@ COMMANDS = {
     "convert": cmd_convert,
     "check": cmd_check,
     "template": cmd_template,
+    "compare": cmd_compare,
     "watch": cmd_watch,
 }
 

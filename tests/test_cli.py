@@ -621,6 +621,7 @@ def test_convert_and_watch_take_the_same_conversion_options():
         "--status-date",  # the status issue's option for a project in flight
         "--time-unit",  # issue 11: the working-hours time unit
         "--hours-per-day",  # issue 11: Hours per day
+        "--baseline",  # issue 13: an earlier run to compare with (checked in tests/compare/)
     }
     given = [
         "--due",

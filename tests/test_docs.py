@@ -17,7 +17,7 @@ def _flags(help_text: str) -> set[str]:
 
 
 def test_every_command_is_documented():
-    assert set(command_parsers()) == {"convert", "check", "template", "watch"}
+    assert set(command_parsers()) == {"convert", "check", "template", "compare", "watch"}
     for name in command_parsers():
         assert f"pertbook {name}" in README, name
 
@@ -63,5 +63,11 @@ def test_json_keys_documented():
         "problems",
         "start_date",
         "calendar",
+        "pertbook_format",
+        "settings",
+        "changes",
+        "estimates_changed",
+        "settings_differ",
+        "risk_drivers",
     ):
         assert f'"{key}"' in README, key

@@ -31,6 +31,7 @@ from converter.options.parsers import (
     MIN_SIMULATION_MEMORY_MB,
     TIME_UNITS,
     DurationWithUnit,
+    parse_baseline,
     parse_confidence,
     parse_correlation,
     parse_date,
@@ -63,6 +64,7 @@ __all__ = [
     "TIME_UNITS",
     "add_conversion_options",
     "options_from_args",
+    "parse_baseline",
     "parse_confidence",
     "parse_correlation",
     "parse_date",
@@ -204,6 +206,14 @@ OPTIONS: tuple[Option, ...] = (
         "or inline percentages such as 80/100/120",
         "CLASS",
     ),
+    Option(
+        None,
+        "baseline",
+        parse_baseline,
+        "an earlier run's .analysis.json (or .analysis.xlsx) to compare with: adds the "
+        'Changes sheet and the JSON\'s "changes"',
+        "OLD.analysis.json",
+    ),
 )
 BY_SETTING: dict[str, Option] = {o.setting: o for o in OPTIONS if o.setting is not None}
 
@@ -234,6 +244,7 @@ class ConvertOptions:
     status_date: str | float | dt.date | None = None  # progress as of this date / offset
     time_unit: str | None = None  # the schedule's time unit (working hours among them)
     hours_per_day: float | None = None  # working hours in one day (reads 16h; dates hours)
+    baseline: str | None = None  # an earlier run to compare with (convert --baseline)
 
 
 # --------------------------------------------------------------------------- command line

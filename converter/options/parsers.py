@@ -356,3 +356,22 @@ def parse_hours_per_day(value: object) -> float:
             f"{shown(value)} is not a number of hours above 0 and at most {MOST_HOURS_PER_DAY:g}"
         )
     return x
+
+
+def parse_baseline(value: object) -> str:
+    """The path of a baseline run (an ``.analysis.json`` or ``.analysis.xlsx``) as given;
+    whether it is one is checked when it is read (:mod:`converter.compare.readback`).
+
+    Examples
+    --------
+    >>> parse_baseline(" march.analysis.json ")
+    'march.analysis.json'
+    >>> parse_baseline("")
+    Traceback (most recent call last):
+    ...
+    ValueError: expected the path of an earlier run's .analysis.json or .analysis.xlsx
+    """
+    text = str(value).strip() if value is not None else ""
+    if not text:
+        raise ValueError("expected the path of an earlier run's .analysis.json or .analysis.xlsx")
+    return text

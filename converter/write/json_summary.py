@@ -3,9 +3,14 @@
 from __future__ import annotations
 
 import math
+from dataclasses import fields
 from pathlib import Path
 
 from converter.model import ERROR, LINK_TYPES
+
+#: The version of the analysis JSON's (and workbook's) layout that ``pertbook compare``
+#: reads back; raised when a key it reads changes meaning.
+FORMAT_VERSION = 1
 
 
 def _num(x) -> float | None:
@@ -27,6 +32,7 @@ def build_json(path: Path, problems, analysis, sha256: str | None) -> dict:
     """
     ok = analysis is not None and not any(p.severity == ERROR for p in problems)
     data: dict = {
+        "pertbook_format": FORMAT_VERSION,
         "ok": ok,
         "input": {"file": str(path), "sha256": sha256},
         "problems": [p.as_dict() for p in problems],
@@ -97,7 +103,23 @@ def build_json(path: Path, problems, analysis, sha256: str | None) -> dict:
         }
         for c in a.checks
     ]
+    data["settings"] = _settings(a.schedule.settings)
     return data
+
+
+def _settings(st) -> dict:
+    """Every setting the run used (the Settings fields but their origins), JSON-ready."""
+    out = {}
+    for f in fields(st):
+        if f.name == "sources":
+            continue
+        value = getattr(st, f.name)
+        if isinstance(value, tuple):
+            value = [v.isoformat() if hasattr(v, "isoformat") else v for v in value]
+        elif hasattr(value, "isoformat"):
+            value = value.isoformat()
+        out[f.name] = value
+    return out
 
 
 def _calendar(cal) -> dict | None:
@@ -157,6 +179,9 @@ def _activities(a) -> list[dict]:
                 "late_finish_date": _iso(dates.late_finish[i]) if dates else None,
                 "summary": a.schedule.activities[i].summary,
                 "range": a.schedule.activities[i].range,
+                "optimistic": _num(a.o[i]),
+                "most_likely": _num(a.m[i]),
+                "pessimistic": _num(a.p[i]),
             }
         )
     return rows

@@ -12,8 +12,10 @@ import xlsxwriter
 import xlsxwriter.worksheet
 
 from converter.values import printable
+from converter.write.json_summary import FORMAT_VERSION
 from converter.write.workbook import pages
 from converter.write.workbook.activities import write_activities, write_links
+from converter.write.workbook.changes import write_changes
 from converter.write.workbook.health import write_health
 from converter.write.workbook.layout import Layout
 from converter.write.workbook.paths_sheet import write_paths
@@ -73,8 +75,8 @@ class _Workbook(xlsxwriter.Workbook):
 DOCUMENT_DATE = dt.datetime(2024, 1, 1)
 
 
-def write_workbook(analysis, path: str | Path) -> None:
-    """Write ``analysis`` to ``path`` (.xlsx)."""
+def _open(path: str | Path) -> _Workbook:
+    """A new workbook at ``path`` with the options and the format mark every one shares."""
     wb = _Workbook(
         str(path),
         {
@@ -93,6 +95,15 @@ def write_workbook(analysis, path: str | Path) -> None:
             "default_row_height": DEFAULT_ROW_PIXELS,  # one line of that font
         },
     )
+    # what `pertbook compare` looks for to read a workbook back (converter.compare.readback)
+    wb.set_custom_property("pertbook format", FORMAT_VERSION)
+    return wb
+
+
+def write_workbook(analysis, path: str | Path, changes=None) -> None:
+    """Write ``analysis`` to ``path`` (.xlsx); with ``changes`` (a
+    :class:`converter.compare.Changes` against a baseline run) also the Changes sheet."""
+    wb = _open(path)
     wb.set_properties(
         {
             "title": "Schedule risk analysis of "
@@ -117,6 +128,8 @@ def write_workbook(analysis, path: str | Path) -> None:
         risks=analysis.risk_view is not None,
     )
     write_summary(wb, fmt, analysis, lay)
+    if changes is not None:
+        write_changes(wb, fmt, changes)
     write_activities(wb, fmt, analysis, lay)
     write_links(wb, fmt, analysis, lay)
     if analysis.schedule.ranges:
@@ -136,4 +149,19 @@ def write_workbook(analysis, path: str | Path) -> None:
     for ws in wb.worksheets():  # sheets that did not set up their pages themselves
         if not pages.is_set_up(ws):
             pages.set_up(ws)
+    wb.close()
+
+
+def write_changes_workbook(changes, path: str | Path) -> None:
+    """Write the comparison ``changes`` alone (``pertbook compare``) to ``path`` (.xlsx)."""
+    wb = _open(path)
+    wb.set_properties(
+        {
+            "title": "What moved between two runs of pertbook",
+            "author": "pertbook",
+            "created": DOCUMENT_DATE,
+        }
+    )
+    wb.set_calc_mode("auto")
+    write_changes(wb, Formats(wb), changes)
     wb.close()

@@ -231,3 +231,27 @@ def path_risk_mean(delay_mean: str, weights: str) -> str:
 def path_risk_variance(delay_variance: str, weights: str) -> str:
     """The risks' variance on a path: SUMPRODUCT(delay variance, weight, weight)."""
     return f"=SUMPRODUCT({delay_variance},{weights},{weights})"
+
+
+def te_change(old: tuple[str, str, str], new: tuple[str, str, str]) -> str:
+    """The change of TE between two runs: TE(new O, M, P) - TE(old O, M, P)."""
+    return f"=({new[0]}+4*{new[1]}+{new[2]})/6-({old[0]}+4*{old[1]}+{old[2]})/6"
+
+
+def days_moved(old: str, new: str, weekend: str | None, holidays: list[float]) -> str:
+    """Working days from the finish date ``old`` to ``new`` (negative: earlier): the
+    working days in between counted by NETWORKDAYS.INTL, less the day it starts on (both
+    are working days); calendar days (``weekend`` None) are a plain difference.
+
+    Examples
+    --------
+    >>> days_moved("F9", "G9", "0000011", [])
+    '=IF(G9>=F9,NETWORKDAYS.INTL(F9,G9,"0000011")-1,NETWORKDAYS.INTL(F9,G9,"0000011")+1)'
+    >>> days_moved("F9", "G9", None, [])
+    '=G9-F9'
+    """
+    if weekend is None:
+        return f"={new}-{old}"
+    hol = ",{" + ",".join(number(h) for h in holidays) + "}" if holidays else ""
+    count = f'NETWORKDAYS.INTL({old},{new},"{weekend}"{hol})'
+    return f"=IF({new}>={old},{count}-1,{count}+1)"
