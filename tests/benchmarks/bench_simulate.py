@@ -21,6 +21,12 @@ worker's (both ru_maxrss), and the peak of all processes together: their private
 resident memory plus the growth of shared memory (the sample store the workers share,
 counted once), polled every 0.2 s. Case 3 polls the proportional set size (Pss) of
 every process instead, which counts each shared page once across them.
+
+Figures on the 2-core machine (case 1, automatic workers, one whole process timed five
+times after a warm-up, median; ``--child large 10000 30000 10000 auto``):
+
+* before inverse-distribution sampling (Cheng's rejection sampler): 7.38 s wall, 12.7 s
+  CPU, simulate() itself 5.6 to 6.3 s;
 """
 
 from __future__ import annotations
