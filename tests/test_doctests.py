@@ -55,7 +55,6 @@ KEY_ALGORITHMS = {
     "converter.analyse.pert.duration_at": ("Parameters", "Returns", "References"),
     "converter.analyse.calendar.Calendar": ("Parameters", "References"),
     "converter.analyse.simulate.runs.simulate": ("Parameters", "Returns", "References"),
-    "converter.analyse.simulate.sampling.beta_cheng": ("Parameters", "Returns", "References"),
     "converter.analyse.simulate.correlation.induce_rank_correlation": (
         "Parameters",
         "Returns",
