@@ -21,7 +21,7 @@ from scipy import integrate, stats
 
 from converter.analyse import simulate as sim
 from converter.analyse.network import build_network, schedule
-from converter.analyse.simulate import inputs, sampling, workers
+from converter.analyse.simulate import inputs, workers
 from converter.model import FF, FS, SF, SS
 
 # --------------------------------------------------------------------------- helpers

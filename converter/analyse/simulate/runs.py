@@ -30,8 +30,8 @@ call, :func:`.sampling.draw_uniforms`) from
 ``np.random.default_rng(np.random.SeedSequence(seed, spawn_key=(0, j)))`` and its
 correlation scores from ``spawn_key=(1, j)``, numpy's scheme for independent
 streams; each duration is F^-1(u) of its uniform (:mod:`.sampling`), so an iteration
-is recomputed from its uniforms alone (:func:`chunk_uniforms`). A seed therefore gives the same numbers on every run, whatever the
-number of worker processes, and the uncorrelated comparison run has exactly the
+is recomputed from its uniforms alone (:func:`chunk_uniforms`). A seed therefore gives
+the same numbers on every run, whatever the number of worker processes, and the uncorrelated comparison run has exactly the
 same per-activity samples as the correlated one, only in another order.
 """
 

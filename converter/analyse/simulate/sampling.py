@@ -114,7 +114,7 @@ def durations_from_uniforms(
     >>> x = durations_from_uniforms(u, [0.0, 2.0], [5.0, 3.0], [10.0, 6.0],
     ...                             np.array([0, 2], dtype=np.int8))
     >>> [[round(float(v), 6) for v in row] for row in x]
-    [[5.0, 3.651801], [2.4, 5.6]]
+    [[5.0, 3.594362], [2.4, 5.6]]
     """
     o, m, p = (np.asarray(v, dtype=float).reshape(-1) for v in (o, m, p))
     n, size = u.shape
