@@ -3,8 +3,9 @@
 Modules: :mod:`.runs` (the runs: chunks, passes), :mod:`.result` (the result and its
 summary), :mod:`.budget` (the memory budget), :mod:`.inputs` (validated inputs, chunk
 sizes), :mod:`.sampling` (duration distributions), :mod:`.inverse` (their quantile
-functions), :mod:`.correlation` (Iman-Conover rank correlation), :mod:`.ranks` (Spearman sensitivity), :mod:`.workers` (process pool,
-shared memory).
+functions), :mod:`.correlation` (Iman-Conover rank correlation), :mod:`.ranks`
+(Spearman sensitivity), :mod:`.workers` (process pool, shared memory), :mod:`.trace`
+(the traced iterations).
 """
 
 from converter.analyse.simulate.budget import (

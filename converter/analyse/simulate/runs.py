@@ -31,8 +31,9 @@ call, :func:`.sampling.draw_uniforms`) from
 correlation scores from ``spawn_key=(1, j)``, numpy's scheme for independent
 streams; each duration is F^-1(u) of its uniform (:mod:`.sampling`), so an iteration
 is recomputed from its uniforms alone (:func:`chunk_uniforms`). A seed therefore gives
-the same numbers on every run, whatever the number of worker processes, and the uncorrelated comparison run has exactly the
-same per-activity samples as the correlated one, only in another order.
+the same numbers on every run, whatever the number of worker processes, and the
+uncorrelated comparison run has exactly the same per-activity samples as the
+correlated one, only in another order.
 """
 
 from __future__ import annotations
