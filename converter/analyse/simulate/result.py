@@ -52,6 +52,9 @@ class SimulationResult:
     sensitivity_iterations: int = 0
     #: The memory budget the run was kept within, in MB (0: not recorded).
     memory_budget_mb: int = 0
+    #: The traced iterations (:class:`.trace.TracedIteration`), recomputed from their
+    #: random numbers; empty when none were asked for.
+    trace: list = field(default_factory=list)
 
     def __post_init__(self) -> None:
         if not self.sensitivity_iterations:

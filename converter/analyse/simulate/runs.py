@@ -63,31 +63,20 @@ from converter.analyse.simulate.result import (
     SimulationResult,
     summarise,
 )
-from converter.analyse.simulate.sampling import draw_uniforms, durations_from_uniforms
+from converter.analyse.simulate.sampling import durations_from_uniforms
+from converter.analyse.simulate.trace import chunk_uniforms, trace_iterations
 from converter.model import DEFAULT_ITERATIONS, DEFAULT_SEED, DISTRIBUTIONS
 
 __all__ = ["PERCENTILE_KEYS", "SimulationResult", "draw_samples", "simulate", "simulate_durations"]
 
 
-def _rng(seed: int, stream: int, chunk: int) -> np.random.Generator:
-    return np.random.default_rng(np.random.SeedSequence(seed, spawn_key=(stream, chunk)))
-
-
-def chunk_uniforms(inp: Inputs, j: int, size: int, correlation: float = 0.0) -> np.ndarray:
-    """The ``(n, size)`` uniforms of chunk ``j``; with ``correlation`` re-ordered within
-    each group by Iman-Conover (the chunk's own second stream)."""
-    u = draw_uniforms(_rng(inp.seed, 0, j), inp.n, size)
-    if correlation > 0.0:
-        rng = _rng(inp.seed, 1, j)
-        for rows in inp.groups:
-            u[rows] = induce_rank_correlation(rng, u[rows], correlation)
-    return u
-
-
 def _sample_chunk(
     inp: Inputs, j: int, size: int, out: np.ndarray | None = None, correlation: float = 0.0
 ) -> np.ndarray:
-    u = chunk_uniforms(inp, j, size, correlation)
+    if out is None or not out.flags.c_contiguous:
+        u = chunk_uniforms(inp, j, size, correlation)
+    else:
+        u = chunk_uniforms(inp, j, size, correlation, out=out)  # durations in place
     return durations_from_uniforms(u, inp.o, inp.m, inp.p, inp.codes, inp.table, out)
 
 
@@ -361,6 +350,7 @@ def simulate(
     progress: Callable[[int, int], None] | None = None,
     workers: int | None = None,
     memory_mb: int | None = None,
+    trace: Sequence[float] = (),
 ) -> SimulationResult:
     """Monte Carlo simulation of the network's project duration (see module docstring).
 
@@ -397,6 +387,9 @@ def simulate(
     memory_mb : int, optional
         Memory budget of the run in MB (None: :data:`.budget.DEFAULT_MEMORY_MB`); see
         :mod:`.budget` for what it bounds and how.
+    trace : sequence of float
+        Quantiles whose nearest iterations are traced (1: the longest iteration), see
+        :mod:`.trace`; the result's ``trace`` (of the correlated run when there are two).
 
     Returns
     -------
@@ -461,10 +454,12 @@ def simulate(
         memory_budget_mb=plan.budget >> 20,
     )
     first = summarise(*results[0], correlation=0.0, **common)
-    if not correlated:
-        return first
-    result = summarise(*results[1], correlation=correlation, **common)
-    result.independent = first
+    result = first
+    if correlated:
+        result = summarise(*results[1], correlation=correlation, **common)
+        result.independent = first
+    rho = float(correlation) if correlated else 0.0
+    result.trace = trace_iterations(net, inp, result.durations, rho, trace) if trace else []
     return result
 
 

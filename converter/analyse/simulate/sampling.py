@@ -78,11 +78,16 @@ def _pert_rows(o: np.ndarray, p: np.ndarray, codes: np.ndarray) -> np.ndarray:
     return np.flatnonzero((codes == PERT) & (o < p))
 
 
-def draw_uniforms(rng: np.random.Generator, n: int, size: int) -> np.ndarray:
+def draw_uniforms(
+    rng: np.random.Generator, n: int, size: int, out: np.ndarray | None = None
+) -> np.ndarray:
     """The ``(n, size)`` uniforms of a chunk: one per activity and iteration, drawn in one
     call (row ``i`` is activity ``i``, also where its duration is fixed), so that any
-    iteration's uniforms can be drawn again from the chunk's stream."""
-    return rng.random((n, size))
+    iteration's uniforms can be drawn again from the chunk's stream. ``out``: a
+    C-contiguous ``(n, size)`` float64 matrix to fill."""
+    if out is None:
+        return rng.random((n, size))
+    return rng.random((n, size), out=out)
 
 
 def durations_from_uniforms(
@@ -101,7 +106,8 @@ def durations_from_uniforms(
     table : numpy.ndarray, optional
         :func:`quantile_table` of these activities (made here when not given).
     out : numpy.ndarray, optional
-        ``(n, c)`` float64 to fill.
+        ``(n, c)`` float64 to fill; may be ``u`` itself (each row is read before it is
+        written).
 
     Returns
     -------
