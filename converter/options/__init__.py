@@ -42,6 +42,7 @@ from converter.options.parsers import (
     parse_seed,
     parse_start_date,
     parse_time_unit,
+    parse_trace,
 )
 from converter.values import parse_working_days
 
@@ -70,6 +71,7 @@ __all__ = [
     "parse_seed",
     "parse_start_date",
     "parse_time_unit",
+    "parse_trace",
     "resolve",
 ]
 
@@ -166,6 +168,16 @@ OPTIONS: tuple[Option, ...] = (
         name="simulation_memory",
         default=DEFAULT_SIMULATION_MEMORY_MB,
     ),
+    Option(
+        None,
+        "trace",
+        parse_trace,
+        "iterations the Trace sheet recomputes from their random numbers: a count (0: "
+        "none; N: the first N of P80, P50, P90, the longest, P10, P95, P99) or a list of "
+        'percentiles and max, e.g. "50,80,95,max"',
+        "N|LIST",
+        default="50,80,90,max",
+    ),
 )
 BY_SETTING: dict[str, Option] = {o.setting: o for o in OPTIONS if o.setting is not None}
 
@@ -192,6 +204,7 @@ class ConvertOptions:
     progress: object | None = None  # callable(done, total) for the simulation
     simulation_workers: int | None = None  # processes for the simulation; None: from the cores
     simulation_memory_mb: int | None = None  # simulation memory budget (MB); None: 1024
+    trace: str | int | tuple[float, ...] | None = None  # traced iterations; None: P50/80/90, max
 
 
 # --------------------------------------------------------------------------- command line

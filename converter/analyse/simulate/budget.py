@@ -105,9 +105,10 @@ def chunk_bytes(n: int, cols: int, group: int = 0) -> int:
     """Work memory of one process running chunks of ``cols`` iterations.
 
     The samples (8 bytes per element, drawn as uniforms and turned into durations in
-    place; 4 more while rounded to single precision), the passes' early and late times, flags and temporaries (41 + 15 bytes per element of a
-    pass block; measured at most 44 in all, on a network whose activities all run in
-    parallel), and for correlated groups about 64 bytes per element of the largest group.
+    place; 4 more while rounded to single precision), the passes' early and late times,
+    flags and temporaries (41 + 15 bytes per element of a pass block; measured at most
+    44 in all, on a network whose activities all run in parallel), and for correlated
+    groups about 64 bytes per element of the largest group.
     """
     cols_pass = pass_columns(n, cols)
     return 12 * n * cols + 56 * n * cols_pass + 64 * group * cols

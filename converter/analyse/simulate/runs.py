@@ -54,7 +54,6 @@ from converter.analyse.simulate.budget import (
     pass_columns,
     plan_memory,
 )
-from converter.analyse.simulate.correlation import induce_rank_correlation
 from converter.analyse.simulate.inputs import Inputs, check_correlation, chunk_size, prepare
 from converter.analyse.simulate.ranks import RANK_ROWS, centred_ranks, spearman_block, spearman_rows
 from converter.analyse.simulate.result import (

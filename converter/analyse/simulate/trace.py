@@ -32,7 +32,6 @@ from converter.analyse.network import Network, schedule
 from converter.analyse.simulate.correlation import induce_rank_correlation
 from converter.analyse.simulate.inputs import Inputs
 from converter.analyse.simulate.inverse import ACCURACY, triangular_quantile, uniform_quantile
-from converter.model import FS
 from converter.analyse.simulate.sampling import (
     PERT,
     TRIANGULAR,
@@ -40,6 +39,7 @@ from converter.analyse.simulate.sampling import (
     durations_from_uniforms,
     shape_numbers,
 )
+from converter.model import FS
 
 #: The iterations traced when nothing else is asked: nearest the simulated P50, P80 and
 #: P90, and the longest (the quantile 1).
