@@ -285,7 +285,7 @@ def parse_trace(value: object) -> tuple[float, ...]:
     >>> parse_trace("120")
     Traceback (most recent call last):
     ...
-    ValueError: 120 is not a count of traced iterations (0 to 7) nor a list of percentiles and max
+    ValueError: "120" is not a count of traced iterations (0 to 7) nor a list of percentiles and max
     """
     text = str(value).strip().lower()
     if re.fullmatch(r"\d+", text):

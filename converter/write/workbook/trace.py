@@ -56,7 +56,7 @@ INTRO = (
     "PERT-beta, the triangular and uniform inverses written out), and the early start "
     "and finish follow the same rules as the Activities sheet. The simulation itself "
     "used a tabulated PERT-beta inverse within 1e-6 of (P - O) of the exact one and "
-    "kept durations to single precision: hence the small differences above."
+    "kept durations to single precision: hence the small differences in the table below."
 )
 LARGE = (
     " This schedule is large: only the activities on a traced iteration's critical "
