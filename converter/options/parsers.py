@@ -277,25 +277,22 @@ def parse_trace(value: object) -> tuple[float, ...]:
     A count ``N`` (0 to 7) takes the first ``N`` of P80, P50, P90, the longest, P10,
     P95, P99; ``0`` traces none. A list names them: percentiles (``80`` or ``80%``,
     strictly between 0 and 100) and ``max`` (or ``longest``) for the longest iteration.
+    A whole number alone is a count up to 7 and a percentile from 8 (``5%`` alone is P5).
 
     Examples
     --------
     >>> parse_trace("4"), parse_trace(0), parse_trace("50,80,95,max")
     ((0.5, 0.8, 0.9, 1.0), (), (0.5, 0.8, 0.95, 1.0))
+    >>> parse_trace("80"), parse_trace("5%")
+    ((0.8,), (0.05,))
     >>> parse_trace("120")
     Traceback (most recent call last):
     ...
-    ValueError: "120" is not a count of traced iterations (0 to 7) nor a list of percentiles and max
+    ValueError: "120" in "120" is not a percentile between 0 and 100 nor max
     """
     text = str(value).strip().lower()
-    if re.fullmatch(r"\d+", text):
-        count = int(text)
-        if count > len(TRACE_ORDER):
-            raise ValueError(
-                f"{shown(value)} is not a count of traced iterations (0 to "
-                f"{len(TRACE_ORDER)}) nor a list of percentiles and max"
-            )
-        return tuple(sorted(TRACE_ORDER[:count]))
+    if re.fullmatch(r"\d+", text) and int(text) <= len(TRACE_ORDER):
+        return tuple(sorted(TRACE_ORDER[: int(text)]))
     out = set()
     for part in re.split(r"[,;\s]+", text):
         if not part:

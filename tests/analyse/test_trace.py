@@ -133,13 +133,15 @@ def test_no_trace_when_none_is_asked():
         ("1", (0.8,)),
         ("50, 80%, max", (0.5, 0.8, 1.0)),
         ("longest", (1.0,)),
+        ("80", (0.8,)),
+        ("5%", (0.05,)),
     ],
 )
 def test_trace_option(text, expected):
     assert parse_trace(text) == expected
 
 
-@pytest.mark.parametrize("text", ["8", "0%", "100", "fast", ",", "-5"])
+@pytest.mark.parametrize("text", ["0%", "100", "fast", ",", "-5", "120"])
 def test_trace_option_refuses(text):
     with pytest.raises(ValueError):
         parse_trace(text)
