@@ -306,7 +306,14 @@ def resolve(
     _resolve_holidays(settings, list(holidays), problems)
     for option in OPTIONS:
         value = None if options is None or option.attr is None else getattr(options, option.attr)
-        if value is None or option.setting is None:
+        if value is None:
+            continue
+        if option.attr == "trace" and not isinstance(value, tuple):
+            try:  # not a setting: checked here, read again by the analysis
+                option.parse(value)
+            except (ValueError, TypeError) as exc:
+                problems.append(Problem(ERROR, "bad-option", f"{option.flag}: {exc}"))
+        if option.setting is None:
             continue
         try:
             setattr(settings, option.setting, option.parse(value))

@@ -123,3 +123,11 @@ def test_libreoffice_recalculates_the_trace(traced, libreoffice, tmp_path):
     ]
     assert sentences[1].startswith("the P80 of ")
     assert "recomputed on the Trace sheet from its random numbers" in sentences[1]
+
+
+def test_bad_trace_option_is_a_problem_not_a_traceback(tmp_path):
+    source = write_xlsx(tmp_path / "bad.xlsx", {"Activities": ROWS})
+    result = convert(source, ConvertOptions(trace="fast", iterations=100), outdir=tmp_path)
+    assert not result.ok and result.exit_code == 2
+    bad = [p for p in result.problems if p.code == "bad-option"]
+    assert len(bad) == 1 and "--trace" in bad[0].message
