@@ -130,6 +130,7 @@ def _write_run(ws, fmt, a, r: int) -> int:
         ws.write_string(r, 0, "Traced", fmt.label)
         ws.merge_range(r, 1, r, LAST, "", fmt.wrap)
         ws.write_formula(r, 1, formula, fmt.wrap, text)
+        ws.set_row(r, row_height([(text, merged_width(WIDTHS[1:]))]))
     note = sensitivity_note(sim)
     if note is not None:
         r += 1

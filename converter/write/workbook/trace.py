@@ -33,8 +33,8 @@ from converter.write.workbook.layout import (
     trace_cell,
     trace_target,
 )
-from converter.write.workbook.rows import merged_width, row_height
-from converter.write.workbook.styles import TITLE_ROW
+from converter.write.workbook.rows import DEFAULT_ROW_HEIGHT, merged_width, row_height
+from converter.write.workbook.styles import TABLE_HEAD_SIZE, TITLE_ROW
 
 SUMMARY_HEADS = [
     "Stands for",
@@ -49,6 +49,7 @@ SUMMARY_HEADS = [
 ACTIVITY_HEADS = ["ID", "Distribution", "Optimistic", "Most likely", "Pessimistic", "Alpha", "Beta"]
 BLOCK_HEADS = ["Random number u", "Duration", "Early start", "Early finish"]
 WIDTHS = [10.0, 11.0, 10.0, 11.0, 12.0, 10.0, 11.0]
+BLOCK_WIDTH = 10.0
 FIXED = len(ACTIVITY_HEADS)  # the columns before the first iteration's block
 INTRO = (
     "Each traced iteration is recomputed here from its random numbers: a duration is "
@@ -77,9 +78,12 @@ def write_trace(wb, fmt, a, lay: Layout) -> None:
     intro = INTRO + (LARGE if shown.size < len(a.ids) else "")
     last = max(len(SUMMARY_HEADS) - 1, FIXED - 1)
     ws.merge_range(1, 0, 2, last, intro, fmt.subtitle_wrap)
-    ws.set_row(2, max(15.0, row_height([(intro, merged_width(WIDTHS + [10.0]))]) - 15.0))
+    need = row_height([(intro, merged_width(_width(c) for c in range(last + 1)))])
+    ws.set_row(2, max(DEFAULT_ROW_HEIGHT, need - DEFAULT_ROW_HEIGHT))
     for col, head in enumerate(SUMMARY_HEADS):
         ws.write_string(TRACE_FIRST - 1, col, head, fmt.th_center if col else fmt.th)
+    heads = [(h, _width(c), TABLE_HEAD_SIZE, True) for c, h in enumerate(SUMMARY_HEADS)]
+    ws.set_row(TRACE_FIRST - 1, row_height(heads))
     top = TRACE_FIRST + len(traced) + 2  # the activity table's head (two rows)
     first = top + 2
     rows = {int(i): first + k for k, i in enumerate(shown)}
@@ -93,9 +97,13 @@ def write_trace(wb, fmt, a, lay: Layout) -> None:
             _iteration_cells(ws, fmt, a, i, r, k, t, rows, incoming[i])
     for col, width in enumerate(WIDTHS):
         ws.set_column(col, col, width)
-    ws.set_column(FIXED, FIXED + 4 * len(traced) - 1, 10.0)
+    ws.set_column(FIXED, FIXED + 4 * len(traced) - 1, BLOCK_WIDTH)
     ws.freeze_panes(first, 1)
     pages.set_up(ws, header_rows=(top, top + 1), title_cols=(0, 0))
+
+
+def _width(col: int) -> float:
+    return WIDTHS[col] if col < len(WIDTHS) else BLOCK_WIDTH
 
 
 def _shown(a, traced) -> np.ndarray:
