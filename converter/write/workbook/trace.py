@@ -50,6 +50,8 @@ ACTIVITY_HEADS = ["ID", "Distribution", "Optimistic", "Most likely", "Pessimisti
 BLOCK_HEADS = ["Random number u", "Duration", "Early start", "Early finish"]
 WIDTHS = [10.0, 11.0, 10.0, 11.0, 12.0, 10.0, 11.0]
 BLOCK_WIDTH = 10.0
+#: Arguments of one MAX at most (spreadsheets take 255; one is the leading 0).
+MAX_ARGUMENTS = 200
 FIXED = len(ACTIVITY_HEADS)  # the columns before the first iteration's block
 INTRO = (
     "Each traced iteration is recomputed here from its random numbers: a duration is "
@@ -208,6 +210,11 @@ def _iteration_cells(ws, fmt, a, i: int, r: int, k: int, t, rows: dict, links) -
             pushes.append(ef)
         else:
             pushes.append(f.link_push(kind, es, ef, f.number(lag), f.ref(r, c0 + 1))[1:])
+    while len(pushes) > MAX_ARGUMENTS:  # a function takes at most 255 arguments
+        pushes = [
+            "MAX(" + ",".join(pushes[g : g + MAX_ARGUMENTS]) + ")"
+            for g in range(0, len(pushes), MAX_ARGUMENTS)
+        ]
     start = f.early_start(pushes)
     if not f.fits(start):
         start = "=" + f.number(t.early_start[i])  # too many links for one formula
