@@ -47,6 +47,8 @@ ACCURACY = 1e-6
 
 _BLOCK = 65536  # draws evaluated together (their temporaries stay in cache)
 _F1, _F2, _HALF = np.float32(1.0), np.float32(2.0), np.float32(0.5)
+_F_CELLS = np.float32(CELLS)
+_TOP = np.nextafter(_F_CELLS, np.float32(0.0))  # just below the last node
 
 
 def grid_coordinate(u) -> np.ndarray:
@@ -187,9 +189,11 @@ def evaluate(table: np.ndarray, u: np.ndarray, out: np.ndarray | None = None) ->
     for r0 in range(0, k, rows_per):
         r1 = min(k, r0 + rows_per)
         x = grid_coordinate(u[r0:r1])
-        x *= np.float32(CELLS)
-        j = np.minimum(x.astype(np.int32), CELLS - 1)
-        f = x - j  # float32, the place within the cell
+        x *= _F_CELLS
+        np.minimum(x, _TOP, out=x)  # u = 1 (never drawn) stays in the last cell
+        f = np.floor(x)
+        j = f.astype(np.int32)
+        np.subtract(x, f, out=f)  # the place within the cell, in single precision
         j += (np.arange(r0, r1, dtype=np.int32) * CELLS)[:, None]
         coef = np.take(cells, j).view(np.float32).reshape(r1 - r0, c, 4)
         y = coef[..., 3] * f
