@@ -617,6 +617,7 @@ def test_convert_and_watch_take_the_same_conversion_options():
         "--start-date",
         "--no-simulation",
         "--simulation-memory",
+        "--trace",  # issue 14
     }
     given = [
         "--due",
@@ -639,6 +640,8 @@ def test_convert_and_watch_take_the_same_conversion_options():
         "--no-simulation",
         "--simulation-memory",
         "512",
+        "--trace",
+        "50,max",
     ]
     parser = cli.build_parser()
     from_convert = options_from_args(parser.parse_args(["convert", "x.xlsx", *given]))
@@ -658,6 +661,7 @@ def test_convert_and_watch_take_the_same_conversion_options():
             start_date=dt.date(2027, 1, 4),
             simulate=False,
             simulation_memory_mb=512,
+            trace=(0.5, 1.0),
         )
     )
     defaults = options_from_args(parser.parse_args(["watch", "F"]))
