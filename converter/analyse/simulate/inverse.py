@@ -35,6 +35,8 @@ import functools
 import numpy as np
 from scipy import special
 
+from converter.analyse.pert import pert_beta_parameters
+
 #: Cells of the transformed coordinate t (a node at t = 1/2, u = 1/2).
 CELLS = 256
 #: Rows of the shape number r = (M - O) / (P - O) in the master table.
@@ -95,7 +97,7 @@ def master_table() -> tuple[np.ndarray, np.ndarray]:
     """
     r = np.linspace(0.0, 1.0, ROWS + 1)[:, None]
     t = np.linspace(0.0, 1.0, CELLS + 1)[None, :]
-    a, b = 1.0 + 4.0 * r, 1.0 + 4.0 * (1.0 - r)
+    a, b = pert_beta_parameters(0.0, r, 1.0)  # the shapes of O = 0, M = r, P = 1
     low = t <= 0.5
     half = 2.0 * np.where(low, t, 1.0 - t)
     tail = 0.5 * half**POWER  # u below the middle, 1 - u above it

@@ -29,6 +29,7 @@ import numpy as np
 from scipy import special
 
 from converter.analyse.network import Network, schedule
+from converter.analyse.pert import pert_beta_parameters
 from converter.analyse.simulate.correlation import induce_rank_correlation
 from converter.analyse.simulate.inputs import Inputs
 from converter.analyse.simulate.inverse import ACCURACY, triangular_quantile, uniform_quantile
@@ -37,7 +38,6 @@ from converter.analyse.simulate.sampling import (
     TRIANGULAR,
     draw_uniforms,
     durations_from_uniforms,
-    shape_numbers,
 )
 from converter.model import FS
 
@@ -131,8 +131,7 @@ def exact_durations(inp: Inputs, u: np.ndarray) -> np.ndarray:
     """F^-1(u) per activity, exactly: scipy's ``betaincinv`` for the PERT-beta, the
     closed forms for the triangular and the uniform; O = P is the constant."""
     o, m, p = inp.o, inp.m, inp.p
-    r = shape_numbers(o, m, p)
-    beta = special.betaincinv(1.0 + 4.0 * r, 1.0 + 4.0 * (1.0 - r), u)
+    beta = special.betaincinv(*pert_beta_parameters(o, m, p), u)
     out = np.where(
         inp.codes == PERT,
         o + (p - o) * beta,
