@@ -61,6 +61,7 @@ KEY_ALGORITHMS = {
         "References",
     ),
     "converter.analyse.simulate.ranks.spearman_rows": ("Parameters", "Returns", "References"),
+    "converter.analyse.simulate.inverse.evaluate": ("Parameters", "Returns", "References"),
 }
 
 

@@ -178,6 +178,12 @@ def evaluate(table: np.ndarray, u: np.ndarray, out: np.ndarray | None = None) ->
     numpy.ndarray
         ``(k, c)`` quantiles in [0, 1].
 
+    References
+    ----------
+    The inversion method: Devroye (1986), *Non-Uniform Random Variate Generation*,
+    Springer, chapter II.2; the cubic Hermite interpolant from values and slopes at a
+    cell's ends (common practice).
+
     Examples
     --------
     >>> round(float(evaluate(pert_table([0.25]), np.array([[0.3]]))[0, 0]), 6)
