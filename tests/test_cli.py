@@ -622,6 +622,7 @@ def test_convert_and_watch_take_the_same_conversion_options():
         "--time-unit",  # issue 11: the working-hours time unit
         "--hours-per-day",  # issue 11: Hours per day
         "--baseline",  # issue 13: an earlier run to compare with (checked in tests/compare/)
+        "--trace",  # issue 14
     }
     given = [
         "--due",
@@ -648,6 +649,8 @@ def test_convert_and_watch_take_the_same_conversion_options():
         "Working Hours",
         "--hours-per-day",
         "7.5",
+        "--trace",
+        "50,max",
     ]
     parser = cli.build_parser()
     from_convert = options_from_args(parser.parse_args(["convert", "x.xlsx", *given]))
@@ -669,6 +672,7 @@ def test_convert_and_watch_take_the_same_conversion_options():
             simulation_memory_mb=512,
             time_unit="working hours",
             hours_per_day=7.5,
+            trace=(0.5, 1.0),
         )
     )
     defaults = options_from_args(parser.parse_args(["watch", "F"]))

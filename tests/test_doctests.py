@@ -55,13 +55,13 @@ KEY_ALGORITHMS = {
     "converter.analyse.pert.duration_at": ("Parameters", "Returns", "References"),
     "converter.analyse.calendar.Calendar": ("Parameters", "References"),
     "converter.analyse.simulate.runs.simulate": ("Parameters", "Returns", "References"),
-    "converter.analyse.simulate.sampling.beta_cheng": ("Parameters", "Returns", "References"),
     "converter.analyse.simulate.correlation.induce_rank_correlation": (
         "Parameters",
         "Returns",
         "References",
     ),
     "converter.analyse.simulate.ranks.spearman_rows": ("Parameters", "Returns", "References"),
+    "converter.analyse.simulate.inverse.evaluate": ("Parameters", "Returns", "References"),
 }
 
 

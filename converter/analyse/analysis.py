@@ -372,6 +372,7 @@ def _simulate(
         progress=getattr(options, "progress", None) if options is not None else None,
         workers=getattr(options, "simulation_workers", None),
         memory_mb=getattr(options, "simulation_memory_mb", None),
+        trace=_trace_quantiles(options),
     )
     if view is not None:
         simulation = simulate_register(simulate, (net, o, m, p), kwargs, schedule, view)
@@ -380,6 +381,20 @@ def _simulate(
     for t in targets:
         t.p_simulated = simulation.target_p.get(t.activity)
     return simulation
+
+
+def _trace_quantiles(options) -> tuple[float, ...]:
+    """The quantiles to trace: the option as given (text, count or quantiles), else the
+    default (:data:`.simulate.trace.DEFAULT_TRACE`)."""
+    from converter.analyse.simulate.trace import DEFAULT_TRACE
+    from converter.options import parse_trace
+
+    given = getattr(options, "trace", None)
+    if given is None:
+        return DEFAULT_TRACE
+    if isinstance(given, tuple):
+        return given
+    return parse_trace(given)
 
 
 def _add_figures(a: Analysis) -> None:

@@ -46,6 +46,7 @@ from converter.options.parsers import (
     parse_seed,
     parse_start_date,
     parse_time_unit,
+    parse_trace,
 )
 from converter.values import parse_duration as in_time_units
 from converter.values import parse_working_days
@@ -79,6 +80,7 @@ __all__ = [
     "parse_seed",
     "parse_start_date",
     "parse_time_unit",
+    "parse_trace",
     "resolve",
 ]
 
@@ -214,6 +216,16 @@ OPTIONS: tuple[Option, ...] = (
         'Changes sheet and the JSON\'s "changes"',
         "OLD.analysis.json",
     ),
+    Option(
+        None,
+        "trace",
+        parse_trace,
+        "iterations the Trace sheet recomputes from their random numbers: a count (0: "
+        "none; N: the first N of P80, P50, P90, the longest, P10, P95, P99) or a list of "
+        'percentiles and max, e.g. "50,80,95,max"',
+        "N|LIST",
+        default="50,80,90,max",
+    ),
 )
 BY_SETTING: dict[str, Option] = {o.setting: o for o in OPTIONS if o.setting is not None}
 
@@ -245,6 +257,7 @@ class ConvertOptions:
     time_unit: str | None = None  # the schedule's time unit (working hours among them)
     hours_per_day: float | None = None  # working hours in one day (reads 16h; dates hours)
     baseline: str | None = None  # an earlier run to compare with (convert --baseline)
+    trace: str | int | tuple[float, ...] | None = None  # traced iterations; None: P50/80/90, max
 
 
 # --------------------------------------------------------------------------- command line
@@ -346,7 +359,14 @@ def resolve(
     _resolve_holidays(settings, list(holidays), problems)
     for option in OPTIONS:
         value = None if options is None or option.attr is None else getattr(options, option.attr)
-        if value is None or option.setting is None:
+        if value is None:
+            continue
+        if option.attr == "trace" and not isinstance(value, tuple):
+            try:  # not a setting: checked here, read again by the analysis
+                option.parse(value)
+            except (ValueError, TypeError) as exc:
+                problems.append(Problem(ERROR, "bad-option", f"{option.flag}: {exc}"))
+        if option.setting is None:
             continue
         try:
             setattr(settings, option.setting, option.parse(value))

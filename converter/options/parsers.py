@@ -375,3 +375,50 @@ def parse_baseline(value: object) -> str:
     if not text:
         raise ValueError("expected the path of an earlier run's .analysis.json or .analysis.xlsx")
     return text
+
+
+#: The iterations a count of traced iterations takes, in this order (1: the longest).
+TRACE_ORDER: tuple[float, ...] = (0.8, 0.5, 0.9, 1.0, 0.1, 0.95, 0.99)
+
+
+def parse_trace(value: object) -> tuple[float, ...]:
+    """The quantiles whose nearest iterations the Trace sheet shows (1.0: the longest).
+
+    A count ``N`` (0 to 7) takes the first ``N`` of P80, P50, P90, the longest, P10,
+    P95, P99; ``0`` traces none. A list names them: percentiles (``80`` or ``80%``,
+    strictly between 0 and 100) and ``max`` (or ``longest``) for the longest iteration.
+    A whole number alone is a count up to 7 and a percentile from 8 (``5%`` alone is P5).
+
+    Examples
+    --------
+    >>> parse_trace("4"), parse_trace(0), parse_trace("50,80,95,max")
+    ((0.5, 0.8, 0.9, 1.0), (), (0.5, 0.8, 0.95, 1.0))
+    >>> parse_trace("80"), parse_trace("5%")
+    ((0.8,), (0.05,))
+    >>> parse_trace("120")
+    Traceback (most recent call last):
+    ...
+    ValueError: "120" in "120" is not a percentile between 0 and 100 nor max
+    """
+    text = str(value).strip().lower()
+    if re.fullmatch(r"\d+", text) and int(text) <= len(TRACE_ORDER):
+        return tuple(sorted(TRACE_ORDER[: int(text)]))
+    out = set()
+    for part in re.split(r"[,;\s]+", text):
+        if not part:
+            continue
+        if part in ("max", "longest"):
+            out.add(1.0)
+            continue
+        try:
+            x = float(part.removesuffix("%"))
+        except ValueError:
+            x = math.nan
+        if not 0.0 < x < 100.0:
+            raise ValueError(
+                f"{shown(part)} in {shown(value)} is not a percentile between 0 and 100 nor max"
+            )
+        out.add(round(x / 100.0, 6))
+    if not out:
+        raise ValueError(f"{shown(value)} names no iteration to trace")
+    return tuple(sorted(out))

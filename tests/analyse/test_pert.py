@@ -9,7 +9,7 @@ import pytest
 from scipy import stats
 
 from converter.analyse import pert
-from converter.analyse.simulate import sampling
+from converter.analyse.simulate import inverse, trace
 
 
 class TestExpectedTime:
@@ -44,8 +44,10 @@ class TestExpectedTime:
         assert dist.var() == pytest.approx((mu - a) * (b - mu) / 7.0, rel=1e-12)
 
     def test_the_sampler_uses_these_shapes(self):
-        # one home for the PERT-beta shapes: the simulation's sampler imports this function
-        assert sampling.pert_beta_parameters is pert.pert_beta_parameters
+        # one home for the PERT-beta shapes: the sampler's quantile table and the trace's
+        # exact quantiles import this function
+        assert inverse.pert_beta_parameters is pert.pert_beta_parameters
+        assert trace.pert_beta_parameters is pert.pert_beta_parameters
 
     def test_fixed_duration_shapes(self):
         # O = M = P: both shapes 1 (no division by zero; the sampler returns the constant)

@@ -21,7 +21,7 @@ from scipy import integrate, stats
 
 from converter.analyse import simulate as sim
 from converter.analyse.network import build_network, schedule
-from converter.analyse.simulate import inputs, sampling, workers
+from converter.analyse.simulate import inputs, workers
 from converter.model import FF, FS, SF, SS
 
 # --------------------------------------------------------------------------- helpers
@@ -67,28 +67,20 @@ def test_pert_sampler_matches_scipy_beta(o, m, p):
 
 
 @pytest.mark.parametrize("a,b", [(1.3, 4.7), (4.9, 1.1), (3.0, 3.0), (1.0, 5.0), (5.0, 1.0)])
-def test_beta_cheng_matches_scipy(a, b):
+def test_pert_inverse_sampler_matches_scipy(a, b):
     # scipy.stats.beta; Kolmogorov-Smirnov over 4 rows x 50,000 draws (rows drawn together)
-    x = sim.beta_cheng(np.random.default_rng(5), [a] * 4, [b] * 4, 50_000).reshape(-1)
-    assert stats.kstest(x, stats.beta(a, b).cdf).pvalue > 0.001
-
-
-def test_beta_cheng_few_draws_per_row():
-    # many rows of 3 draws exercise the short-row path; scipy.stats.beta by KS
-    x = sim.beta_cheng(np.random.default_rng(6), [1.6] * 60_000, [4.4] * 60_000, 3).reshape(-1)
-    assert stats.kstest(x, stats.beta(1.6, 4.4).cdf).pvalue > 0.001
-
-
-def test_beta_cheng_rows_short_of_accepted_draws_are_completed():
-    # no spare candidates: almost every row needs the top-up path; scipy.stats.beta by KS
-    a, b = 1.3, 4.7
-    big = a + b
-    scale = math.sqrt((big - 2) / (2 * a * b - big))  # Cheng (1978), algorithm BB set-up
-    params = tuple(np.full((4, 1), v, dtype=np.float32) for v in (a, b, big, scale, a + 1 / scale))
-    with np.errstate(divide="ignore"):
-        x = sampling._cheng_accepted(np.random.default_rng(7), params, 4, 50_000, extra=0)
-    assert x.shape == (4, 50_000)
+    r = (a - 1.0) / 4.0  # the PERT-beta on [0, 1] with M = r has these shapes
+    x = sim.sample_durations(
+        np.random.default_rng(5), [0.0] * 4, [r] * 4, [1.0] * 4, "pert", 50_000
+    )
     assert stats.kstest(x.reshape(-1), stats.beta(a, b).cdf).pvalue > 0.001
+
+
+def test_pert_inverse_sampler_few_draws_per_row():
+    # many rows of 3 draws; scipy.stats.beta by KS
+    n = 60_000
+    x = sim.sample_durations(np.random.default_rng(6), [0.0] * n, [0.15] * n, [1.0] * n, "pert", 3)
+    assert stats.kstest(x.reshape(-1), stats.beta(1.6, 4.4).cdf).pvalue > 0.001
 
 
 @pytest.mark.parametrize("o,m,p", ESTIMATES)

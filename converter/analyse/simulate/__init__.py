@@ -3,9 +3,10 @@
 Modules: :mod:`.runs` (the runs: chunks, passes), :mod:`.given` (durations given from
 outside), :mod:`.result` (the result and its summary), :mod:`.budget` (the memory budget),
 :mod:`.inputs` (validated inputs, chunk sizes), :mod:`.sampling` (duration distributions),
-:mod:`.correlation` (Iman-Conover rank correlation), :mod:`.ranks` (Spearman sensitivity),
-:mod:`.workers` (process pool, shared memory), :mod:`.risks` (named risks' draws),
-:mod:`.risk_runs` (the risks' ranking).
+:mod:`.inverse` (their quantile functions), :mod:`.correlation` (Iman-Conover rank
+correlation), :mod:`.ranks` (Spearman sensitivity), :mod:`.workers` (process pool, shared
+memory), :mod:`.risks` (named risks' draws), :mod:`.risk_runs` (the risks' ranking),
+:mod:`.trace` (the traced iterations).
 """
 
 from converter.analyse.simulate.budget import (
@@ -27,7 +28,7 @@ from converter.analyse.simulate.runs import (
     draw_samples,
     simulate,
 )
-from converter.analyse.simulate.sampling import beta_cheng, sample_durations
+from converter.analyse.simulate.sampling import durations_from_uniforms, sample_durations
 
 __all__ = [
     "DEFAULT_MEMORY_MB",
@@ -35,10 +36,10 @@ __all__ = [
     "MemoryPlan",
     "SimulationMemoryError",
     "SimulationResult",
-    "beta_cheng",
     "centred_ranks",
     "chunk_size",
     "draw_samples",
+    "durations_from_uniforms",
     "induce_rank_correlation",
     "memory_problem",
     "plan_memory",

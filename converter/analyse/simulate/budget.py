@@ -36,6 +36,7 @@ import math
 from dataclasses import dataclass
 
 from converter.analyse.simulate.inputs import chunk_size
+from converter.analyse.simulate.inverse import CELLS
 from converter.model import ERROR, Problem
 from converter.options import DEFAULT_SIMULATION_MEMORY_MB, MIN_SIMULATION_MEMORY_MB
 
@@ -91,6 +92,10 @@ class MemoryPlan:
         return self.sample < self.iterations
 
 
+#: The PERT-beta quantile table's bytes per activity (:func:`.inverse.pert_table`).
+TABLE_BYTES = CELLS * 16
+
+
 def pass_columns(n: int, cols: int) -> int:
     """Iterations handled together by the passes within a chunk of ``cols`` iterations."""
     return min(cols, max(1024, _PASS_ELEMENTS // max(n, 1)))
@@ -99,10 +104,11 @@ def pass_columns(n: int, cols: int) -> int:
 def chunk_bytes(n: int, cols: int, group: int = 0) -> int:
     """Work memory of one process running chunks of ``cols`` iterations.
 
-    The samples (8 bytes per element, 4 more while rounded to single precision), the
-    passes' early and late times, flags and temporaries (41 + 15 bytes per element of a
-    pass block; measured at most 44 in all, on a network whose activities all run in
-    parallel), and for correlated groups about 64 bytes per element of the largest group.
+    The samples (8 bytes per element, drawn as uniforms and turned into durations in
+    place; 4 more while rounded to single precision), the passes' early and late times,
+    flags and temporaries (41 + 15 bytes per element of a pass block; measured at most
+    44 in all, on a network whose activities all run in parallel), and for correlated
+    groups about 64 bytes per element of the largest group.
     """
     cols_pass = pass_columns(n, cols)
     return 12 * n * cols + 56 * n * cols_pass + 64 * group * cols
@@ -139,7 +145,8 @@ def run_bytes(
     streamed = (_PER_ITERATION * runs + _TRANSIENT) * iterations
     kept = 4 * n * sample + _RANK_FIXED * sample + workers * _RANK_TEMPS * rows * sample
     processes = workers * _WORKER if workers > 1 else 0
-    return _FIXED + processes + workers * chunk_bytes(n, cols, group) + streamed + kept
+    table = TABLE_BYTES * n  # the PERT-beta quantile table, shared by the workers
+    return _FIXED + table + processes + workers * chunk_bytes(n, cols, group) + streamed + kept
 
 
 def _largest_sample(n, iterations, workers, cols, group, runs, budget) -> int:
@@ -158,7 +165,7 @@ def largest_iterations(n: int, group: int = 0, runs: int = 1, memory_mb: int | N
     Examples
     --------
     >>> largest_iterations(120, memory_mb=200)
-    4941004
+    4920524
     """
     budget = budget_bytes(memory_mb)
 
@@ -204,7 +211,7 @@ def plan_memory(
     --------
     >>> plan = plan_memory(120, 10_000_000, 2, 20_833)
     >>> plan.sampled, plan.workers, plan.sample
-    (True, 2, 448694)
+    (True, 2, 448312)
     >>> plan_memory(120, 10_000, 2, 20_833).sampled
     False
     """

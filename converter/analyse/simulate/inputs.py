@@ -7,7 +7,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from converter.analyse.simulate.sampling import KIND_CODES, kind_codes
+from converter.analyse.simulate.sampling import KIND_CODES, kind_codes, quantile_table
 from converter.model import DISTRIBUTIONS
 
 _CHUNK_ELEMENTS = 2_500_000  # activities x iterations per chunk (20 MB a float64 matrix)
@@ -25,6 +25,9 @@ class Inputs:
     iterations: int
     seed: int
     chunk: int
+    #: The PERT-beta quantile table of the varying PERT-beta activities
+    #: (:func:`.sampling.quantile_table`), made once per run.
+    table: np.ndarray | None = None
 
     @property
     def n(self) -> int:
@@ -69,6 +72,7 @@ def prepare(o, m, p, distribution, distributions, groups, iterations, seed) -> I
         iterations=iterations,
         seed=int(seed),
         chunk=chunk_size(n, iterations),
+        table=quantile_table(o, m, p, codes),
     )
 
 

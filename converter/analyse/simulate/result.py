@@ -55,6 +55,9 @@ class SimulationResult:
     memory_budget_mb: int = 0
     #: The named risks' ranking (:class:`.risk_runs.RiskRanking`; None: no risks).
     risks: Any = None
+    #: The traced iterations (:class:`.trace.TracedIteration`), recomputed from their
+    #: random numbers; empty when none were asked for.
+    trace: list = field(default_factory=list)
 
     def __post_init__(self) -> None:
         if not self.sensitivity_iterations:

@@ -104,10 +104,8 @@ def _final_durations(job, j: int, correlate: bool) -> np.ndarray:
     if max(0, min(b, job.sample) - a) == b - a:
         d[...] = job.store[:, a:b]
         return d
-    runs._sample_chunk(job.inp, j, b - a, out=d)
+    runs._sample_chunk(job.inp, j, b - a, out=d, correlation=job.correlation if correlate else 0.0)
     runs._round_to_single(d)
-    if correlate:
-        runs._correlate_chunk(job.inp, j, d, job.correlation)
     return d
 
 

@@ -25,12 +25,15 @@ The samplers are in :mod:`.sampling`; activities sharing a correlation group get
 correlation ``correlation`` by Iman & Conover (:mod:`.correlation`), applied to each
 chunk of iterations; large runs share the chunks among processes (:mod:`.workers`).
 
-Randomness: chunk ``j`` draws its durations from
+Randomness: chunk ``j`` draws its uniforms (one per activity and iteration, in one
+call, :func:`.sampling.draw_uniforms`) from
 ``np.random.default_rng(np.random.SeedSequence(seed, spawn_key=(0, j)))`` and its
 correlation scores from ``spawn_key=(1, j)``, numpy's scheme for independent
-streams. A seed therefore gives the same numbers on every run, whatever the
-number of worker processes, and the uncorrelated comparison run has exactly the
-same per-activity samples as the correlated one, only in another order.
+streams; each duration is F^-1(u) of its uniform (:mod:`.sampling`), so an iteration
+is recomputed from its uniforms alone (:func:`chunk_uniforms`). A seed therefore gives
+the same numbers on every run, whatever the number of worker processes, and the
+uncorrelated comparison run has exactly the same per-activity samples as the
+correlated one, only in another order.
 """
 
 from __future__ import annotations
@@ -51,7 +54,6 @@ from converter.analyse.simulate.budget import (
     pass_columns,
     plan_memory,
 )
-from converter.analyse.simulate.correlation import induce_rank_correlation
 from converter.analyse.simulate.inputs import Inputs, check_correlation, prepare
 from converter.analyse.simulate.ranks import RANK_ROWS, centred_ranks, spearman_block
 from converter.analyse.simulate.result import (
@@ -61,25 +63,21 @@ from converter.analyse.simulate.result import (
     summarise,
 )
 from converter.analyse.simulate.risk_runs import RiskDraws, RiskRanking, rank_risks
-from converter.analyse.simulate.sampling import sample_durations
+from converter.analyse.simulate.sampling import durations_from_uniforms
+from converter.analyse.simulate.trace import chunk_uniforms, trace_iterations
 from converter.model import DEFAULT_ITERATIONS, DEFAULT_SEED, DISTRIBUTIONS
 
 __all__ = ["PERCENTILE_KEYS", "SimulationResult", "draw_samples", "simulate"]
 
 
-def _rng(seed: int, stream: int, chunk: int) -> np.random.Generator:
-    return np.random.default_rng(np.random.SeedSequence(seed, spawn_key=(stream, chunk)))
-
-
-def _sample_chunk(inp: Inputs, j: int, size: int, out: np.ndarray | None = None) -> np.ndarray:
-    return sample_durations(_rng(inp.seed, 0, j), inp.o, inp.m, inp.p, inp.codes, size, out)
-
-
-def _correlate_chunk(inp: Inputs, j: int, d: np.ndarray, rho: float) -> None:
-    """Iman-Conover within each group, in place, for chunk ``j``."""
-    rng = _rng(inp.seed, 1, j)
-    for rows in inp.groups:
-        d[rows] = induce_rank_correlation(rng, d[rows], rho)
+def _sample_chunk(
+    inp: Inputs, j: int, size: int, out: np.ndarray | None = None, correlation: float = 0.0
+) -> np.ndarray:
+    if out is None or not out.flags.c_contiguous:
+        u = chunk_uniforms(inp, j, size, correlation)
+    else:
+        u = chunk_uniforms(inp, j, size, correlation, out=out)  # durations in place
+    return durations_from_uniforms(u, inp.o, inp.m, inp.p, inp.codes, inp.table, out)
 
 
 def draw_samples(
@@ -101,11 +99,7 @@ def draw_samples(
     check_correlation(correlation)
     store = np.empty((inp.n, inp.iterations), dtype=np.float32)
     for j, (a, b) in enumerate(inp.chunks()):
-        store[:, a:b] = _sample_chunk(inp, j, b - a)
-        if correlation > 0 and inp.groups:
-            d = store[:, a:b].astype(float)
-            _correlate_chunk(inp, j, d, float(correlation))
-            store[:, a:b] = d
+        store[:, a:b] = _sample_chunk(inp, j, b - a, correlation=float(correlation))
     return store
 
 
@@ -212,22 +206,18 @@ def _round_to_single(d: np.ndarray) -> None:
 
 
 def _chunk(job: _Job, j: int, correlate: bool) -> tuple[int, np.ndarray, dict[int, int]]:
-    """Sample (or, for the correlated run, re-order) chunk ``j``, run the passes.
+    """Sample chunk ``j`` (for the correlated run, from its re-ordered uniforms), run the
+    passes.
 
     The chunk's samples are rounded to float32 and, for the iterations kept
-    (:attr:`_Job.sample`), stored. The correlated run re-orders the stored samples, or
-    draws again those not kept (the same numbers from the chunk's own stream).
+    (:attr:`_Job.sample`), stored. The correlated run draws the chunk's uniforms again
+    (the same numbers from the chunk's own stream) and re-orders them within each group.
     """
     a, b = job.inp.chunks()[j]
     kept = max(0, min(b, job.sample) - a)  # the chunk's leading iterations in the store
     d = job.passes.samples(b - a)
-    if correlate and kept == b - a:
-        d[...] = job.store[:, a:b]  # the first run's samples, as stored
-    else:
-        _sample_chunk(job.inp, j, b - a, out=d)
-        _round_to_single(d)  # the passes use the values a float32 store holds
-    if correlate:
-        _correlate_chunk(job.inp, j, d, job.correlation)
+    _sample_chunk(job.inp, j, b - a, out=d, correlation=job.correlation if correlate else 0.0)
+    _round_to_single(d)  # the passes use the values a float32 store holds
     job.store[:, a : a + kept] = d[:, :kept]
     if job.risks is not None:  # the named risks' delays, and what to watch in the passes
         job.risks.before_passes(job.passes, d, a, b)
@@ -323,6 +313,7 @@ def simulate(
     workers: int | None = None,
     memory_mb: int | None = None,
     risks: RiskDraws | None = None,
+    trace: Sequence[float] = (),
 ) -> SimulationResult:
     """Monte Carlo simulation of the network's project duration (see module docstring).
 
@@ -361,6 +352,9 @@ def simulate(
         :mod:`.budget` for what it bounds and how.
     risks : RiskDraws, optional
         Named risks' draws (:mod:`.risks`); the result's ``risks`` ranks them.
+    trace : sequence of float
+        Quantiles whose nearest iterations are traced (1: the longest iteration), see
+        :mod:`.trace`; the result's ``trace`` (of the correlated run when there are two).
 
     Returns
     -------
@@ -425,11 +419,13 @@ def simulate(
         memory_budget_mb=plan.budget >> 20,
     )
     first = summarise(*results[0], correlation=0.0, **common)
-    if not correlated:
-        first.risks = ranking
-        return first
-    result = summarise(*results[1], correlation=correlation, **common)
-    result.independent, result.risks = first, ranking
+    result = first
+    if correlated:
+        result = summarise(*results[1], correlation=correlation, **common)
+        result.independent = first
+    result.risks = ranking
+    rho = float(correlation) if correlated else 0.0
+    result.trace = trace_iterations(net, inp, result.durations, rho, trace) if trace else []
     return result
 
 

@@ -1,30 +1,36 @@
-"""Duration samplers: PERT-beta (Cheng's algorithm BB), triangular and uniform.
+"""Duration samplers: every duration is F^-1(u) of one uniform random number u.
 
 Distributions (O optimistic, M most likely, P pessimistic; O = P is a constant):
 
 * ``"pert"``: the PERT-beta on [O, P] with the shapes of
   :func:`converter.analyse.pert.pert_beta_parameters`, whose mean is (O + 4M + P) / 6
   (Malcolm, Roseboom, Clark & Fazar 1959, "Application of a technique for research and
-  development program evaluation", *Operations Research* 7(5));
-* ``"triangular"`` on (O, M, P); ``"uniform"`` on [O, P].
+  development program evaluation", *Operations Research* 7(5)); its quantile by the
+  table of :mod:`.inverse` (within :data:`.inverse.ACCURACY` of the exact one);
+* ``"triangular"`` on (O, M, P); ``"uniform"`` on [O, P], each by its closed-form
+  inverse distribution function.
+
+An iteration is therefore fully described by its uniforms: the Iman-Conover rank
+correlation re-orders the uniforms of a group (:mod:`.correlation`), and the Trace
+sheet recomputes chosen iterations from theirs.
 """
 
 from __future__ import annotations
 
-import math
-
 import numpy as np
 
-from converter.analyse.pert import pert_beta_parameters
+from converter.analyse.simulate.inverse import (
+    evaluate,
+    pert_table,
+    triangular_quantile,
+    uniform_quantile,
+)
 from converter.model import DISTRIBUTIONS
 
 PERT, TRIANGULAR, UNIFORM = range(3)
 KIND_CODES: dict[str, int] = {name: i for i, name in enumerate(DISTRIBUTIONS)}
 
-_LN4 = np.float32(math.log(4.0))
-_ONE_PLUS_LN5 = np.float32(1.0 + math.log(5.0))
-_F1, _F5 = np.float32(1.0), np.float32(5.0)
-_BLOCK = 8192  # draws handled together (a block's temporaries stay in cache)
+_BLOCK = 65536  # draws handled together (a block's temporaries stay in cache)
 
 
 def kind_codes(kinds, n: int) -> np.ndarray:
@@ -48,17 +54,108 @@ def kind_codes(kinds, n: int) -> np.ndarray:
     return out
 
 
+def shape_numbers(o, m, p) -> np.ndarray:
+    """r = (M - O) / (P - O) per activity (0 where O = P): the PERT-beta's shape number.
+
+    Examples
+    --------
+    >>> [float(v) for v in shape_numbers([0.0, 2.0], [1.0, 2.0], [4.0, 2.0])]
+    [0.25, 0.0]
+    """
+    o, m, p = (np.asarray(v, dtype=float).reshape(-1) for v in (o, m, p))
+    width = p - o
+    return np.divide(m - o, width, out=np.zeros_like(width), where=width > 0)
+
+
+def quantile_table(o, m, p, codes) -> np.ndarray:
+    """The interpolation table (:func:`.inverse.pert_table`) of the varying PERT-beta rows,
+    in activity order: row ``i`` of the table serves the ``i``-th such activity."""
+    rows = _pert_rows(np.asarray(o, dtype=float), np.asarray(p, dtype=float), codes)
+    return pert_table(shape_numbers(o, m, p)[rows])
+
+
+def _pert_rows(o: np.ndarray, p: np.ndarray, codes: np.ndarray) -> np.ndarray:
+    return np.flatnonzero((codes == PERT) & (o < p))
+
+
+def draw_uniforms(
+    rng: np.random.Generator, n: int, size: int, out: np.ndarray | None = None
+) -> np.ndarray:
+    """The ``(n, size)`` uniforms of a chunk: one per activity and iteration, drawn in one
+    call (row ``i`` is activity ``i``, also where its duration is fixed), so that any
+    iteration's uniforms can be drawn again from the chunk's stream. ``out``: a
+    C-contiguous ``(n, size)`` float64 matrix to fill."""
+    if out is None:
+        return rng.random((n, size))
+    return rng.random((n, size), out=out)
+
+
+def durations_from_uniforms(
+    u: np.ndarray, o, m, p, codes, table: np.ndarray | None = None, out=None
+) -> np.ndarray:
+    """Durations x = F^-1(u), row by row: ``(n, c)`` uniforms to ``(n, c)`` float64 durations.
+
+    Parameters
+    ----------
+    u : numpy.ndarray
+        ``(n, c)`` uniforms in [0, 1).
+    o, m, p : array_like
+        Optimistic, most likely and pessimistic duration per activity.
+    codes : numpy.ndarray
+        Distribution code per activity (:func:`kind_codes`).
+    table : numpy.ndarray, optional
+        :func:`quantile_table` of these activities (made here when not given).
+    out : numpy.ndarray, optional
+        ``(n, c)`` float64 to fill; may be ``u`` itself (each row is read before it is
+        written).
+
+    Returns
+    -------
+    numpy.ndarray
+        The durations; O = P rows are the constant.
+
+    Examples
+    --------
+    >>> u = np.array([[0.5, 0.25], [0.1, 0.9]])
+    >>> x = durations_from_uniforms(u, [0.0, 2.0], [5.0, 3.0], [10.0, 6.0],
+    ...                             np.array([0, 2], dtype=np.int8))
+    >>> [[round(float(v), 6) for v in row] for row in x]
+    [[5.0, 3.594362], [2.4, 5.6]]
+    """
+    o, m, p = (np.asarray(v, dtype=float).reshape(-1) for v in (o, m, p))
+    n, size = u.shape
+    if out is None:
+        out = np.empty((n, size))
+    const = o == p
+    out[const] = o[const, None]
+    pert = _pert_rows(o, p, codes)
+    if table is None:
+        table = pert_table(shape_numbers(o, m, p)[pert])
+    rows_per = max(1, _BLOCK // max(size, 1))
+    for r0 in range(0, pert.size, rows_per):
+        sel = pert[r0 : r0 + rows_per]
+        x = evaluate(table[r0 : r0 + rows_per], u[sel])
+        x *= (p[sel] - o[sel])[:, None]
+        x += o[sel, None]
+        out[sel] = x
+    for code in (TRIANGULAR, UNIFORM):
+        rows = np.flatnonzero((codes == code) & ~const)
+        for r0 in range(0, rows.size, rows_per):
+            sel = rows[r0 : r0 + rows_per]
+            lo, hi = o[sel, None], p[sel, None]
+            if code == TRIANGULAR:
+                out[sel] = triangular_quantile(lo, m[sel, None], hi, u[sel])
+            else:
+                out[sel] = uniform_quantile(lo, hi, u[sel])
+    return out
+
+
 def sample_durations(
     rng: np.random.Generator, o, m, p, kinds, size: int, out: np.ndarray | None = None
 ) -> np.ndarray:
     """Draw ``size`` durations for each activity: an ``(n, size)`` float64 matrix.
 
-    Rows are drawn kind by kind (PERT, triangular, uniform), each kind in activity
-    order, a few rows at a time; O = P rows are the constant. The PERT-beta uses
-    Cheng's algorithm (:func:`beta_cheng`) scaled to [O, P]; the triangular and
-    uniform invert their distribution functions: for the triangular with
-    c = (M - O) / (P - O), x = O + sqrt(u (P - O)(M - O)) if u <= c, else
-    P - sqrt((1 - u)(P - O)(P - M)).
+    The uniforms of :func:`draw_uniforms` through :func:`durations_from_uniforms`.
 
     Parameters
     ----------
@@ -86,189 +183,7 @@ def sample_durations(
     >>> x.shape, bool((x[0] >= 2.0).all() and (x[0] <= 9.0).all()), set(x[1].tolist())
     ((2, 1000), True, {4.0})
     """
-    o, m, p = (np.asarray(v, dtype=float).reshape(-1) for v in (o, m, p))
-    n = o.size
-    codes = kind_codes(kinds, n)
-    if out is None:
-        out = np.empty((n, size))
-    const = o == p
-    out[const] = o[const, None]
-    rows_per = max(1, _BLOCK // max(size, 1))
-    for code in (PERT, TRIANGULAR, UNIFORM):
-        rows = np.flatnonzero((codes == code) & ~const)
-        if not rows.size:
-            continue
-        if code == PERT:
-            a, b = pert_beta_parameters(o[rows], m[rows], p[rows])
-            _beta_into(rng, a, b, o[rows], p[rows] - o[rows], size, out, rows)
-            continue
-        for r0 in range(0, rows.size, rows_per):
-            sel = rows[r0 : r0 + rows_per]
-            if code == TRIANGULAR:
-                out[sel] = _triangular(rng, o[sel, None], m[sel, None], p[sel, None], size)
-            else:
-                out[sel] = _uniform(rng, o[sel, None], p[sel, None], size)
-    return out
-
-
-def _triangular(rng, lo: np.ndarray, mode: np.ndarray, hi: np.ndarray, size: int) -> np.ndarray:
-    """Triangular draws by inversion, one row per ``(k, 1)`` column of parameters."""
-    u = rng.random((lo.shape[0], size))
-    width = hi - lo
-    left = np.sqrt(u * (width * (mode - lo)))
-    left += lo
-    right = np.sqrt((1.0 - u) * (width * (hi - mode)))
-    np.subtract(hi, right, out=right)
-    return np.where(u <= (mode - lo) / width, left, right)
-
-
-def _uniform(rng, lo: np.ndarray, hi: np.ndarray, size: int) -> np.ndarray:
-    """Uniform draws on [lo, hi], one row per ``(k, 1)`` column of bounds."""
-    u = rng.random((lo.shape[0], size))
-    u *= hi - lo
-    u += lo
-    return u
-
-
-def beta_cheng(rng: np.random.Generator, alpha, beta, size: int) -> np.ndarray:
-    """Beta(alpha_i, beta_i) draws, ``(k, size)``, for shape parameters >= 1.
-
-    Algorithm BB of Cheng (for min(alpha, beta) > 1), an exact rejection method,
-    vectorised: for each cache-sized block of draws a few more candidates than needed
-    are made and each row keeps its first accepted ones (rows left short draw again).
-    The candidates are computed in single precision (uniforms with 24 bits), the
-    precision the simulation keeps its samples in. A shape equal to 1 is drawn by
-    inversion: Beta(1, b) = 1 - U^(1/b), Beta(a, 1) = U^(1/a).
-
-    Parameters
-    ----------
-    rng : numpy.random.Generator
-        The random stream.
-    alpha, beta : array_like
-        Shape parameters (>= 1), one pair per row.
-    size : int
-        Draws per row.
-
-    Returns
-    -------
-    numpy.ndarray
-        The ``(k, size)`` draws in [0, 1].
-
-    References
-    ----------
-    Cheng (1978), "Generating beta variates with nonintegral shape parameters",
-    *Communications of the ACM* 21(4), 317-322.
-
-    Examples
-    --------
-    >>> x = beta_cheng(np.random.default_rng(5), [2.0, 3.0], [4.0, 3.0], 20_000)
-    >>> x.shape, [round(float(v), 2) for v in x.mean(axis=1)]  # means 1/3 and 1/2
-    ((2, 20000), [0.33, 0.5])
-    """
-    alpha = np.asarray(alpha, dtype=float).reshape(-1)
-    beta = np.asarray(beta, dtype=float).reshape(-1)
-    out = np.empty((alpha.size, size))
-    _beta_into(
-        rng,
-        alpha,
-        beta,
-        np.zeros(alpha.size),
-        np.ones(alpha.size),
-        size,
-        out,
-        np.arange(alpha.size),
-    )
-    return out
-
-
-def _beta_into(rng, alpha, beta, lo, width, size, out, rows) -> None:
-    """out[rows[i]] = lo[i] + width[i] * Beta(alpha[i], beta[i]) draws (see beta_cheng)."""
-    if (alpha < 1).any() or (beta < 1).any():
-        raise ValueError("beta_cheng needs shape parameters >= 1")
-    a = np.minimum(alpha, beta)
-    b = np.maximum(alpha, beta)
-    edge = a == 1.0
-    big = a + b
-    scale = np.sqrt((big - 2.0) / np.where(edge, 1.0, 2.0 * a * b - big))
-    shift = a + 1.0 / scale
-    # x -> lo + width * x, or lo + width * (1 - x) = (lo + width) - width * x when flipped
-    flip = alpha > beta
-    base = np.where(flip, lo + width, lo)
-    mult = np.where(flip, -width, width)
-    params = (a, b, big, scale, shift)
-    rows_per = max(1, _BLOCK // max(size, 1))
-    cols_per = min(size, _BLOCK)
-    inner = np.flatnonzero(~edge)
-    with np.errstate(divide="ignore"):
-        for r0 in range(0, inner.size, rows_per):
-            idx = inner[r0 : r0 + rows_per]
-            block = tuple(v[idx, None].astype(np.float32) for v in params)
-            for c0 in range(0, size, cols_per):
-                c1 = min(size, c0 + cols_per)
-                x = _cheng_accepted(rng, block, idx.size, c1 - c0).astype(float)
-                x *= mult[idx, None]
-                x += base[idx, None]
-                out[rows[idx], c0:c1] = x
-    for i in np.flatnonzero(edge):  # a shape of 1: inversion
-        u = rng.random(size)
-        x = 1.0 - u ** (1.0 / beta[i]) if alpha[i] == 1.0 else u ** (1.0 / alpha[i])
-        out[rows[i]] = lo[i] + width[i] * x
-
-
-def _cheng_accepted(rng, params, rows: int, cols: int, extra: int | None = None) -> np.ndarray:
-    """``cols`` accepted BB draws per row: the first accepted of a few more candidates."""
-    if extra is None:
-        # acceptance of BB is about 0.75 at a = 1, 0.8 at 1.2, 0.9 at 2 (measured); draw
-        # enough candidates that a row is rarely short
-        low = float(params[0].min())
-        share = 0.72 + 0.3 * (low - 1.0) if low < 1.2 else min(0.87, 0.78 + 0.11 * (low - 1.2))
-        expect = cols / share
-        extra = int(expect - cols + 4.0 * math.sqrt(expect * (1.0 - share)) / share) + 8
-    x, ok = _cheng_candidates(rng, params, (rows, cols + extra))
-    rank = np.cumsum(ok, axis=1)
-    got = rank[:, -1]
-    if (got >= cols).all():
-        return x[ok & (rank <= cols)].reshape(rows, cols)
-    out = np.empty((rows, cols), dtype=np.float32)
-    for i in range(rows):  # rare: keep drawing for the rows short of accepted draws
-        have = x[i, ok[i]][:cols]
-        row_params = tuple(v[i : i + 1] for v in params)
-        while have.size < cols:
-            more, more_ok = _cheng_candidates(rng, row_params, (1, cols - have.size + extra))
-            have = np.concatenate([have, more[0, more_ok[0]]])[:cols]
-        out[i] = have
-    return out
-
-
-def _cheng_candidates(rng, params, shape) -> tuple[np.ndarray, np.ndarray]:
-    """One candidate of algorithm BB per draw and whether it is accepted (a <= b).
-
-    Computed in single precision (``params`` are float32), the precision the
-    samples are kept in.
-    """
-    a, b, big, scale, shift = params
-    u1 = rng.random(shape, dtype=np.float32)
-    u2 = rng.random(shape, dtype=np.float32)
-    v = np.log(u1 / (_F1 - u1))
-    v *= scale
-    w = np.exp(v)
-    w *= a
-    z = u1 * u1
-    z *= u2
-    r = v * shift
-    r -= _LN4
-    s = r + a
-    s -= w
-    ok = (s + _ONE_PLUS_LN5) >= _F5 * z
-    bw = w + b
-    x = w / bw
-    slow = np.flatnonzero(~ok)
-    if slow.size:
-        t = np.log(z.reshape(-1)[slow])
-        big_s = np.broadcast_to(big, shape).reshape(-1)[slow]
-        bw_s = bw.reshape(-1)[slow]
-        tail = r.reshape(-1)[slow] + big_s * np.log(big_s / bw_s)
-        accept = (s.reshape(-1)[slow] > t) | (tail >= t)
-        ok.reshape(-1)[slow] = accept
-    ok &= u1 > _F1 - _F1  # the algorithm works on the open interval (0, 1)
-    return x, ok
+    o = np.asarray(o, dtype=float).reshape(-1)
+    codes = kind_codes(kinds, o.size)
+    u = draw_uniforms(rng, o.size, size)
+    return durations_from_uniforms(u, o, m, p, codes, out=out)

@@ -38,6 +38,7 @@ from converter.write.workbook.simulation import write_simulation
 from converter.write.workbook.styles import Formats
 from converter.write.workbook.summary import write_summary
 from converter.write.workbook.timeline import write_timeline
+from converter.write.workbook.trace import write_trace
 
 
 class _PreparedFormulaSheet(xlsxwriter.worksheet.Worksheet):
@@ -138,6 +139,8 @@ def write_workbook(analysis, path: str | Path, changes=None) -> None:
     write_probability(wb, fmt, analysis, lay)
     if analysis.simulation is not None:
         write_simulation(wb, fmt, analysis, lay)
+        if analysis.simulation.trace:
+            write_trace(wb, fmt, analysis, lay)
     if analysis.risk_view is not None:
         write_risks(wb, fmt, analysis, lay)
     write_timeline(wb, fmt, analysis, lay)

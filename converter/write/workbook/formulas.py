@@ -17,6 +17,7 @@ NORM_S_DIST = "_xlfn.NORM.S.DIST"
 NORM_S_INV = "_xlfn.NORM.S.INV"
 MAXIFS = "_xlfn.MAXIFS"
 MINIFS = "_xlfn.MINIFS"
+BETA_INV = "_xlfn.BETA.INV"
 
 #: Longest formula a spreadsheet accepts (Excel's documented limit).
 FORMULA_LIMIT = 8192
@@ -255,3 +256,47 @@ def days_moved(old: str, new: str, weekend: str | None, holidays: list[float]) -
     hol = ",{" + ",".join(number(h) for h in holidays) + "}" if holidays else ""
     count = f'NETWORKDAYS.INTL({old},{new},"{weekend}"{hol})'
     return f"=IF({new}>={old},{count}-1,{count}+1)"
+
+
+def pert_alpha(o: str, m: str, p: str) -> str:
+    """The PERT-beta's first shape: alpha = 1 + 4 (M - O) / (P - O)."""
+    return f"=1+4*({m}-{o})/({p}-{o})"
+
+
+def pert_beta(o: str, m: str, p: str) -> str:
+    """The PERT-beta's second shape: beta = 1 + 4 (P - M) / (P - O)."""
+    return f"=1+4*({p}-{m})/({p}-{o})"
+
+
+def pert_inverse(u: str, alpha: str, beta: str, o: str, p: str) -> str:
+    """The PERT-beta duration of the uniform ``u``: its quantile on [O, P]."""
+    return f"={BETA_INV}({u},{alpha},{beta},{o},{p})"
+
+
+def triangular_inverse(u: str, o: str, m: str, p: str) -> str:
+    """The triangular (O, M, P) duration of ``u``, its distribution function inverted."""
+    return (
+        f"=IF({u}<=({m}-{o})/({p}-{o}),{o}+SQRT({u}*({p}-{o})*({m}-{o})),"
+        f"{p}-SQRT((1-{u})*({p}-{o})*({p}-{m})))"
+    )
+
+
+def uniform_inverse(u: str, o: str, p: str) -> str:
+    """The uniform [O, P] duration of ``u``: O + u (P - O)."""
+    return f"={o}+{u}*({p}-{o})"
+
+
+def trace_sentence(target: str, label: str, figure: str, iteration: str) -> str:
+    """A sentence linking a simulated figure to the traced iteration behind it.
+
+    Examples
+    --------
+    >>> trace_sentence("#Trace!A5", "P80", "Trace!B5", "Trace!C5")[:56]
+    '=HYPERLINK("#Trace!A5","the P80 of "&TEXT(Trace!B5,"0.0"'
+    """
+    if label == "longest":
+        head = f'"the longest finish, "&TEXT({figure},"0.0")&", is that of iteration "'
+    else:
+        head = f'"the {label} of "&TEXT({figure},"0.0")&" is the finish of iteration "'
+    tail = '", recomputed on the Trace sheet from its random numbers"'
+    return f'=HYPERLINK("{target}",{head}&TEXT({iteration},"#,##0")&{tail})'

@@ -12,6 +12,7 @@ LINKS = "Links"
 PATHS = "Paths"
 PROBABILITY = "Probability"
 SIMULATION = "Simulation"
+TRACE = "Trace"
 TIMELINE = "Timeline"
 HEALTH = "Health check"
 SETTINGS = "Settings used"
@@ -23,6 +24,21 @@ RISKS = "Risks"
 
 #: Zero-based row of the first data row in the activity and links tables (sheet row 5).
 FIRST = 4
+
+#: Trace sheet: zero-based row of the first traced iteration's summary line, and the
+#: columns of that table (what it stands for, the simulated figure, the iteration).
+TRACE_FIRST = 4
+TRACE_COLS = {"label": 0, "figure": 1, "iteration": 2, "finish": 3, "recorded": 4}
+
+
+def trace_cell(k: int, key: str, sheet: bool = True) -> str:
+    """Reference to traced iteration ``k``'s ``key`` cell on the Trace sheet."""
+    return ref(TRACE_FIRST + k, TRACE_COLS[key], TRACE if sheet else None)
+
+
+def trace_target(k: int) -> str:
+    """A hyperlink target (``#Trace!A5``) at traced iteration ``k``'s line."""
+    return "#" + ref(TRACE_FIRST + k, 0, TRACE)
 
 
 @dataclass

@@ -24,6 +24,7 @@ from converter.write.workbook.rows import (
     shorten,
 )
 from converter.write.workbook.styles import PALETTE, TABLE_HEAD_SIZE, TITLE_ROW
+from converter.write.workbook.trace import trace_sentences
 
 TOP_DRIVERS = 15
 #: Columns: labels / bins / activities, then figures; E-G also hold the percentiles.
@@ -130,6 +131,12 @@ def _write_run(ws, fmt, a, r: int) -> int:
     ws.write_string(r, 0, "To reproduce", fmt.label)
     ws.merge_range(r, 1, r, LAST, command, fmt.wrap)
     ws.set_row(r, row_height([(command, merged_width(WIDTHS[1:]))]))
+    for formula, text in trace_sentences(a):
+        r += 1
+        ws.write_string(r, 0, "Traced", fmt.label)
+        ws.merge_range(r, 1, r, LAST, "", fmt.wrap)
+        ws.write_formula(r, 1, formula, fmt.wrap, text)
+        ws.set_row(r, row_height([(text, merged_width(WIDTHS[1:]))]))
     note = sensitivity_note(sim)
     if note is not None:
         r += 1

@@ -29,6 +29,7 @@ from converter.write.workbook.rows import (
 )
 from converter.write.workbook.status_summary import write_status
 from converter.write.workbook.styles import TITLE_ROW
+from converter.write.workbook.trace import trace_sentences
 
 CAUTION = (
     "Caution: these figures are estimates computed from the team's own three-point "
@@ -385,6 +386,9 @@ def _simulated_view(out: _Rows) -> None:
         f"{sim.distribution} durations; values, not formulas (see Simulation).",
         start=SIM,
     )
+    for formula, text in trace_sentences(a):
+        row = out.line("Traced iteration", text, start=SIM)
+        ws.write_formula(row, SIM, formula, fmt.note, text)
     for label, value, style in (
         ("Simulated mean finish", sim.mean, fmt.num),
         ("Simulated standard deviation", sim.sd, fmt.num),
