@@ -266,8 +266,7 @@ def analyse(schedule: Schedule, options=None, baseline: Baseline | None = None) 
     tol = critical_tolerance(project_mean)
     tied = sum(1 for pth in found if abs(pth.mean - critical.mean) <= tol)
 
-    z = p_due = None
-    p_all = None
+    z = p_due = p_all = None
     if due is not None:
         z = pert.z_score(due, project_mean, sd)
         p_due = pert.p_meet(due, project_mean, sd)

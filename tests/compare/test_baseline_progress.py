@@ -21,6 +21,8 @@ import pytest
 from helpers import run_cli, write_csv
 from recalc import compare_recalculated
 
+from converter.compare.readback import read_run
+
 HEAD = ["ID", "Description", "Predecessors", "Optimistic", "Most likely", "Pessimistic"]
 #: The plan (invented), fixed durations, start Monday 2026-03-02. Early finishes by hand:
 #: A 2 (Tue 3 Mar), B 2+3 = 5 (Fri 6 Mar), C 2+1 = 3 (Wed 4 Mar), F 2+6 = 8 (Wed 11 Mar),
@@ -95,7 +97,14 @@ def test_without_a_baseline_missed_uses_the_plan(runs):
 
 
 def test_the_workbook_baseline_gives_the_same_checks(runs):
-    # read back from the first run's .analysis.xlsx (its Early finish date cells)
+    # read back from the first run's .analysis.xlsx (its Early finish date cells): the
+    # early finish dates worked by hand above (PLAN), the same as from its JSON
+    hand = {"A": 3, "B": 6, "C": 4, "F": 11, "D": 12, "E": 16}
+    for name in ("plan.analysis.xlsx", "plan.analysis.json"):
+        acts = read_run(runs / "m1" / name).activities
+        assert {k: (v.early_finish.day, v.early_finish.month) for k, v in acts.items()} == {
+            k: (d, 3) for k, d in hand.items()
+        }
     assert _checks(runs / "b" / "update.analysis.json") == _checks(
         runs / "m2" / "update.analysis.json"
     )
