@@ -148,9 +148,10 @@ def baseline_execution_index(
 ) -> float | None:
     """Activities finished by the status date over those due to finish by then.
 
-    The hook for a comparison with a baseline run: ``due_finish`` holds the baseline's
-    expected finish per activity (offsets; ``nan`` for activities it does not have). None
-    when nothing was due.
+    ``due_finish`` holds the baseline run's expected finish per activity as offsets of this
+    run (:func:`converter.analyse.baseline.due_offsets`; ``nan`` for activities it does not
+    have). Every finished activity counts, also one finished early or unknown to the
+    baseline (the DCMA definition). None when nothing was due.
 
     Examples
     --------
@@ -219,7 +220,7 @@ def progress_checks(
             limit=Limit(0, unit="links"),
             activities=[f"{lk.pred}->{lk.succ}" for lk in oos],
             out_of=len(schedule.links),
-            matters="An activity started while a finish-to-start predecessor has not finished: "
+            matters="An activity started before its finish-to-start predecessor finished: "
             "the logic is wrong or the work is at risk. The analysis keeps the link for "
             "the remaining work (retained logic).",
             cited=(Citation(COMMON), *why),
