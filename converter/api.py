@@ -413,7 +413,7 @@ def convert(
     analysis = None
     if loaded.ok:
         try:
-            analysis = analyse(schedule, options)
+            analysis = analyse(schedule, options, _baseline_finishes(baseline))
         except SimulationMemoryError as exc:  # the estimate passed, the run did not fit
             problems.append(refusal_problem(exc, schedule.settings.source_of("iterations")))
             result.ok = False
@@ -475,6 +475,17 @@ def _read_baseline(baseline, problems: list):
     except RunError as exc:
         problems.append(Problem(ERROR, "bad-baseline", f"--baseline: {exc}", fix=BASELINE_FIX))
         return None
+
+
+def _baseline_finishes(run):
+    """What the progress checks judge against: the baseline run's early finish (offset and
+    date) of each activity, as plain data (:class:`converter.analyse.baseline.Baseline`)."""
+    if run is None:
+        return None
+    from converter.analyse.baseline import Baseline
+
+    finishes = {ident: (act.ef, act.early_finish) for ident, act in run.activities.items()}
+    return Baseline(Path(run.file).name, run.time_unit, finishes)
 
 
 def _changes(baseline, document: dict, xlsx_target: Path):

@@ -102,7 +102,7 @@ def test_a_refusal_during_the_run_is_a_problem_not_a_fault(tmp_path, monkeypatch
     # the up-front estimate may pass where the run's own plan (more processes) does not
     import converter.analyse.analysis as analysis
 
-    def refuse(schedule, options):
+    def refuse(schedule, options, baseline=None):
         raise SimulationMemoryError(
             "the simulation needs more", largest_iterations=700, needed_mb=99, budget_mb=SMALL_MB
         )

@@ -15,6 +15,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from converter.analyse import figures, pert
+from converter.analyse.baseline import Baseline
 from converter.analyse.calendar import Calendar, days_per_unit
 from converter.analyse.checks import Check, run_checks
 from converter.analyse.figures import (
@@ -111,6 +112,7 @@ class Analysis:
     # start constraints and progress (None: neither given; see converter.analyse.status)
     remaining_work: Remaining | None = None
     risk_view: RiskView | None = None  # the risk register's figures (None: no register)
+    baseline: Baseline | None = None  # the earlier run the progress checks judge against
 
     @property
     def project_sd(self) -> float:
@@ -236,8 +238,9 @@ def _with_risks(schedule: Schedule, index, te: np.ndarray) -> tuple[RiskView | N
     return view, te + view.activity_delay
 
 
-def analyse(schedule: Schedule, options=None) -> Analysis:
-    """Run every stage on a validated schedule."""
+def analyse(schedule: Schedule, options=None, baseline: Baseline | None = None) -> Analysis:
+    """Run every stage on a validated schedule; ``baseline`` (an earlier run's early
+    finishes, from ``convert --baseline``) is what the progress checks judge against."""
     s = schedule.settings
     acts = schedule.activities
     ids = [a.id for a in acts]
@@ -263,8 +266,7 @@ def analyse(schedule: Schedule, options=None) -> Analysis:
     tol = critical_tolerance(project_mean)
     tied = sum(1 for pth in found if abs(pth.mean - critical.mean) <= tol)
 
-    z = p_due = None
-    p_all = None
+    z = p_due = p_all = None
     if due is not None:
         z = pert.z_score(due, project_mean, sd)
         p_due = pert.p_meet(due, project_mean, sd)
@@ -299,7 +301,7 @@ def analyse(schedule: Schedule, options=None) -> Analysis:
         calendar=calendar,
         simulation=simulation,
         checks=run_checks(ids, *given, net, cpm, days_per_unit=unit_days)
-        + status_checks(schedule, rem, calendar),
+        + status_checks(schedule, rem, calendar, baseline),
         targets=targets,
         path_count=count_paths(net),
         tied_longest=tied,
@@ -310,6 +312,7 @@ def analyse(schedule: Schedule, options=None) -> Analysis:
         float_tolerance=tol,
         remaining_work=None if rem.floor is None and rem.progress is None else rem,
         risk_view=view,
+        baseline=baseline,
     )
     if schedule.summaries:  # after the other logic checks
         logic = sum(1 for c in a.checks if c.group == "logic")

@@ -2,18 +2,22 @@
 
 Constraints (``Not before``) go with the logic checks; the progress checks (missed
 activities, actual dates after the status date, out-of-sequence progress) form their own
-group, present only when a status date is given. The baseline execution index needs a
-baseline run: :func:`baseline_execution_index` is the hook for the comparison.
+group, present only when a status date is given. With a baseline run
+(:class:`converter.analyse.baseline.Baseline`, from ``convert --baseline``) an activity is
+due when the baseline's early finish is on or before the status date, and the baseline
+execution index joins them; without one, the plan's own early finish says what was due.
 """
 
 from __future__ import annotations
 
 import math
+from dataclasses import dataclass
 
 import numpy as np
 
+from converter.analyse.baseline import DATES, Baseline, DueFinish, due_offsets
 from converter.analyse.calendar import Calendar
-from converter.analyse.checks import COMMON, GAO, LOGIC, Check, Citation, Limit
+from converter.analyse.checks import COMMON, DCMA, GAO, LOGIC, Check, Citation, Limit
 from converter.analyse.network import build_network, critical_tolerance, forward_pass
 from converter.analyse.status import (
     FINISHED,
@@ -27,16 +31,57 @@ from converter.model import Schedule
 
 PROGRESS = "progress"
 
+#: The least baseline execution index that passes (DCMA 2012, check 14; from memory, like
+#: the other DCMA figures in converter.analyse.checks). The Percent column shows BEI x 100.
+BEI_LEAST = 0.95
+BEI_WORDING = f"BEI >= {BEI_LEAST:g} (percent >= {BEI_LEAST * 100:g}%)"
 
-def status_checks(schedule: Schedule, rem: Remaining, calendar: Calendar | None) -> list[Check]:
+
+@dataclass(frozen=True)
+class AtLeast(Limit):
+    """A floor instead of a ceiling: ``most`` percent of ``share_of`` is the least share
+    that passes (exactly it passes; nothing due passes). ``wording`` is the limit's text.
+
+    Examples
+    --------
+    >>> AtLeast(95, "activities", wording="BEI >= 0.95").allows(19, 20), AtLeast(95).text
+    (True, '>= 95%')
+    """
+
+    def allows(self, count: int, out_of: int | None) -> bool:
+        return count * 100 >= self.most * (out_of or 0)
+
+    @property
+    def text(self) -> str:
+        return self.wording or f">= {self.most:g}%"
+
+
+@dataclass
+class TallyCheck(Check):
+    """A check whose count is a tally of its own, not its offenders: the baseline execution
+    index counts the finished activities and lists those due that have not finished."""
+
+    tally: int = 0
+
+    @property
+    def count(self) -> int:
+        return self.tally
+
+
+def status_checks(
+    schedule: Schedule,
+    rem: Remaining,
+    calendar: Calendar | None,
+    baseline: Baseline | None = None,
+) -> list[Check]:
     """The constraint check (when any activity has a Not before) and, with a status date,
-    the progress checks."""
+    the progress checks (judged against ``baseline`` when one is given)."""
     checks = []
     ids = [a.id for a in schedule.activities]
     if not np.isnan(rem.not_before).all():
         checks.append(constraint_check(ids, rem.not_before))
     if rem.progress is not None:
-        checks += progress_checks(schedule, rem, calendar)
+        checks += progress_checks(schedule, rem, calendar, baseline)
     return checks
 
 
@@ -103,9 +148,10 @@ def baseline_execution_index(
 ) -> float | None:
     """Activities finished by the status date over those due to finish by then.
 
-    The hook for a comparison with a baseline run: ``due_finish`` holds the baseline's
-    expected finish per activity (offsets; ``nan`` for activities it does not have). None
-    when nothing was due.
+    ``due_finish`` holds the baseline run's expected finish per activity as offsets of this
+    run (:func:`converter.analyse.baseline.due_offsets`; ``nan`` for activities it does not
+    have). Every finished activity counts, also one finished early or unknown to the
+    baseline (the DCMA definition). None when nothing was due.
 
     Examples
     --------
@@ -119,11 +165,22 @@ def baseline_execution_index(
     return sum(1 for st in state if st == FINISHED) / int(due.sum())
 
 
-def progress_checks(schedule: Schedule, rem: Remaining, calendar: Calendar | None) -> list[Check]:
-    """Missed activities, actual dates after the status date, out-of-sequence progress."""
+def progress_checks(
+    schedule: Schedule,
+    rem: Remaining,
+    calendar: Calendar | None,
+    baseline: Baseline | None = None,
+) -> list[Check]:
+    """Missed activities, actual dates after the status date, out-of-sequence progress; with
+    a usable baseline also the baseline execution index (after the missed activities)."""
     prog = rem.progress
     ids = [a.id for a in schedule.activities]
-    late, due = missed(prog.state, planned_finishes(schedule, calendar), prog.status_offset)
+    due_by = None
+    if baseline is not None:
+        due_by = due_offsets(ids, baseline, calendar, schedule.settings.time_unit)
+    usable = due_by is not None and due_by.basis is not None
+    planned = due_by.offsets if usable else planned_finishes(schedule, calendar)
+    late, due = missed(prog.state, planned, prog.status_offset)
     after = [
         a.id
         for a in schedule.activities
@@ -132,7 +189,7 @@ def progress_checks(schedule: Schedule, rem: Remaining, calendar: Calendar | Non
     ]
     oos = out_of_sequence(schedule, prog)
     why = (Citation(GAO, "best practice 9 (updating the schedule)", why=True),)
-    return [
+    checks = [
         Check(
             key="missed",
             name="missed activities (due by the status date, not finished)",
@@ -143,7 +200,7 @@ def progress_checks(schedule: Schedule, rem: Remaining, calendar: Calendar | Non
             matters="Work the plan needed done by now is not done: the remaining schedule "
             "assumes a catch-up nobody has planned.",
             cited=(Citation(COMMON), *why),
-            detail=f"due by the status date by the planned early finish: {due}",
+            detail=f"due by the status date, judged {_due_words(due_by, baseline)}: {due}",
         ),
         Check(
             key="actuals_after_status",
@@ -169,6 +226,67 @@ def progress_checks(schedule: Schedule, rem: Remaining, calendar: Calendar | Non
             cited=(Citation(COMMON), *why),
         ),
     ]
+    if usable:
+        words = _due_words(due_by, baseline)
+        checks.insert(1, bei_check(prog.state, ids, planned, prog.status_offset, words))
+    return checks
+
+
+def bei_check(
+    state: list[str],
+    ids: list[str],
+    due_finish: np.ndarray,
+    status: float,
+    basis: str = "by the baseline finish",
+) -> Check:
+    """The baseline execution index as a check: activities finished by the status offset
+    over those due by then by the baseline finish ``due_finish`` (:func:`missed`,
+    :func:`baseline_execution_index`), at least :data:`BEI_LEAST`. Its count is the
+    finished activities; it lists the due ones not finished.
+
+    Examples
+    --------
+    Status 5: A, B, C, D due (finish <= 5), E not (9); A, B, C and E finished, D not:
+    BEI = 4 / 4 = 1.0 (E finished early makes up for D), which passes.
+
+    >>> c = bei_check(["finished"] * 3 + ["in progress", "finished"], list("ABCDE"),
+    ...               np.array([1.0, 2.0, 5.0, 4.0, 9.0]), 5.0)
+    >>> c.count, c.out_of, c.percent, c.passed, c.activities
+    (4, 4, 100.0, True, ['D'])
+
+    References
+    ----------
+    US Defense Contract Management Agency, DCMA-EA PAM 200.1 (2012), the 14-point
+    schedule assessment, check 14 (baseline execution index), threshold 0.95.
+    """
+    late, due = missed(state, due_finish, status)
+    finished = sum(1 for st in state if st == FINISHED)
+    bei = baseline_execution_index(state, due_finish, status)
+    value = "none due: no index" if bei is None else f"BEI = {finished} / {due} = {bei:.3g}"
+    return TallyCheck(
+        key="baseline_execution_index",
+        name="baseline execution index (finished / due by the baseline)",
+        group=PROGRESS,
+        limit=AtLeast(BEI_LEAST * 100, "activities", wording=BEI_WORDING),
+        activities=[ids[i] for i in late],
+        out_of=due,
+        matters="Fewer activities finished than the baseline had due by now: the team is "
+        "falling behind the plan it committed to, whatever the forecast finish says.",
+        cited=(Citation(DCMA, "check 14 (baseline execution index)"),),
+        detail=f"{value}; due judged {basis}; the activities listed were due and have not finished",
+        tally=finished,
+    )
+
+
+def _due_words(due_by: DueFinish | None, baseline: Baseline | None) -> str:
+    """How "due" was judged, for the checks' details."""
+    if due_by is None or baseline is None:
+        return "by the planned early finish"
+    if due_by.basis is None:
+        return f"by the planned early finish (baseline {baseline.file} not used: {due_by.why})"
+    how = "early finish dates" if due_by.basis == DATES else "early finish offsets"
+    lacking = f"; {due_by.lacking} activities it lacks are not due" if due_by.lacking else ""
+    return f"by the baseline's {how} ({baseline.file}{lacking})"
 
 
 def _after(x: float | None, status: float) -> bool:
@@ -176,9 +294,13 @@ def _after(x: float | None, status: float) -> bool:
 
 
 __all__ = [
+    "BEI_LEAST",
     "NOT_STARTED",
     "PROGRESS",
+    "AtLeast",
+    "TallyCheck",
     "baseline_execution_index",
+    "bei_check",
     "constraint_check",
     "missed",
     "planned_finishes",

@@ -63,6 +63,8 @@ ACTIVITY_KEYS = {
     "p": "pessimistic",
     "te": "te",
     "tf": "total_float",
+    "ef": "ef",
+    "ef_date": "early_finish_date",
     "crit": "critical",
     "criticality": "criticality",
     "sensitivity": "sensitivity",

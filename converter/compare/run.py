@@ -69,6 +69,8 @@ class ActivityFigures:
     criticality: float | None = None
     sensitivity: float | None = None
     state: str | None = None
+    ef: float | None = None  # early finish (offset), the baseline finish of the progress checks
+    early_finish: dt.date | None = None  # its date (None without a start date)
 
 
 @dataclass
@@ -97,6 +99,15 @@ def _num(value) -> float | None:
     if value is None or isinstance(value, bool):
         return None
     return float(value)
+
+
+def _day(value) -> dt.date | None:
+    """A date from the JSON's ISO text (or a workbook cell's date), else None."""
+    if isinstance(value, dt.datetime):
+        return value.date()
+    if isinstance(value, dt.date):
+        return value
+    return dt.date.fromisoformat(value[:10]) if isinstance(value, str) and value else None
 
 
 def _checked(data: object, file: str) -> dict:
@@ -175,6 +186,8 @@ def _run(data: dict, file: str) -> Run:
             criticality=_num(row.get("criticality")),
             sensitivity=_num(row.get("sensitivity")),
             state=row.get("state"),
+            ef=_num(row.get("ef")),
+            early_finish=_day(row.get("early_finish_date")),
         )
     run = Run(
         file=file,

@@ -213,7 +213,9 @@ OPTIONS: tuple[Option, ...] = (
         "baseline",
         parse_baseline,
         "an earlier run's .analysis.json (or .analysis.xlsx) to compare with: adds the "
-        'Changes sheet and the JSON\'s "changes"',
+        'Changes sheet and the JSON\'s "changes"; with a status date, the progress checks '
+        "judge what was due by its early finishes (missed activities, the baseline execution "
+        "index)",
         "OLD.analysis.json",
     ),
     Option(

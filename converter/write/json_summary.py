@@ -179,9 +179,10 @@ def _activities(a) -> list[dict]:
                 "late_finish_date": _iso(dates.late_finish[i]) if dates else None,
                 "summary": a.schedule.activities[i].summary,
                 "range": a.schedule.activities[i].range,
-                "optimistic": _num(a.o[i]),
-                "most_likely": _num(a.m[i]),
-                "pessimistic": _num(a.p[i]),
+                # the estimates as given (a.o/m/p hold the remaining work of a run in flight)
+                "optimistic": _num(a.schedule.activities[i].optimistic),
+                "most_likely": _num(a.schedule.activities[i].most_likely),
+                "pessimistic": _num(a.schedule.activities[i].pessimistic),
             }
         )
     return rows

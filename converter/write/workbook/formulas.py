@@ -132,6 +132,11 @@ def share_passes(count: str, out_of: str, most_percent: float) -> str:
     return f'=IF({count}*100<={number(most_percent)}*{out_of},"pass","FAIL")'
 
 
+def share_at_least(count: str, out_of: str, least_percent: float) -> str:
+    """ "pass" when count >= least_percent % of out_of (exactly it passes; none due passes)."""
+    return f'=IF({count}*100>={number(least_percent)}*{out_of},"pass","FAIL")'
+
+
 def count_passes(count: str, most: float) -> str:
     """ "pass" when count <= most."""
     return f'=IF({count}<={number(most)},"pass","FAIL")'

@@ -9,7 +9,7 @@ sources the checks cite are listed in full once, under the table.
 from __future__ import annotations
 
 from converter.analyse.checks import ESTIMATES, LOGIC, SOURCES, STRUCTURE, Check
-from converter.analyse.status_checks import PROGRESS
+from converter.analyse.status_checks import PROGRESS, AtLeast
 from converter.write.workbook import formulas as f
 from converter.write.workbook import pages, rows
 from converter.write.workbook.formulas import ref
@@ -65,6 +65,8 @@ def _count_formula(c: Check, a, lay: Layout) -> str | None:
         return f"=COUNTIF({lay.link_column(key)},{crit})"
     if c.key == "constraints" and "not_before" in lay.cols:
         return f"=COUNT({lay.column('not_before')})"
+    if c.key == "baseline_execution_index" and "state" in lay.cols:  # the finished ones
+        return f'=COUNTIF({lay.column("state")},"finished")'
     if c.key == "link_types" and links:
         col = lay.link_column("type")
         return f'=COUNTA({col})-COUNTIF({col},"FS")'
@@ -81,8 +83,8 @@ def _count_formula(c: Check, a, lay: Layout) -> str | None:
 def offenders_text(c: Check) -> str:
     """The table cell: the first :data:`SHOWN` offenders, how many more, and the detail."""
     text = ", ".join(c.activities[:SHOWN])
-    if c.count > SHOWN:
-        text += f" and {c.count - SHOWN} more (all listed below the table)"
+    if len(c.activities) > SHOWN:
+        text += f" and {len(c.activities) - SHOWN} more (all listed below the table)"
     if c.detail:
         text = (text + "\n" if text else "") + f"({c.detail})"
     return text
@@ -149,7 +151,9 @@ def _check_row(ws, fmt, a, lay: Layout, r: int, c: Check) -> None:
         ws.write_formula(r, COL["percent"], f"={count}/{out_of}", fmt.prob_top, c.percent / 100.0)
     verdict = "pass" if c.passed else "FAIL"
     style = fmt.good_top if c.passed else fmt.flag_top
-    if c.limit.share_of is not None:
+    if isinstance(c.limit, AtLeast):
+        passes = f.share_at_least(count, out_of, c.limit.most)
+    elif c.limit.share_of is not None:
         passes = f.share_passes(count, out_of, c.limit.most)
     else:
         passes = f.count_passes(count, c.limit.most)
@@ -169,7 +173,7 @@ def _check_row(ws, fmt, a, lay: Layout, r: int, c: Check) -> None:
 def _full_lists(ws, fmt, checks: list[Check], r: int) -> tuple[int, list[tuple[int, int]]]:
     """Every offender of the checks whose list the table cuts; returns the next row and
     the blocks to keep on one page."""
-    long = [c for c in checks if c.count > SHOWN]
+    long = [c for c in checks if len(c.activities) > SHOWN]
     if not long:
         return r, []
     width = _full_width()
@@ -182,18 +186,19 @@ def _full_lists(ws, fmt, checks: list[Check], r: int) -> tuple[int, list[tuple[i
     for c in long:
         names = c.activities[:LISTED]
         text = ", ".join(names)
-        if c.count > LISTED:
-            text += f" and {c.count - LISTED} more (the JSON summary lists every one)"
+        if len(c.activities) > LISTED:
+            text += f" and {len(c.activities) - LISTED} more (the JSON summary lists every one)"
         lines = rows.wrap_lines(text, width)
         first = r
         for start in range(0, len(lines), LINES_PER_ROW):
             chunk = " ".join(lines[start : start + LINES_PER_ROW])
-            ws.write_string(r, 0, f"{c.name} ({c.count})" if r == first else "", fmt.label_top)
+            title = f"{c.name} ({len(c.activities)})"
+            ws.write_string(r, 0, title if r == first else "", fmt.label_top)
             ws.merge_range(r, 1, r, last, chunk, fmt.wrap)
             ws.set_row(
                 r,
                 rows.row_height(
-                    [(chunk, width), (f"{c.name} ({c.count})", WIDTH["check"], 11.0, True)],
+                    [(chunk, width), (title, WIDTH["check"], 11.0, True)],
                     minimum=15.0,
                 ),
             )

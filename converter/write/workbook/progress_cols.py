@@ -12,6 +12,7 @@ from __future__ import annotations
 import datetime as dt
 
 from converter.analyse.status import FINISHED, IN_PROGRESS, NOT_STARTED
+from converter.analyse.status_checks import BEI_LEAST
 from converter.model import FS, SS
 from converter.write.workbook import formulas as f
 from converter.write.workbook.layout import Layout
@@ -193,6 +194,22 @@ STATUS_METHOD = (
 )
 
 
+BASELINE_METHOD = (
+    "Baseline checks",
+    "With a baseline run (convert --baseline) an activity was due by the status date when "
+    "the baseline's early finish (its expected finish there) falls on or before the status "
+    "date; without one, when this plan's own early finish as if nothing had started does. "
+    "When both runs have a start date, the baseline's early finish DATES are used, each "
+    "the end of that day by this run's calendar, so a start date moved between the runs "
+    "does not shift what was due when; otherwise its offsets are used as they are (both "
+    "runs in the same time unit, or the baseline is not used: the check says so). An "
+    "activity the baseline does not have was not due. Missed activities: due and not "
+    "finished. Baseline execution index (BEI) = activities finished by the status date / "
+    f"activities due by then (finished early ones count too); at least {BEI_LEAST:g} passes (DCMA "
+    "2012, check 14). The Health check counts the finished ones on the State column.",
+)
+
+
 def method_rows(a) -> list[tuple[str, str]]:
     """The Method sheet's rows on constraints and progress (none when neither is given)."""
     rows = []
@@ -200,4 +217,5 @@ def method_rows(a) -> list[tuple[str, str]]:
         rows.append(NOT_BEFORE_METHOD)
     if a.schedule.settings.status_date is not None:
         rows += list(STATUS_METHOD)
+        rows += [BASELINE_METHOD] if a.baseline is not None else []
     return rows
