@@ -59,6 +59,11 @@ def _slots(pos: np.ndarray, src: np.ndarray, lag: np.ndarray) -> tuple[list[_Slo
     """Slots for links into step positions ``pos``; returns them and the node order."""
     if pos.size == 0:
         return [], np.zeros(0, dtype=np.int64)
+    order = np.argsort(pos, kind="stable")
+    if pos.size == 1 or (np.diff(pos[order]) > 0).all():  # one link per node: one slot
+        lg = lag[order]
+        slot = _Slot(int(pos.size), src[order], lg[:, None].copy() if lg.any() else None)
+        return [slot], pos[order]
     uniq, inv, deg = np.unique(pos, return_inverse=True, return_counts=True)
     by_degree = np.argsort(-deg, kind="stable")
     rank = np.empty_like(by_degree)
@@ -81,7 +86,9 @@ def _slots(pos: np.ndarray, src: np.ndarray, lag: np.ndarray) -> tuple[list[_Slo
 def _plan_step(nodes, pos, src, shifted, lag, clip_plain) -> _PlanStep:
     plain = ~shifted
     p_slots, p_nodes = _slots(pos[plain], src[plain], lag[plain])
-    rest = np.setdiff1d(np.arange(nodes.size), p_nodes)
+    left = np.ones(nodes.size, dtype=bool)
+    left[p_nodes] = False
+    rest = np.flatnonzero(left)
     order = np.r_[p_nodes, rest].astype(np.int64)
     new_pos = np.empty_like(order)
     new_pos[order] = np.arange(order.size)

@@ -119,7 +119,7 @@ def text_width(text: str, font_size: float = DEFAULT_FONT_SIZE, bold: bool = Fal
     >>> text_width("Wm", font_size=22.0) > text_width("Wm")
     True
     """
-    raw = sum(char_width(c) for c in text)
+    raw = sum(map(char_width, text))
     scale = font_size / DEFAULT_FONT_SIZE * (BOLD_FACTOR if bold else 1.0)
     return raw * scale * WIDTH_MARGIN
 
@@ -163,16 +163,28 @@ def wrap_lines(
     return lines
 
 
-def _wrap_paragraph(text: str, width: float, font_size: float, bold: bool) -> list[str]:
-    def fits(s: str) -> bool:
-        return text_width(s, font_size, bold) <= width
+#: How close to the column width a line's running width must come before it is measured
+#: again from scratch (the running sum differs from :func:`text_width`'s by rounding only).
+_NEAR = 1e-6
 
+
+def _wrap_paragraph(text: str, width: float, font_size: float, bold: bool) -> list[str]:
+    """Greedy packing of one paragraph. The width of the line being packed is kept as a
+    running sum, so each word is measured once (not the whole line again per word); a
+    line within :data:`_NEAR` of the width is measured with :func:`text_width` itself, so
+    the breaks are exactly those of measuring every candidate line."""
+    scale = font_size / DEFAULT_FONT_SIZE * (BOLD_FACTOR if bold else 1.0)
+    space = char_width(" ")
     lines: list[str] = []
-    current = ""
+    current, used = "", 0.0  # ``used``: the summed character widths of ``current``
     for word in text.split(" "):
         candidate = word if not current else f"{current} {word}"
-        if fits(candidate):
-            current = candidate
+        grown = sum(map(char_width, word), used + space if current else 0.0)
+        measured = grown * scale * WIDTH_MARGIN
+        if abs(measured - width) < _NEAR:
+            measured = text_width(candidate, font_size, bold)
+        if measured <= width:
+            current, used = candidate, grown
             continue
         if current:
             lines.append(current)
@@ -184,7 +196,7 @@ def _wrap_paragraph(text: str, width: float, font_size: float, bold: bool) -> li
             cut = max(1, cut)
             lines.append(word[:cut])
             word = word[cut:]
-        current = word
+        current, used = word, sum(map(char_width, word))
     lines.append(current)
     return lines
 
