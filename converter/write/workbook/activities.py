@@ -146,7 +146,7 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
         ws.write_string(r, c["id"], act.id, fmt.wrap)
         ws.write_string(r, c["name"], act.name, name_look[i])
         if "wbs" in c and act.wbs is not None:
-            ws.write_string(r, c["wbs"], act.wbs, fmt.wrap)
+            ws.write_string(r, c["wbs"], act.wbs, fmt.wrap_indent)  # apart from the figure
         ws.write_string(r, c["pred"], raw_preds[i], fmt.wrap)
         fit_row(
             ws,
