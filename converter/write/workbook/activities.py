@@ -87,6 +87,7 @@ WIDTHS = {
     "sensitivity": 11.0,
     "wbs": 9.0,
     "range": 14.0,
+    "state": 11.5,  # "in progress", "not started" on one line
 }
 NUMBER_WIDTH = 8.5
 INTRO = (
@@ -197,8 +198,16 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
 
         write_summary_rows(wb, ws, a, lay, WIDTHS)
     ws.autofilter(FIRST - 1, 0, lay.last_row, max(c.values()))
-    bands = [c[k] for k in ("tf", "criticality") if k in c]  # float and dates, simulated
-    pages.set_up(ws, header_rows=(FIRST - 1, FIRST - 1), title_cols=(0, 1), bands=bands)
+    # bands: float and dates, simulated, then the constraint and progress columns together
+    first_progress = next((k for k in ("not_before", "actual_start") if k in c), None)
+    bands = [c[k] for k in ("tf", "criticality", first_progress) if k in c]
+    pages.set_up(
+        ws,
+        header_rows=(FIRST - 1, FIRST - 1),
+        title_cols=(0, 1),
+        keep=[(r, r + 1) for r in lay.summary_rows],  # a summary row with its first row
+        bands=bands,
+    )
 
 
 def _write_expected(ws, fmt, a, lay: Layout, i: int, by_activity) -> None:

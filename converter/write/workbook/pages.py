@@ -259,7 +259,7 @@ def _fill(
         start = breaks[-1] if breaks else first
         if used + heights[row] > room and row > start:
             cut = row  # or the top of the outermost block around it that fits a page
-            for top, bottom in sorted(block.get(row, [])):
+            for top, bottom in sorted(block.get(row, []), key=lambda b: (b[0], -b[1])):
                 if top > start and sum(heights[top : bottom + 1]) + header <= room:
                     cut = top
                     break
