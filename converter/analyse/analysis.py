@@ -313,7 +313,6 @@ def analyse(schedule: Schedule, options=None) -> Analysis:
     )
     if schedule.summaries:  # after the other logic checks
         logic = sum(1 for c in a.checks if c.group == "logic")
-        # the links the passes run on: a project in flight drops those into started work
         check = summary_link_check(ids, net, [schedule.links[k].via for k in rem.links])
         a.checks.insert(logic, check)
     _add_figures(a)

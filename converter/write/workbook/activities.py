@@ -198,14 +198,20 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
 
         write_summary_rows(wb, ws, a, lay, WIDTHS)
     ws.autofilter(FIRST - 1, 0, lay.last_row, max(c.values()))
-    # bands: float and dates, simulated, then the constraint and progress columns together
+    _print_setup(ws, lay)
+
+
+def _print_setup(ws, lay: Layout) -> None:
+    """Bands: the passes; float and dates; simulated figures and outline; the constraint
+    and progress columns together. A summary row stays on a page with its first row."""
+    c = lay.cols
     first_progress = next((k for k in ("not_before", "actual_start") if k in c), None)
     bands = [c[k] for k in ("tf", "criticality", first_progress) if k in c]
     pages.set_up(
         ws,
         header_rows=(FIRST - 1, FIRST - 1),
         title_cols=(0, 1),
-        keep=[(r, r + 1) for r in lay.summary_rows],  # a summary row with its first row
+        keep=[(r, r + 1) for r in lay.summary_rows],
         bands=bands,
     )
 
