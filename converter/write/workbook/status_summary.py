@@ -63,7 +63,7 @@ def _forecast(out, cols) -> None:
     val, val_date, cp, cp_date = cols
     sim = a.simulation
     for level in LEVELS:
-        row = out.line(f"Forecast finish P{round(level * 100)} (offset from the start)")
+        row = out.line(f"Forecast finish P{round(level * 100)} (from the start)")  # one line
         if sim is not None:
             value = sim.percentiles.get(level)
             value = sim.percentile(level) if value is None else value
