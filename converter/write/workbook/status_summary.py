@@ -45,9 +45,16 @@ def write_status(out, lay: Layout, cols: tuple[int, int, int, int]) -> None:
         "on those in progress, over all activities' durations (done + remaining).",
         start=cp,
     )
+    # the durations without the named risks' expected delay (the share is of the work:
+    # analyse/status.py), so TE less the Risk delay column where there is one
+    finished, total = f'SUMIF({state},"finished",{te})', f"SUM({te})"
+    if "risk_delay" in lay.cols:
+        delay = lay.column("risk_delay")
+        finished += f'-SUMIF({state},"finished",{delay})'
+        total += f"-SUM({delay})"
     done = (
-        f'=(SUMIF({state},"finished",{te})+COUNTIF({state},"in progress")*{STATUS}'
-        f'-SUMIF({state},"in progress",{start}))/SUM({te})'
+        f'=({finished}+COUNTIF({state},"in progress")*{STATUS}'
+        f'-SUMIF({state},"in progress",{start}))/({total})'
     )
     ws.write_formula(row, val, done, fmt.prob, prog.done_share)
     for words in ("finished", "in progress", "not started"):
