@@ -316,7 +316,7 @@ def analyse(schedule: Schedule, options=None, baseline: Baseline | None = None) 
     )
     if schedule.summaries:  # after the other logic checks
         logic = sum(1 for c in a.checks if c.group == "logic")
-        check = summary_link_check(ids, net, [lk.via for lk in schedule.links])
+        check = summary_link_check(ids, net, [schedule.links[k].via for k in rem.links])
         a.checks.insert(logic, check)
     _add_figures(a)
     return a

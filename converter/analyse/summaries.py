@@ -90,7 +90,8 @@ def _extents(summaries) -> list[int]:
 def summary_link_check(ids: list[str], net: Network, via: list[str | None]) -> Check:
     """The health check of links written on summary rows (each expanded link counted).
 
-    ``via`` has one entry per link of ``net``: the summary it was expanded from, or None.
+    ``via`` has one entry per link of ``net`` (the links the passes run on: a project in
+    flight drops those into finished work): the summary it was expanded from, or None.
     The limit is none (common practice); why it matters: the GAO guide asks for logic
     between activities (best practice 2, from memory).
 

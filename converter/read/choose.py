@@ -182,8 +182,10 @@ def _header_too_low(raw: RawInput) -> list[Problem]:
 
 
 def _title(key: str) -> str:
+    """A column's name for a message: its first spelling, or ``key`` itself (a header as
+    written)."""
     words = ACTIVITY_COLUMNS.get(key) or LINK_COLUMNS.get(key) or RANGE_COLUMNS.get(key) or (key,)
-    return words[0].capitalize()
+    return words[0].capitalize() if words != (key,) else key
 
 
 def _duplicate_columns(match: TableMatch) -> list[Problem]:
@@ -219,6 +221,9 @@ def _error_cells(raw: RawInput) -> list[Problem]:
         places.append((raw.settings, 0, {"label": 0, "value": 1}, None))
     out: list[Problem] = []
     for sheet, first, columns, ident_col in places:
+        if raw.risks is not None and sheet is raw.risks.sheet:  # its headers as written
+            head = sheet.rows[first - 1]
+            columns = {str(head[c]).strip(): c for c in columns.values()}
         if not sheet.error_cells:
             continue
         found = 0

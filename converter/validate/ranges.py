@@ -42,6 +42,11 @@ __all__ = [
 #: Percentages no higher than this (but above 0) look like a cell formatted as a percentage
 #: (90% is stored as 0.9): refused, since a high of 2% of the duration is no range.
 FRACTION_LIMIT = 2.0
+#: The largest percentage read: a hundred times the duration. Above it a number is a
+#: slip (or a cell such as 1e308), refused at its own cell rather than as an absurd
+#: estimate on the activity row.
+MAX_PERCENT = 10_000.0
+_LIMIT_WORDS = f"{MAX_PERCENT:,.0f} (a hundred times the duration)"
 _PERCENT_TITLES = {"low": "Low %", "likely": "Likely %", "high": "High %"}
 _SPLIT = re.compile(r"\s*/\s*")
 
@@ -93,6 +98,8 @@ def parse_inline_range(text: str) -> tuple[float, float, float]:
         ) from None
     if min(low, likely, high) < 0:
         raise ValueError(f"{shown(text)}: percentages cannot be negative")
+    if max(low, likely, high) > MAX_PERCENT:
+        raise ValueError(f"{shown(text)}: a percentage is above {_LIMIT_WORDS}")
     if not low <= likely <= high:
         raise ValueError(f"{shown(text)}: need low <= likely <= high (in percent of the duration)")
     if 0 < high <= FRACTION_LIMIT:
@@ -237,6 +244,8 @@ def _percentages(m: TableMatch, r: int, cells: dict, name, out: Collector):
                 problem = ("range-not-a-number", f"{title} {shown(value)} is not a number")
             if x is not None and x < 0:
                 problem = ("range-negative", f"{title} {shown(x)} is negative")
+            elif x is not None and x > MAX_PERCENT:
+                problem = ("range-too-large", f"{title} {shown(x)} is above {_LIMIT_WORDS}")
             elif x is not None:
                 found[key] = x
         if problem:

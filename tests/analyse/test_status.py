@@ -113,6 +113,28 @@ def test_finished_in_progress_and_not_started_by_hand():
     assert a.var[0] == 0.0  # finished work has no spread
 
 
+def test_links_on_summaries_counted_on_the_remaining_network():
+    # A (finished 0 -> 3) -> B (finished 3 -> 5), both under summary S1, and S1 -> C
+    # written on the summary, expanded to B -> C (B has no successor inside S1). A -> B
+    # leads into finished work, so the remaining network drops it; the health check must
+    # count the links the passes run on: B -> C (via S1) only. A project in flight with
+    # summary rows once failed here with an internal error (the dropped link shifted the
+    # list of summaries against the network's links).
+    from converter.model import Summary
+
+    acts = [
+        fixed("A", 3, actual_start=0.0, actual_finish=3.0),
+        fixed("B", 2, actual_start=3.0, actual_finish=5.0),
+        fixed("C", 2),
+    ]
+    s = plan(acts, [Link("A", "B"), Link("B", "C", via="S1")], status_date=6.0)
+    s.summaries.append(Summary("1", "S1", "S1", activities=("A", "B")))
+    a = analyse(s, NO_SIM)
+    assert a.net.link_count == 1
+    check = next(c for c in a.checks if c.key == "summary_links")
+    assert check.activities == ["B->C"] and check.detail == "written on S1"
+
+
 def test_single_remaining_scales_with_the_activity_ratios():
     # B estimates 4 / 5 / 8, Remaining 2.5: remaining O = 2.5*4/5 = 2, P = 2.5*8/5 = 4;
     # TE of the remaining work (2 + 10 + 4) / 6 = 8/3; status 6, so EF_B = 6 + 8/3.

@@ -7,7 +7,8 @@ be read (checked in the JSON summary of ``convert --json``), and the input text 
 stay text in every workbook written. The cases live in the themed modules
 ``hostile_issue`` (the issue's own examples), ``hostile_structure`` (containers and
 limits), ``hostile_text`` (formula injection and odd text), ``hostile_values`` (numbers,
-dates, IDs, links, settings) and ``hostile_csv`` (CSV files, things that are not files,
+dates, IDs, links, settings), ``hostile_registers`` (the Risks and Ranges sheets) and
+``hostile_csv`` (CSV files, things that are not files,
 file names); :func:`all_cases` gathers them.
 
 Expected outcomes are worked out from the project's issue and README (what must be
@@ -118,6 +119,7 @@ def all_cases() -> list[Case]:
     """Every case of the corpus, in a fixed order; names are unique."""
     import hostile_csv
     import hostile_issue
+    import hostile_registers
     import hostile_structure
     import hostile_text
     import hostile_values
@@ -127,6 +129,7 @@ def all_cases() -> list[Case]:
         + hostile_structure.CASES
         + hostile_text.CASES
         + hostile_values.CASES
+        + hostile_registers.CASES
         + hostile_csv.CASES
     )
     names = [c.name for c in cases]

@@ -5,6 +5,10 @@ PNG with poppler's pdftoppm:
 
     python tests/pictures/make_pictures.py            # writes samples/pages/*.png
 
+The clinic sample gives the Summary, the probability chart, the histogram, the risk
+drivers and the timeline; the substation sample the WBS outline of the Activities sheet
+and the two pages of its Risks sheet.
+
 Run it again after a change to the workbook's look, so the pictures stay true. Needs
 LibreOffice (soffice) and poppler-utils.
 """
@@ -28,6 +32,8 @@ from render import page_texts, to_pdf  # noqa: E402
 from converter.api import ConvertOptions, convert  # noqa: E402
 
 SAMPLE = REPO / "samples" / "clinic-it-rollout.xlsx"
+#: The sample with WBS summary rows, range classes and a risk register.
+SUBSTATION = REPO / "samples" / "substation-upgrade.xlsx"
 OUTDIR = REPO / "samples" / "pages"
 
 #: picture name -> (sheet, a text on the page wanted: the first of the sheet's pages with it)
@@ -38,9 +44,17 @@ PICTURES = {
     "drivers": ("Simulation", "Risk drivers"),
     "timeline": ("Timeline", "Schedule on expected times"),
 }
+#: The same for the substation sample: the WBS outline and the risk register.
+SUBSTATION_PICTURES = {
+    "activities-wbs": ("Activities", "Design and approvals"),
+    "risks": ("Risks", "The register and what each risk does to the finish"),
+    "risk-ranking": ("Risks", "Ranking: the"),
+}
+#: Each sample and the pictures drawn from it.
+SETS = ((SAMPLE, PICTURES), (SUBSTATION, SUBSTATION_PICTURES))
 
 
-def find_pages(pdf: Path) -> dict[str, int]:
+def find_pages(pdf: Path, pictures: dict[str, tuple[str, str]] = PICTURES) -> dict[str, int]:
     """Picture name -> page number (from 1), from the footer's sheet name and the text."""
     found: dict[str, int] = {}
     for number, text in enumerate(page_texts(pdf), start=1):
@@ -48,14 +62,19 @@ def find_pages(pdf: Path) -> dict[str, int]:
         if not lines or not re.search(r"Page \d+ of \d+\s*$", lines[-1]):
             continue
         sheet = re.split(r"\s{2,}", lines[-1].strip())[0]
-        for name, (want, words) in PICTURES.items():
+        for name, (want, words) in pictures.items():
             if name not in found and sheet == want and words in text:
                 found[name] = number
     return found
 
 
-def make_pictures(sample: Path = SAMPLE, outdir: Path = OUTDIR, dpi: int = 70) -> list[Path]:
-    """Write one PNG per entry of :data:`PICTURES` into ``outdir``; returns their paths."""
+def make_pictures(
+    sample: Path = SAMPLE,
+    outdir: Path = OUTDIR,
+    dpi: int = 70,
+    pictures: dict[str, tuple[str, str]] = PICTURES,
+) -> list[Path]:
+    """Write one PNG per entry of ``pictures`` into ``outdir``; returns their paths."""
     outdir.mkdir(parents=True, exist_ok=True)
     made = []
     with tempfile.TemporaryDirectory(prefix="pertbook-pictures-") as tmp:
@@ -64,10 +83,10 @@ def make_pictures(sample: Path = SAMPLE, outdir: Path = OUTDIR, dpi: int = 70) -
         if not result.ok:
             raise SystemExit(f"{sample.name} did not convert: {result.problems}")
         pdf = to_pdf(work / f"{sample.stem}.analysis.xlsx", work)
-        pages = find_pages(pdf)
-        for name in PICTURES:
+        pages = find_pages(pdf, pictures)
+        for name in pictures:
             if name not in pages:
-                raise SystemExit(f"no page for the picture {name!r}: {PICTURES[name]}")
+                raise SystemExit(f"no page for the picture {name!r}: {pictures[name]}")
             stem = work / name
             page = str(pages[name])
             subprocess.run(
@@ -95,12 +114,12 @@ def make_pictures(sample: Path = SAMPLE, outdir: Path = OUTDIR, dpi: int = 70) -
 
 def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("--sample", type=Path, default=SAMPLE)
     parser.add_argument("--outdir", type=Path, default=OUTDIR)
     parser.add_argument("--dpi", type=int, default=70)
     args = parser.parse_args(argv)
-    for path in make_pictures(args.sample, args.outdir, args.dpi):
-        print(path.relative_to(REPO) if path.is_relative_to(REPO) else path)
+    for sample, pictures in SETS:
+        for path in make_pictures(sample, args.outdir, args.dpi, pictures):
+            print(path.relative_to(REPO) if path.is_relative_to(REPO) else path)
     return 0
 
 

@@ -34,7 +34,12 @@ from xml.dom import minidom
 REPO = Path(__file__).resolve().parents[2]
 SAMPLES = REPO / "samples"
 GOLDEN = REPO / "tests" / "golden"
-SAMPLE_FILES = ("warehouse-fitout.xlsx", "clinic-it-rollout.xlsx", "boiler-shutdown.csv")
+SAMPLE_FILES = (
+    "warehouse-fitout.xlsx",
+    "clinic-it-rollout.xlsx",
+    "boiler-shutdown.csv",
+    "substation-upgrade.xlsx",
+)
 JSON_NAME = "convert.json"
 PARTS_DIR = "xlsx"
 MANIFEST = "parts.txt"  # part names in package order, so added or dropped parts show

@@ -123,3 +123,20 @@ def test_a_changed_figure_fails_with_a_readable_diff(produced):
     assert report.startswith(f"{stem}/{rel}: 2 changed lines")
     assert f"-{line}" in report and f"+{altered_line}" in report
     assert "--- golden/" in report and "+++ produced/" in report
+
+
+def test_substation_sample_is_what_its_generator_writes(tmp_path):
+    # samples/substation-upgrade.xlsx is made by tests/support/substation_sample.py: every
+    # sheet's cells, read back by python-calamine, are those of a fresh build.
+    from python_calamine import CalamineWorkbook
+    from substation_sample import build
+
+    fresh = build(tmp_path / "substation-upgrade.xlsx")
+
+    def cells(path):
+        book = CalamineWorkbook.from_path(str(path))
+        return {name: book.get_sheet_by_name(name).to_python() for name in book.sheet_names}
+
+    assert cells(SAMPLES / "substation-upgrade.xlsx") == cells(fresh), (
+        "run python tests/support/substation_sample.py"
+    )

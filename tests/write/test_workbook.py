@@ -41,6 +41,7 @@ from openpyxl.utils import range_boundaries
 from recalc import compare_recalculated
 from reference_cpm import LINK_CODES, reference_cpm
 from scipy.stats import norm
+from substation_sample import build as build_substation
 
 REPO = Path(__file__).resolve().parents[2]
 SAMPLES = REPO / "samples"
@@ -207,10 +208,13 @@ CASES: dict[str, tuple[object, dict]] = {
     "zero-spread": (zero_spread_input, {}),
     "big": (big_input, {"simulate": False}),
     "warehouse-nosim": (SAMPLES / "warehouse-fitout.xlsx", {"simulate": False}),
+    # WBS rows, units, a ladder, ranges, Not before, a risk register; and in flight
+    "substation": (SAMPLES / "substation-upgrade.xlsx", {}),
+    "substation-in-flight": (lambda path: build_substation(path, in_flight=True), {}),
 }
 SAMPLE_CASES = ["warehouse", "warehouse-due45", "clinic", "boiler"]
 GENERATED_CASES = ["typed", "weeks", "calendar-days", "riskier", "edge", "zero-spread"]
-RECALC_CASES = SAMPLE_CASES + GENERATED_CASES
+RECALC_CASES = SAMPLE_CASES + GENERATED_CASES + ["substation", "substation-in-flight"]
 
 
 class Converted:

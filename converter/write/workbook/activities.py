@@ -87,6 +87,7 @@ WIDTHS = {
     "sensitivity": 11.0,
     "wbs": 9.0,
     "range": 14.0,
+    "state": 11.5,  # "in progress", "not started" on one line
 }
 NUMBER_WIDTH = 8.5
 INTRO = (
@@ -146,7 +147,7 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
         ws.write_string(r, c["id"], act.id, fmt.wrap)
         ws.write_string(r, c["name"], act.name, name_look[i])
         if "wbs" in c and act.wbs is not None:
-            ws.write_string(r, c["wbs"], act.wbs, fmt.wrap)
+            ws.write_string(r, c["wbs"], act.wbs, fmt.wrap_indent)  # apart from the figure
         ws.write_string(r, c["pred"], raw_preds[i], fmt.wrap)
         fit_row(
             ws,
@@ -197,8 +198,22 @@ def write_activities(wb, fmt, a, lay: Layout) -> None:
 
         write_summary_rows(wb, ws, a, lay, WIDTHS)
     ws.autofilter(FIRST - 1, 0, lay.last_row, max(c.values()))
-    bands = [c[k] for k in ("tf", "criticality") if k in c]  # float and dates, simulated
-    pages.set_up(ws, header_rows=(FIRST - 1, FIRST - 1), title_cols=(0, 1), bands=bands)
+    _print_setup(ws, lay)
+
+
+def _print_setup(ws, lay: Layout) -> None:
+    """Bands: the passes; float and dates; simulated figures and outline; the constraint
+    and progress columns together. A summary row stays on a page with its first row."""
+    c = lay.cols
+    first_progress = next((k for k in ("not_before", "actual_start") if k in c), None)
+    bands = [c[k] for k in ("tf", "criticality", first_progress) if k in c]
+    pages.set_up(
+        ws,
+        header_rows=(FIRST - 1, FIRST - 1),
+        title_cols=(0, 1),
+        keep=[(r, r + 1) for r in lay.summary_rows],
+        bands=bands,
+    )
 
 
 def _write_expected(ws, fmt, a, lay: Layout, i: int, by_activity) -> None:

@@ -28,6 +28,14 @@ class _Sheet:
 
     def __init__(self, ws, fmt) -> None:
         self.ws, self.fmt, self.r, self.keep = ws, fmt, 0, []
+        self.top: int | None = None  # the title row of the section being written
+
+    def close(self) -> None:
+        """Keep the section just written whole where it fits a page: its head, which is
+        not repeated, then stands over all its rows."""
+        if self.top is not None:
+            self.keep.append((self.top, self.r - 1))
+        self.top = None
 
     def text(self, col: int, value: str, style, last: int | None = None) -> None:
         value = printable(value)
@@ -51,8 +59,11 @@ class _Sheet:
         self.ws.write_formula(self.r, col, f.minus(new, old), style, float(value))
 
     def section(self, title: str, heads: list[tuple[int, str]]) -> None:
-        """A section's title and its table head; the head stays with its first rows."""
+        """A section's title and its table head; the head stays with its first rows, or
+        with all of them where they fit a page."""
+        self.close()
         self.r += 1
+        self.top = self.r
         self.ws.write_string(self.r, 0, title, self.fmt.section_title)
         for col in range(1, LAST + 1):
             self.ws.write_blank(self.r, col, None, self.fmt.section_title)
@@ -91,6 +102,7 @@ def write_changes(wb, fmt, changes) -> None:
     _movers(s, changes)
     _drivers(s, changes)
     _risks(s, changes)
+    s.close()
     pages.set_up(ws, keep=s.keep)
 
 

@@ -248,19 +248,21 @@ def _fill(
     """Greedy page breaks for rows ``first`` to ``end - 1``, a page starting at ``first``."""
     end = len(heights) if end is None else end
     header = 0.0 if header_rows is None else sum(heights[header_rows[0] : header_rows[1] + 1])
-    block = {}
+    block: dict[int, list[tuple[int, int]]] = {}
     for top, bottom in keep:
         for row in range(top, bottom + 1):
-            block[row] = (top, bottom)
+            block.setdefault(row, []).append((top, bottom))
     breaks: list[int] = []
     used = header if header_rows is not None and first > header_rows[1] else 0.0
     row = first
     while row < end:
         start = breaks[-1] if breaks else first
         if used + heights[row] > room and row > start:
-            top, bottom = block.get(row, (row, row))
-            fits = sum(heights[top : bottom + 1]) + header <= room
-            cut = top if top > start and fits else row
+            cut = row  # or the top of the outermost block around it that fits a page
+            for top, bottom in sorted(block.get(row, []), key=lambda b: (b[0], -b[1])):
+                if top > start and sum(heights[top : bottom + 1]) + header <= room:
+                    cut = top
+                    break
             breaks.append(cut)
             row = cut
             used = header if header_rows is not None and cut > header_rows[1] else 0.0
@@ -406,6 +408,13 @@ def sheet_geometry(ws) -> tuple[list[float], list[float], list[tuple[int, int]]]
         widths.append((px - 5) / 7.0 if px >= 12 else px / 12.0)
     heights = [ws._size_row(row) * 0.75 for row in range(last_row + 1)]
     return widths, heights, spans
+
+
+def fits_one_page(ws, last_row: int) -> bool:
+    """Whether rows 0 to ``last_row`` of ``ws`` fit on one page at full size, either way up
+    (so they do at any scale the plan picks)."""
+    heights = [ws._size_row(row) * 0.75 for row in range(last_row + 1)]
+    return sum(heights) <= printable(True)[1] * HEIGHT_SHARE
 
 
 def set_up(

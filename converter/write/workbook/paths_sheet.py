@@ -36,6 +36,9 @@ WIDTHS = [7.0, 10.0, 10.0, 10.0, 9.0, 11.0, 17.0, 10.0, 48.0]
 #: How each head sits: over a centred count, a number, or text.
 SUMMARY_ALIGN = "crrrrcccl"
 STEP_ALIGN = "ccllrrrr"
+#: A path's first step that starts at its start floor (Not before, status date): the floor
+#: is in the step's lag column
+FLOOR_START = "(path start, at its start floor)"
 INTRO = (
     "Ranked by expected length, ties by larger variance. Length = SUMPRODUCT(coefficients, "
     "TE) + lags over the path's steps below; a duration counts +1 normally, 0 or -1 where "
@@ -103,7 +106,8 @@ def _write_steps(ws, fmt, a, lay: Layout, n: int, path, r: int) -> int:
         ws.write_string(r, 2, a.ids[act])
         floor = progress_cols.start_floor_terms(a, lay, act, True) if step == 0 else []
         if step == 0 and floor and a.net.floor is not None:  # the path starts at its floor
-            ws.write_string(r, 3, "(path start, at its start floor)")
+            ws.write_string(r, 3, FLOOR_START, fmt.wrap)
+            fit_row(ws, r, [(FLOOR_START, WIDTHS[3])])
             terms = ",".join(["0", *floor])
             ws.write_formula(r, 7, f"=MAX({terms})", fmt.num, float(a.net.floor[act]))
         elif step == 0:

@@ -15,12 +15,18 @@ import math
 from converter.write.workbook import formulas as f
 from converter.write.workbook import pages
 from converter.write.workbook.layout import FIRST, RISKS
-from converter.write.workbook.rows import fit_row, merged_width, row_height, rows_spanned
+from converter.write.workbook.rows import (
+    DEFAULT_ROW_HEIGHT,
+    fit_row,
+    merged_width,
+    row_height,
+    rows_spanned,
+)
 from converter.write.workbook.styles import PALETTE, TABLE_HEAD_SIZE, TITLE_ROW
 
 BASE = [
     ("id", "Risk", 9.0),
-    ("description", "Description", 24.0),
+    ("description", "Description", 34.0),
     ("activities", "Activities hit", 14.0),
     ("group", "Group", 8.0),
     ("p", "Probability", 9.5),
@@ -40,6 +46,7 @@ BASE = [
     ("d50", "P50 delta", 9.0),
     ("dmean_sim", "Mean delta", 9.0),
 ]
+WIDTH = {k: w for k, _, w in BASE}
 MITIGATED = [
     ("mp", "Mitigated probability", 10.0),
     ("mlow", "Mitigated impact low", 9.5),
@@ -48,6 +55,8 @@ MITIGATED = [
     ("m80", "P80 delta after response", 10.0),
     ("mmean", "Mean delta after response", 10.0),
 ]
+CURVE_NOTE = "The chart's figures, a row per percent, folded: the + at the left opens them."
+SUBTITLE = "The register and what each risk does to the finish"
 INTRO = (
     "Shaded cells are the register as read; the moments are formulas. Each iteration, each "
     "risk (one draw per group) occurs with its probability and adds one impact to every "
@@ -111,12 +120,8 @@ def write_risks(wb, fmt, a, lay) -> None:
     view, sim = a.risk_view, a.simulation
     ws = wb.add_worksheet(RISKS)
     cols = columns(view, len(a.paths))
-    ws.write_string(0, 0, "Risks: the register and what each risk does to the finish", fmt.title)
-    ws.set_row(0, TITLE_ROW)
     widths = _heads(ws, fmt, cols, len(a.paths))
-    ws.merge_range(1, 0, 2, cols["dvar"], INTRO, fmt.subtitle_wrap)
-    need = row_height([(INTRO, merged_width(widths[: cols["dvar"] + 1]))])
-    ws.set_row(2, max(15.0, need - 15.0))
+    _title(ws, fmt, cols, widths)
     rank = sim.risks if sim is not None else None
     after = view.mitigated.risks if view.mitigated is not None else None
     for k, risk in enumerate(view.risks):
@@ -125,12 +130,41 @@ def write_risks(wb, fmt, a, lay) -> None:
         _simulated_cells(ws, fmt, cols, k, rank, after)
         for j, w in enumerate(view.path_weights):
             _weight_cell(ws, fmt, a, lay, cols[f"w{j + 1}"], k, j, w[k])
-    ws.freeze_panes(FIRST, 1)
+    ws.freeze_panes(FIRST, 2)
     last = FIRST + len(view.risks)
-    bottom = _ranking(wb, ws, fmt, a, rank, last + 1)
+    keep, bottom = [], _ranking(wb, ws, fmt, a, rank, last + 1)
+    if bottom > last + 1:
+        keep.append((last + 1, bottom - 1))
     if view.mitigated is not None:
-        bottom = _mitigated(wb, ws, fmt, a, bottom + 1)
-    pages.set_up(ws, header_rows=(FIRST - 1, FIRST - 1), title_cols=(0, 0))
+        top, bottom = bottom + 1, _mitigated(wb, ws, fmt, a, bottom + 1)
+        keep.append((top, bottom))
+    # the register's head repeats only when the register itself runs on to a second page
+    # (it would stand over the ranking and the chart otherwise); a band of the register's
+    # columns begins at its simulated figures, its mitigated values and its path weights
+    long = not pages.fits_one_page(ws, last - 1)
+    pages.set_up(
+        ws,
+        header_rows=(FIRST - 1, FIRST - 1) if long else None,
+        title_cols=(0, 1),
+        keep=keep,
+        bands=[cols[k] for k in ("dmean", "mp", "w1") if k in cols],
+    )
+
+
+def _title(ws, fmt, cols, widths: list[float]) -> None:
+    """Title and subtitle over the ID and description (repeated on every band of columns),
+    the introduction over the register's other columns (the first band)."""
+    ws.write_string(0, 0, "Risks", fmt.title)
+    ws.set_row(0, TITLE_ROW)
+    ws.merge_range(1, 0, 2, cols["description"], SUBTITLE, fmt.subtitle_wrap)
+    ws.merge_range(1, cols["activities"], 2, cols["var"], INTRO, fmt.subtitle_wrap)
+    need = row_height(
+        [
+            (INTRO, merged_width(widths[cols["activities"] : cols["var"] + 1])),
+            (SUBTITLE, merged_width(widths[: cols["description"] + 1])),
+        ]
+    )
+    ws.set_row(2, max(DEFAULT_ROW_HEIGHT, need - DEFAULT_ROW_HEIGHT))
 
 
 def _register_row(ws, fmt, a, cols, k: int, risk) -> None:
@@ -145,13 +179,21 @@ def _register_row(ws, fmt, a, cols, k: int, risk) -> None:
     for key, value in (("low", risk.low), ("likely", risk.likely), ("high", risk.high)):
         ws.write_number(r, cols[key], value, style)
     unit = "% of duration" if risk.percent else a.schedule.settings.time_unit
-    ws.write_string(r, cols["unit"], unit, fmt.wrap)
+    ws.write_string(r, cols["unit"], unit, fmt.wrap_indent)  # apart from Impact high
     if "mp" in cols:
         after = risk.after_response()
         ws.write_number(r, cols["mp"], after.probability, fmt.prob)
         for key, value in (("mlow", after.low), ("mlikely", after.likely), ("mhigh", after.high)):
             ws.write_number(r, cols[key], value, style)
-    fit_row(ws, r, [(risk.description, 24.0), (acts, 14.0)])
+    fit_row(
+        ws,
+        r,
+        [
+            (risk.description, WIDTH["description"]),
+            (acts, WIDTH["activities"]),
+            (risk.group or "", WIDTH["group"]),
+        ],
+    )
 
 
 def _moment_cells(ws, fmt, a, cols, k: int) -> None:
@@ -252,7 +294,16 @@ def _ranking(wb, ws, fmt, a, rank, start: int) -> int:
     )
     unit = a.schedule.settings.time_unit
     bar.set_title({"name": "Risks ranked: P80 delta", "name_font": {"size": 12, "bold": True}})
-    bar.set_y_axis({"reverse": True, "name": "Risk", "interval_unit": 1, "num_font": {"size": 8}})
+    # the first bar at the top and the scale below it, as on the Simulation sheet
+    bar.set_y_axis(
+        {
+            "reverse": True,
+            "crossing": "max",
+            "name": "Risk",
+            "interval_unit": 1,
+            "num_font": {"size": 8},
+        }
+    )
     bar.set_x_axis({"name": f"P80 with the risk minus without it ({unit})"})
     bar.set_legend({"none": True})
     bar.set_size({"width": 760, "height": 110 + 20 * len(rank.top)})
@@ -282,10 +333,14 @@ def _mitigated(wb, ws, fmt, a, start: int) -> int:
     chart_row = head + len(rows) + 2
     table = chart_row + rows_spanned(320) + 1
     for c, text in enumerate(("Probability", "Unmitigated finish", "Mitigated finish")):
-        ws.write_string(table, c, text, fmt.th if c == 0 else fmt.th_center)
+        ws.write_string(table, c, text, fmt.th_center)
+    ws.write_string(table, 3, CURVE_NOTE, fmt.subtitle)
     levels, before, now = view.curve
+    # the chart's table, a row per percent, is folded (an outline group, hidden): it does
+    # not print, and the plus sign beside the rows opens it
     for t, (q, x0, x1) in enumerate(zip(levels, before, now, strict=True)):
         r = table + 1 + t
+        ws.set_row(r, None, None, {"level": 1, "hidden": True})
         ws.write_number(r, 0, float(q), fmt.prob)
         ws.write_number(r, 1, float(x0), fmt.num)
         ws.write_number(r, 2, float(x1), fmt.num)
@@ -304,10 +359,14 @@ def _mitigated(wb, ws, fmt, a, start: int) -> int:
     unit = a.schedule.settings.time_unit
     chart.set_title({"name": "Finish before and after the responses", "name_font": {"size": 12}})
     chart.set_x_axis({"name": f"Project finish ({unit})"})
-    chart.set_y_axis({"name": "Chance of finishing by then", "min": 0, "max": 1})
+    chart.set_y_axis(
+        {"name": "Chance of finishing by then", "min": 0, "max": 1, "num_format": "0%"}
+    )
+    chart.show_hidden_data()  # its table is folded away (below)
     chart.set_legend({"position": "bottom"})
     chart.set_size({"width": 600, "height": 320})
     ws.insert_chart(chart_row, 0, chart)
+    ws.set_row(last + 1, None, None, {"collapsed": True})
     return last + 1
 
 

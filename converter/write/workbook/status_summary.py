@@ -45,9 +45,16 @@ def write_status(out, lay: Layout, cols: tuple[int, int, int, int]) -> None:
         "on those in progress, over all activities' durations (done + remaining).",
         start=cp,
     )
+    # the durations without the named risks' expected delay (the share is of the work:
+    # analyse/status.py), so TE less the Risk delay column where there is one
+    finished, total = f'SUMIF({state},"finished",{te})', f"SUM({te})"
+    if "risk_delay" in lay.cols:
+        delay = lay.column("risk_delay")
+        finished += f'-SUMIF({state},"finished",{delay})'
+        total += f"-SUM({delay})"
     done = (
-        f'=(SUMIF({state},"finished",{te})+COUNTIF({state},"in progress")*{STATUS}'
-        f'-SUMIF({state},"in progress",{start}))/SUM({te})'
+        f'=({finished}+COUNTIF({state},"in progress")*{STATUS}'
+        f'-SUMIF({state},"in progress",{start}))/({total})'
     )
     ws.write_formula(row, val, done, fmt.prob, prog.done_share)
     for words in ("finished", "in progress", "not started"):
@@ -63,7 +70,7 @@ def _forecast(out, cols) -> None:
     val, val_date, cp, cp_date = cols
     sim = a.simulation
     for level in LEVELS:
-        row = out.line(f"Forecast finish P{round(level * 100)} (offset from the start)")
+        row = out.line(f"Forecast finish P{round(level * 100)} (from the start)")  # one line
         if sim is not None:
             value = sim.percentiles.get(level)
             value = sim.percentile(level) if value is None else value

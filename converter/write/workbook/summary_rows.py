@@ -26,6 +26,8 @@ def summary_formats(wb, depth: int) -> dict[str, object]:
             {"bold": True, "text_wrap": True, "valign": "top", "indent": min(depth, MOST_INDENT)}
         ),
         "text": wb.add_format({"bold": True, "text_wrap": True, "valign": "top"}),
+        # indented, so the code stands apart from the figure to its left
+        "wbs": wb.add_format({"bold": True, "text_wrap": True, "valign": "top", "indent": 1}),
         "num": wb.add_format({"bold": True, "num_format": "0.00"}),
         "date": wb.add_format({"bold": True, "num_format": "yyyy-mm-dd"}),
     }
@@ -63,7 +65,7 @@ def write_summary_rows(wb, ws, a, lay: Layout, widths: dict[str, float]) -> None
         name = s.name if s.id in (s.wbs, s.name) else f"{s.name} (ID {s.id})"
         ws.write_string(r, c["name"], name, look["name"])
         ws.write_string(r, c["pred"], s.predecessors, look["text"])
-        ws.write_string(r, c["wbs"], s.wbs, look["text"])
+        ws.write_string(r, c["wbs"], s.wbs, look["wbs"])
         fit_row(ws, r, [(name, widths["name"]), (s.predecessors, widths["pred"])])
         for key, build, value in (
             ("es", f.summary_start, float(figures.start[j])),

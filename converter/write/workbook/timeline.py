@@ -103,9 +103,20 @@ def _write_row(ws, fmt, a, lay: Layout, r: int, k: int, i: int) -> None:
 
 def _chart_height(n: int) -> int:
     """Pixels: one page tall (below the title rows) for a few dozen bars, then at least
-    14 px a bar."""
-    per_bar = max(14.0, min(22.0, 400.0 / max(n, 1)))
-    return int(130 + per_bar * n)
+    13 px a bar, on top of about 170 px of title, rotated dates and axis title: so every
+    bar's 8 pt label has room (a renderer drops labels that would touch, leaving every
+    other bar unnamed)."""
+    return int(170 + _per_bar(n) * n)
+
+
+def _per_bar(n: int) -> float:
+    return max(13.0, min(22.0, 410.0 / max(n, 1)))
+
+
+def _label_size(n: int) -> float:
+    """Points of the bars' labels: 8, or 7 where the bars stand closer than 16 px (a
+    renderer drops labels that would touch: 7 pt still names every bar on the page)."""
+    return 8.0 if _per_bar(n) >= 16.0 else 7.0
 
 
 def _chart(wb, a, first: int, last: int, height: int):
@@ -144,8 +155,14 @@ def _chart(wb, a, first: int, last: int, height: int):
         x_axis = {"name": f"Time ({a.schedule.settings.time_unit}) from the start", "min": 0}
     chart.set_x_axis({**x_axis, "major_gridlines": grid})
     chart.set_y_axis(
-        {"reverse": True, "crossing": "max", "name": "Activity", "num_font": {"size": 9}}
-    )  # the first at the top, the dates below
+        {
+            "reverse": True,
+            "crossing": "max",
+            "name": "Activity",
+            "num_font": {"size": _label_size(last - first + 1)},
+            "interval_unit": 1,
+        }
+    )  # the first at the top, the dates below; every bar labelled
     chart.set_title({"name": "Schedule on expected times", "name_font": {"size": 12, "bold": True}})
     chart.set_legend({"none": True})  # a key in cells instead: viewers drop legend entries
     chart.set_size({"width": 900, "height": height})
