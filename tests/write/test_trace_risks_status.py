@@ -81,13 +81,17 @@ def traced(tmp_path_factory):
 def _places(ws):
     """(summary row, first column) per traced iteration; rows of the risks and activities
     (1-based, by the IDs in column A)."""
+    return _places_of(ws, [row[0] for row in ROWS[1:]], list(REGISTER))
+
+
+def _places_of(ws, ids: list[str], risk_ids: list[str] = ()):
     count = 0
     while ws.cell(TRACE_FIRST + 1 + count, 1).value:
         count += 1
     blocks = [(TRACE_FIRST + 1 + k, trace_sheet.FIXED + 1 + 4 * k) for k in range(count)]
     col_a = {ws.cell(r, 1).value: r for r in range(1, ws.max_row + 1)}
-    risks = {rid: col_a[rid] for rid in REGISTER}
-    acts = {row[0]: col_a[row[0]] for row in ROWS[1:]}
+    risks = {rid: col_a[rid] for rid in risk_ids}
+    acts = {i: col_a[i] for i in ids}
     return blocks, risks, acts
 
 
@@ -214,3 +218,26 @@ def test_trace_is_the_same_with_one_and_two_workers(tmp_path, monkeypatch):
     assert sheets[0] == sheets[1]
     blocks, _, _ = _places(wb["Trace"])
     assert len(blocks) == 3
+
+
+def test_not_before_alone_enters_the_traced_early_start(tmp_path):
+    # no status date, no register: only C's Not before of 10 (hand: C's start >= 10)
+    rows = [row[:8] for row in ROWS]
+    rows[1] = ["A", "Survey", None, 2, 3, 5, None, None]
+    rows[2] = ["B", "Design", "A", 4, 5, 8, None, None]
+    source = write_xlsx(tmp_path / "nb.xlsx", {"Activities": rows})
+    opts = ConvertOptions(iterations=2000, seed=5, trace="80")
+    result = convert(source, opts, outdir=tmp_path / "out")
+    assert result.ok, [str(p) for p in result.problems]
+    formulas = openpyxl.load_workbook(result.workbook)["Trace"]
+    values = openpyxl.load_workbook(result.workbook, data_only=True)["Trace"]
+    blocks, _, acts = _places_of(values, [r[0] for r in rows[1:]])
+    assert "same Not before constraints" in formulas["A2"].value
+    (r_sum, c) = blocks[0]
+    es = formulas.cell(acts["C"], c + 2).value
+    assert es.startswith("=MAX(0,") and "Activities!" in es and "StatusOffset" not in es
+    assert values.cell(acts["C"], c + 2).value >= 10.0
+    assert (
+        abs(values.cell(r_sum, 4).value - values.cell(r_sum, 5).value)
+        <= values.cell(r_sum, 7).value
+    )

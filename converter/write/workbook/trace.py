@@ -68,6 +68,7 @@ STATUS = (
     "from the remaining estimates; the early start honours the same start floors as the "
     "Activities sheet (Not before, the status date, actual starts)."
 )
+FLOORS = " The early start honours the same Not before constraints as the Activities sheet."
 LARGE = (
     " This schedule is large: only the activities on a traced iteration's critical "
     "path are shown; a link from any other activity enters as that activity's early "
@@ -85,7 +86,7 @@ def write_trace(wb, fmt, a, lay: Layout) -> None:
     )
     shown = _shown(a, traced)
     intro = INTRO + trace_risks.note(a) + (LARGE if shown.size < len(a.ids) else "")
-    intro += STATUS if (a.remaining_work is not None) else ""
+    intro += _floors_note(a.remaining_work)
     last = max(len(SUMMARY_HEADS) - 1, FIXED - 1)
     ws.merge_range(1, 0, 2, last, intro, fmt.subtitle_wrap)
     need = row_height([(intro, merged_width(_width(c) for c in range(last + 1)))])
@@ -118,6 +119,13 @@ def write_trace(wb, fmt, a, lay: Layout) -> None:
     ws.set_column(FIXED, FIXED + 4 * len(traced) - 1, BLOCK_WIDTH)
     ws.freeze_panes(first, 1)
     pages.set_up(ws, header_rows=(top, top + 1), title_cols=(0, 0))
+
+
+def _floors_note(rem) -> str:
+    """The introduction's sentence on a project in flight, or on Not before alone."""
+    if rem is None:
+        return ""
+    return STATUS if rem.progress is not None else FLOORS
 
 
 def _width(col: int) -> float:

@@ -104,6 +104,7 @@ def impact_formula(a, k: int, r: int, v: str) -> str:
 
 
 def _risk_draw_cells(ws, fmt, a, k: int, r: int, c0: int, t) -> None:
+    """Risk ``k``'s occurrence u, occurred, impact u and impact in traced iteration ``t``."""
     draws = {d.kind: d for d in t.draws if d.risk == k}
     occ, imp = draws[OCCURRENCE], draws[IMPACT]
     style = fmt.prob if a.risk_view.risks[k].percent else fmt.num4
