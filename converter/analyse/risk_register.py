@@ -144,7 +144,8 @@ def simulate_register(simulate, args: tuple, kwargs: dict, schedule, view: RiskV
     result = simulate(*args, **kwargs, risks=draw_risks(view.risks, index, **common))
     if view.any_mitigated:
         after = [r.after_response() for r in view.risks]
-        view.mitigated = simulate(*args, **kwargs, risks=draw_risks(after, index, **common))
+        again = dict(kwargs, trace=())  # the trace follows the unmitigated run
+        view.mitigated = simulate(*args, **again, risks=draw_risks(after, index, **common))
         levels = np.arange(1, 100) / 100.0
         view.curve = (
             levels,

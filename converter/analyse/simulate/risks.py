@@ -31,7 +31,14 @@ from converter.analyse.simulate.sampling import KIND_CODES, PERT, TRIANGULAR
 from converter.analyse.simulate.workers import mapped
 from converter.model import Risk
 
-__all__ = ["RiskDraws", "add_delays", "draw_risks", "impact_inverse", "risk_key"]
+__all__ = [
+    "RiskDraws",
+    "add_delays",
+    "draw_risks",
+    "impact_inverse",
+    "occurrence_key",
+    "risk_key",
+]
 
 OCCURRENCE_STREAM, IMPACT_STREAM = 2, 3
 
@@ -45,6 +52,20 @@ def risk_key(text: str) -> int:
     True
     """
     return int.from_bytes(hashlib.blake2b(text.encode("utf-8"), digest_size=8).digest(), "big")
+
+
+def occurrence_key(risk: Risk) -> int:
+    """The key of ``risk``'s occurrence stream: its group's (``"group:" + name``) when it
+    is grouped, so every risk of a group occurs together; else its own ID's.
+
+    Examples
+    --------
+    >>> a = Risk("A", "", 0.5, 1.0, 1.0, 1.0, ("X",), group="G")
+    >>> b = Risk("B", "", 0.5, 1.0, 1.0, 1.0, ("X",), group="G")
+    >>> occurrence_key(a) == occurrence_key(b) != risk_key("A")
+    True
+    """
+    return risk_key(f"group:{risk.group}") if risk.group is not None else risk_key(risk.id)
 
 
 def uniforms(seed: int, stream: int, key: int, iterations: int) -> np.ndarray:
@@ -104,6 +125,11 @@ class RiskDraws:
     #: was critical in the last run's passes (elsewhere taking its delay off cannot move
     #: the finish)
     critical: np.ndarray | None = None
+    #: The register drawn, the impact distribution and the seed (to draw a traced
+    #: iteration's uniforms again, :mod:`.trace_risks`)
+    register: tuple[Risk, ...] = ()
+    distribution: str = "pert"
+    seed: int = 0
 
     @property
     def count(self) -> int:
@@ -145,10 +171,9 @@ def draw_risks(
     occurred = np.zeros((count, iterations), dtype=bool)
     impact = np.zeros((count, iterations), dtype=np.float32)
     for k, risk in enumerate(risks):
-        own = risk_key(risk.id)
-        key = risk_key(f"group:{risk.group}") if risk.group is not None else own
-        occurred[k] = uniforms(seed, OCCURRENCE_STREAM, key, iterations) < risk.probability
-        u = uniforms(seed, IMPACT_STREAM, own, iterations)
+        u = uniforms(seed, OCCURRENCE_STREAM, occurrence_key(risk), iterations)
+        occurred[k] = u < risk.probability
+        u = uniforms(seed, IMPACT_STREAM, risk_key(risk.id), iterations)
         hit = occurred[k]  # the inverse only where it occurred (betaincinv is costly)
         impact[k, hit] = impact_inverse(u[hit], risk.low, risk.likely, risk.high, distribution)
     return RiskDraws(
@@ -158,6 +183,9 @@ def draw_risks(
         occurred=occurred,
         impact=impact,
         critical=mapped((count, iterations), bool, True),
+        register=tuple(risks),
+        distribution=distribution,
+        seed=seed,
     )
 
 

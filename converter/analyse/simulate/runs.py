@@ -425,7 +425,7 @@ def simulate(
         result.independent = first
     result.risks = ranking
     rho = float(correlation) if correlated else 0.0
-    result.trace = trace_iterations(net, inp, result.durations, rho, trace) if trace else []
+    result.trace = trace_iterations(net, inp, result.durations, rho, trace, risks) if trace else []
     return result
 
 

@@ -17,13 +17,22 @@ finish differ by at most :attr:`TracedIteration.allowed`: the table's accuracy
 duration, summed along the longest path by that spread (over all activities where a
 link is other than finish-to-start).
 
-Further per-iteration draws (e.g. named risks) belong in :attr:`TracedIteration.draws`,
-one :class:`Draw` row each, so a writer can show them beside the durations.
+Named risks (:mod:`.trace_risks`): each risk's occurrence and impact uniforms are drawn
+again from the risks' own streams, one :class:`Draw` each in :attr:`TracedIteration.draws`;
+the delays of the risks that occurred are added into the traced durations as the run
+added them, and the bound grows by each delay's own rounding (single-precision impacts,
+and for a percentage impact the spread of the duration it scales).
+
+Start floors and a project in flight need nothing of their own here: the run's network
+carries the floors (Not before, the status date, actual starts) and its estimates the
+remaining work (finished activities fixed, in progress the time worked plus the
+remaining estimate), and the trace runs on both. The bound ignores the floors (a floor
+is exact, and the early start's MAX moves no more than its largest argument).
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 from scipy import special
@@ -33,11 +42,21 @@ from converter.analyse.pert import pert_beta_parameters
 from converter.analyse.simulate.correlation import induce_rank_correlation
 from converter.analyse.simulate.inputs import Inputs
 from converter.analyse.simulate.inverse import ACCURACY, triangular_quantile, uniform_quantile
+from converter.analyse.simulate.risks import RiskDraws
 from converter.analyse.simulate.sampling import (
     PERT,
     TRIANGULAR,
     draw_uniforms,
     durations_from_uniforms,
+)
+from converter.analyse.simulate.trace_risks import (
+    IMPACT,
+    OCCURRENCE,
+    delay_spread,
+    exact_delays,
+    risk_uniforms,
+    simulated_with_delays,
+    traced_risks,
 )
 from converter.model import FS
 
@@ -70,11 +89,17 @@ def chunk_uniforms(
 
 @dataclass
 class Draw:
-    """One further random draw of a traced iteration (a block of rows on the Trace sheet)."""
+    """One further random draw of a traced iteration (a block of rows on the Trace sheet).
+
+    A named risk's draws: ``kind`` ``"occurrence"`` (``value`` 1 if it occurred, else 0)
+    or ``"impact"`` (``value`` the exact impact F^-1(u)); ``risk`` its register index.
+    """
 
     label: str
     uniform: float
     value: float
+    risk: int = -1
+    kind: str = ""
 
 
 @dataclass
@@ -103,6 +128,9 @@ class TracedIteration:
     #: Bound on |finish - recorded| (see the module docstring).
     allowed: float
     draws: list[Draw] = field(default_factory=list)
+    #: Each activity's delay from the named risks (exact; included in ``durations``),
+    #: None without a register.
+    delays: np.ndarray | None = None
 
     @property
     def label(self) -> str:
@@ -143,7 +171,12 @@ def exact_durations(inp: Inputs, u: np.ndarray) -> np.ndarray:
 
 
 def trace_iterations(
-    net: Network, inp: Inputs, project: np.ndarray, correlation: float, quantiles
+    net: Network,
+    inp: Inputs,
+    project: np.ndarray,
+    correlation: float,
+    quantiles,
+    risks: RiskDraws | None = None,
 ) -> list[TracedIteration]:
     """The traced iterations of a finished run (see the module docstring).
 
@@ -160,26 +193,34 @@ def trace_iterations(
         The rank correlation the run applied (0: none).
     quantiles : sequence of float
         The quantiles to trace (1: the longest iteration).
+    risks : RiskDraws, optional
+        The named risks' draws of the run (their delays are in the traced durations).
 
     Returns
     -------
     list of TracedIteration
         In the order of ``quantiles``.
     """
+    chosen = chosen_iterations(project, quantiles)
+    drawn = risk_uniforms(risks, [k for *_, k in chosen]) if risks is not None else None
     out = []
-    for q, figure, k in chosen_iterations(project, quantiles):
+    for t, (q, figure, k) in enumerate(chosen):
         j = k // inp.chunk
         a, b = inp.chunks()[j]
         u = chunk_uniforms(inp, j, b - a, correlation)[:, k - a]
         sampled = durations_from_uniforms(u[:, None], inp.o, inp.m, inp.p, inp.codes, inp.table)
         sampled = sampled[:, 0].astype(np.float32).astype(float)
         exact = exact_durations(inp, u)
-        cpm = schedule(net, exact)
         spread = ACCURACY * (inp.p - inp.o) + np.abs(exact) * 2.0**-23
-        # every path's error is at most the sum of its spreads: the longest path by
-        # spread when all links are finish-to-start, else the sum over all activities
-        plain = bool((net.kind == FS).all()) if net.link_count else True
-        allowed = float(schedule(net, spread).finish) if plain else float(spread.sum())
+        draws, delays = [], None
+        if drawn is not None:
+            hits = traced_risks(risks, drawn.occurrence[:, t], drawn.impact[:, t])
+            draws = _risk_draws(risks, hits)
+            delays = exact_delays(risks, hits, exact)
+            spread = spread + delay_spread(risks, hits, spread, sampled)
+            sampled = simulated_with_delays(risks, sampled, k)
+            exact = exact + delays
+        cpm = schedule(net, exact)
         out.append(
             TracedIteration(
                 iteration=k,
@@ -193,7 +234,29 @@ def trace_iterations(
                 early_finish=cpm.ef,
                 finish=float(cpm.finish),
                 critical=np.asarray(cpm.critical, dtype=bool),
-                allowed=allowed,
+                allowed=_allowed(net, spread),
+                draws=draws,
+                delays=delays,
             )
         )
+    return out
+
+
+def _allowed(net: Network, spread: np.ndarray) -> float:
+    """Bound on a finish's error from per-activity errors ``spread``: every path's error is
+    at most the sum of its spreads: the longest path by spread (floors left out) when all
+    links are finish-to-start, else the sum over all activities."""
+    plain = bool((net.kind == FS).all()) if net.link_count else True
+    if not plain:
+        return float(spread.sum())
+    return float(schedule(replace(net, floor=None), spread).finish)
+
+
+def _risk_draws(risks: RiskDraws, hits: list[tuple]) -> list[Draw]:
+    """Two :class:`Draw` per risk: its occurrence and its impact."""
+    out = []
+    for k, u, occurred, v, impact in hits:
+        rid = risks.ids[k]
+        out.append(Draw(f"{rid} occurrence", u, float(occurred), k, OCCURRENCE))
+        out.append(Draw(f"{rid} impact", v, impact, k, IMPACT))
     return out

@@ -21,9 +21,10 @@ from __future__ import annotations
 import numpy as np
 
 from converter.analyse.simulate.trace import FULL_TRACE_LIMIT
+from converter.analyse.status import FINISHED, IN_PROGRESS
 from converter.model import FS
 from converter.write.workbook import formulas as f
-from converter.write.workbook import pages
+from converter.write.workbook import pages, progress_cols, trace_risks
 from converter.write.workbook.activities import incoming_outgoing
 from converter.write.workbook.layout import (
     TRACE,
@@ -61,6 +62,13 @@ INTRO = (
     "used a tabulated PERT-beta inverse within 1e-6 of (P - O) of the exact one and "
     "kept durations to single precision: hence the small differences in the table below."
 )
+STATUS = (
+    " A project in flight: a finished activity's duration is its actual one (no random "
+    "number is used); one in progress takes the time worked plus its remaining work drawn "
+    "from the remaining estimates; the early start honours the same start floors as the "
+    "Activities sheet (Not before, the status date, actual starts)."
+)
+FLOORS = " The early start honours the same Not before constraints as the Activities sheet."
 LARGE = (
     " This schedule is large: only the activities on a traced iteration's critical "
     "path are shown; a link from any other activity enters as that activity's early "
@@ -77,7 +85,8 @@ def write_trace(wb, fmt, a, lay: Layout) -> None:
         0, 0, "Trace: simulated iterations recomputed from their random numbers", fmt.title
     )
     shown = _shown(a, traced)
-    intro = INTRO + (LARGE if shown.size < len(a.ids) else "")
+    intro = INTRO + trace_risks.note(a) + (LARGE if shown.size < len(a.ids) else "")
+    intro += _floors_note(a.remaining_work)
     last = max(len(SUMMARY_HEADS) - 1, FIXED - 1)
     ws.merge_range(1, 0, 2, last, intro, fmt.subtitle_wrap)
     need = row_height([(intro, merged_width(_width(c) for c in range(last + 1)))])
@@ -86,22 +95,37 @@ def write_trace(wb, fmt, a, lay: Layout) -> None:
         ws.write_string(TRACE_FIRST - 1, col, head, fmt.th_center if col else fmt.th)
     heads = [(h, _width(c), TABLE_HEAD_SIZE, True) for c, h in enumerate(SUMMARY_HEADS)]
     ws.set_row(TRACE_FIRST - 1, row_height(heads))
-    top = TRACE_FIRST + len(traced) + 2  # the activity table's head (two rows)
+    risk_top = TRACE_FIRST + len(traced) + 2  # the risk table's head, if any
+    top = risk_top + trace_risks.rows_needed(a)  # the activity table's head (two rows)
     first = top + 2
     rows = {int(i): first + k for k, i in enumerate(shown)}
     for k, t in enumerate(traced):
         _summary_line(ws, fmt, k, t, _block_col(k) + 3, first, first + shown.size - 1)
+    risk_rows = []
+    if trace_risks.has_risks(a):
+        risk_rows = trace_risks.write_risk_table(ws, fmt, a, risk_top, _block_col)
+    hits = trace_risks.hitting(a)
     _activity_heads(ws, fmt, traced, top)
     incoming, _ = incoming_outgoing(a.net)
     for i, r in rows.items():
         _activity_row(ws, fmt, a, lay, i, r)
+        base = _duration_formula(a, lay, i, r)
         for k, t in enumerate(traced):
-            _iteration_cells(ws, fmt, a, i, r, k, t, rows, incoming[i])
+            c0 = _block_col(k)
+            duration = trace_risks.with_delays(a, hits[i], base(f.ref(r, c0)), risk_rows, c0)
+            _iteration_cells(ws, fmt, a, lay, i, r, k, t, rows, incoming[i], duration)
     for col, width in enumerate(WIDTHS):
         ws.set_column(col, col, width)
     ws.set_column(FIXED, FIXED + 4 * len(traced) - 1, BLOCK_WIDTH)
     ws.freeze_panes(first, 1)
     pages.set_up(ws, header_rows=(top, top + 1), title_cols=(0, 0))
+
+
+def _floors_note(rem) -> str:
+    """The introduction's sentence on a project in flight, or on Not before alone."""
+    if rem is None:
+        return ""
+    return STATUS if rem.progress is not None else FLOORS
 
 
 def _width(col: int) -> float:
@@ -158,46 +182,75 @@ def _activity_heads(ws, fmt, traced, top: int) -> None:
     ws.set_row(top + 1, 26.0)
 
 
+def _estimate_cells(a, lay: Layout, i: int) -> tuple[str, list[str], list[float]]:
+    """Activity ``i``'s distribution label and the O, M, P the trace inverts: the
+    Activities sheet's estimates; the remaining estimates of an activity in progress; the
+    actual duration (three times) of a finished one."""
+    act = a.schedule.activities[i]
+    dist = act.distribution or a.schedule.settings.distribution
+    st = progress_cols.state(a, i)
+    if st == FINISHED:
+        actual = f.minus(lay.cell(i, "actual_finish", True), lay.cell(i, "actual_start", True))
+        return "finished", [actual] * 3, [float(a.o[i])] * 3
+    if st == IN_PROGRESS:
+        keys, values = ("rem_o", "rem_m", "rem_p"), a.remaining_work.progress.remaining[i]
+    else:
+        keys, values = ("o", "m", "p"), (act.optimistic, act.most_likely, act.pessimistic)
+    values = [float(v) for v in values]
+    label = dist if values[0] < values[2] else "fixed"
+    label += ", remaining" if st == IN_PROGRESS else ""
+    return label, ["=" + lay.cell(i, key, sheet=True) for key in keys], values
+
+
 def _activity_row(ws, fmt, a, lay: Layout, i: int, r: int) -> None:
     """ID, distribution, O/M/P (read from the Activities sheet) and the PERT shapes."""
     act = a.schedule.activities[i]
     dist = act.distribution or a.schedule.settings.distribution
+    label, cells, (o_v, m_v, p_v) = _estimate_cells(a, lay, i)
     ws.write_string(r, 0, act.id)
-    ws.write_string(r, 1, dist if act.optimistic < act.pessimistic else "fixed")
-    for col, key, value in (
-        (2, "o", act.optimistic),
-        (3, "m", act.most_likely),
-        (4, "p", act.pessimistic),
-    ):
-        ws.write_formula(r, col, "=" + lay.cell(i, key, sheet=True), fmt.num, float(value))
-    if dist == "pert" and act.optimistic < act.pessimistic:
+    ws.write_string(r, 1, label)
+    for col, formula, value in zip((2, 3, 4), cells, (o_v, m_v, p_v), strict=True):
+        ws.write_formula(r, col, formula, fmt.num, value)
+    if dist == "pert" and o_v < p_v and label != "finished":
         o, m, p = (f.ref(r, col) for col in (2, 3, 4))
-        span = act.pessimistic - act.optimistic
-        alpha = 1 + 4 * (act.most_likely - act.optimistic) / span
-        beta = 1 + 4 * (act.pessimistic - act.most_likely) / span
+        alpha = 1 + 4 * (m_v - o_v) / (p_v - o_v)
+        beta = 1 + 4 * (p_v - m_v) / (p_v - o_v)
         ws.write_formula(r, 5, f.pert_alpha(o, m, p), fmt.num4, alpha)
         ws.write_formula(r, 6, f.pert_beta(o, m, p), fmt.num4, beta)
 
 
-def _duration_formula(a, i: int, r: int, u: str) -> str:
+def _duration_formula(a, lay: Layout, i: int, r: int):
+    """Activity ``i``'s sampled duration as a formula of its uniform's cell (a function
+    of the cell): the inverse of its distribution over the O/M/P columns; plus the time
+    worked for an activity in progress; the actual duration once finished."""
     act = a.schedule.activities[i]
     o, m, p = (f.ref(r, col) for col in (2, 3, 4))
-    if act.optimistic == act.pessimistic:
-        return "=" + o
+    st = progress_cols.state(a, i)
     dist = act.distribution or a.schedule.settings.distribution
-    if dist == "pert":
-        return f.pert_inverse(u, f.ref(r, 5), f.ref(r, 6), o, p)
-    if dist == "triangular":
-        return f.triangular_inverse(u, o, m, p)
-    return f.uniform_inverse(u, o, p)
+    fixed = st == FINISHED or not a.o[i] < a.p[i]
+    worked = progress_cols.elapsed(lay, i, True) + "+" if st == IN_PROGRESS else ""
+
+    def duration(u: str) -> str:
+        if fixed:
+            inverse = "=" + o
+        elif dist == "pert":
+            inverse = f.pert_inverse(u, f.ref(r, 5), f.ref(r, 6), o, p)
+        elif dist == "triangular":
+            inverse = f.triangular_inverse(u, o, m, p)
+        else:
+            inverse = f.uniform_inverse(u, o, p)
+        return "=" + worked + inverse[1:]
+
+    return duration
 
 
-def _iteration_cells(ws, fmt, a, i: int, r: int, k: int, t, rows: dict, links) -> None:
+def _iteration_cells(
+    ws, fmt, a, lay: Layout, i: int, r: int, k: int, t, rows: dict, links, duration: str
+) -> None:
     """Traced iteration ``k``'s u, duration, early start and finish of activity ``i``."""
     c0 = _block_col(k)
-    u = f.ref(r, c0)
     ws.write_number(r, c0, float(t.uniforms[i]), fmt.num4)
-    ws.write_formula(r, c0 + 1, _duration_formula(a, i, r, u), fmt.num, float(t.durations[i]))
+    ws.write_formula(r, c0 + 1, duration, fmt.num, float(t.durations[i]))
     net = a.net
     pushes = []
     for link in links:
@@ -209,13 +262,15 @@ def _iteration_cells(ws, fmt, a, i: int, r: int, k: int, t, rows: dict, links) -
         if kind == FS and lag == 0:
             pushes.append(ef)
         else:
-            pushes.append(f.link_push(kind, es, ef, f.number(lag), f.ref(r, c0 + 1))[1:])
+            lag_cell = lay.link_cell(int(link), "lag")  # the Links sheet's (status-shifted)
+            pushes.append(f.link_push(kind, es, ef, lag_cell, f.ref(r, c0 + 1))[1:])
     while len(pushes) > MAX_ARGUMENTS:  # a function takes at most 255 arguments
         pushes = [
             "MAX(" + ",".join(pushes[g : g + MAX_ARGUMENTS]) + ")"
             for g in range(0, len(pushes), MAX_ARGUMENTS)
         ]
-    start = f.early_start(pushes)
+    # the start floors (Not before, status date, actual start) as on the Activities sheet
+    start = f.early_start([*pushes, *progress_cols.start_floor_terms(a, lay, i, True)])
     if not f.fits(start):
         start = "=" + f.number(t.early_start[i])  # too many links for one formula
     ws.write_formula(r, c0 + 2, start, fmt.num, float(t.early_start[i]))
