@@ -261,7 +261,8 @@ def write_method(wb, fmt, a, lay: Layout) -> None:
     at = next(k for k, (label, _) in enumerate(items) if label == "Calendar") + 1
     items.insert(at, ("Units", units_text(a.schedule.settings)))
     items = items[:-2] + progress_cols.method_rows(a) + items[-2:]
-    items += METHOD_RISKS if a.risk_view is not None else []
+    if a.risk_view is not None:  # before the assumptions and the caution, which close it
+        items = items[:-2] + METHOD_RISKS + items[-2:]
     for r, (label, text) in enumerate(items):
         if text is None:
             ws.write_string(r, 0, label, fmt.title)

@@ -126,11 +126,13 @@ def write_summary(wb, fmt, a, lay: Layout) -> None:
     ws.merge_range(1, 0, 1, NOTE, intro, fmt.subtitle_wrap)
     out.fit(1, [(intro, merged_width(out.widths))])
     out.r = 2
+    sections = [out.r]  # each section's first row: a section that must move moves whole
     if a.remaining_work is not None and a.remaining_work.progress is not None:
         write_status(out, lay, (SIM, SIM_DATE, CP, CP_DATE))
-    _when(out, lay)
-    _how_sure(out)
-    _what_drives(out)
+        sections.append(out.r)
+    for section in (lambda: _when(out, lay), lambda: _how_sure(out), lambda: _what_drives(out)):
+        section()
+        sections.append(out.r)
     out.r += 1
     ws.merge_range(out.r, 0, out.r, NOTE, CAUTION, fmt.caution)
     out.fit(out.r, [(CAUTION, merged_width(out.widths))])
@@ -139,7 +141,8 @@ def write_summary(wb, fmt, a, lay: Layout) -> None:
     _critical_path_view(out, lay)
     _simulated_view(out)
     _about(out, lay)
-    pages.set_up(ws, keep=[(0, details - 1)], starts=[details])
+    blocks = [(top, bottom - 1) for top, bottom in zip(sections, sections[1:], strict=False)]
+    pages.set_up(ws, keep=[(0, details - 1), *blocks], starts=[details])
 
 
 def _when(out: _Rows, lay: Layout) -> None:
