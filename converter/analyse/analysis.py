@@ -7,6 +7,7 @@ Monte Carlo simulation (simulate), calendar dates (calendar), health checks (che
 
 from __future__ import annotations
 
+import dataclasses
 import datetime as dt
 import math
 from dataclasses import dataclass, field
@@ -229,12 +230,26 @@ def _path_results(found: list, due: float | None) -> list[PathResult]:
     ]
 
 
-def _with_risks(schedule: Schedule, index, te: np.ndarray) -> tuple[RiskView | None, np.ndarray]:
+def _with_risks(
+    schedule: Schedule, index, te: np.ndarray, rem: Remaining
+) -> tuple[RiskView | None, np.ndarray]:
     """The register's analytic view and the expected durations including the expected delay
-    of the risks that hit each activity (``te`` itself without a register)."""
+    of the risks that hit each activity (``te`` itself without a register).
+
+    In a project in flight a finished activity is past its risks: it is taken out of every
+    risk's list of activities (its duration is the actual one)."""
     if not schedule.risks:
         return None, te
-    view = risk_view(schedule.risks, index, te, schedule.settings.distribution)
+    risks = schedule.risks
+    if rem.progress is not None:
+        done = {
+            schedule.activities[i].id for i, st in enumerate(rem.progress.state) if st == "finished"
+        }
+        risks = [
+            dataclasses.replace(r, activities=tuple(x for x in r.activities if x not in done))
+            for r in risks
+        ]
+    view = risk_view(risks, index, te, schedule.settings.distribution)
     return view, te + view.activity_delay
 
 
@@ -250,7 +265,7 @@ def analyse(schedule: Schedule, options=None, baseline: Baseline | None = None) 
     rem = remaining_network(schedule, calendar, *given)
     o, m, p = rem.o, rem.m, rem.p
     te_base, var = pert.expected_time(o, m, p), pert.variance(o, p)
-    view, te = _with_risks(schedule, index, te_base)
+    view, te = _with_risks(schedule, index, te_base, rem)
     net = _network(schedule, index, rem)
     cpm = run_cpm(net, te)
     due, due_date = _due_offset(s.due, calendar)

@@ -298,3 +298,45 @@ def test_simulation_honours_the_start_floor():
     assert a.project_mean == 22.0
     assert a.simulation.mean == pytest.approx(22.0) and a.simulation.sd == pytest.approx(0.0)
     assert a.simulation.criticality[2] == 1.0 and a.simulation.criticality[0] == 0.0
+
+
+def test_a_finished_activity_is_past_its_risks(tmp_path):
+    """A risk that hits only finished work adds nothing; on work still to do it adds p x impact.
+
+    Hand-worked: A (3 days, finished on days 0-3) -> B (O = M = P = 4, not started).
+    Risk R1 hits A only, R2 hits B with probability 0.5 and a fixed impact of 2: the expected
+    finish is the status offset 3 + B's 4 + 0.5 x 2 = 8, and every iteration ends at 7 or
+    at 9 (R2 occurring or not; common practice: a finished activity carries no more risk).
+    """
+    from helpers import write_xlsx
+
+    from converter.analyse.analysis import analyse
+    from converter.api import ConvertOptions, load
+
+    sheets = {
+        "Activities": [
+            [
+                "ID",
+                "Predecessors",
+                "Optimistic",
+                "Most likely",
+                "Pessimistic",
+                "Actual start",
+                "Actual finish",
+            ],
+            ["A", None, 3, 3, 3, 0, 3],
+            ["B", "A", 4, 4, 4, None, None],
+        ],
+        "Settings": [["Status date", 3], ["Iterations", 2000]],
+        "Risks": [
+            ["Risk", "Probability", "Impact", "Activities"],
+            ["R1", 0.9, 5, "A"],
+            ["R2", 0.5, 2, "B"],
+        ],
+    }
+    schedule, problems = load(write_xlsx(tmp_path / "p.xlsx", sheets), ConvertOptions())
+    assert schedule is not None, [str(p) for p in problems]
+    a = analyse(schedule)
+    assert a.risk_view.activity_delay.tolist() == [0.0, 1.0]
+    assert a.cpm.finish == pytest.approx(8.0)
+    assert set(np.round(a.simulation.durations, 6)) <= {7.0, 9.0}
