@@ -406,10 +406,10 @@ def read_estimates(row, cols, r, sheet, ident, out: Collector, settings: Setting
     if o is None and p is None:
         if m == 0 or "optimistic" not in cols:  # a milestone / a sheet of fixed durations
             return m, m, m, True
+        typed = as_converted(_cell(row, cols, "most_likely"), m, settings)
         out.warn(
             "deterministic",
-            f"only a most likely value ({shown(m)}) is given: treated as a fixed duration "
-            "(O = M = P)",
+            f"only a most likely value ({typed}) is given: treated as a fixed duration (O = M = P)",
             sheet,
             m_cell,
             ident,

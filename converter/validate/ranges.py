@@ -389,7 +389,8 @@ def range_estimates(duration: float, row, cols, r, sheet, ident, book: RangeBook
         if duration > 0 and not book.default_bad:
             out.warn(
                 "deterministic",
-                f"only a duration ({shown(duration)}) and no range: treated as a fixed "
+                f"only a duration ({_as_typed(row, cols['duration'], duration)}) "
+                "and no range: treated as a fixed "
                 "duration (O = M = P)",
                 sheet,
                 d_cell,
@@ -410,6 +411,12 @@ def range_estimates(duration: float, row, cols, r, sheet, ident, book: RangeBook
         )
         return None, None
     return (o, m, p, o == m == p), book.use(rc)
+
+
+def _as_typed(row, col: int, duration: float) -> str:
+    """The Duration cell as typed where it was text (``"2h"``), else the number."""
+    raw = row[col] if col < len(row) else None
+    return shown(raw) if isinstance(raw, str) else shown(duration)
 
 
 def _row_range(row, cols, r, sheet, ident, book: RangeBook, out: Collector):
