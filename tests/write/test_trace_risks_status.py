@@ -166,7 +166,7 @@ def test_traced_delays_equal_scipy_recomputation(traced):
 def test_trace_formulas_carry_risks_and_start_floors(traced):
     ws = openpyxl.load_workbook(traced)["Trace"]
     blocks, risks, acts = _places(ws)
-    assert "without the responses" in ws["A2"].value and "in flight" in ws["A2"].value
+    assert "without the responses" in ws["B2"].value and "in flight" in ws["B2"].value
     for _, c in blocks:
         r1 = risks["R1"]
         col = openpyxl.utils.get_column_letter
@@ -232,7 +232,7 @@ def test_not_before_alone_enters_the_traced_early_start(tmp_path):
     formulas = openpyxl.load_workbook(result.workbook)["Trace"]
     values = openpyxl.load_workbook(result.workbook, data_only=True)["Trace"]
     blocks, _, acts = _places_of(values, [r[0] for r in rows[1:]])
-    assert "same Not before constraints" in formulas["A2"].value
+    assert "same Not before constraints" in formulas["B2"].value
     (r_sum, c) = blocks[0]
     es = formulas.cell(acts["C"], c + 2).value
     assert es.startswith("=MAX(0,") and "Activities!" in es and "StatusOffset" not in es

@@ -88,7 +88,7 @@ def test_large_schedule_shows_the_critical_activities_only(tmp_path, monkeypatch
     monkeypatch.setattr(trace_sheet, "FULL_TRACE_LIMIT", 3)
     wb = openpyxl.load_workbook(_convert(tmp_path, trace="80"))
     ws = wb["Trace"]
-    assert "only the activities on a traced" in ws["A2"].value
+    assert "only the activities on a traced" in ws["B2"].value
     blocks, rows = _blocks(ws)
     shown = [ws.cell(r, 1).value for r in rows if ws.cell(r, 1).value]
     assert 0 < len(shown) < len(ROWS) - 1

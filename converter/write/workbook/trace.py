@@ -49,7 +49,7 @@ SUMMARY_HEADS = [
 ]
 ACTIVITY_HEADS = ["ID", "Distribution", "Optimistic", "Most likely", "Pessimistic", "Alpha", "Beta"]
 BLOCK_HEADS = ["Random number u", "Duration", "Early start", "Early finish"]
-WIDTHS = [10.0, 11.0, 10.0, 11.0, 12.0, 10.0, 11.0]
+WIDTHS = [10.0, 14.0, 10.0, 11.0, 12.0, 10.0, 11.0]  # B: "pert, remaining"
 BLOCK_WIDTH = 10.0
 #: Arguments of one MAX at most (spreadsheets take 255; one is the leading 0).
 MAX_ARGUMENTS = 200
@@ -81,15 +81,17 @@ def write_trace(wb, fmt, a, lay: Layout) -> None:
     traced = a.simulation.trace
     ws = wb.add_worksheet(TRACE)
     ws.set_row(0, TITLE_ROW)
+    # title and introduction from column B: column A repeats on every band of columns
+    # printed, so text that starts there would print cut off on the later bands
     ws.write_string(
-        0, 0, "Trace: simulated iterations recomputed from their random numbers", fmt.title
+        0, 1, "Trace: simulated iterations recomputed from their random numbers", fmt.title
     )
     shown = _shown(a, traced)
     intro = INTRO + trace_risks.note(a) + (LARGE if shown.size < len(a.ids) else "")
     intro += _floors_note(a.remaining_work)
     last = max(len(SUMMARY_HEADS) - 1, FIXED - 1)
-    ws.merge_range(1, 0, 2, last, intro, fmt.subtitle_wrap)
-    need = row_height([(intro, merged_width(_width(c) for c in range(last + 1)))])
+    ws.merge_range(1, 1, 2, last, intro, fmt.subtitle_wrap)
+    need = row_height([(intro, merged_width(_width(c) for c in range(1, last + 1)))])
     ws.set_row(2, max(DEFAULT_ROW_HEIGHT, need - DEFAULT_ROW_HEIGHT))
     for col, head in enumerate(SUMMARY_HEADS):
         ws.write_string(TRACE_FIRST - 1, col, head, fmt.th_center if col else fmt.th)
@@ -118,7 +120,11 @@ def write_trace(wb, fmt, a, lay: Layout) -> None:
         ws.set_column(col, col, width)
     ws.set_column(FIXED, FIXED + 4 * len(traced) - 1, BLOCK_WIDTH)
     ws.freeze_panes(first, 1)
-    pages.set_up(ws, header_rows=(top, top + 1), title_cols=(0, 0))
+    head_and_first = (top, min(top + 5, first + shown.size - 1))  # no head alone at a foot
+    blocks = [_block_col(k) for k in range(len(traced))]  # a band of columns per iteration
+    pages.set_up(
+        ws, header_rows=(top, top + 1), title_cols=(0, 0), keep=[head_and_first], bands=blocks
+    )
 
 
 def _floors_note(rem) -> str:
