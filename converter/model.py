@@ -33,7 +33,8 @@ class Problem:
 
     ``severity`` is ``"error"`` (blocks the analysis) or ``"warning"`` (reported,
     analysis goes on). ``fix`` is a plain-words remedy for the person who owns
-    the sheet.
+    the sheet. ``activity`` is the ID the problem concerns: an activity's, or a risk's
+    on the risk register (``subject`` then says ``"risk"``).
     """
 
     severity: str
@@ -43,6 +44,7 @@ class Problem:
     cell: str | None = None
     activity: str | None = None
     fix: str | None = None
+    subject: str = "activity"  # what ``activity`` names: "activity" or "risk"
 
     @property
     def where(self) -> str:
@@ -52,7 +54,7 @@ class Problem:
 
     def __str__(self) -> str:
         head = f"{self.where}: " if self.where else ""
-        act = f" [activity {self.activity}]" if self.activity else ""
+        act = f" [{self.subject} {self.activity}]" if self.activity else ""
         return f"{self.severity}: {head}{self.message}{act}"
 
     def as_dict(self) -> dict:

@@ -11,11 +11,15 @@ class Collector:
     def __init__(self) -> None:
         self.problems: list[Problem] = []
 
-    def error(self, code, message, sheet=None, cell=None, activity=None, fix=None) -> None:
-        self.problems.append(Problem(ERROR, code, message, sheet, cell, activity, fix))
+    def error(
+        self, code, message, sheet=None, cell=None, activity=None, fix=None, subject="activity"
+    ) -> None:
+        self.problems.append(Problem(ERROR, code, message, sheet, cell, activity, fix, subject))
 
-    def warn(self, code, message, sheet=None, cell=None, activity=None, fix=None) -> None:
-        self.problems.append(Problem(WARNING, code, message, sheet, cell, activity, fix))
+    def warn(
+        self, code, message, sheet=None, cell=None, activity=None, fix=None, subject="activity"
+    ) -> None:
+        self.problems.append(Problem(WARNING, code, message, sheet, cell, activity, fix, subject))
 
     def has(self, *codes: str) -> bool:
         """Whether a problem with one of these codes was found."""

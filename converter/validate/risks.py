@@ -70,7 +70,7 @@ class _Row:
 
     def error(self, code: str, key: str, message: str, fix: str) -> None:
         self.ok = False
-        self.out.error(code, message, self.sheet, self.cell(key), self.ident, fix)
+        self.out.error(code, message, self.sheet, self.cell(key), self.ident, fix, "risk")
 
     def blank(self) -> bool:
         return all(is_blank(self.value(k)) for k in self.cols)
@@ -287,4 +287,5 @@ def _check_groups(risks: list[Risk], match: TableMatch, out: Collector) -> None:
                 cell_name(risk.row - 1, col),
                 risk.id,
                 "Give the risks of one group the same probability (and mitigated probability).",
+                "risk",
             )

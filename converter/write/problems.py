@@ -33,7 +33,7 @@ def place(problem: Problem) -> str:
     """``Activities!C4`` or ``Activities`` or ``""``, plus the activity if known."""
     where = problem.where
     if problem.activity:
-        act = f"activity {problem.activity}"
+        act = f"{problem.subject} {problem.activity}"
         where = f"{where} ({act})" if where else act
     return where
 
