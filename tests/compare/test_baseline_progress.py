@@ -110,6 +110,9 @@ def test_the_workbook_baseline_gives_the_same_checks(runs):
     )
 
 
+SUMMARY_BEI = "Baseline execution index"
+
+
 def _row(ws, name: str):
     return next(row for row in ws.iter_rows() if row[0].value == name)
 
@@ -135,3 +138,6 @@ def test_libreoffice_recalculates_the_bei(runs, tmp_path, libreoffice):
     row = _row(openpyxl.load_workbook(copy, data_only=True)["Health check"], BEI)
     # recalculated by LibreOffice: 2 finished on the State column, 2 / 3, FAIL
     assert [c.value for c in row[2:6]] == [2, 3, pytest.approx(2 / 3), "FAIL"]
+    # the Summary's status block shows the same index, recounted from the State column
+    summary = _row(openpyxl.load_workbook(copy, data_only=True)["Summary"], SUMMARY_BEI)
+    assert summary[1].value == pytest.approx(2 / 3)

@@ -61,7 +61,24 @@ def write_status(out, lay: Layout, cols: tuple[int, int, int, int]) -> None:
         row = out.line(f"Activities {words}")
         count = f'=COUNTIF({state},"{words}")'
         ws.write_formula(row, val, count, fmt.int, prog.counts[words])
+    _execution_index(out, state, val, cp)
     _forecast(out, cols)
+
+
+def _execution_index(out, state: str, val: int, note: int) -> None:
+    """With a baseline, its execution index: finished / due by the baseline (the Health
+    check's figure, recounted here from the State column)."""
+    check = next((c for c in out.a.checks if c.key == "baseline_execution_index"), None)
+    if check is None or not check.out_of:
+        return
+    row = out.line(
+        "Baseline execution index",
+        f"Activities finished / {check.out_of} due by the status date by the baseline "
+        "(Health check); below 0.95 the team is behind the plan it committed to.",
+        start=note,
+    )
+    index = f'=COUNTIF({state},"finished")/{check.out_of}'
+    out.ws.write_formula(row, val, index, out.fmt.num, check.percent / 100.0)
 
 
 def _forecast(out, cols) -> None:
