@@ -23,7 +23,15 @@ from converter.read.kind import WORDS, sniff, zip_kind
 from converter.read.limits import Damaged, LimitExceeded, ReadLimits
 from converter.write.json_summary import FORMAT_VERSION
 from converter.write.workbook.activities import HEADERS
-from converter.write.workbook.layout import ACTIVITIES, FIRST, SETTINGS, SIMULATION, SUMMARY
+from converter.write.workbook.layout import (
+    ACTIVITIES,
+    FIRST,
+    RISKS,
+    SETTINGS,
+    SIMULATION,
+    SUMMARY,
+)
+from converter.write.workbook.risks_sheet import BASE as RISK_COLUMNS
 
 #: The custom document property that marks an analysis workbook and its format version.
 FORMAT_PROPERTY = "pertbook format"
@@ -68,6 +76,19 @@ ACTIVITY_KEYS = {
     "crit": "critical",
     "criticality": "criticality",
     "sensitivity": "sensitivity",
+}
+#: The Risks sheet's register headers (risks_sheet.BASE keys) -> the JSON's risk keys.
+RISK_KEYS = {
+    "id": "id",
+    "description": "description",
+    "p": "probability",
+    "activities": "activities",
+    "occurred": "occurred",
+    "delay": "mean_delay_when_occurred",
+    "sens": "sensitivity",
+    "dmean_sim": "delta_mean",
+    "d50": "delta_p50",
+    "d80": "delta_p80",
 }
 
 
@@ -202,6 +223,7 @@ def _document(wb, version: int) -> dict:
         "activities": _activities(wb[ACTIVITIES]),
         "simulation": _simulation(wb[SIMULATION]) if SIMULATION in wb.sheetnames else None,
         "settings": settings,
+        "risks": _risks(wb[RISKS]) if RISKS in wb.sheetnames else [],
     }
     if settings.get("start_date"):
         doc["calendar"] = {
@@ -280,3 +302,37 @@ def _activities(ws) -> list[dict]:
                 item[key] = None
         rows.append(item)
     return rows
+
+
+def _risks(ws) -> list[dict]:
+    """One dict per risk of the Risks sheet's register, in the JSON's keys and order.
+
+    The register's head is the row that carries all of its headers (found by their texts,
+    not by a fixed address); the register ends at the first row with no probability (the
+    ranking's title stands right below it). "n/a" (no simulation, no delta) reads as None,
+    the hit activities (written joined by ", ") as a list.
+    """
+    texts = {key: head for key, head, _ in RISK_COLUMNS}
+    wanted = [texts[k] for k in RISK_KEYS]
+    rows = ws.iter_rows(values_only=True)
+    for row in rows:
+        where = {text: col for col, text in enumerate(row) if isinstance(text, str)}
+        if all(text in where for text in wanted):
+            break
+    else:
+        raise KeyError(f"the {RISKS} sheet's register headers")
+    cols = {key: where[texts[k]] for k, key in RISK_KEYS.items()}
+    out = []
+    for row in rows:
+        cells = {key: row[col] if col < len(row) else None for key, col in cols.items()}
+        if not isinstance(cells["probability"], (int, float)) or cells["id"] in (None, ""):
+            break
+        for key, value in cells.items():
+            if value == "n/a" or isinstance(value, bool):
+                cells[key] = None
+        cells["id"] = str(cells["id"])
+        cells["description"] = str(cells["description"] or "")
+        acts = cells["activities"]
+        cells["activities"] = [a.strip() for a in str(acts).split(",") if a.strip()] if acts else []
+        out.append(cells)
+    return out
