@@ -429,6 +429,7 @@ def _add_figures(a: Analysis) -> None:
         a.finish_date = cal.finish_date(a.project_mean)
         a.confidence_dates = {c: cal.finish_date(v) for c, v in a.confidence.items()}
         a.activity_dates = figures.activity_dates(cal, a.cpm)
+        figures.progress_dates(a.activity_dates, cal, a.remaining_work)
     a.timeline, a.timeline_cut = figures.timeline_rows(
         len(a.ids), [pr.path.activities for pr in a.paths], a.cpm.total_float
     )

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import datetime as dt
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, NamedTuple
 
 import numpy as np
@@ -200,6 +200,11 @@ class ActivityDates:
     early_finish: list[dt.date]
     late_start: list[dt.date]
     late_finish: list[dt.date]
+    #: The Not before, actual start and actual finish offsets as dates (None where blank;
+    #: empty lists when the schedule has no such column): see :func:`progress_dates`.
+    not_before: list[dt.date | None] = field(default_factory=list)
+    actual_start: list[dt.date | None] = field(default_factory=list)
+    actual_finish: list[dt.date | None] = field(default_factory=list)
 
 
 def activity_dates(calendar: Calendar, cpm: CpmResult) -> ActivityDates:
@@ -210,6 +215,52 @@ def activity_dates(calendar: Calendar, cpm: CpmResult) -> ActivityDates:
         late_start=calendar.start_dates(cpm.ls, finishes=cpm.lf),
         late_finish=calendar.finish_dates(cpm.lf),
     )
+
+
+def progress_dates(dates: ActivityDates, calendar: Calendar, remaining) -> None:
+    """Fill ``dates``' Not before, actual start and actual finish dates.
+
+    A Not before or actual start offset is a start (the working day the work at it is
+    done, :meth:`Calendar.start_date`; a finished activity's start never after its
+    finish); an actual finish the end of the day reached (:meth:`Calendar.finish_date`).
+    Blank offsets (``nan``) stay None. ``remaining`` is the analysis'
+    :class:`~converter.analyse.status.Remaining`, or None when neither is given.
+
+    Examples
+    --------
+    Start Monday 3 March 2025, Not before 2 working days (Wednesday), an activity started
+    at 1 (Tuesday) and finished at 3 (end of Wednesday), another not started:
+
+    >>> from types import SimpleNamespace as NS
+    >>> cal = Calendar(dt.date(2025, 3, 3))
+    >>> prog = NS(actual_start=np.array([1.0, np.nan]), actual_finish=np.array([3.0, np.nan]))
+    >>> rem = NS(not_before=np.array([np.nan, 2.0]), progress=prog)
+    >>> d = ActivityDates([], [], [], [])
+    >>> progress_dates(d, cal, rem)
+    >>> d.not_before, d.actual_start, d.actual_finish
+    ([None, datetime.date(2025, 3, 5)], [datetime.date(2025, 3, 4), None], \
+[datetime.date(2025, 3, 5), None])
+    """
+    if remaining is None:
+        return
+    nb = np.asarray(remaining.not_before, dtype=float)
+    if not np.isnan(nb).all():
+        dates.not_before = _or_none(calendar.start_dates(np.nan_to_num(nb)), nb)
+    prog = remaining.progress
+    if prog is None:
+        return
+    start = np.asarray(prog.actual_start, dtype=float)
+    finish = np.asarray(prog.actual_finish, dtype=float)
+    free = calendar.start_dates(np.nan_to_num(start))
+    # a finished activity's start is never after its finish (a milestone)
+    held = calendar.start_dates(np.nan_to_num(start), finishes=np.nan_to_num(finish))
+    chosen = [h if not math.isnan(x) else d for d, h, x in zip(free, held, finish.tolist())]
+    dates.actual_start = _or_none(chosen, start)
+    dates.actual_finish = _or_none(calendar.finish_dates(np.nan_to_num(finish)), finish)
+
+
+def _or_none(values: list[dt.date], offsets: np.ndarray) -> list[dt.date | None]:
+    return [None if math.isnan(x) else d for d, x in zip(values, offsets.tolist(), strict=True)]
 
 
 def risk_drivers(simulation: SimulationResult) -> list[int]:

@@ -91,6 +91,41 @@ def test_status_formulas_recalculate_in_libreoffice(converted, tmp_path, libreof
 
 
 @pytest.mark.libreoffice
+def test_constraint_and_actual_dates_by_hand_and_in_libreoffice(converted, tmp_path, libreoffice):
+    # With a start date each Not before / actual offset has a date column beside it. By
+    # hand, working days Mon-Fri from Monday 2 March 2026 (a printed calendar): A's actual
+    # finish 4 March is offset 3 (2, 3, 4 March), the end of working day ceil(3) = 3 =
+    # Wednesday 4 March; B's actual start 5 March is offset 3 (the end of 4 March), work at
+    # 3 is on working day floor(3) + 1 = 4 = Thursday 5 March; C's Not before 16 March is
+    # offset 10 (2-6 and 9-13 March), working day 11 = Monday 16 March.
+    xlsx = converted[0]
+    ws = openpyxl.load_workbook(xlsx)["Activities"]
+    heads = {c.value: c.column_letter for c in ws[4] if c.value}
+    nb, start, finish = (
+        heads[k + " date"] for k in ("Not before", "Actual start", "Actual finish")
+    )
+    assert ws[f"{finish}5"].value.startswith("=WORKDAY.INTL(") and heads["Actual finish"] in (
+        ws[f"{finish}5"].value
+    )
+    copy = libreoffice.recalculate(xlsx, tmp_path / "re")
+    cached = openpyxl.load_workbook(xlsx, data_only=True)["Activities"]
+    again = openpyxl.load_workbook(copy, data_only=True)["Activities"]
+    expected = {
+        f"{finish}5": dt.date(2026, 3, 4),  # A's actual finish
+        f"{start}5": dt.date(2026, 3, 2),  # A's actual start: offset 0, working day 1
+        f"{start}6": dt.date(2026, 3, 5),  # B's actual start
+        f"{nb}7": dt.date(2026, 3, 16),  # C's Not before
+    }
+    for cell, when in expected.items():
+        assert cached[cell].value.date() == when, cell
+        assert again[cell].value.date() == when, cell
+    # blank offsets, blank dates: B not finished, D neither constrained nor started
+    for cell in (f"{finish}6", f"{nb}8", f"{start}8", f"{finish}8"):
+        assert ws[cell].value is None and again[cell].value is None, cell
+    assert not compare_recalculated(xlsx, copy)
+
+
+@pytest.mark.libreoffice
 def test_not_before_alone_recalculates_in_libreoffice(tmp_path, libreoffice):
     # No status date: the Not before column stands alone inside the early-start MAX.
     rows = [r[:7] for r in ROWS]
@@ -104,6 +139,8 @@ def test_not_before_alone_recalculates_in_libreoffice(tmp_path, libreoffice):
     assert data["activities"][2]["es"] == 12.0
     assert data["activities"][3]["ef"] == pytest.approx(12 + 62 / 6)
     xlsx = tmp_path / "nb.analysis.xlsx"
+    heads = [c.value for c in openpyxl.load_workbook(xlsx)["Activities"][4]]
+    assert "Not before" in heads and "Not before date" not in heads  # no start date
     copy = libreoffice.recalculate(xlsx, tmp_path / "re")
     assert not compare_recalculated(xlsx, copy)
 

@@ -87,10 +87,13 @@ class Layout:
             names += ["wbs", "span"]
         if self.ranged:
             names += ["duration", "range"]
+        on_dates = self.dates  # each constraint or actual offset beside it as a date
         if self.not_before:
-            names += ["not_before"]
+            names += ["not_before"] + (["not_before_date"] if on_dates else [])
         if self.status:
-            names += ["actual_start", "actual_finish", "rem_o", "rem_m", "rem_p", "state"]
+            for key in ("actual_start", "actual_finish"):
+                names += [key] + ([f"{key}_date"] if on_dates else [])
+            names += ["rem_o", "rem_m", "rem_p", "state"]
         if self.risks:
             names += ["risk_delay"]
         self.cols = {k: i for i, k in enumerate(names)}

@@ -19,8 +19,11 @@ from converter.write.workbook.layout import Layout
 
 HEADERS = {
     "not_before": "Not before",
+    "not_before_date": "Not before date",
     "actual_start": "Actual start",
+    "actual_start_date": "Actual start date",
     "actual_finish": "Actual finish",
+    "actual_finish_date": "Actual finish date",
     "rem_o": "Remaining optimistic",
     "rem_m": "Remaining most likely",
     "rem_p": "Remaining pessimistic",
@@ -48,6 +51,25 @@ def _moment(ws, fmt, a, r: int, col: int, value, cached: float, start: bool) -> 
         ws.write_formula(r, col, "=" + formula, fmt.num, cached)
     else:
         ws.write_number(r, col, float(value), fmt.input_num)
+
+
+def _moment_date(ws, fmt, a, lay: Layout, i: int, key: str, finish_key: str | None) -> None:
+    """The date of activity ``i``'s ``key`` offset, from the analysis' dates (blank where
+    the offset is): a start by the start-date builder (never after the actual finish in
+    ``finish_key``, if given), a finish by the finish-date builder."""
+    from converter.write.workbook.activities import serial  # (activities imports this)
+
+    date_key = f"{key}_date"
+    when = getattr(a.activity_dates, key)[i] if date_key in lay.cols else None
+    if when is None:
+        return
+    offset, hol = lay.cell(i, key), _holidays(a)
+    if key == "actual_finish":
+        text = a.calendar.finish_date_formula(offset, "ProjectStart", hol)
+    else:
+        finish = lay.cell(i, finish_key) if finish_key else None
+        text = a.calendar.start_date_formula(offset, "ProjectStart", hol, finish_ref=finish)
+    ws.write_formula(lay.row(i), lay.cols[date_key], "=" + text, fmt.date, serial(when))
 
 
 def state(a, i: int) -> str:
@@ -101,11 +123,15 @@ def write_progress_cells(ws, fmt, a, lay: Layout, r: int, i: int) -> None:
     rem = a.remaining_work
     if lay.not_before:
         _moment(ws, fmt, a, r, c["not_before"], act.not_before, float(rem.not_before[i]), True)
+        _moment_date(ws, fmt, a, lay, i, "not_before", None)
     if not lay.status:
         return
     prog = rem.progress
     _moment(ws, fmt, a, r, c["actual_start"], act.actual_start, prog.actual_start[i], True)
     _moment(ws, fmt, a, r, c["actual_finish"], act.actual_finish, prog.actual_finish[i], False)
+    done = prog.state[i] == FINISHED
+    _moment_date(ws, fmt, a, lay, i, "actual_start", "actual_finish" if done else None)
+    _moment_date(ws, fmt, a, lay, i, "actual_finish", None)
     if prog.state[i] == IN_PROGRESS:
         _remaining_cells(ws, fmt, a, lay, r, i)
     af, as_ = lay.cell(i, "actual_finish"), lay.cell(i, "actual_start")
