@@ -7,7 +7,13 @@ What grows with the iteration count ``N`` for ``n`` activities:
   probabilities and histogram are exact;
 * the sampled durations kept for the sensitivity (Spearman's rho of each activity with
   the project duration): ``4 n`` bytes per kept iteration, plus the rank work of
-  :mod:`.ranks` (about ``20 x 16 + 168`` bytes per kept iteration per process).
+  :mod:`.ranks` (about ``20 x 16 + 168`` bytes per kept iteration per process);
+* with ``r`` named risks, their draws (:class:`.risks.RiskDraws`): occurrence flags
+  (bool), impacts (float32) and critical-hit flags (bool), :data:`RISK_BYTES` = 6 bytes
+  per risk per iteration; and for the ``t = min(r, 20)`` risks ranked
+  (:func:`.risk_runs.rank_risks`) the finishes without each (float64) and its
+  critical-hit flags (bool), :data:`RANKED_BYTES` = 9 bytes per ranked risk per
+  iteration. These are kept whole (part of the fixed need, whatever is sampled).
 
 The work of one chunk of iterations (samples, both passes, correlation) does not grow
 with ``N``; each worker process has its own, and its own heap and copies of the parent's
@@ -60,6 +66,14 @@ _TRANSIENT = 16  # summary and percentile copies of the project durations
 _RANK_TEMPS = 20  # per ranked row and kept iteration: sort keys, ranks (measured 14)
 _RANK_FIXED = 8 + 144 + 16  # centred ranks; rankdata (measured 120) or one row's tie runs;
 # the ramp of ranks
+
+#: Bytes per named risk per iteration: ``RiskDraws.occurred`` (bool), ``.impact``
+#: (float32) and ``.critical`` (bool), each ``(r, N)``.
+RISK_BYTES = 1 + 4 + 1
+
+#: Bytes per ranked risk per iteration in :func:`.risk_runs.rank_risks`: the finishes
+#: without the risk (float64) and its critical-hit flags (bool), each ``(t, N)``.
+RANKED_BYTES = 8 + 1
 
 
 class SimulationMemoryError(ValueError):
@@ -114,8 +128,29 @@ def chunk_bytes(n: int, cols: int, group: int = 0) -> int:
     return 12 * n * cols + 56 * n * cols_pass + 64 * group * cols
 
 
+def risk_bytes(risks: int, ranked: int, iterations: int) -> int:
+    """Bytes of the named risks' per-iteration arrays (see the module docstring).
+
+    Examples
+    --------
+    30 risks, 20 of them ranked, 1 million iterations, in MB:
+
+    >>> round(risk_bytes(30, 20, 1_000_000) / 2**20, 1)
+    343.3
+    """
+    return (RISK_BYTES * risks + RANKED_BYTES * ranked) * iterations
+
+
 def run_bytes(
-    n: int, iterations: int, sample: int, workers: int, cols: int, group: int = 0, runs: int = 1
+    n: int,
+    iterations: int,
+    sample: int,
+    workers: int,
+    cols: int,
+    group: int = 0,
+    runs: int = 1,
+    risks: int = 0,
+    ranked: int = 0,
 ) -> int:
     """Estimated peak memory of a run (bytes), see the module docstring.
 
@@ -133,6 +168,8 @@ def run_bytes(
         Members of the largest correlation group (0: no correlation).
     runs : int
         2 for a correlated run (with its independent comparison), else 1.
+    risks, ranked : int
+        Named risks, and those of them ranked (:func:`risk_bytes`).
 
     Examples
     --------
@@ -146,32 +183,47 @@ def run_bytes(
     kept = 4 * n * sample + _RANK_FIXED * sample + workers * _RANK_TEMPS * rows * sample
     processes = workers * _WORKER if workers > 1 else 0
     table = TABLE_BYTES * n  # the PERT-beta quantile table, shared by the workers
-    return _FIXED + table + processes + workers * chunk_bytes(n, cols, group) + streamed + kept
+    fixed = _FIXED + table + processes + risk_bytes(risks, ranked, iterations)
+    return fixed + workers * chunk_bytes(n, cols, group) + streamed + kept
 
 
-def _largest_sample(n, iterations, workers, cols, group, runs, budget) -> int:
-    """The most iterations whose samples fit ``budget`` with all others (0: none)."""
-    base = run_bytes(n, iterations, 0, workers, cols, group, runs)
-    per = run_bytes(n, iterations, 1, workers, cols, group, runs) - base
+def _largest_sample(n, iterations, workers, cols, extra, budget) -> int:
+    """The most iterations whose samples fit ``budget`` with all others (0: none).
+
+    ``extra`` is ``(group, runs, risks, ranked)`` as :func:`run_bytes` takes them.
+    """
+    base = run_bytes(n, iterations, 0, workers, cols, *extra)
+    per = run_bytes(n, iterations, 1, workers, cols, *extra) - base
     return max(0, min(iterations, (budget - base) // per))
 
 
-def largest_iterations(n: int, group: int = 0, runs: int = 1, memory_mb: int | None = None) -> int:
+def largest_iterations(
+    n: int,
+    group: int = 0,
+    runs: int = 1,
+    memory_mb: int | None = None,
+    risks: int = 0,
+    ranked: int = 0,
+) -> int:
     """The largest iteration count a run of ``n`` activities can have within the budget.
 
     In one process, the sensitivities from :data:`MIN_SENSITIVITY_ITERATIONS` iterations
-    (or all, if fewer). 0 when not even 2 iterations fit.
+    (or all, if fewer); ``risks`` named risks, ``ranked`` of them ranked
+    (:func:`risk_bytes`). 0 when not even 2 iterations fit.
 
     Examples
     --------
     >>> largest_iterations(120, memory_mb=200)
     4920524
+    >>> largest_iterations(120, memory_mb=200, risks=30, ranked=20)
+    307532
     """
     budget = budget_bytes(memory_mb)
 
     def fits(count: int) -> bool:
         keep = min(count, MIN_SENSITIVITY_ITERATIONS)
-        return run_bytes(n, count, keep, 1, chunk_size(n, count), group, runs) <= budget
+        cols = chunk_size(n, count)
+        return run_bytes(n, count, keep, 1, cols, group, runs, risks, ranked) <= budget
 
     if not fits(2):
         return 0
@@ -198,6 +250,8 @@ def plan_memory(
     group: int = 0,
     runs: int = 1,
     memory_mb: int | None = None,
+    risks: int = 0,
+    ranked: int = 0,
 ) -> MemoryPlan:
     """Worker processes and kept iterations for a run within the budget.
 
@@ -206,6 +260,8 @@ def plan_memory(
     of the budget and the kept iterations are as many as then fit (fewer workers if
     that keeps more than twice as many). Raises :class:`SimulationMemoryError` when
     fewer than ``min(iterations, MIN_SENSITIVITY_ITERATIONS)`` fit in one process.
+    ``risks`` named risks (``ranked`` of them ranked) take their arrays' bytes
+    (:func:`risk_bytes`) off the budget before any samples are kept.
 
     Examples
     --------
@@ -214,37 +270,54 @@ def plan_memory(
     (True, 2, 448312)
     >>> plan_memory(120, 10_000, 2, 20_833).sampled
     False
+
+    A register of 30 risks (20 ranked) takes room from the kept samples; over 10 million
+    iterations it cannot run at all (the largest count that fits is named):
+
+    >>> plan_memory(120, 1_000_000, 2, 20_833).sample
+    616014
+    >>> plan_memory(120, 1_000_000, 2, 20_833, risks=30, ranked=20).sample
+    336511
+    >>> try:
+    ...     plan_memory(120, 10_000_000, 2, 20_833, risks=30, ranked=20)
+    ... except SimulationMemoryError as exc:
+    ...     print(exc.largest_iterations, exc.needed_mb)
+    2557602 3750
     """
     budget = budget_bytes(memory_mb)
-    args = (n, iterations)
+    args, extra = (n, iterations), (group, runs, risks, ranked)
     for count in range(max(1, workers), 0, -1):
-        needed = run_bytes(*args, iterations, count, cols, group, runs)
+        needed = run_bytes(*args, iterations, count, cols, *extra)
         if needed <= budget:
             return MemoryPlan(iterations, iterations, count, budget, needed)
     count = max(1, workers)
     while count > 1 and count * chunk_bytes(n, cols, group) > budget // 2:
         count -= 1
-    sample = _largest_sample(*args, count, cols, group, runs, budget)
-    single = _largest_sample(*args, 1, cols, group, runs, budget)
+    sample = _largest_sample(*args, count, cols, extra, budget)
+    single = _largest_sample(*args, 1, cols, extra, budget)
     if single > 2 * sample:
         count, sample = 1, single
     if sample < min(iterations, MIN_SENSITIVITY_ITERATIONS):
-        largest = largest_iterations(n, group, runs, memory_mb)
-        need = run_bytes(*args, min(iterations, MIN_SENSITIVITY_ITERATIONS), 1, cols, group, runs)
+        largest = largest_iterations(n, group, runs, memory_mb, risks, ranked)
+        need = run_bytes(*args, min(iterations, MIN_SENSITIVITY_ITERATIONS), 1, cols, *extra)
+        needed_mb = -(-need // _MB)
         raise SimulationMemoryError(
-            refusal_text(n, iterations, largest, -(-need // _MB), budget // _MB),
+            refusal_text(n, iterations, largest, needed_mb, budget // _MB, risks),
             largest_iterations=largest,
-            needed_mb=-(-need // _MB),
+            needed_mb=needed_mb,
             budget_mb=budget // _MB,
         )
-    needed = run_bytes(*args, sample, count, cols, group, runs)
+    needed = run_bytes(*args, sample, count, cols, *extra)
     return MemoryPlan(iterations, int(sample), count, budget, needed)
 
 
-def refusal_text(n: int, iterations: int, largest: int, needed_mb: int, budget_mb: int) -> str:
+def refusal_text(
+    n: int, iterations: int, largest: int, needed_mb: int, budget_mb: int, risks: int = 0
+) -> str:
     """Why a run was refused, and the largest iteration count that fits."""
+    what = f"{n:,} activities" + (f" and {risks:,} named risks" if risks else "")
     head = (
-        f"the simulation of {n:,} activities x {iterations:,} iterations needs about "
+        f"the simulation of {what} x {iterations:,} iterations needs about "
         f"{needed_mb:,} MB, more than its memory budget of {budget_mb:,} MB"
     )
     if largest >= 2:
@@ -277,9 +350,13 @@ def memory_problem(schedule, memory_mb: int | None = None) -> Problem | None:
     """An error naming the iterations setting when the schedule's simulation cannot fit.
 
     ``schedule`` is a validated :class:`converter.model.Schedule`; ``None`` when it fits
-    (possibly with sensitivities from part of the iterations).
+    (possibly with sensitivities from part of the iterations). Its risk register's
+    arrays count (every risk: an upper bound of those the run draws).
     """
+    from converter.analyse.simulate.risk_runs import TOP_RISKS  # it imports this module
+
     s = schedule.settings
+    risks = len(schedule.risks)
     n, iterations = len(schedule.activities), int(s.iterations)
     members: dict[str, int] = {}
     for a in schedule.activities:
@@ -296,6 +373,8 @@ def memory_problem(schedule, memory_mb: int | None = None) -> Problem | None:
             group if correlated else 0,
             2 if correlated else 1,
             memory_mb,
+            risks,
+            min(risks, TOP_RISKS),
         )
     except SimulationMemoryError as exc:
         return refusal_problem(exc, s.source_of("iterations"))

@@ -62,7 +62,7 @@ from converter.analyse.simulate.result import (
     SimulationResult,
     summarise,
 )
-from converter.analyse.simulate.risk_runs import RiskDraws, RiskRanking, rank_risks
+from converter.analyse.simulate.risk_runs import TOP_RISKS, RiskDraws, RiskRanking, rank_risks
 from converter.analyse.simulate.sampling import durations_from_uniforms
 from converter.analyse.simulate.trace import chunk_uniforms, trace_iterations
 from converter.model import DEFAULT_ITERATIONS, DEFAULT_SEED, DISTRIBUTIONS
@@ -402,7 +402,18 @@ def simulate(
 
     count = processes.worker_count(workers, inp.n * inp.iterations, len(inp.chunks()))
     group = max((g.size for g in inp.groups), default=0) if correlated else 0
-    plan = plan_memory(inp.n, inp.iterations, count, inp.chunk, group, 1 + correlated, memory_mb)
+    named = risks.count if risks is not None else 0  # the risks' arrays count in the plan
+    plan = plan_memory(
+        inp.n,
+        inp.iterations,
+        count,
+        inp.chunk,
+        group,
+        1 + correlated,
+        memory_mb,
+        named,
+        min(named, TOP_RISKS),
+    )
     try:
         results, ranking = _run(net, inp, plan, targets, float(correlation), tick, risks)
     except (MemoryError, OSError) as exc:
