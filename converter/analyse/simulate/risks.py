@@ -27,6 +27,7 @@ import numpy as np
 from scipy.special import betaincinv
 
 from converter.analyse.pert import pert_beta_parameters
+from converter.analyse.simulate.inverse import triangular_quantile, uniform_quantile
 from converter.analyse.simulate.sampling import KIND_CODES, PERT, TRIANGULAR
 from converter.analyse.simulate.workers import mapped
 from converter.model import Risk
@@ -105,11 +106,8 @@ def impact_inverse(u, low: float, likely: float, high: float, kind: str = "pert"
         a, b = (float(x) for x in pert_beta_parameters(low, likely, high))
         return low + span * betaincinv(a, b, u)
     if code == TRIANGULAR:
-        c = (likely - low) / span
-        left = low + np.sqrt(u * span * (likely - low))
-        right = high - np.sqrt((1.0 - u) * span * (high - likely))
-        return np.where(u <= c, left, right)
-    return low + u * span
+        return triangular_quantile(low, likely, high, u)
+    return uniform_quantile(low, high, u)
 
 
 @dataclass
