@@ -31,27 +31,14 @@ from converter.write.workbook.layout import (
     SIMULATION,
     SUMMARY,
 )
+from converter.write.workbook.reference import SETTING_ROWS
 from converter.write.workbook.risks_sheet import BASE as RISK_COLUMNS
 
 #: The custom document property that marks an analysis workbook and its format version.
 FORMAT_PROPERTY = "pertbook format"
 
 #: The Settings used sheet's labels -> the JSON's settings keys.
-SETTING_LABELS = {
-    "Start date": "start_date",
-    "Time unit": "time_unit",
-    "Working days": "working_days",
-    "Due": "due",
-    "Iterations": "iterations",
-    "Seed": "seed",
-    "Distribution": "distribution",
-    "Correlation": "correlation",
-    "Confidence levels": "confidence_levels",
-    "Paths listed": "paths",
-    "Hours per day": "hours_per_day",
-    "Default range": "default_range",
-    "Status date": "status_date",
-}
+SETTING_LABELS = {label: key for key, label in SETTING_ROWS.items()}
 #: The Simulation sheet's labels -> the JSON's simulation keys.
 SIMULATION_LABELS = {
     "Iterations": "iterations",

@@ -22,6 +22,25 @@ def _weekdays(days) -> str:
     return ", ".join(WEEKDAY_NAMES[d] for d in days)
 
 
+#: The Settings used sheet's rows: each setting's key and its label, in sheet order (the
+#: comparison reads a workbook's settings back by these labels).
+SETTING_ROWS = {
+    "start_date": "Start date",
+    "time_unit": "Time unit",
+    "working_days": "Working days",
+    "hours_per_day": "Hours per day",
+    "due": "Due",
+    "iterations": "Iterations",
+    "seed": "Seed",
+    "distribution": "Distribution",
+    "correlation": "Correlation",
+    "confidence_levels": "Confidence levels",
+    "paths": "Paths listed",
+    "default_range": "Default range",
+    "status_date": "Status date",
+}
+
+
 def write_settings(wb, fmt, a, lay: Layout) -> None:
     ws = wb.add_worksheet(SETTINGS)
     st = a.schedule.settings
@@ -38,27 +57,24 @@ def write_settings(wb, fmt, a, lay: Layout) -> None:
     ws.set_column(0, 0, 22)
     ws.set_column(1, 1, 26)
     ws.set_column(2, 2, 58)
-    items = [
-        ("start_date", "Start date", st.start_date),
-        ("time_unit", "Time unit", st.time_unit),
-        ("working_days", "Working days", _weekdays(st.working_days)),
-        ("hours_per_day", "Hours per day", st.hours_per_day),
-        ("due", "Due", st.due),
-        ("iterations", "Iterations", st.iterations),
-        ("seed", "Seed", st.seed),
-        ("distribution", "Distribution", st.distribution),
-        ("correlation", "Correlation", st.correlation),
-        (
-            "confidence_levels",
-            "Confidence levels",
-            ", ".join(f"{c:.0%}" for c in st.confidence_levels),
-        ),
-        ("paths", "Paths listed", st.paths),
-    ]
+    values = {
+        "start_date": st.start_date,
+        "time_unit": st.time_unit,
+        "working_days": _weekdays(st.working_days),
+        "hours_per_day": st.hours_per_day,
+        "due": st.due,
+        "iterations": st.iterations,
+        "seed": st.seed,
+        "distribution": st.distribution,
+        "correlation": st.correlation,
+        "confidence_levels": ", ".join(f"{c:.0%}" for c in st.confidence_levels),
+        "paths": st.paths,
+    }
     if st.default_range is not None or a.schedule.ranges:
-        items.append(("default_range", "Default range", st.default_range))
+        values["default_range"] = st.default_range
     if st.status_date is not None:
-        items.append(("status_date", "Status date", st.status_date))
+        values["status_date"] = st.status_date
+    items = [(key, SETTING_ROWS[key], value) for key, value in values.items()]
     r = 4
     for key, label, value in items:
         ws.write_string(r, 0, label, fmt.label)
