@@ -24,6 +24,11 @@ TINY = 1e-9
 NOT_RECORDED = "(not recorded)"
 
 
+def _difference(old: float | None, new: float | None) -> float | None:
+    """New less old; None where a run lacks the figure."""
+    return None if old is None or new is None else new - old
+
+
 @dataclass
 class FigureChange:
     """One finish figure, old / new / change (None where a run lacks it)."""
@@ -37,11 +42,7 @@ class FigureChange:
     new_date: object = None
     days_moved: int | None = None  # working days (calendar days) between the two dates
 
-    @property
-    def change(self) -> float | None:
-        if self.old is None or self.new is None:
-            return None
-        return self.new - self.old
+    change = property(lambda self: _difference(self.old, self.new))
 
 
 @dataclass
@@ -53,11 +54,7 @@ class Move:
     old: float | None
     new: float | None
 
-    @property
-    def change(self) -> float | None:
-        if self.old is None or self.new is None:
-            return None
-        return self.new - self.old
+    change = property(lambda self: _difference(self.old, self.new))
 
 
 @dataclass
