@@ -244,7 +244,7 @@ def _estimates(row, cols, r, sheet, ident, settings: Settings, ranges: RangeBook
     if "duration" in cols and omp_blank and not is_blank(_cell(row, cols, "duration")):
         if not ok:
             return None, None, None
-        est, rc = range_estimates(duration, row, cols, r, sheet, ident, ranges, out)
+        est, rc = range_estimates(duration, row, cols, r, sheet, ident, ranges, out, settings)
         return est, duration, rc
     if "most_likely" not in cols:  # a sheet of durations; this row has none
         out.error(

@@ -21,6 +21,7 @@ from converter.model import RangeClass, Settings
 from converter.options import SheetValue
 from converter.read.sheets import CellError, SheetData, TableMatch, cell_name
 from converter.validate.problems import Collector
+from converter.validate.units import as_converted
 from converter.values import (
     LARGEST_DURATION,
     id_text,
@@ -376,7 +377,9 @@ def read_duration(row, cols, r, sheet, ident, settings: Settings, out: Collector
     return x, True
 
 
-def range_estimates(duration: float, row, cols, r, sheet, ident, book: RangeBook, out: Collector):
+def range_estimates(
+    duration: float, row, cols, r, sheet, ident, book: RangeBook, out: Collector, settings=None
+):
     """(O, M, P, fixed) from the duration and the row's range, and the class used.
 
     Without a Range (and no Default range) the duration is fixed, with a warning.
@@ -387,11 +390,10 @@ def range_estimates(duration: float, row, cols, r, sheet, ident, book: RangeBook
         return None, None
     if rc is None:
         if duration > 0 and not book.default_bad:
+            typed = as_converted(_typed(row, cols["duration"]), duration, settings)
             out.warn(
                 "deterministic",
-                f"only a duration ({_as_typed(row, cols['duration'], duration)}) "
-                "and no range: treated as a fixed "
-                "duration (O = M = P)",
+                f"only a duration ({typed}) and no range: treated as a fixed duration (O = M = P)",
                 sheet,
                 d_cell,
                 ident,
@@ -413,10 +415,9 @@ def range_estimates(duration: float, row, cols, r, sheet, ident, book: RangeBook
     return (o, m, p, o == m == p), book.use(rc)
 
 
-def _as_typed(row, col: int, duration: float) -> str:
-    """The Duration cell as typed where it was text (``"2h"``), else the number."""
-    raw = row[col] if col < len(row) else None
-    return shown(raw) if isinstance(raw, str) else shown(duration)
+def _typed(row, col: int) -> object:
+    """The cell as read (None past the row's end)."""
+    return row[col] if col < len(row) else None
 
 
 def _row_range(row, cols, r, sheet, ident, book: RangeBook, out: Collector):
